@@ -1,0 +1,1 @@
+"""The mastplan command line: a thin layer over the :mod:`geo` library."""

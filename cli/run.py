@@ -1,0 +1,37 @@
+"""``mastplan run``: one site study from a site file."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import click
+
+from cli.common import out_option, overwrite_option, quiet_option, reports_errors
+
+
+def run_site(site_path: Path, out_dir: str, overwrite: bool, quiet: bool) -> None:
+    """Load, study, write and report one site (shared by ``run`` and ``demo``)."""
+    from geo.outputs.text import summary_text
+    from geo.outputs.write import write_study
+    from geo.site import load_site
+    from geo.study import run_study
+
+    result = run_study(load_site(site_path))
+    folder = write_study(result, out_dir, overwrite=overwrite)
+    if not quiet:
+        click.echo(summary_text(result))
+        click.echo(f"Results written to {folder}")
+
+
+@click.command("run")
+@click.argument("site", type=click.Path(dir_okay=False, path_type=Path))
+@out_option
+@overwrite_option
+@quiet_option
+@reports_errors
+def run(site: Path, out_dir: str, overwrite: bool, quiet: bool) -> None:
+    """Study one glide path site from a SITE file (TOML).
+
+    Example: mastplan run site.toml --out results/
+    """
+    run_site(site, out_dir, overwrite, quiet)

@@ -1,0 +1,147 @@
+"""Image-array types: antenna heights and proximity shifts.
+
+An image array forms its pattern from each antenna and its image in the
+ground. A horizontally polarised antenna at height ``h`` over a conducting
+plane radiates, in the vertical plane, in proportion to
+``sin(2 pi h sin(e) / lambda)`` at elevation ``e`` above the plane [1]_ [2]_.
+Each array type puts its antennas at multiples of a base height chosen so
+that a null or a crossover of the patterns lies on the path angle.
+
+To add an array type, add one :class:`ArrayType` to :data:`ARRAY_TYPES`
+(and its tests).
+
+References
+----------
+.. [1] Kraus, J. D., *Antennas*, 2nd ed., McGraw-Hill, 1988, sec. 11-9
+       (horizontal antenna above a perfectly conducting ground plane).
+.. [2] FAA Order 6750.16, Siting Criteria for Instrument Landing Systems
+       (image-array glide slopes: null-reference, sideband-reference and
+       capture-effect heights).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+__all__ = ["ArrayType", "ARRAY_TYPES", "array_type", "antenna_heights_m", "proximity_shifts_m"]
+
+
+@dataclass(frozen=True)
+class ArrayType:
+    """One image-array type.
+
+    Attributes
+    ----------
+    name : str
+        Name used in site files and outputs.
+    roles : tuple of str
+        Antenna roles, lowest first.
+    quarter_wave_divisor : float
+        The base height is ``lambda / (divisor * sin(theta))``.
+    multiples : tuple of int
+        Height of each antenna as a multiple of the base height.
+    """
+
+    name: str
+    roles: tuple[str, ...]
+    quarter_wave_divisor: float
+    multiples: tuple[int, ...]
+
+
+#: The array types mastplan knows, by name.
+ARRAY_TYPES: dict[str, ArrayType] = {
+    t.name: t
+    for t in (
+        # Lower carries CSB, upper SBO with its first null on the path [2]_.
+        ArrayType("null-reference", ("lower", "upper"), 4.0, (1, 2)),
+        # Lower h, upper 3h with h = lambda / (8 sin theta) [2]_.
+        ArrayType("sideband-reference", ("lower", "upper"), 8.0, (1, 3)),
+        # M-array: h, 2h, 3h with h = lambda / (4 sin theta) [2]_.
+        ArrayType("capture-effect", ("lower", "middle", "upper"), 4.0, (1, 2, 3)),
+    )
+}
+
+
+def array_type(name: str) -> ArrayType:
+    """Return the array type called ``name``.
+
+    Raises
+    ------
+    ValueError
+        Naming the types that exist.
+    """
+    try:
+        return ARRAY_TYPES[name]
+    except KeyError:
+        allowed = ", ".join(f'"{n}"' for n in ARRAY_TYPES)
+        raise ValueError(f"{name!r} is not an array type; use one of {allowed}") from None
+
+
+def antenna_heights_m(
+    array: str, wavelength_m: float, angle_deg: float, forward_slope_deg: float = 0.0
+) -> list[float]:
+    """Antenna heights above the reflecting ground, lowest first.
+
+    Parameters
+    ----------
+    array : str
+        Array type name, a key of :data:`ARRAY_TYPES`.
+    wavelength_m : float
+        Carrier wavelength. [m]
+    angle_deg : float
+        Path angle above the horizontal. [deg]
+    forward_slope_deg : float, optional
+        Slope of the reflecting ground, positive when it rises toward the
+        approach. The path angle over the plane is then ``theta - slope``.
+        [deg]
+
+    Returns
+    -------
+    list of float
+        Heights above the reflecting plane at the mast. [m]
+
+    Notes
+    -----
+    ``h_i = m_i * lambda / (k * sin(theta - alpha))`` with ``k`` = 4 for
+    null-reference and capture-effect and 8 for sideband-reference [2]_.
+
+    Examples
+    --------
+    >>> [round(h, 3) for h in antenna_heights_m("null-reference", 0.8965, 3.0)]
+    [4.282, 8.565]
+    """
+    kind = array_type(array)
+    elevation_rad = math.radians(angle_deg - forward_slope_deg)
+    if elevation_rad <= 0.0:
+        raise ValueError("the ground slope must be smaller than the path angle")
+    base = wavelength_m / (kind.quarter_wave_divisor * math.sin(elevation_rad))
+    return [m * base for m in kind.multiples]
+
+
+def proximity_shifts_m(heights_m: list[float], offset_m: float) -> list[float]:
+    """Shift of each antenna toward the runway, lowest first (lowest: 0).
+
+    Parameters
+    ----------
+    heights_m : list of float
+        Antenna heights, lowest first. [m]
+    offset_m : float
+        Distance from the runway centre line to the lowest antenna. [m]
+
+    Returns
+    -------
+    list of float
+        Horizontal shift of each antenna toward the centre line. [m]
+
+    Notes
+    -----
+    ``s_i = (h_i**2 - h_1**2) / (2 D)`` makes the slant distance from a point
+    on the centre line abeam the mast to each antenna the same to first
+    order, so all antennas are in phase along the runway: common practice
+    [2]_.
+    """
+    if offset_m <= 0.0:
+        raise ValueError("offset_m must be positive")
+    low = heights_m[0]
+    return [(h * h - low * low) / (2.0 * offset_m) for h in heights_m]

@@ -1,0 +1,187 @@
+"""Checks of a study against the standards and the usual siting ranges.
+
+Each check takes plain numbers and returns :class:`Finding` objects with a
+severity: ``"pass"`` (a requirement met), ``"info"`` (worth knowing),
+``"warning"`` (a recommendation not met, or a value to confirm) or ``"fail"``
+(a standard not met). Findings inform a planner; they do not approve a site.
+
+References
+----------
+.. [1] ICAO Annex 10, Volume I, 3.1.5.1.4-3.1.5.1.6: ILS reference datum
+       height 15 m (50 ft) +3 m (10 ft) for Category II/III and recommended
+       for Category I; 12 m (40 ft) +6 m (20 ft) recommended for Category I
+       on code 1 and 2 runways (paragraph numbers from memory).
+.. [2] ICAO Doc 8168 (PANS-OPS) Volume II: glide path angle 3 deg optimum,
+       2.5-3.5 deg standard; steeper needs special approval.
+.. [3] FAA Aeronautical Information Manual 1-1-9: glide path transmitter
+       typically 750-1,250 ft from the approach end of the runway and
+       250-650 ft from the centre line.
+.. [4] ICAO Annex 10, Volume I, 3.1.5.2.1 and 3.1.6.1: glide path band and
+       the paired channels.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from geo.units import M_PER_FT
+
+__all__ = [
+    "Finding",
+    "SEVERITIES",
+    "CAUTIONS",
+    "rdh_band_m",
+    "check_rdh",
+    "check_target_rdh",
+    "check_angle",
+    "check_typical_siting",
+    "check_channel",
+    "check_gpip",
+]
+
+SEVERITIES = ("pass", "info", "warning", "fail")
+
+#: Shown with every study, in the summary, on screen and in the report.
+CAUTIONS = (
+    "mastplan is a planning aid. Antenna heights, offsets and the path are set and "
+    "confirmed by flight inspection, not by this study.",
+    "Follow the rules of the local aviation authority and licensed engineering practice; "
+    "check every input and output before use.",
+)
+
+_TYPICAL_SETBACK_M = (750 * M_PER_FT, 1250 * M_PER_FT)
+_TYPICAL_OFFSET_M = (250 * M_PER_FT, 650 * M_PER_FT)
+_ANGLE_STANDARD_DEG = (2.5, 3.5)
+
+
+@dataclass(frozen=True)
+class Finding:
+    """One check result.
+
+    Attributes
+    ----------
+    code : str
+        Stable identifier, e.g. ``"rdh"``.
+    severity : str
+        One of :data:`SEVERITIES`.
+    message : str
+        One sentence, with the source of the rule.
+    """
+
+    code: str
+    severity: str
+    message: str
+
+
+def _ft(value_m: float) -> str:
+    return f"{value_m:.2f} m ({value_m / M_PER_FT:.1f} ft)"
+
+
+def rdh_band_m(category: str, runway_code: int | None) -> tuple[float, float, str, str]:
+    """RDH band of Annex 10 for a category and runway code [1]_.
+
+    Returns
+    -------
+    low_m, high_m : float
+        Allowed band. [m]
+    severity : str
+        Severity when outside: ``"fail"`` for a standard, ``"warning"`` for a
+        recommendation.
+    rule : str
+        The rule in words.
+    """
+    if category in ("II", "III"):
+        return 15.0, 18.0, "fail", f"Annex 10 Vol I 3.1.5.1.4, Category {category}: 15 m +3 m (standard)"
+    if runway_code in (1, 2):
+        return (
+            12.0,
+            18.0,
+            "warning",
+            "Annex 10 Vol I 3.1.5.1.6, Category I on code 1-2: 12 m +6 m (recommended)",
+        )
+    return 15.0, 18.0, "warning", "Annex 10 Vol I 3.1.5.1.5, Category I: 15 m +3 m (recommended)"
+
+
+def check_rdh(rdh_m: float, category: str, runway_code: int | None) -> Finding:
+    """RDH against the Annex 10 band [1]_."""
+    low, high, severity, rule = rdh_band_m(category, runway_code)
+    if low - 1e-9 <= rdh_m <= high + 1e-9:
+        return Finding("rdh", "pass", f"RDH {_ft(rdh_m)} is within {low:g}-{high:g} m ({rule}).")
+    where = "below" if rdh_m < low else "above"
+    return Finding("rdh", severity, f"RDH {_ft(rdh_m)} is {where} {low:g}-{high:g} m ({rule}).")
+
+
+def check_target_rdh(rdh_m: float, target_rdh_m: float, tolerance_m: float = 0.05) -> Finding | None:
+    """RDH against the site file's target, when both a setback and a target are given."""
+    if abs(rdh_m - target_rdh_m) <= tolerance_m:
+        return None
+    return Finding(
+        "rdh-target",
+        "warning",
+        f"RDH {_ft(rdh_m)} differs from the target {_ft(target_rdh_m)} by "
+        f"{rdh_m - target_rdh_m:+.2f} m; move the mast or drop the setback to solve it.",
+    )
+
+
+def check_angle(angle_deg: float) -> Finding:
+    """Path angle against the PANS-OPS range [2]_."""
+    low, high = _ANGLE_STANDARD_DEG
+    if low <= angle_deg <= high:
+        return Finding(
+            "angle", "pass", f"Path angle {angle_deg:g} deg is within {low:g}-{high:g} deg (PANS-OPS)."
+        )
+    return Finding(
+        "angle",
+        "warning",
+        f"Path angle {angle_deg:g} deg is outside {low:g}-{high:g} deg (PANS-OPS); "
+        "it needs the authority's special approval.",
+    )
+
+
+def check_typical_siting(setback_m: float, offset_m: float) -> list[Finding]:
+    """Setback and offset against the FAA AIM typical ranges [3]_ (not requirements)."""
+    out = []
+    for code, value, (low, high), what in (
+        ("setback-typical", setback_m, _TYPICAL_SETBACK_M, "setback from the threshold"),
+        ("offset-typical", offset_m, _TYPICAL_OFFSET_M, "offset from the centre line"),
+    ):
+        inside = low <= value <= high
+        out.append(
+            Finding(
+                code,
+                "pass" if inside else "info",
+                f"Mast {what} {_ft(value)} is {'within' if inside else 'outside'} the typical "
+                f"{low / M_PER_FT:,.0f}-{high / M_PER_FT:,.0f} ft "
+                "(FAA AIM 1-1-9; a typical range, not a requirement).",
+            )
+        )
+    return out
+
+
+def check_channel(glide_path_mhz: float, localizer_mhz: float | None) -> Finding:
+    """Whether the glide path frequency is one of the 40 paired channels [4]_."""
+    if localizer_mhz is None:
+        return Finding(
+            "channel",
+            "warning",
+            f"{glide_path_mhz:.2f} MHz is in the glide path band but is not one of the 40 "
+            "paired ILS channels (Annex 10 Vol I 3.1.6.1); confirm the frequency.",
+        )
+    return Finding(
+        "channel",
+        "pass",
+        f"Glide path {glide_path_mhz:.2f} MHz pairs with localizer {localizer_mhz:.2f} MHz "
+        "(Annex 10 Vol I 3.1.6.1).",
+    )
+
+
+def check_gpip(gpip_along_m: float, runway_length_m: float) -> Finding | None:
+    """The GPIP must lie on the runway."""
+    if 0.0 <= gpip_along_m <= runway_length_m:
+        return None
+    return Finding(
+        "gpip",
+        "fail",
+        f"The glide path meets the runway profile {_ft(gpip_along_m)} from the threshold, "
+        f"off the {_ft(runway_length_m)} runway.",
+    )

@@ -1,0 +1,170 @@
+"""GeoJSON layers of a study (RFC 7946).
+
+Coordinates are WGS 84 longitude, latitude with 7 decimals (about 1 cm);
+there is no ``crs`` member; exterior rings run counter-clockwise. Heights are
+attributes, never a third coordinate, and say their datum in their name.
+
+References
+----------
+.. [1] IETF RFC 7946, The GeoJSON Format (2016), sections 3.1.6 (polygon
+       winding), 4 (coordinate reference system) and 11.2 (precision).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from geo.study import StudyResult
+from geo.units import with_foot_twins
+
+__all__ = ["study_layers", "feature", "collection", "ring_is_ccw"]
+
+#: Length of the extended centre line drawn before the threshold: 10 NM. [m]
+EXTENDED_CENTRELINE_M = 10 * 1852.0
+_VERTEX_SPACING_M = 500.0
+_DECIMALS = 7
+
+
+def _coord(lat, lon) -> list[float]:
+    return [round(float(lon), _DECIMALS), round(float(lat), _DECIMALS)]
+
+
+def ring_is_ccw(ring: list[list[float]]) -> bool:
+    """True when a closed lon/lat ring runs counter-clockwise (shoelace sum > 0)."""
+    x = np.array([p[0] for p in ring])
+    y = np.array([p[1] for p in ring])
+    return float(np.sum(x[:-1] * y[1:] - x[1:] * y[:-1])) > 0.0
+
+
+def feature(geometry: dict, properties: dict) -> dict:
+    """A GeoJSON Feature with foot twins added to its properties."""
+    return {"type": "Feature", "properties": with_foot_twins(properties), "geometry": geometry}
+
+
+def collection(features: list[dict]) -> dict:
+    """A GeoJSON FeatureCollection."""
+    return {"type": "FeatureCollection", "features": features}
+
+
+def _point(lat, lon) -> dict:
+    return {"type": "Point", "coordinates": _coord(lat, lon)}
+
+
+def _line(frame, along_m, cross_m) -> dict:
+    lat, lon = frame.to_geographic(along_m, cross_m)
+    return {"type": "LineString", "coordinates": [_coord(a, o) for a, o in zip(lat, lon)]}
+
+
+def _polygon(frame, along_m, cross_m) -> dict:
+    lat, lon = frame.to_geographic(along_m, cross_m)
+    ring = [_coord(a, o) for a, o in zip(lat, lon)]
+    ring.append(ring[0])
+    if not ring_is_ccw(ring):
+        ring.reverse()
+    return {"type": "Polygon", "coordinates": [ring]}
+
+
+def _densified(start_m: float, stop_m: float) -> np.ndarray:
+    count = max(2, int(np.ceil(abs(stop_m - start_m) / _VERTEX_SPACING_M)) + 1)
+    return np.linspace(start_m, stop_m, count)
+
+
+def study_layers(result: StudyResult) -> dict[str, dict]:
+    """Every vector layer of a study, by layer name.
+
+    Returns
+    -------
+    dict of str to dict
+        FeatureCollections: ``runway``, ``centreline``, ``threshold``,
+        ``extended_centreline``, ``mast``, ``antennas``, ``gpip``.
+    """
+    spec, runway, mast = result.spec, result.runway, result.mast
+    frame = runway.frame
+    half = runway.width_m / 2.0
+    length = runway.length_m
+    along = _densified(0.0, length)
+    outline_along = np.concatenate([along, along[::-1]])
+    outline_cross = np.concatenate([np.full(along.size, -half), np.full(along.size, half)])
+    approach = _densified(-EXTENDED_CENTRELINE_M, 0.0)
+    layers = {
+        "runway": collection(
+            [
+                feature(
+                    _polygon(frame, outline_along, outline_cross),
+                    {
+                        "name": spec.name,
+                        "length_m": length,
+                        "width_m": runway.width_m,
+                        "true_bearing_deg": runway.true_bearing_deg,
+                    },
+                )
+            ]
+        ),
+        "centreline": collection(
+            [
+                feature(
+                    _line(frame, along, np.zeros(along.size)),
+                    {"length_m": length, "true_bearing_deg": runway.true_bearing_deg},
+                )
+            ]
+        ),
+        "threshold": collection(
+            [
+                feature(
+                    _point(spec.threshold.lat_deg, spec.threshold.lon_deg),
+                    {
+                        "elevation_m": spec.threshold.elevation_m,
+                        "rdh_m": result.rdh_m,
+                        "path_height_over_threshold_m": result.path_height_over_threshold_m,
+                    },
+                )
+            ]
+        ),
+        "extended_centreline": collection(
+            [
+                feature(
+                    _line(frame, approach, np.zeros(approach.size)),
+                    {"length_m": EXTENDED_CENTRELINE_M},
+                )
+            ]
+        ),
+        "mast": collection(
+            [
+                feature(
+                    _point(mast.lat_deg, mast.lon_deg),
+                    {
+                        "side": mast.side,
+                        "setback_m": mast.setback_m,
+                        "offset_m": mast.offset_m,
+                        "base_elevation_m": mast.base_elevation_m,
+                        "array": spec.array,
+                        "frequency_mhz": result.channel.glide_path_mhz,
+                    },
+                )
+            ]
+        ),
+        "antennas": collection(
+            [
+                feature(
+                    _point(a.lat_deg, a.lon_deg),
+                    {
+                        "role": a.role,
+                        "height_m": a.height_m,
+                        "shift_toward_runway_m": a.shift_toward_runway_m,
+                        "offset_m": a.offset_m,
+                        "elevation_m": a.elevation_m,
+                    },
+                )
+                for a in result.antennas
+            ]
+        ),
+        "gpip": collection(
+            [
+                feature(
+                    _point(result.gpip.lat_deg, result.gpip.lon_deg),
+                    {"along_m": result.gpip.along_m, "elevation_m": result.gpip.elevation_m},
+                )
+            ]
+        ),
+    }
+    return layers

@@ -1,0 +1,42 @@
+"""A short human summary of a study, as text (the command line prints it)."""
+
+from __future__ import annotations
+
+from geo.findings import CAUTIONS
+from geo.study import StudyResult
+from geo.units import M_PER_FT
+
+__all__ = ["summary_text"]
+
+
+def _len(value_m: float, decimals: int = 2) -> str:
+    return f"{value_m:,.{decimals}f} m ({value_m / M_PER_FT:,.{decimals}f} ft)"
+
+
+def summary_text(result: StudyResult) -> str:
+    """Several lines: channel, mast, antennas, RDH, GPIP, findings, cautions."""
+    spec, mast, runway = result.spec, result.mast, result.runway
+    ch = result.channel
+    loc = f", paired with localizer {ch.localizer_mhz:.2f} MHz" if ch.localizer_mhz else ""
+    lines = [
+        f"Site: {spec.name}",
+        f"Runway: true bearing {runway.true_bearing_deg:.4f} deg, length {_len(runway.length_m, 1)}",
+        f"Glide path: {ch.glide_path_mhz:.2f} MHz{loc}; wavelength {_len(result.wavelength_m, 3)}; "
+        f"angle {spec.angle_deg:g} deg; {spec.array} array",
+        f"Mast: {mast.side} side, setback {_len(mast.setback_m, 1)} ({mast.setback_source}), "
+        f"offset {_len(mast.offset_m, 1)}, ground {_len(mast.base_elevation_m)}",
+        f"      at lat {mast.lat_deg:.7f}, lon {mast.lon_deg:.7f} (WGS 84)",
+        "Antennas (above the mast's ground; shift toward the runway):",
+    ]
+    for a in result.antennas:
+        lines.append(f"  {a.role:<7} height {_len(a.height_m, 3)}, shift {_len(a.shift_toward_runway_m, 3)}")
+    lines += [
+        f"RDH: {_len(result.rdh_m)}; "
+        f"actual path over the threshold: {_len(result.path_height_over_threshold_m)}",
+        f"GPIP: {_len(result.gpip.along_m, 1)} past the threshold "
+        f"(lat {result.gpip.lat_deg:.7f}, lon {result.gpip.lon_deg:.7f})",
+        "Findings:",
+    ]
+    lines += [f"  [{f.severity}] {f.message}" for f in result.findings]
+    lines += ["Caution:"] + [f"  {c}" for c in CAUTIONS]
+    return "\n".join(lines)

@@ -1,0 +1,137 @@
+"""Write a whole study atomically: into a temporary folder, then into place.
+
+A failed or interrupted run never leaves a half-written output folder where
+the results belong, and an existing folder is replaced only when asked. An
+input file inside the output folder is never deleted.
+"""
+
+from __future__ import annotations
+
+import json
+import os
+import shutil
+import tempfile
+from collections.abc import Callable
+from pathlib import Path
+
+from geo.errors import OutputError
+from geo.study import StudyResult
+
+__all__ = ["write_study", "write_json", "atomic_folder"]
+
+Writer = Callable[[StudyResult, Path], None]
+
+
+def write_json(path: Path, obj) -> None:
+    """Write JSON with a stable layout (UTF-8, 2-space indent, no NaN)."""
+    path.write_text(json.dumps(obj, indent=2, ensure_ascii=False, allow_nan=False) + "\n", encoding="utf-8")
+
+
+def _write_summary(result: StudyResult, folder: Path) -> None:
+    from geo.outputs.summary import summary_dict
+
+    write_json(folder / "summary.json", summary_dict(result))
+
+
+def _write_geojson(result: StudyResult, folder: Path) -> None:
+    from geo.outputs.geojson import study_layers
+
+    layers = folder / "layers"
+    layers.mkdir()
+    for name, fc in study_layers(result).items():
+        write_json(layers / f"{name}.geojson", fc)
+
+
+#: The writers of a study, in order.
+WRITERS: tuple[Writer, ...] = (_write_summary, _write_geojson)
+
+
+def _check_target(out: Path, overwrite: bool, inputs: list[Path]) -> None:
+    if out.exists() and not out.is_dir():
+        raise OutputError(f"--out: {out} is a file; name a folder")
+    if out.is_dir() and any(out.iterdir()):
+        if not overwrite:
+            raise OutputError(
+                f"--out: {out} is not empty; add --overwrite to replace it, or name a new folder"
+            )
+        for path in inputs:
+            if path.resolve().is_relative_to(out.resolve()):
+                raise OutputError(f"--out: {out} holds the input {path}; write the results elsewhere")
+
+
+def atomic_folder(
+    out_dir: str | Path,
+    overwrite: bool,
+    fill: Callable[[Path], None],
+    inputs: tuple[Path, ...] | list[Path] = (),
+) -> Path:
+    """Fill a fresh temporary folder with ``fill`` and move it to ``out_dir``.
+
+    Parameters
+    ----------
+    out_dir : str or Path
+        Final folder.
+    overwrite : bool
+        Replace a non-empty ``out_dir``.
+    fill : callable
+        Writes everything into the folder it is given.
+    inputs : sequence of Path
+        Input files that must survive (refuse to replace a folder holding one).
+
+    Returns
+    -------
+    Path
+        The output folder.
+    """
+    out = Path(out_dir).absolute()
+    _check_target(out, overwrite, list(inputs))
+    parent = out.parent
+    try:
+        parent.mkdir(parents=True, exist_ok=True)
+        tmp = Path(tempfile.mkdtemp(prefix=f".{out.name}.partial-", dir=parent))
+    except OSError as exc:
+        raise OutputError(f"--out: cannot create {out} ({exc.strerror or exc})") from None
+    try:
+        os.chmod(tmp, 0o755)
+        fill(tmp)
+        if out.exists():
+            old = Path(tempfile.mkdtemp(prefix=f".{out.name}.old-", dir=parent))
+            os.rename(out, old / out.name)
+            os.rename(tmp, out)
+            shutil.rmtree(old, ignore_errors=True)
+        else:
+            os.rename(tmp, out)
+    except BaseException:
+        shutil.rmtree(tmp, ignore_errors=True)
+        raise
+    return out
+
+
+def write_study(result: StudyResult, out_dir: str | Path, overwrite: bool = False) -> Path:
+    """Write every output of a study into ``out_dir``, atomically.
+
+    Parameters
+    ----------
+    result : StudyResult
+    out_dir : str or Path
+    overwrite : bool
+        Replace an existing non-empty folder.
+
+    Returns
+    -------
+    Path
+        The output folder.
+
+    Raises
+    ------
+    OutputError
+        When the folder exists and is not empty without ``overwrite``, or
+        when it holds the site file.
+    """
+    inputs = [Path(result.spec.source)] if result.spec.source else []
+
+    def fill(folder: Path) -> None:
+        for writer in WRITERS:
+            writer(result, folder)
+
+    return atomic_folder(out_dir, overwrite, fill, inputs)

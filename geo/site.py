@@ -1,0 +1,474 @@
+"""The site file: TOML in, validated and typed inputs out (lengths in metres).
+
+A site file says its length unit once (``units = "m"`` or ``"ft"``); every
+length and elevation in it is in that unit, and every one is converted to
+metres here. Angles are in degrees and frequencies in MHz, as their names
+say. Unknown keys are errors, so a misspelt key never passes unnoticed.
+
+Every problem raises :class:`geo.errors.SiteFileError` with the dotted field
+name and one line saying what is allowed.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import math
+import tomllib
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+from geo.arrays import ARRAY_TYPES
+from geo.channels import CHANNEL_PAIRS_MHZ, GLIDE_PATH_BAND_MHZ
+from geo.errors import SiteFileError
+from geo.units import LENGTH_UNITS
+
+__all__ = ["GeoPoint", "MastSpec", "SiteSpec", "load_site", "parse_site"]
+
+SIDES = ("left", "right")
+CATEGORIES = ("I", "II", "III")
+#: Hard limits on the path angle; outside 2.5-3.5 deg is a finding, not an error.
+ANGLE_LIMITS_DEG = (1.0, 6.0)
+_ELEVATION_LIMITS_M = (-500.0, 9000.0)
+_WIDTH_LIMITS_M = (0.0, 200.0)
+_OFFSET_MAX_M = 1000.0
+_TARGET_RDH_LIMITS_M = (0.0, 100.0)
+
+
+@dataclass(frozen=True)
+class GeoPoint:
+    """A WGS 84 position with an optional elevation.
+
+    Attributes
+    ----------
+    lat_deg, lon_deg : float
+        Latitude and longitude. [deg]
+    elevation_m : float or None
+        Elevation in the site's vertical datum. [m]
+    """
+
+    lat_deg: float
+    lon_deg: float
+    elevation_m: float | None = None
+
+
+@dataclass(frozen=True)
+class MastSpec:
+    """Where the mast stands: either side/offset/setback or a surveyed position.
+
+    Attributes
+    ----------
+    side : {"left", "right"} or None
+        Side of the runway as seen by a pilot on approach.
+    offset_m : float or None
+        Perpendicular distance from the centre line to the lowest antenna. [m]
+    setback_m : float or None
+        Along-runway distance from the threshold to the point abeam the mast;
+        ``None`` asks the study to solve it from the target RDH. [m]
+    base_elevation_m : float or None
+        Ground elevation at the mast; ``None`` means the threshold elevation. [m]
+    position : GeoPoint or None
+        Surveyed position of the lowest antenna, instead of side/offset/setback.
+    """
+
+    side: str | None = None
+    offset_m: float | None = None
+    setback_m: float | None = None
+    base_elevation_m: float | None = None
+    position: GeoPoint | None = None
+
+
+@dataclass(frozen=True)
+class SiteSpec:
+    """Validated inputs of one site study; every length in metres.
+
+    Attributes
+    ----------
+    name : str
+        Site name (free text, escaped wherever it is shown).
+    threshold, end : GeoPoint
+        Landing threshold and far end of the runway on the centre line.
+    width_m : float
+        Runway width. [m]
+    angle_deg : float
+        Path angle. [deg]
+    array : str
+        Array type, a key of :data:`geo.arrays.ARRAY_TYPES`.
+    mast : MastSpec
+        Mast position.
+    localizer_mhz, frequency_mhz : float or None
+        Exactly one is given: a localizer frequency (the glide path is its
+        pair) or the glide path frequency itself. [MHz]
+    target_rdh_m : float or None
+        Desired reference datum height. [m]
+    category : {"I", "II", "III"}
+        Operation category, for the RDH check.
+    runway_code : int or None
+        Aerodrome reference code number 1-4, for the RDH check.
+    units : {"m", "ft"}
+        Length unit the site file was written in.
+    notes : str
+        Free text.
+    source : str
+        File the inputs came from ("" when built in code).
+    sha256 : str
+        SHA-256 of the file's bytes ("" when built in code).
+    base_dir : Path
+        Folder that relative paths in the file are resolved against.
+    """
+
+    name: str
+    threshold: GeoPoint
+    end: GeoPoint
+    width_m: float
+    angle_deg: float
+    array: str
+    mast: MastSpec
+    localizer_mhz: float | None = None
+    frequency_mhz: float | None = None
+    target_rdh_m: float | None = None
+    category: str = "I"
+    runway_code: int | None = None
+    units: str = "m"
+    notes: str = ""
+    source: str = ""
+    sha256: str = ""
+    base_dir: Path = field(default_factory=Path)
+
+
+def load_site(path: str | Path) -> SiteSpec:
+    """Read and validate a site file.
+
+    Parameters
+    ----------
+    path : str or Path
+        TOML site file.
+
+    Returns
+    -------
+    SiteSpec
+
+    Raises
+    ------
+    SiteFileError
+        With the file name, the field and what is allowed.
+    """
+    path = Path(path)
+    name = str(path)
+    try:
+        data = path.read_bytes()
+    except OSError as exc:
+        raise SiteFileError("", f"cannot read the site file ({exc.strerror or exc})", name) from None
+    try:
+        text = data.decode("utf-8")
+    except UnicodeDecodeError:
+        raise SiteFileError("", "the site file is not UTF-8 text; save it as UTF-8", name) from None
+    try:
+        doc = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise SiteFileError("", f"not valid TOML: {exc}", name) from None
+    try:
+        return parse_site(doc, source=name, sha256=hashlib.sha256(data).hexdigest(), base_dir=path.parent)
+    except SiteFileError as exc:
+        raise exc.with_source(name) from None
+
+
+def parse_site(
+    doc: dict[str, Any], source: str = "", sha256: str = "", base_dir: Path | None = None
+) -> SiteSpec:
+    """Validate a parsed site document (a dict as TOML gives it).
+
+    Parameters
+    ----------
+    doc : dict
+        The document.
+    source, sha256 : str
+        Recorded in the result.
+    base_dir : Path, optional
+        Folder for relative paths.
+
+    Returns
+    -------
+    SiteSpec
+    """
+    if not isinstance(doc, dict):
+        raise SiteFileError("", "the site document must be a TOML table")
+    _only(doc, "", ("units", "site", "runway", "glide_path", "mast"))
+    units = doc.get("units")
+    if units is None:
+        raise SiteFileError("units", 'missing; add units = "m" or units = "ft" at the top')
+    if units not in LENGTH_UNITS:
+        raise SiteFileError("units", f'must be "m" or "ft" (got {_show(units)})')
+    scale = LENGTH_UNITS[units]
+
+    site = _table(doc, "site")
+    _only(site, "site", ("name", "notes"))
+    name = _text(site, "site", "name", required=True)
+    notes = _text(site, "site", "notes", required=False) or ""
+
+    runway = _table(doc, "runway")
+    _only(runway, "runway", ("threshold", "end", "width", "code"))
+    threshold = _point(runway, "runway", "threshold", scale, units, elevation="required")
+    end = _point(runway, "runway", "end", scale, units, elevation="required")
+    if abs(threshold.lat_deg - end.lat_deg) < 1e-9 and abs(_wrap(threshold.lon_deg - end.lon_deg)) < 1e-9:
+        raise SiteFileError("runway.end", "is the same point as runway.threshold; give the far end")
+    width_m = _number(
+        runway,
+        "runway",
+        "width",
+        scale,
+        required=True,
+        above=_WIDTH_LIMITS_M[0],
+        at_most=_WIDTH_LIMITS_M[1],
+        unit=units,
+    )
+    code = runway.get("code")
+    if code is not None and (isinstance(code, bool) or code not in (1, 2, 3, 4)):
+        raise SiteFileError(
+            "runway.code", f"must be the aerodrome code number 1, 2, 3 or 4 (got {_show(code)})"
+        )
+
+    gp = _table(doc, "glide_path")
+    _only(
+        gp, "glide_path", ("angle_deg", "localizer_mhz", "frequency_mhz", "array", "target_rdh", "category")
+    )
+    angle_deg = _number(
+        gp,
+        "glide_path",
+        "angle_deg",
+        1.0,
+        required=True,
+        at_least=ANGLE_LIMITS_DEG[0],
+        at_most=ANGLE_LIMITS_DEG[1],
+        unit="deg",
+    )
+    has_loc, has_gp = "localizer_mhz" in gp, "frequency_mhz" in gp
+    if has_loc == has_gp:
+        raise SiteFileError(
+            "glide_path",
+            "give exactly one of localizer_mhz and frequency_mhz" + (" (both are given)" if has_loc else ""),
+        )
+    localizer_mhz = frequency_mhz = None
+    if has_loc:
+        localizer_mhz = _number(gp, "glide_path", "localizer_mhz", 1.0, required=True, unit="MHz")
+        if not any(abs(loc - localizer_mhz) < 0.001 for loc, _ in CHANNEL_PAIRS_MHZ):
+            raise SiteFileError(
+                "glide_path.localizer_mhz",
+                f"{localizer_mhz:g} MHz is not one of the 40 paired localizer channels "
+                "108.10-111.95 MHz (odd tenths, x.x0 or x.x5); or give frequency_mhz",
+            )
+    else:
+        low, high = GLIDE_PATH_BAND_MHZ
+        frequency_mhz = _number(
+            gp, "glide_path", "frequency_mhz", 1.0, required=True, at_least=low, at_most=high, unit="MHz"
+        )
+    array = gp.get("array")
+    if array is None:
+        raise SiteFileError("glide_path.array", "missing; " + _array_choices())
+    if array not in ARRAY_TYPES:
+        raise SiteFileError("glide_path.array", f"unknown array {_show(array)}; " + _array_choices())
+    target_rdh_m = _number(
+        gp,
+        "glide_path",
+        "target_rdh",
+        scale,
+        required=False,
+        above=_TARGET_RDH_LIMITS_M[0],
+        at_most=_TARGET_RDH_LIMITS_M[1],
+        unit=units,
+    )
+    category = gp.get("category", "I")
+    if category not in CATEGORIES:
+        raise SiteFileError("glide_path.category", f'must be "I", "II" or "III" (got {_show(category)})')
+
+    mast = _mast(_table(doc, "mast"), scale, units, width_m, target_rdh_m)
+    return SiteSpec(
+        name=name,
+        notes=notes,
+        threshold=threshold,
+        end=end,
+        width_m=width_m,
+        runway_code=code,
+        angle_deg=angle_deg,
+        localizer_mhz=localizer_mhz,
+        frequency_mhz=frequency_mhz,
+        array=array,
+        target_rdh_m=target_rdh_m,
+        category=category,
+        mast=mast,
+        units=units,
+        source=source,
+        sha256=sha256,
+        base_dir=base_dir if base_dir is not None else Path(),
+    )
+
+
+def _mast(mast: dict, scale: float, units: str, width_m: float, target_rdh_m) -> MastSpec:
+    _only(mast, "mast", ("side", "offset", "setback", "base_elevation", "position"))
+    base = _number(
+        mast,
+        "mast",
+        "base_elevation",
+        scale,
+        required=False,
+        at_least=_ELEVATION_LIMITS_M[0],
+        at_most=_ELEVATION_LIMITS_M[1],
+        unit=units,
+    )
+    if "position" in mast:
+        clash = [k for k in ("side", "offset", "setback") if k in mast]
+        if clash:
+            raise SiteFileError(
+                "mast.position",
+                f"give either position or side/offset/setback, not both "
+                f"(remove {', '.join('mast.' + k for k in clash)})",
+            )
+        position = _point(mast, "mast", "position", scale, units, elevation="absent")
+        return MastSpec(position=position, base_elevation_m=base)
+    side = mast.get("side")
+    if side is None:
+        raise SiteFileError(
+            "mast.side", 'missing; "left" or "right" as seen by a pilot on approach (or give mast.position)'
+        )
+    if side not in SIDES:
+        raise SiteFileError("mast.side", f'must be "left" or "right" (got {_show(side)})')
+    offset_m = _number(
+        mast, "mast", "offset", scale, required=True, above=0.0, at_most=_OFFSET_MAX_M, unit=units
+    )
+    if offset_m <= width_m / 2.0:
+        raise SiteFileError(
+            "mast.offset",
+            f"{offset_m / scale:g} {units} puts the mast on the runway "
+            f"(half-width {width_m / 2.0 / scale:g} {units}); give the distance from the centre line",
+        )
+    setback_m = _number(
+        mast,
+        "mast",
+        "setback",
+        scale,
+        required=target_rdh_m is None,
+        above=0.0,
+        unit=units,
+        missing="missing; give mast.setback, or glide_path.target_rdh to solve it",
+    )
+    return MastSpec(side=side, offset_m=offset_m, setback_m=setback_m, base_elevation_m=base)
+
+
+def _array_choices() -> str:
+    return "use one of " + ", ".join(f'"{n}"' for n in ARRAY_TYPES)
+
+
+def _wrap(delta_lon_deg: float) -> float:
+    return (delta_lon_deg + 180.0) % 360.0 - 180.0
+
+
+def _show(value: Any) -> str:
+    text = repr(value)
+    return text if len(text) <= 40 else text[:37] + "..."
+
+
+def _join(prefix: str, key: str) -> str:
+    return f"{prefix}.{key}" if prefix else key
+
+
+def _only(table: dict, prefix: str, allowed: tuple[str, ...]) -> None:
+    for key in table:
+        if key not in allowed:
+            where = f"[{prefix}]" if prefix else "the top level"
+            raise SiteFileError(
+                _join(prefix, str(key)), f"unknown key in {where}; allowed: {', '.join(allowed)}"
+            )
+
+
+def _table(doc: dict, name: str) -> dict:
+    value = doc.get(name)
+    if value is None:
+        raise SiteFileError(name, f"missing table; add a [{name}] section")
+    if not isinstance(value, dict):
+        raise SiteFileError(name, f"must be a table [{name}] (got {_show(value)})")
+    return value
+
+
+def _text(table: dict, prefix: str, key: str, required: bool) -> str | None:
+    value = table.get(key)
+    if value is None:
+        if required:
+            raise SiteFileError(_join(prefix, key), "missing; give a text in quotes")
+        return None
+    if not isinstance(value, str):
+        raise SiteFileError(_join(prefix, key), f"must be a text in quotes (got {_show(value)})")
+    if required and not value.strip():
+        raise SiteFileError(_join(prefix, key), "must not be empty")
+    if any(ord(c) < 32 and c not in "\t\n" for c in value):
+        raise SiteFileError(_join(prefix, key), "contains control characters; remove them")
+    return value
+
+
+def _number(
+    table: dict,
+    prefix: str,
+    key: str,
+    scale: float,
+    *,
+    required: bool,
+    unit: str,
+    above: float | None = None,
+    at_least: float | None = None,
+    at_most: float | None = None,
+    missing: str | None = None,
+) -> float | None:
+    """A finite number, converted by ``scale``; bounds are in converted units."""
+    name = _join(prefix, key)
+    value = table.get(key)
+    if value is None:
+        if required:
+            raise SiteFileError(name, missing or f"missing; give a number in {unit}")
+        return None
+    if isinstance(value, bool) or not isinstance(value, (int, float)):
+        raise SiteFileError(name, f"must be a number in {unit} (got {_show(value)})")
+    if not math.isfinite(value):
+        raise SiteFileError(name, f"must be a finite number in {unit} (got {_show(value)})")
+    converted = float(value) * scale
+
+    def bound(x: float) -> str:
+        return f"{x / scale:g} {unit}"
+
+    if above is not None and not converted > above:
+        raise SiteFileError(name, f"must be greater than {bound(above)} (got {value:g})")
+    if at_least is not None and converted < at_least:
+        raise SiteFileError(name, f"must be at least {bound(at_least)} (got {value:g})")
+    if at_most is not None and converted > at_most:
+        raise SiteFileError(name, f"must be at most {bound(at_most)} (got {value:g})")
+    return converted
+
+
+def _point(table: dict, prefix: str, key: str, scale: float, units: str, elevation: str) -> GeoPoint:
+    name = _join(prefix, key)
+    value = table.get(key)
+    if value is None:
+        raise SiteFileError(
+            name,
+            "missing; give { lat = ..., lon = ..."
+            + (", elevation = ... }" if elevation == "required" else " }"),
+        )
+    if not isinstance(value, dict):
+        raise SiteFileError(name, f"must be an inline table {{ lat = ..., lon = ... }} (got {_show(value)})")
+    allowed = ("lat", "lon") if elevation == "absent" else ("lat", "lon", "elevation")
+    _only(value, name, allowed)
+    lat = _number(value, name, "lat", 1.0, required=True, at_least=-90.0, at_most=90.0, unit="deg")
+    if abs(lat) > 89.9:
+        raise SiteFileError(_join(name, "lat"), f"{lat:g} deg is too close to a pole for a runway frame")
+    lon = _number(value, name, "lon", 1.0, required=True, at_least=-180.0, at_most=180.0, unit="deg")
+    elev = None
+    if elevation != "absent":
+        elev = _number(
+            value,
+            name,
+            "elevation",
+            scale,
+            required=elevation == "required",
+            at_least=_ELEVATION_LIMITS_M[0],
+            at_most=_ELEVATION_LIMITS_M[1],
+            unit=units,
+        )
+    return GeoPoint(lat, lon, elev)

@@ -1,0 +1,292 @@
+"""One site study: validated inputs in, every result out.
+
+:func:`run_study` places the mast in the runway frame, works out the channel,
+the antenna heights and proximity shifts, the RDH, the actual path over the
+threshold and the GPIP, and checks them. The result is one plain object that
+the writers in :mod:`geo.outputs` read; nothing here writes a file.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+from geo import findings as checks
+from geo.arrays import antenna_heights_m, array_type, proximity_shifts_m
+from geo.channels import Channel, channel_for_glide_path, channel_for_localizer, wavelength_m
+from geo.errors import SiteFileError
+from geo.frame import RunwayFrame, geodesic_inverse
+from geo.path import (
+    gpip_along_m,
+    path_height_over_threshold_m,
+    rdh_m,
+    runway_gradient,
+    setback_for_rdh_m,
+)
+from geo.site import SiteSpec
+
+__all__ = ["Antenna", "Runway", "Mast", "Gpip", "StudyResult", "run_study"]
+
+_SIGN = {"right": 1.0, "left": -1.0}
+
+
+@dataclass(frozen=True)
+class Runway:
+    """Runway geometry.
+
+    Attributes
+    ----------
+    frame : RunwayFrame
+        Plane coordinates along and across the runway.
+    true_bearing_deg : float
+        Geodesic azimuth from threshold to end at the threshold. [deg]
+    length_m : float
+        Geodesic length from threshold to end. [m]
+    width_m : float
+        Width. [m]
+    gradient : float
+        Mean gradient, positive uphill in the landing direction. [m/m]
+    """
+
+    frame: RunwayFrame
+    true_bearing_deg: float
+    length_m: float
+    width_m: float
+    gradient: float
+
+
+@dataclass(frozen=True)
+class Mast:
+    """Where the mast stands (its lowest antenna) and its ground.
+
+    Attributes
+    ----------
+    side : {"left", "right"}
+        As seen by a pilot on approach.
+    setback_m, offset_m : float
+        Along from the threshold; across from the centre line. [m]
+    base_elevation_m : float
+        Ground elevation at the mast. [m]
+    base_elevation_source : str
+        ``"site file"`` or ``"threshold elevation"``.
+    setback_source : str
+        ``"site file"``, ``"surveyed position"`` or ``"solved for target RDH"``.
+    lat_deg, lon_deg : float
+        WGS 84 position. [deg]
+    """
+
+    side: str
+    setback_m: float
+    offset_m: float
+    base_elevation_m: float
+    base_elevation_source: str
+    setback_source: str
+    lat_deg: float
+    lon_deg: float
+
+
+@dataclass(frozen=True)
+class Antenna:
+    """One antenna of the array.
+
+    Attributes
+    ----------
+    role : str
+        ``"lower"``, ``"middle"`` or ``"upper"``.
+    height_m : float
+        Height above the mast's ground. [m]
+    shift_toward_runway_m : float
+        Proximity shift toward the centre line. [m]
+    offset_m : float
+        Resulting distance from the centre line. [m]
+    elevation_m : float
+        Height above the vertical datum. [m]
+    lat_deg, lon_deg : float
+        WGS 84 position. [deg]
+    """
+
+    role: str
+    height_m: float
+    shift_toward_runway_m: float
+    offset_m: float
+    elevation_m: float
+    lat_deg: float
+    lon_deg: float
+
+
+@dataclass(frozen=True)
+class Gpip:
+    """Glide path intercept point on the runway profile.
+
+    Attributes
+    ----------
+    along_m : float
+        Distance from the threshold in the landing direction. [m]
+    elevation_m : float
+        Runway profile elevation there. [m]
+    lat_deg, lon_deg : float
+        WGS 84 position on the centre line. [deg]
+    """
+
+    along_m: float
+    elevation_m: float
+    lat_deg: float
+    lon_deg: float
+
+
+@dataclass(frozen=True)
+class StudyResult:
+    """Everything one site study computes.
+
+    Attributes
+    ----------
+    spec : SiteSpec
+        The inputs.
+    channel : Channel
+        Glide path frequency and localizer pair. [MHz]
+    wavelength_m : float
+        Carrier wavelength. [m]
+    runway : Runway
+    mast : Mast
+    antennas : list of Antenna
+        Lowest first.
+    rdh_m : float
+        Reference datum height. [m]
+    path_height_over_threshold_m : float
+        Actual (hyperbolic) path over the threshold. [m]
+    gpip : Gpip
+    findings : list of Finding
+    """
+
+    spec: SiteSpec
+    channel: Channel
+    wavelength_m: float
+    runway: Runway
+    mast: Mast
+    antennas: list[Antenna]
+    rdh_m: float
+    path_height_over_threshold_m: float
+    gpip: Gpip
+    findings: list[checks.Finding] = field(default_factory=list)
+
+
+def channel_of(spec: SiteSpec) -> Channel:
+    """The glide path channel a site file asks for."""
+    if spec.localizer_mhz is not None:
+        return channel_for_localizer(spec.localizer_mhz)
+    return channel_for_glide_path(spec.frequency_mhz)
+
+
+def runway_of(spec: SiteSpec) -> Runway:
+    """Runway geometry from the threshold and end."""
+    thr, end = spec.threshold, spec.end
+    bearing_deg, length_m = geodesic_inverse(thr.lat_deg, thr.lon_deg, end.lat_deg, end.lon_deg)
+    if length_m < 100.0:
+        raise SiteFileError(
+            "runway.end", f"is only {length_m:.1f} m from the threshold; check both positions"
+        )
+    if length_m > 20_000.0:
+        raise SiteFileError(
+            "runway.end", f"is {length_m / 1000:.1f} km from the threshold; check both positions"
+        )
+    frame = RunwayFrame(thr.lat_deg, thr.lon_deg, end.lat_deg, end.lon_deg)
+    gradient = runway_gradient(thr.elevation_m, end.elevation_m, length_m)
+    return Runway(frame, bearing_deg, length_m, spec.width_m, gradient)
+
+
+def place_mast(spec: SiteSpec, runway: Runway) -> tuple[str, float, float, float, str, str]:
+    """Side, setback, offset and ground of the mast, solving the setback if asked.
+
+    Returns
+    -------
+    side, setback_m, offset_m, base_elevation_m, base_source, setback_source
+    """
+    mast = spec.mast
+    base_m = mast.base_elevation_m
+    base_source = "site file"
+    if base_m is None:
+        base_m, base_source = spec.threshold.elevation_m, "threshold elevation"
+    if mast.position is not None:
+        along, cross = runway.frame.to_plane(mast.position.lat_deg, mast.position.lon_deg)
+        side, setback, offset, field_name = (
+            ("right" if cross > 0 else "left"),
+            along,
+            abs(cross),
+            "mast.position",
+        )
+        setback_source = "surveyed position"
+        if offset <= runway.width_m / 2.0:
+            raise SiteFileError(
+                field_name,
+                f"is {offset:.1f} m from the centre line, on the runway "
+                f"(half-width {runway.width_m / 2.0:g} m); check the position",
+            )
+    elif mast.setback_m is not None:
+        side, setback, offset, field_name = mast.side, mast.setback_m, mast.offset_m, "mast.setback"
+        setback_source = "site file"
+    else:
+        setback = setback_for_rdh_m(spec.target_rdh_m, base_m, spec.angle_deg, spec.threshold.elevation_m)
+        side, offset, field_name = mast.side, mast.offset_m, "glide_path.target_rdh"
+        setback_source = "solved for target RDH"
+    if not 0.0 < setback < runway.length_m:
+        raise SiteFileError(
+            field_name,
+            f"puts the mast {setback:.1f} m along the runway, outside the "
+            f"{runway.length_m:.1f} m between threshold and end; the mast must stand "
+            "beside the runway past the threshold",
+        )
+    return side, setback, offset, base_m, base_source, setback_source
+
+
+def run_study(spec: SiteSpec) -> StudyResult:
+    """Run one site study on flat ground.
+
+    Parameters
+    ----------
+    spec : SiteSpec
+        Validated inputs (see :func:`geo.site.load_site`).
+
+    Returns
+    -------
+    StudyResult
+
+    Raises
+    ------
+    SiteFileError
+        When the inputs are consistent one by one but not together (a mast
+        past the runway end, a runway of zero length, ...).
+    """
+    channel = channel_of(spec)
+    lam = wavelength_m(channel.glide_path_mhz)
+    runway = runway_of(spec)
+    side, setback, offset, base_m, base_source, setback_source = place_mast(spec, runway)
+    sign = _SIGN[side]
+    frame = runway.frame
+    thr_elev = spec.threshold.elevation_m
+
+    heights = antenna_heights_m(spec.array, lam, spec.angle_deg)
+    shifts = proximity_shifts_m(heights, offset)
+    roles = array_type(spec.array).roles
+    antennas = []
+    for role, height, shift in zip(roles, heights, shifts):
+        lat, lon = frame.to_geographic(setback, sign * (offset - shift))
+        antennas.append(Antenna(role, height, shift, offset - shift, base_m + height, lat, lon))
+    mast_lat, mast_lon = antennas[0].lat_deg, antennas[0].lon_deg
+    mast = Mast(side, setback, offset, base_m, base_source, setback_source, mast_lat, mast_lon)
+
+    rdh = rdh_m(base_m, setback, spec.angle_deg, thr_elev)
+    over_threshold = path_height_over_threshold_m(base_m, setback, offset, spec.angle_deg, thr_elev)
+    gpip_x = gpip_along_m(rdh, spec.angle_deg, runway.gradient)
+    gpip_lat, gpip_lon = frame.to_geographic(gpip_x, 0.0)
+    gpip = Gpip(gpip_x, thr_elev + runway.gradient * gpip_x, gpip_lat, gpip_lon)
+
+    found = [
+        checks.check_channel(channel.glide_path_mhz, channel.localizer_mhz),
+        checks.check_angle(spec.angle_deg),
+        checks.check_rdh(rdh, spec.category, spec.runway_code),
+        *checks.check_typical_siting(setback, offset),
+    ]
+    if spec.target_rdh_m is not None and setback_source != "solved for target RDH":
+        found.append(checks.check_target_rdh(rdh, spec.target_rdh_m))
+    found.append(checks.check_gpip(gpip_x, runway.length_m))
+    found = [f for f in found if f is not None]
+    return StudyResult(spec, channel, lam, runway, mast, antennas, rdh, over_threshold, gpip, found)

@@ -1,0 +1,59 @@
+"""Shared fixtures; the header names the geospatial library versions in use."""
+
+from __future__ import annotations
+
+import textwrap
+from pathlib import Path
+
+import pytest
+
+DEMO_SITE = Path(__file__).resolve().parents[1] / "demo_airfield" / "site.toml"
+
+
+def pytest_report_header(config):
+    import numpy
+    import pyproj
+    import shapely
+
+    return (
+        f"pyproj {pyproj.__version__} (PROJ {pyproj.proj_version_str}), "
+        f"shapely {shapely.__version__} (GEOS {shapely.geos_version_string}), numpy {numpy.__version__}"
+    )
+
+
+BASE_SITE = """
+units = "m"
+[site]
+name = "Test strip"
+[runway]
+threshold = { lat = -35.41, lon = 148.92, elevation = 512.0 }
+end = { lat = -35.42, lon = 148.95, elevation = 515.0 }
+width = 45
+[glide_path]
+angle_deg = 3.0
+localizer_mhz = 109.30
+array = "null-reference"
+[mast]
+side = "right"
+offset = 130
+setback = 290
+base_elevation = 511.2
+"""
+
+
+@pytest.fixture
+def site_text() -> str:
+    """A valid site file's text (invented test values)."""
+    return textwrap.dedent(BASE_SITE)
+
+
+@pytest.fixture
+def write_site(tmp_path):
+    """Write site text to a file in a temporary folder and return its path."""
+
+    def _write(text: str, name: str = "site.toml") -> Path:
+        path = tmp_path / name
+        path.write_text(textwrap.dedent(text), encoding="utf-8")
+        return path
+
+    return _write

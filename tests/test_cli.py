@@ -1,0 +1,79 @@
+"""The command line: exit codes, one-line messages, no tracebacks."""
+
+import json
+import subprocess
+import sys
+
+import pytest
+from click.testing import CliRunner
+
+from cli.main import main
+
+
+def _run(*args):
+    return CliRunner().invoke(main, list(args))
+
+
+def test_run_writes_results_and_prints_a_summary(tmp_path, write_site, site_text):
+    site = write_site(site_text)
+    res = _run("run", str(site), "--out", str(tmp_path / "r"))
+    assert res.exit_code == 0, res.output
+    assert "RDH:" in res.output and "planning aid" in res.output
+    summary = json.loads((tmp_path / "r" / "summary.json").read_text())
+    assert summary["array"] == "null-reference"
+
+
+@pytest.mark.parametrize(
+    "old, new, field",
+    [
+        ("width = 45", "width = -3", "runway.width"),
+        ('units = "m"', 'units = "cubits"', "units"),
+        ("lat = -35.41,", "lat = 95,", "runway.threshold.lat"),
+        ("setback = 290", "setback = 9000", "mast.setback"),
+        ("angle_deg = 3.0", 'angle_deg = "3"', "glide_path.angle_deg"),
+    ],
+)
+def test_bad_site_file_exits_2_with_one_line(tmp_path, write_site, site_text, old, new, field):
+    site = write_site(site_text.replace(old, new, 1))
+    res = _run("run", str(site), "--out", str(tmp_path / "r"))
+    assert res.exit_code == 2
+    lines = res.output.strip().splitlines()
+    assert len(lines) == 1 and field in lines[0] and "Traceback" not in res.output
+    assert not (tmp_path / "r").exists()
+
+
+def test_existing_output_is_refused_without_overwrite(tmp_path, write_site, site_text):
+    site = write_site(site_text)
+    assert _run("run", str(site), "--out", str(tmp_path / "r")).exit_code == 0
+    res = _run("run", str(site), "--out", str(tmp_path / "r"))
+    assert res.exit_code == 2 and "--overwrite" in res.output
+    assert _run("run", str(site), "--out", str(tmp_path / "r"), "--overwrite").exit_code == 0
+
+
+def test_missing_site_file_exits_2(tmp_path):
+    res = _run("run", str(tmp_path / "none.toml"), "--out", str(tmp_path / "r"))
+    assert res.exit_code == 2 and "cannot read" in res.output
+
+
+def test_demo_runs_as_a_real_process(tmp_path):
+    proc = subprocess.run(
+        [sys.executable, "-m", "cli.main", "demo", "--out", str(tmp_path / "demo")],
+        capture_output=True,
+        text=True,
+        timeout=120,
+    )
+    assert proc.returncode == 0, proc.stderr
+    assert "Harrowfield" in proc.stdout
+    assert (tmp_path / "demo" / "layers" / "mast.geojson").exists()
+
+
+def test_bad_input_in_a_real_process_has_no_traceback(tmp_path, write_site, site_text):
+    site = write_site(site_text.replace("offset = 130", "offset = 10"))
+    proc = subprocess.run(
+        [sys.executable, "-m", "cli.main", "run", str(site), "--out", str(tmp_path / "r")],
+        capture_output=True,
+        text=True,
+        timeout=120,
+    )
+    assert proc.returncode == 2
+    assert proc.stderr.count("\n") == 1 and "mast.offset" in proc.stderr and "Traceback" not in proc.stderr
