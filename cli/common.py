@@ -28,6 +28,12 @@ overwrite_option = click.option(
     is_flag=True,
     help="Replace the results already in --out.",
 )
+plots_option = click.option(
+    "--plots/--no-plots",
+    default=True,
+    show_default=True,
+    help="Draw the PNG plots (the slowest output).",
+)
 quiet_option = click.option("--quiet", "-q", is_flag=True, help="Print nothing on success.")
 
 

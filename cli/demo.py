@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import click
 
-from cli.common import overwrite_option, quiet_option, reports_errors
+from cli.common import overwrite_option, plots_option, quiet_option, reports_errors
 from cli.run import run_site
 
 
@@ -18,13 +18,14 @@ from cli.run import run_site
     help="Folder for the results.",
 )
 @overwrite_option
+@plots_option
 @quiet_option
 @reports_errors
-def demo(out_dir: str, overwrite: bool, quiet: bool) -> None:
+def demo(out_dir: str, overwrite: bool, plots: bool, quiet: bool) -> None:
     """Run the study of the invented demo airfield shipped with mastplan.
 
     Example: mastplan demo --out out/demo --overwrite
     """
     from demo_airfield import SITE_FILE
 
-    run_site(SITE_FILE, out_dir, overwrite, quiet)
+    run_site(SITE_FILE, out_dir, overwrite, quiet, plots)

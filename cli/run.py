@@ -6,10 +6,10 @@ from pathlib import Path
 
 import click
 
-from cli.common import out_option, overwrite_option, quiet_option, reports_errors
+from cli.common import out_option, overwrite_option, plots_option, quiet_option, reports_errors
 
 
-def run_site(site_path: Path, out_dir: str, overwrite: bool, quiet: bool) -> None:
+def run_site(site_path: Path, out_dir: str, overwrite: bool, quiet: bool, plots: bool = True) -> None:
     """Load, study, write and report one site (shared by ``run`` and ``demo``)."""
     from geo.outputs.text import summary_text
     from geo.outputs.write import write_study
@@ -17,7 +17,7 @@ def run_site(site_path: Path, out_dir: str, overwrite: bool, quiet: bool) -> Non
     from geo.study import run_study
 
     result = run_study(load_site(site_path))
-    folder = write_study(result, out_dir, overwrite=overwrite)
+    folder = write_study(result, out_dir, overwrite=overwrite, plots=plots)
     if not quiet:
         click.echo(summary_text(result))
         click.echo(f"Results written to {folder}")
@@ -27,11 +27,12 @@ def run_site(site_path: Path, out_dir: str, overwrite: bool, quiet: bool) -> Non
 @click.argument("site", type=click.Path(dir_okay=False, path_type=Path))
 @out_option
 @overwrite_option
+@plots_option
 @quiet_option
 @reports_errors
-def run(site: Path, out_dir: str, overwrite: bool, quiet: bool) -> None:
+def run(site: Path, out_dir: str, overwrite: bool, plots: bool, quiet: bool) -> None:
     """Study one glide path site from a SITE file (TOML).
 
     Example: mastplan run site.toml --out results/
     """
-    run_site(site, out_dir, overwrite, quiet)
+    run_site(site, out_dir, overwrite, quiet, plots)

@@ -37,6 +37,9 @@ __all__ = [
     "check_typical_siting",
     "check_channel",
     "check_gpip",
+    "check_base_elevation",
+    "check_roughness",
+    "check_clearance",
 ]
 
 SEVERITIES = ("pass", "info", "warning", "fail")
@@ -184,4 +187,62 @@ def check_gpip(gpip_along_m: float, runway_length_m: float) -> Finding | None:
         "fail",
         f"The glide path meets the runway profile {_ft(gpip_along_m)} from the threshold, "
         f"off the {_ft(runway_length_m)} runway.",
+    )
+
+
+def check_base_elevation(site_file_m: float, dem_m: float, tolerance_m: float = 0.5) -> Finding:
+    """The site file's mast ground against the DEM (more than 0.5 m apart: a warning)."""
+    diff = site_file_m - dem_m
+    if abs(diff) <= tolerance_m:
+        return Finding(
+            "base-elevation",
+            "pass",
+            f"Mast ground in the site file {_ft(site_file_m)} agrees with the DEM {_ft(dem_m)} "
+            f"within {tolerance_m:g} m.",
+        )
+    return Finding(
+        "base-elevation",
+        "warning",
+        f"Mast ground in the site file {_ft(site_file_m)} differs from the DEM {_ft(dem_m)} by "
+        f"{diff:+.2f} m; check the survey, the DEM's vertical datum and terrain.vertical_offset. "
+        "The study uses the DEM.",
+    )
+
+
+def check_roughness(verdicts) -> list[Finding]:
+    """Roughness of the reflection zone against each criterion (see :mod:`geo.roughness`)."""
+    out = []
+    for v in verdicts:
+        if v.smooth:
+            severity = "pass"
+        else:
+            severity = "warning" if v.criterion == "rayleigh" else "info"
+        word = "smooth" if v.smooth else "rough"
+        out.append(
+            Finding(
+                f"roughness-{v.criterion}",
+                severity,
+                f"Reflection zone RMS {v.rms_m:.3f} m against the {v.source} limit "
+                f"{v.limit_m:.3f} m: {word} (margin {v.margin_m:+.3f} m).",
+            )
+        )
+    return out
+
+
+def check_clearance(min_clearance_m: float, along_m: float, required_m: float) -> Finding:
+    """Smallest height of the straight path above the approach terrain."""
+    where = f"{-along_m:,.0f} m before the threshold"
+    if min_clearance_m >= required_m:
+        return Finding(
+            "clearance",
+            "pass",
+            f"The path clears the approach terrain by at least {_ft(min_clearance_m)} ({where}); "
+            f"required {required_m:g} m (terrain.min_clearance).",
+        )
+    return Finding(
+        "clearance",
+        "fail",
+        f"The path clears the approach terrain by only {_ft(min_clearance_m)} ({where}); "
+        f"required {required_m:g} m (terrain.min_clearance). Obstacles are not in the DEM: "
+        "survey them separately.",
     )

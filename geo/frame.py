@@ -27,7 +27,7 @@ from functools import lru_cache
 
 import numpy as np
 
-__all__ = ["RunwayFrame", "geodesic_inverse", "geodesic_forward"]
+__all__ = ["RunwayFrame", "geodesic_inverse", "geodesic_forward", "frame_transformer"]
 
 
 @lru_cache(maxsize=1)
@@ -137,16 +137,44 @@ class RunwayFrame:
         cross = east * un - north * ue
         return _scalar(along), _scalar(cross)
 
-    def to_geographic(self, along_m, cross_m):
-        """Plane (along, cross) metres to WGS 84 (lat, lon) degrees."""
+    def to_tm(self, along_m, cross_m):
+        """Plane (along, cross) metres to the frame's transverse Mercator (east, north)."""
         ue, un = self._unit_vectors()
         along_m = np.asarray(along_m, dtype=float)
         cross_m = np.asarray(cross_m, dtype=float)
-        east = along_m * ue + cross_m * un
-        north = along_m * un - cross_m * ue
+        return along_m * ue + cross_m * un, along_m * un - cross_m * ue
+
+    def to_geographic(self, along_m, cross_m):
+        """Plane (along, cross) metres to WGS 84 (lat, lon) degrees."""
+        east, north = self.to_tm(along_m, cross_m)
         lon, lat = self._tm[2].transform(east, north)
         lon = (np.asarray(lon, dtype=float) + 180.0) % 360.0 - 180.0
         return _scalar(np.asarray(lat, dtype=float)), _scalar(lon)
+
+
+@lru_cache(maxsize=16)
+def _frame_transformer(lat0_deg: float, lon0_deg: float, crs_wkt: str, inverse: bool):
+    from pyproj import CRS, Transformer
+
+    local = _transformers(lat0_deg, lon0_deg)[0]
+    other = CRS.from_user_input(crs_wkt)
+    if inverse:
+        return Transformer.from_crs(other, local, always_xy=True)
+    return Transformer.from_crs(local, other, always_xy=True)
+
+
+def frame_transformer(frame: RunwayFrame, crs_wkt: str, inverse: bool = False):
+    """Cached transformer between a frame's transverse Mercator and another CRS (x, y order).
+
+    Parameters
+    ----------
+    frame : RunwayFrame
+    crs_wkt : str
+        The other CRS as WKT.
+    inverse : bool
+        From the other CRS to the frame instead.
+    """
+    return _frame_transformer(frame.threshold_lat_deg, frame.threshold_lon_deg, crs_wkt, inverse)
 
 
 def _scalar(values):

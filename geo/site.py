@@ -23,7 +23,7 @@ from geo.channels import CHANNEL_PAIRS_MHZ, GLIDE_PATH_BAND_MHZ
 from geo.errors import SiteFileError
 from geo.units import LENGTH_UNITS
 
-__all__ = ["GeoPoint", "MastSpec", "SiteSpec", "load_site", "parse_site"]
+__all__ = ["GeoPoint", "MastSpec", "TerrainSpec", "SiteSpec", "load_site", "parse_site"]
 
 SIDES = ("left", "right")
 CATEGORIES = ("I", "II", "III")
@@ -79,6 +79,28 @@ class MastSpec:
 
 
 @dataclass(frozen=True)
+class TerrainSpec:
+    """Where the terrain comes from.
+
+    Attributes
+    ----------
+    dem_path : Path
+        Raster GDAL reads, any CRS (resolved against the site file's folder).
+    vertical_offset_m : float
+        Added to DEM heights to reach the surveyed datum. [m]
+    vertical_unit : {"m", "ft"} or None
+        Unit of the raster's heights; ``None``: from the raster, else metres.
+    min_clearance_m : float
+        Smallest acceptable height of the path above the approach terrain. [m]
+    """
+
+    dem_path: Path
+    vertical_offset_m: float = 0.0
+    vertical_unit: str | None = None
+    min_clearance_m: float = 0.0
+
+
+@dataclass(frozen=True)
 class SiteSpec:
     """Validated inputs of one site study; every length in metres.
 
@@ -115,6 +137,8 @@ class SiteSpec:
         SHA-256 of the file's bytes ("" when built in code).
     base_dir : Path
         Folder that relative paths in the file are resolved against.
+    terrain : TerrainSpec or None
+        The DEM, when the study uses real terrain.
     """
 
     name: str
@@ -134,6 +158,7 @@ class SiteSpec:
     source: str = ""
     sha256: str = ""
     base_dir: Path = field(default_factory=Path)
+    terrain: TerrainSpec | None = None
 
 
 def load_site(path: str | Path) -> SiteSpec:
@@ -193,7 +218,7 @@ def parse_site(
     """
     if not isinstance(doc, dict):
         raise SiteFileError("", "the site document must be a TOML table")
-    _only(doc, "", ("units", "site", "runway", "glide_path", "mast"))
+    _only(doc, "", ("units", "site", "runway", "glide_path", "mast", "terrain"))
     units = doc.get("units")
     if units is None:
         raise SiteFileError("units", 'missing; add units = "m" or units = "ft" at the top')
@@ -282,6 +307,8 @@ def parse_site(
         raise SiteFileError("glide_path.category", f'must be "I", "II" or "III" (got {_show(category)})')
 
     mast = _mast(_table(doc, "mast"), scale, units, width_m, target_rdh_m)
+    base_dir = base_dir if base_dir is not None else Path()
+    terrain = _terrain(doc["terrain"], scale, units, base_dir) if "terrain" in doc else None
     return SiteSpec(
         name=name,
         notes=notes,
@@ -299,8 +326,43 @@ def parse_site(
         units=units,
         source=source,
         sha256=sha256,
-        base_dir=base_dir if base_dir is not None else Path(),
+        base_dir=base_dir,
+        terrain=terrain,
     )
+
+
+def _terrain(table, scale: float, units: str, base_dir: Path) -> TerrainSpec:
+    if not isinstance(table, dict):
+        raise SiteFileError("terrain", f"must be a table [terrain] (got {_show(table)})")
+    _only(table, "terrain", ("dem", "vertical_offset", "vertical_unit", "min_clearance"))
+    dem = _text(table, "terrain", "dem", required=True)
+    offset = (
+        _number(
+            table,
+            "terrain",
+            "vertical_offset",
+            scale,
+            required=False,
+            at_least=-1000.0,
+            at_most=1000.0,
+            unit=units,
+        )
+        or 0.0
+    )
+    vertical_unit = table.get("vertical_unit")
+    if vertical_unit is not None and vertical_unit not in LENGTH_UNITS:
+        raise SiteFileError("terrain.vertical_unit", f'must be "m" or "ft" (got {_show(vertical_unit)})')
+    clearance = _number(
+        table, "terrain", "min_clearance", scale, required=False, at_least=-1000.0, at_most=1000.0, unit=units
+    )
+    path = Path(dem)
+    if not path.is_absolute():
+        path = base_dir / path
+    if not path.is_file():
+        raise SiteFileError(
+            "terrain.dem", f"no file at {path}; give the DEM's path, relative to the site file"
+        )
+    return TerrainSpec(path, offset, vertical_unit, clearance if clearance is not None else 0.0)
 
 
 def _mast(mast: dict, scale: float, units: str, width_m: float, target_rdh_m) -> MastSpec:

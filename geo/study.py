@@ -13,7 +13,7 @@ from dataclasses import dataclass, field
 from geo import findings as checks
 from geo.arrays import antenna_heights_m, array_type, proximity_shifts_m
 from geo.channels import Channel, channel_for_glide_path, channel_for_localizer, wavelength_m
-from geo.errors import SiteFileError
+from geo.errors import SiteFileError, TerrainError
 from geo.frame import RunwayFrame, geodesic_inverse
 from geo.path import (
     gpip_along_m,
@@ -22,9 +22,11 @@ from geo.path import (
     runway_gradient,
     setback_for_rdh_m,
 )
+from geo.profile import ApproachProfile, approach_profile
 from geo.site import SiteSpec
+from geo.terrain import TerrainResult, analyse_terrain
 
-__all__ = ["Antenna", "Runway", "Mast", "Gpip", "StudyResult", "run_study"]
+__all__ = ["Antenna", "Runway", "Mast", "Gpip", "TerrainSource", "StudyResult", "run_study"]
 
 _SIGN = {"right": 1.0, "left": -1.0}
 
@@ -67,11 +69,15 @@ class Mast:
     base_elevation_m : float
         Ground elevation at the mast. [m]
     base_elevation_source : str
-        ``"site file"`` or ``"threshold elevation"``.
+        ``"DEM"``, ``"site file"`` or ``"threshold elevation"``.
     setback_source : str
         ``"site file"``, ``"surveyed position"`` or ``"solved for target RDH"``.
     lat_deg, lon_deg : float
         WGS 84 position. [deg]
+    plane_elevation_m : float
+        Reflecting plane at the mast (the ground itself on flat terrain). [m]
+    site_file_base_elevation_m : float or None
+        ``base_elevation`` as the site file gave it. [m]
     """
 
     side: str
@@ -82,6 +88,8 @@ class Mast:
     setback_source: str
     lat_deg: float
     lon_deg: float
+    plane_elevation_m: float
+    site_file_base_elevation_m: float | None = None
 
 
 @dataclass(frozen=True)
@@ -93,7 +101,7 @@ class Antenna:
     role : str
         ``"lower"``, ``"middle"`` or ``"upper"``.
     height_m : float
-        Height above the mast's ground. [m]
+        Height above the reflecting plane at the mast (the ground on flat terrain). [m]
     shift_toward_runway_m : float
         Proximity shift toward the centre line. [m]
     offset_m : float
@@ -155,6 +163,11 @@ class StudyResult:
         Actual (hyperbolic) path over the threshold. [m]
     gpip : Gpip
     findings : list of Finding
+    intercept_elevation_m : float
+        Where the straight path meets the ground abeam the mast (the RPI). [m]
+    terrain : TerrainResult or None
+    profile : ApproachProfile or None
+    terrain_source : TerrainSource or None
     """
 
     spec: SiteSpec
@@ -167,6 +180,10 @@ class StudyResult:
     path_height_over_threshold_m: float
     gpip: Gpip
     findings: list[checks.Finding] = field(default_factory=list)
+    intercept_elevation_m: float = 0.0
+    terrain: TerrainResult | None = None
+    profile: ApproachProfile | None = None
+    terrain_source: TerrainSource | None = None
 
 
 def channel_of(spec: SiteSpec) -> Channel:
@@ -193,52 +210,73 @@ def runway_of(spec: SiteSpec) -> Runway:
     return Runway(frame, bearing_deg, length_m, spec.width_m, gradient)
 
 
-def place_mast(spec: SiteSpec, runway: Runway) -> tuple[str, float, float, float, str, str]:
-    """Side, setback, offset and ground of the mast, solving the setback if asked.
+@dataclass(frozen=True)
+class TerrainSource:
+    """What the study knows of its DEM.
 
-    Returns
-    -------
-    side, setback_m, offset_m, base_elevation_m, base_source, setback_source
+    Attributes
+    ----------
+    dem_name : str
+        File name of the DEM.
+    vertical_unit_source : str
+        Where the height unit came from.
+    vertical_datum : str or None
+        The raster's vertical datum, when it states one.
+    vertical_offset_m : float
+        Offset added to DEM heights. [m]
     """
+
+    dem_name: str
+    vertical_unit_source: str
+    vertical_datum: str | None
+    vertical_offset_m: float
+
+
+def _placement(spec: SiteSpec, runway: Runway) -> tuple[str, float | None, float, str, str]:
+    """Side, setback (None: to be solved), offset, the field that set the setback, its source."""
     mast = spec.mast
-    base_m = mast.base_elevation_m
-    base_source = "site file"
-    if base_m is None:
-        base_m, base_source = spec.threshold.elevation_m, "threshold elevation"
     if mast.position is not None:
         along, cross = runway.frame.to_plane(mast.position.lat_deg, mast.position.lon_deg)
-        side, setback, offset, field_name = (
-            ("right" if cross > 0 else "left"),
-            along,
-            abs(cross),
-            "mast.position",
-        )
-        setback_source = "surveyed position"
+        offset = abs(cross)
         if offset <= runway.width_m / 2.0:
             raise SiteFileError(
-                field_name,
+                "mast.position",
                 f"is {offset:.1f} m from the centre line, on the runway "
                 f"(half-width {runway.width_m / 2.0:g} m); check the position",
             )
-    elif mast.setback_m is not None:
-        side, setback, offset, field_name = mast.side, mast.setback_m, mast.offset_m, "mast.setback"
-        setback_source = "site file"
-    else:
-        setback = setback_for_rdh_m(spec.target_rdh_m, base_m, spec.angle_deg, spec.threshold.elevation_m)
-        side, offset, field_name = mast.side, mast.offset_m, "glide_path.target_rdh"
-        setback_source = "solved for target RDH"
-    if not 0.0 < setback < runway.length_m:
+        return ("right" if cross > 0 else "left"), along, offset, "mast.position", "surveyed position"
+    if mast.setback_m is not None:
+        return mast.side, mast.setback_m, mast.offset_m, "mast.setback", "site file"
+    return mast.side, None, mast.offset_m, "glide_path.target_rdh", "solved for target RDH"
+
+
+def _check_setback(setback_m: float, field_name: str, runway: Runway) -> None:
+    if not 0.0 < setback_m < runway.length_m:
         raise SiteFileError(
             field_name,
-            f"puts the mast {setback:.1f} m along the runway, outside the "
+            f"puts the mast {setback_m:.1f} m along the runway, outside the "
             f"{runway.length_m:.1f} m between threshold and end; the mast must stand "
             "beside the runway past the threshold",
         )
-    return side, setback, offset, base_m, base_source, setback_source
+
+
+def _solve_on_terrain(spec, runway, dem, side, setback, offset, lam, field_name, solve):
+    """Terrain analysis at the mast; with ``solve``, move the setback until the RDH settles."""
+    thr = spec.threshold.elevation_m
+    for _ in range(30):
+        _check_setback(setback, field_name, runway)
+        ground = analyse_terrain(dem, runway.frame, side, setback, offset, spec.array, lam, spec.angle_deg)
+        if not solve:
+            return setback, ground
+        new = setback_for_rdh_m(spec.target_rdh_m, ground.rpi_elevation_m, spec.angle_deg, thr)
+        if abs(new - setback) < 1e-3:
+            return setback, ground
+        setback = new
+    raise TerrainError("terrain: the setback for the target RDH did not settle; give mast.setback instead")
 
 
 def run_study(spec: SiteSpec) -> StudyResult:
-    """Run one site study on flat ground.
+    """Run one site study, on flat ground or on the DEM of ``spec.terrain``.
 
     Parameters
     ----------
@@ -254,27 +292,76 @@ def run_study(spec: SiteSpec) -> StudyResult:
     SiteFileError
         When the inputs are consistent one by one but not together (a mast
         past the runway end, a runway of zero length, ...).
+    TerrainError
+        When the DEM does not serve the site.
     """
     channel = channel_of(spec)
     lam = wavelength_m(channel.glide_path_mhz)
     runway = runway_of(spec)
-    side, setback, offset, base_m, base_source, setback_source = place_mast(spec, runway)
-    sign = _SIGN[side]
     frame = runway.frame
     thr_elev = spec.threshold.elevation_m
+    side, setback, offset, field_name, setback_source = _placement(spec, runway)
+    solve = setback is None
+    file_base = spec.mast.base_elevation_m
+    terrain = profile = source = None
+    if spec.terrain is None:
+        base_m, base_source = (
+            (file_base, "site file") if file_base is not None else (thr_elev, "threshold elevation")
+        )
+        if solve:
+            setback = setback_for_rdh_m(spec.target_rdh_m, base_m, spec.angle_deg, thr_elev)
+        _check_setback(setback, field_name, runway)
+        heights = antenna_heights_m(spec.array, lam, spec.angle_deg)
+        plane_m = intercept_m = base_m
+    else:
+        from geo.dem import Dem
 
-    heights = antenna_heights_m(spec.array, lam, spec.angle_deg)
+        t = spec.terrain
+        with Dem.open(t.dem_path, t.vertical_offset_m, t.vertical_unit) as dem:
+            if solve:
+                setback = setback_for_rdh_m(spec.target_rdh_m, thr_elev, spec.angle_deg, thr_elev)
+            setback, terrain = _solve_on_terrain(
+                spec, runway, dem, side, setback, offset, lam, field_name, solve
+            )
+            profile = approach_profile(
+                dem,
+                frame,
+                runway.length_m,
+                terrain.rpi_elevation_m,
+                setback,
+                offset,
+                spec.angle_deg,
+                min(terrain.cell_size_m, 10.0),
+            )
+            source = TerrainSource(
+                t.dem_path.name, dem.vertical_unit_source, dem.vertical_datum(), t.vertical_offset_m
+            )
+        base_m, base_source = terrain.ground_at_mast_m, "DEM"
+        heights = terrain.heights_m
+        plane_m, intercept_m = terrain.plane.elevation_at_mast_m, terrain.rpi_elevation_m
+
+    sign = _SIGN[side]
     shifts = proximity_shifts_m(heights, offset)
     roles = array_type(spec.array).roles
     antennas = []
     for role, height, shift in zip(roles, heights, shifts):
         lat, lon = frame.to_geographic(setback, sign * (offset - shift))
-        antennas.append(Antenna(role, height, shift, offset - shift, base_m + height, lat, lon))
-    mast_lat, mast_lon = antennas[0].lat_deg, antennas[0].lon_deg
-    mast = Mast(side, setback, offset, base_m, base_source, setback_source, mast_lat, mast_lon)
+        antennas.append(Antenna(role, height, shift, offset - shift, plane_m + height, lat, lon))
+    mast = Mast(
+        side,
+        setback,
+        offset,
+        base_m,
+        base_source,
+        setback_source,
+        antennas[0].lat_deg,
+        antennas[0].lon_deg,
+        plane_m,
+        file_base,
+    )
 
-    rdh = rdh_m(base_m, setback, spec.angle_deg, thr_elev)
-    over_threshold = path_height_over_threshold_m(base_m, setback, offset, spec.angle_deg, thr_elev)
+    rdh = rdh_m(intercept_m, setback, spec.angle_deg, thr_elev)
+    over_threshold = path_height_over_threshold_m(intercept_m, setback, offset, spec.angle_deg, thr_elev)
     gpip_x = gpip_along_m(rdh, spec.angle_deg, runway.gradient)
     gpip_lat, gpip_lon = frame.to_geographic(gpip_x, 0.0)
     gpip = Gpip(gpip_x, thr_elev + runway.gradient * gpip_x, gpip_lat, gpip_lon)
@@ -285,8 +372,32 @@ def run_study(spec: SiteSpec) -> StudyResult:
         checks.check_rdh(rdh, spec.category, spec.runway_code),
         *checks.check_typical_siting(setback, offset),
     ]
-    if spec.target_rdh_m is not None and setback_source != "solved for target RDH":
+    if spec.target_rdh_m is not None and not solve:
         found.append(checks.check_target_rdh(rdh, spec.target_rdh_m))
     found.append(checks.check_gpip(gpip_x, runway.length_m))
+    if terrain is not None:
+        if file_base is not None:
+            found.append(checks.check_base_elevation(file_base, terrain.ground_at_mast_m))
+        found += checks.check_roughness(terrain.roughness)
+        found.append(
+            checks.check_clearance(
+                profile.min_clearance_m, profile.min_clearance_along_m, spec.terrain.min_clearance_m
+            )
+        )
     found = [f for f in found if f is not None]
-    return StudyResult(spec, channel, lam, runway, mast, antennas, rdh, over_threshold, gpip, found)
+    return StudyResult(
+        spec,
+        channel,
+        lam,
+        runway,
+        mast,
+        antennas,
+        rdh,
+        over_threshold,
+        gpip,
+        found,
+        intercept_m,
+        terrain,
+        profile,
+        source,
+    )

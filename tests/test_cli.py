@@ -77,3 +77,26 @@ def test_bad_input_in_a_real_process_has_no_traceback(tmp_path, write_site, site
     )
     assert proc.returncode == 2
     assert proc.stderr.count("\n") == 1 and "mast.offset" in proc.stderr and "Traceback" not in proc.stderr
+
+
+def test_demo_dem_script_reproduces_the_committed_raster(tmp_path):
+    # The demo DEM is invented; its script must be deterministic so the committed file can be remade.
+    import numpy as np
+    import rasterio
+
+    from demo_airfield import SITE_FILE
+    from demo_airfield.make_dem import make
+
+    fresh = make(tmp_path / "dem.tif")
+    with rasterio.open(fresh) as a, rasterio.open(SITE_FILE.with_name("dem.tif")) as b:
+        assert a.crs == b.crs and a.transform == b.transform
+        np.testing.assert_array_equal(a.read(1), b.read(1))
+
+
+def test_no_plots_option_skips_only_the_pictures(tmp_path):
+    from demo_airfield import SITE_FILE
+
+    res = _run("run", str(SITE_FILE), "--out", str(tmp_path / "r"), "--no-plots", "-q")
+    assert res.exit_code == 0, res.output
+    names = sorted(p.name for p in (tmp_path / "r").iterdir())
+    assert names == ["layers", "profile.csv", "summary.json"]

@@ -65,6 +65,8 @@ def summary_dict(result: StudyResult) -> dict:
             "offset_m": mast.offset_m,
             "base_elevation_m": mast.base_elevation_m,
             "base_elevation_source": mast.base_elevation_source,
+            "site_file_base_elevation_m": mast.site_file_base_elevation_m,
+            "plane_elevation_m": mast.plane_elevation_m,
         },
         "antennas": [
             {
@@ -73,6 +75,7 @@ def summary_dict(result: StudyResult) -> dict:
                 "shift_toward_runway_m": a.shift_toward_runway_m,
                 "offset_m": a.offset_m,
                 "elevation_m": a.elevation_m,
+                "height_above_ground_m": a.elevation_m - mast.base_elevation_m,
                 "lat": a.lat_deg,
                 "lon": a.lon_deg,
             }
@@ -90,4 +93,53 @@ def summary_dict(result: StudyResult) -> dict:
         "findings": [{"code": f.code, "severity": f.severity, "message": f.message} for f in result.findings],
         "cautions": list(CAUTIONS),
     }
+    if result.terrain is not None:
+        body["terrain"] = terrain_dict(result)
     return with_foot_twins(body)
+
+
+def terrain_dict(result: StudyResult) -> dict:
+    """The terrain part of the summary (metre keys; twins are added by the caller)."""
+    t, p, src = result.terrain, result.profile, result.terrain_source
+    return {
+        "dem": src.dem_name,
+        "vertical_unit_source": src.vertical_unit_source,
+        "vertical_datum": src.vertical_datum or "not stated by the DEM",
+        "vertical_offset_m": src.vertical_offset_m,
+        "datum_caution": "DEM heights must be in the vertical datum of the surveyed threshold and end "
+        "elevations; mastplan converts no vertical datum (use terrain.vertical_offset).",
+        "cell_size_m": t.cell_size_m,
+        "sample_spacing_m": t.sample_spacing_m,
+        "forward_slope_deg": t.forward_slope_deg,
+        "forward_slope_percent": 100.0 * t.plane.forward_gradient,
+        "lateral_slope_deg": t.lateral_slope_deg,
+        "lateral_slope_percent": 100.0 * t.plane.lateral_gradient,
+        "plane_elevation_at_mast_m": t.plane.elevation_at_mast_m,
+        "ground_at_mast_m": t.ground_at_mast_m,
+        "rpi_elevation_m": t.rpi_elevation_m,
+        "grazing_angle_deg": t.grazing_deg,
+        "rms_residual_m": t.plane.rms_residual_m,
+        "max_abs_residual_m": t.plane.max_abs_residual_m,
+        "samples": t.plane.samples,
+        "iterations": t.iterations,
+        "zone": {
+            "kind": "far-field first Fresnel zone of the lowest antenna, receivers on the course to 10 NM",
+            "near_m": t.zone.near_m,
+            "far_m": t.zone.far_m,
+            "half_width_m": t.zone.semi_across_m,
+        },
+        "roughness": {
+            v.criterion: {
+                "limit_m": v.limit_m,
+                "rms_m": v.rms_m,
+                "margin_m": v.margin_m,
+                "verdict": "smooth" if v.smooth else "rough",
+                "source": v.source,
+            }
+            for v in t.roughness
+        },
+        "min_clearance_m": p.min_clearance_m,
+        "min_clearance_along_m": p.min_clearance_along_m,
+        "required_clearance_m": result.spec.terrain.min_clearance_m,
+        "profile_start_along_m": float(p.along_m[0]),
+    }

@@ -26,7 +26,7 @@ def summary_text(result: StudyResult) -> str:
         f"Mast: {mast.side} side, setback {_len(mast.setback_m, 1)} ({mast.setback_source}), "
         f"offset {_len(mast.offset_m, 1)}, ground {_len(mast.base_elevation_m)}",
         f"      at lat {mast.lat_deg:.7f}, lon {mast.lon_deg:.7f} (WGS 84)",
-        "Antennas (above the mast's ground; shift toward the runway):",
+        "Antennas (height above the reflecting plane; shift toward the runway):",
     ]
     for a in result.antennas:
         lines.append(f"  {a.role:<7} height {_len(a.height_m, 3)}, shift {_len(a.shift_toward_runway_m, 3)}")
@@ -35,8 +35,17 @@ def summary_text(result: StudyResult) -> str:
         f"actual path over the threshold: {_len(result.path_height_over_threshold_m)}",
         f"GPIP: {_len(result.gpip.along_m, 1)} past the threshold "
         f"(lat {result.gpip.lat_deg:.7f}, lon {result.gpip.lon_deg:.7f})",
-        "Findings:",
     ]
+    t = result.terrain
+    if t is not None:
+        lines += [
+            f"Terrain ({result.terrain_source.dem_name}): forward slope {t.forward_slope_deg:+.3f} deg, "
+            f"lateral slope {t.lateral_slope_deg:+.3f} deg, RPI {_len(t.rpi_elevation_m)}, "
+            f"RMS about the plane {_len(t.plane.rms_residual_m, 3)} ({t.plane.samples} samples)",
+            f"Approach: smallest path clearance {_len(result.profile.min_clearance_m)} "
+            f"at {result.profile.min_clearance_along_m:,.0f} m from the threshold",
+        ]
+    lines += ["Findings:"]
     lines += [f"  [{f.severity}] {f.message}" for f in result.findings]
     lines += ["Caution:"] + [f"  {c}" for c in CAUTIONS]
     return "\n".join(lines)

@@ -42,8 +42,27 @@ def _write_geojson(result: StudyResult, folder: Path) -> None:
         write_json(layers / f"{name}.geojson", fc)
 
 
+def _write_terrain(result: StudyResult, folder: Path) -> None:
+    if result.profile is None:
+        return
+    from geo.outputs.profile_csv import write_profile_csv
+
+    write_profile_csv(result.profile, folder / "profile.csv")
+
+
+def _write_terrain_plots(result: StudyResult, folder: Path) -> None:
+    if result.profile is None:
+        return
+    from geo.outputs.plots import plot_profile, plot_residuals
+
+    plot_profile(result, folder / "profile.png")
+    plot_residuals(result, folder / "residuals.png")
+
+
 #: The writers of a study, in order.
-WRITERS: tuple[Writer, ...] = (_write_summary, _write_geojson)
+WRITERS: tuple[Writer, ...] = (_write_summary, _write_geojson, _write_terrain)
+#: Writers of pictures (matplotlib), which a caller may skip.
+PLOT_WRITERS: tuple[Writer, ...] = (_write_terrain_plots,)
 
 
 def _check_target(out: Path, overwrite: bool, inputs: list[Path]) -> None:
@@ -107,7 +126,9 @@ def atomic_folder(
     return out
 
 
-def write_study(result: StudyResult, out_dir: str | Path, overwrite: bool = False) -> Path:
+def write_study(
+    result: StudyResult, out_dir: str | Path, overwrite: bool = False, plots: bool = True
+) -> Path:
     """Write every output of a study into ``out_dir``, atomically.
 
     Parameters
@@ -116,6 +137,8 @@ def write_study(result: StudyResult, out_dir: str | Path, overwrite: bool = Fals
     out_dir : str or Path
     overwrite : bool
         Replace an existing non-empty folder.
+    plots : bool
+        Also draw the PNG plots (matplotlib; the slowest part of writing).
 
     Returns
     -------
@@ -131,7 +154,7 @@ def write_study(result: StudyResult, out_dir: str | Path, overwrite: bool = Fals
     inputs = [Path(result.spec.source)] if result.spec.source else []
 
     def fill(folder: Path) -> None:
-        for writer in WRITERS:
+        for writer in WRITERS + (PLOT_WRITERS if plots else ()):
             writer(result, folder)
 
     return atomic_folder(out_dir, overwrite, fill, inputs)

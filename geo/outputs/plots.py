@@ -1,0 +1,112 @@
+"""Plots of a study (matplotlib, Agg backend; imported only when plots are written)."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import numpy as np
+
+from geo.study import StudyResult
+from geo.units import M_PER_FT
+
+__all__ = ["plot_profile", "plot_residuals"]
+
+
+def _figure(width_in: float, height_in: float, rows: int = 1):
+    """A figure on the Agg canvas, without pyplot (faster to import, no global state)."""
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+    from matplotlib.figure import Figure
+
+    fig = Figure(figsize=(width_in, height_in))
+    FigureCanvasAgg(fig)
+    axes = [fig.add_subplot(rows, 1, i + 1) for i in range(rows)]
+    return fig, axes
+
+
+def _feet_axis(ax) -> None:
+    sec = ax.secondary_yaxis("right", functions=(lambda m: m / M_PER_FT, lambda ft: ft * M_PER_FT))
+    sec.set_ylabel("elevation [ft]")
+
+
+def plot_profile(result: StudyResult, path: Path) -> None:
+    """Terrain and path along the extended centre line: the whole approach and the runway end of it."""
+    prof, terrain, mast = result.profile, result.terrain, result.mast
+    zone_near = mast.setback_m - terrain.zone.far_m
+    zone_far = mast.setback_m - terrain.zone.near_m
+    fig, axes = _figure(11, 8.5, rows=2)
+    fig.subplots_adjust(left=0.07, right=0.92, top=0.95, bottom=0.07, hspace=0.3)
+    for ax, (lo, hi) in zip(axes, [(prof.along_m[0], prof.along_m[-1]), (-1500.0, mast.setback_m + 700.0)]):
+        sel = (prof.along_m >= lo) & (prof.along_m <= hi)
+        x = prof.along_m[sel]
+        ax.fill_between(
+            x,
+            np.nanmin(prof.terrain_m[sel]) - 5.0,
+            prof.terrain_m[sel],
+            color="#c8b48c",
+            label="terrain under the centre line (DEM)",
+        )
+        ax.plot(x, prof.path_straight_m[sel], color="#1f5fa8", label="straight path (from the RPI)")
+        ax.plot(
+            x, prof.path_actual_m[sel], color="#d9480f", ls="--", label="actual path (cone about the mast)"
+        )
+        ax.axvline(0.0, color="k", lw=0.8)
+        ax.annotate(
+            "threshold", (0.0, ax.get_ylim()[1]), xytext=(3, -12), textcoords="offset points", fontsize=8
+        )
+        ax.plot([result.gpip.along_m], [result.gpip.elevation_m], "v", color="#1f5fa8", label="GPIP")
+        top = mast.plane_elevation_m + result.antennas[-1].height_m
+        ax.plot(
+            [mast.setback_m, mast.setback_m],
+            [mast.base_elevation_m, top],
+            color="#2b8a3e",
+            lw=3,
+            label=f"mast abeam ({mast.offset_m:.0f} m off the centre line)",
+        )
+        ax.axvspan(
+            zone_near, zone_far, color="#2b8a3e", alpha=0.12, label="reflection zone used for the plane"
+        )
+        ax.set_xlim(lo, hi)
+        ax.set_xlabel("distance from the threshold along the centre line [m] (negative: approach)")
+        ax.set_ylabel("elevation [m]")
+        _feet_axis(ax)
+        ax.grid(alpha=0.3)
+    axes[0].set_title(f"{result.spec.name}: approach profile")
+    axes[0].legend(loc="upper right", fontsize=8)
+    axes[1].set_title("near the runway")
+    fig.savefig(path, dpi=100)
+
+
+def plot_residuals(result: StudyResult, path: Path) -> None:
+    """Plan view of the ground about the fitted plane in the reflection zone (cut above, fill below)."""
+    t = result.terrain
+    sp = t.sample_spacing_m
+    iu = np.rint((t.u_m - t.u_m.min()) / sp).astype(int)
+    iw = np.rint((t.w_m - t.w_m.min()) / sp).astype(int)
+    image = np.full((iw.max() + 1, iu.max() + 1), np.nan)
+    image[iw, iu] = t.residual_m
+    extent = (t.u_m.min() - sp / 2, t.u_m.max() + sp / 2, t.w_m.min() - sp / 2, t.w_m.max() + sp / 2)
+    lim = max(float(np.max(np.abs(t.residual_m))), 0.01)
+    fig, (ax,) = _figure(11, 5)
+    fig.subplots_adjust(left=0.07, right=0.98, top=0.92, bottom=0.1)
+    im = ax.imshow(
+        image,
+        origin="lower",
+        extent=extent,
+        cmap="RdBu_r",
+        vmin=-lim,
+        vmax=lim,
+        interpolation="nearest",
+        aspect="auto",
+    )
+    bar = fig.colorbar(im, ax=ax)
+    bar.set_label("ground above the plane [m]: red cut, blue fill")
+    ax.plot([0.0], [0.0], "^", color="k", ms=9, label="mast")
+    ax.set_xlabel("distance in front of the mast, toward the approach [m]")
+    ax.set_ylabel("distance across, toward the runway [m]")
+    ax.set_title(
+        f"{result.spec.name}: ground about the reflecting plane "
+        f"(RMS {t.plane.rms_residual_m:.3f} m, max {t.plane.max_abs_residual_m:.3f} m)"
+    )
+    ax.legend(loc="upper right")
+    ax.grid(alpha=0.3)
+    fig.savefig(path, dpi=100)

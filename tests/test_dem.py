@@ -1,0 +1,129 @@
+"""DEM sampling: bilinear exactness, windows, units, real terrain against scipy."""
+
+import numpy as np
+import pytest
+import rasterio
+from dem_helpers import write_dem
+from matplotlib import cbook
+from scipy.interpolate import RegularGridInterpolator
+
+from geo.dem import Dem, bilinear
+from geo.errors import TerrainError
+from geo.frame import RunwayFrame
+
+
+def test_bilinear_is_exact_on_a_plane():
+    # A bilinear interpolant reproduces any plane exactly (Numerical Recipes 3rd ed., sec. 3.6).
+    rows, cols = np.mgrid[0:40, 0:60].astype(float)
+    grid = 3.0 + 0.25 * rows - 0.7 * cols
+    rng = np.random.default_rng(1)
+    gi, gj = rng.uniform(0, 39, 1000), rng.uniform(0, 59, 1000)
+    np.testing.assert_allclose(bilinear(grid, gi, gj), 3.0 + 0.25 * gi - 0.7 * gj, atol=1e-12)
+
+
+def test_real_terrain_matches_scipy_regular_grid_interpolator(tmp_path):
+    # Open dataset shipped by a registry package: matplotlib's sample DEM jacksboro_fault_dem.npz
+    # (USGS-derived, 3 arc-second cells, WGS 84 geographic). Reference: scipy's
+    # RegularGridInterpolator (linear) on the cell centres of the same grid.
+    data = cbook.get_sample_data("jacksboro_fault_dem.npz")
+    z = data["elevation"].astype(float)
+    rows, cols = z.shape
+    west, north, cell = float(data["xmin"]), float(data["ymin"]), float(data["dx"])
+    path = tmp_path / "jacksboro.tif"
+    with rasterio.open(
+        path,
+        "w",
+        driver="GTiff",
+        width=cols,
+        height=rows,
+        count=1,
+        dtype="float64",
+        crs="EPSG:4326",
+        transform=rasterio.transform.from_origin(west, north, cell, cell),
+        blockxsize=128,
+        blockysize=128,
+        tiled=True,
+    ) as dst:
+        dst.write(z, 1)
+    lon_c = west + (np.arange(cols) + 0.5) * cell
+    lat_c = north - (np.arange(rows) + 0.5) * cell
+    ref = RegularGridInterpolator((lat_c[::-1], lon_c), z[::-1, :], method="linear")
+    rng = np.random.default_rng(7)
+    lat = rng.uniform(lat_c[-1], lat_c[0], 5000)
+    lon = rng.uniform(lon_c[0], lon_c[-1], 5000)
+    with Dem.open(path) as dem:
+        got = dem.sample_native(lon, lat)
+    np.testing.assert_allclose(got, ref(np.column_stack([lat, lon])), atol=1e-6)
+
+
+def test_runway_frame_points_reach_the_dem_crs(tmp_path):
+    # A plane in UTM 55S grid coordinates, sampled through the runway frame: the value at each point
+    # is the plane at the point's UTM coordinates (pyproj, EPSG:4326 -> EPSG:32755).
+    from pyproj import Transformer
+
+    frame = RunwayFrame(-35.41, 148.92, -35.42, 148.95)
+    to_utm = Transformer.from_crs("EPSG:4326", "EPSG:32755", always_xy=True)
+    x0, y0 = to_utm.transform(148.92, -35.41)
+    west, north = np.floor(x0 - 2000), np.ceil(y0 + 2000)
+
+    def plane(x, y):
+        return 500.0 + 0.01 * (x - x0) - 0.02 * (y - y0)
+
+    path = write_dem(tmp_path / "utm.tif", "EPSG:32755", west, north, 2.0, 2000, 2000, plane)
+    along = np.linspace(-500, 1500, 50)
+    cross = np.linspace(-300, 300, 50)
+    lat, lon = frame.to_geographic(along, cross)
+    x, y = to_utm.transform(lon, lat)
+    with Dem.open(path) as dem:
+        got = dem.sample_frame(frame, along, cross)
+    np.testing.assert_allclose(got, plane(np.asarray(x), np.asarray(y)), atol=1e-6)
+
+
+def test_outside_and_nodata_give_nan(tmp_path):
+    path = write_dem(
+        tmp_path / "hole.tif",
+        "EPSG:32755",
+        600000.0,
+        6100000.0,
+        10.0,
+        50,
+        50,
+        lambda x, y: np.where((np.abs(x - 600250) < 30) & (np.abs(y - 6099750) < 30), -9999.0, 100.0),
+    )
+    with Dem.open(path) as dem:
+        got = dem.sample_native(
+            np.array([600250.0, 600100.0, 590000.0]), np.array([6099750.0, 6099900.0, 0.0])
+        )
+    assert np.isnan(got[0]) and got[1] == pytest.approx(100.0) and np.isnan(got[2])
+
+
+@pytest.mark.parametrize("unit, scale", [("metre", 1.0), ("foot", 0.3048), ("US survey foot", 1200 / 3937)])
+def test_vertical_unit_from_the_raster(tmp_path, unit, scale):
+    # 1 ft = 0.3048 m (1959 agreement); US survey foot = 1200/3937 m (NIST Handbook 44, App. C).
+    path = write_dem(
+        tmp_path / "u.tif",
+        "EPSG:32755",
+        600000.0,
+        6100000.0,
+        10.0,
+        20,
+        20,
+        lambda x, y: np.full(x.shape, 1000.0),
+        unit=unit,
+    )
+    with Dem.open(path, vertical_offset_m=0.5) as dem:
+        assert dem.sample_native(np.array([600100.0]), np.array([6099900.0]))[0] == pytest.approx(
+            1000.0 * scale + 0.5, abs=1e-9
+        )
+
+
+def test_unreadable_or_unreferenced_rasters(tmp_path):
+    bad = tmp_path / "bad.tif"
+    bad.write_text("not a raster")
+    with pytest.raises(TerrainError, match="cannot read"):
+        Dem.open(bad)
+    plain = tmp_path / "plain.tif"
+    with rasterio.open(plain, "w", driver="GTiff", width=4, height=4, count=1, dtype="float32") as dst:
+        dst.write(np.zeros((4, 4), dtype="float32"), 1)
+    with pytest.raises(TerrainError, match="no coordinate reference system"):
+        Dem.open(plain)
