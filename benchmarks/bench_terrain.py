@@ -63,9 +63,7 @@ def make_dem(path: Path) -> None:
     from rasterio.transform import from_origin
     from rasterio.windows import Window
 
-    x0, y0 = Transformer.from_crs("EPSG:4326", "EPSG:32614", always_xy=True).transform(
-        THRESHOLD[1], THRESHOLD[0]
-    )
+    x0, y0 = Transformer.from_crs("EPSG:4326", "EPSG:32614", always_xy=True).transform(THRESHOLD[1], THRESHOLD[0])
     west, north = np.floor(x0 - 7000.0), np.ceil(y0 + 5000.0)
     profile = {
         "driver": "GTiff",

@@ -78,9 +78,7 @@ def array_type(name: str) -> ArrayType:
         raise ValueError(f"{name!r} is not an array type; use one of {allowed}") from None
 
 
-def antenna_heights_m(
-    array: str, wavelength_m: float, angle_deg: float, forward_slope_deg: float = 0.0
-) -> list[float]:
+def antenna_heights_m(array: str, wavelength_m: float, angle_deg: float, forward_slope_deg: float = 0.0) -> list[float]:
     """Antenna heights above the reflecting ground, lowest first.
 
     Parameters

@@ -40,6 +40,7 @@ __all__ = [
     "check_base_elevation",
     "check_roughness",
     "check_clearance",
+    "check_zone_cover",
 ]
 
 SEVERITIES = ("pass", "info", "warning", "fail")
@@ -130,9 +131,7 @@ def check_angle(angle_deg: float) -> Finding:
     """Path angle against the PANS-OPS range [2]_."""
     low, high = _ANGLE_STANDARD_DEG
     if low <= angle_deg <= high:
-        return Finding(
-            "angle", "pass", f"Path angle {angle_deg:g} deg is within {low:g}-{high:g} deg (PANS-OPS)."
-        )
+        return Finding("angle", "pass", f"Path angle {angle_deg:g} deg is within {low:g}-{high:g} deg (PANS-OPS).")
     return Finding(
         "angle",
         "warning",
@@ -173,8 +172,7 @@ def check_channel(glide_path_mhz: float, localizer_mhz: float | None) -> Finding
     return Finding(
         "channel",
         "pass",
-        f"Glide path {glide_path_mhz:.2f} MHz pairs with localizer {localizer_mhz:.2f} MHz "
-        "(Annex 10 Vol I 3.1.6.1).",
+        f"Glide path {glide_path_mhz:.2f} MHz pairs with localizer {localizer_mhz:.2f} MHz (Annex 10 Vol I 3.1.6.1).",
     )
 
 
@@ -245,4 +243,20 @@ def check_clearance(min_clearance_m: float, along_m: float, required_m: float) -
         f"The path clears the approach terrain by only {_ft(min_clearance_m)} ({where}); "
         f"required {required_m:g} m (terrain.min_clearance). Obstacles are not in the DEM: "
         "survey them separately.",
+    )
+
+
+def check_zone_cover(cover) -> Finding:
+    """How much of a computed zone lies outside the site file's protected areas."""
+    if cover.outside_percent < 0.05:
+        return Finding(
+            f"zone-cover-{cover.kind}",
+            "pass",
+            f"The protected areas cover the computed {cover.kind} zone of all antennas.",
+        )
+    return Finding(
+        f"zone-cover-{cover.kind}",
+        "warning",
+        f"{cover.outside_percent:.1f} % ({cover.outside_m2:,.0f} m2) of the computed {cover.kind} zone "
+        "lies outside the protected areas of the site file; consider extending them.",
     )

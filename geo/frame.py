@@ -37,9 +37,7 @@ def _geod():
     return Geod(ellps="WGS84")
 
 
-def geodesic_inverse(
-    lat1_deg: float, lon1_deg: float, lat2_deg: float, lon2_deg: float
-) -> tuple[float, float]:
+def geodesic_inverse(lat1_deg: float, lon1_deg: float, lat2_deg: float, lon2_deg: float) -> tuple[float, float]:
     """Forward azimuth and length of the WGS 84 geodesic between two points [2]_.
 
     Returns

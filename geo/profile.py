@@ -106,9 +106,7 @@ def approach_profile(
     start = int(before[-1]) + 1 if before.size else 0
     along, terrain = along[start:], terrain[start:]
     if along.size == 0 or along[0] > 0.0 or not np.isfinite(terrain[along <= 0.0]).any():
-        raise TerrainError(
-            "terrain.dem: the DEM does not cover the threshold; give a DEM that covers the runway"
-        )
+        raise TerrainError("terrain.dem: the DEM does not cover the threshold; give a DEM that covers the runway")
     tan = math.tan(math.radians(angle_deg))
     straight = rpi_elevation_m + (setback_m - along) * tan
     actual = rpi_elevation_m + np.hypot(setback_m - along, offset_m) * tan

@@ -23,7 +23,7 @@ from geo.channels import CHANNEL_PAIRS_MHZ, GLIDE_PATH_BAND_MHZ
 from geo.errors import SiteFileError
 from geo.units import LENGTH_UNITS
 
-__all__ = ["GeoPoint", "MastSpec", "TerrainSpec", "SiteSpec", "load_site", "parse_site"]
+__all__ = ["GeoPoint", "MastSpec", "TerrainSpec", "ProtectedArea", "SiteSpec", "load_site", "parse_site"]
 
 SIDES = ("left", "right")
 CATEGORIES = ("I", "II", "III")
@@ -101,6 +101,26 @@ class TerrainSpec:
 
 
 @dataclass(frozen=True)
+class ProtectedArea:
+    """An area the local rules protect, given relative to the mast.
+
+    Coordinates: ``ahead`` along the course toward the approach from the mast, ``toward_runway``
+    across from the mast toward the runway (negative: away from it). [m]
+
+    Attributes
+    ----------
+    name : str
+    kind : {"critical", "sensitive"}
+    outline_m : tuple of (ahead_m, toward_runway_m)
+        Corners of the area, in order. [m]
+    """
+
+    name: str
+    kind: str
+    outline_m: tuple[tuple[float, float], ...]
+
+
+@dataclass(frozen=True)
 class SiteSpec:
     """Validated inputs of one site study; every length in metres.
 
@@ -139,6 +159,8 @@ class SiteSpec:
         Folder that relative paths in the file are resolved against.
     terrain : TerrainSpec or None
         The DEM, when the study uses real terrain.
+    protected_areas : tuple of ProtectedArea
+        Critical and sensitive areas of the local rules.
     """
 
     name: str
@@ -159,6 +181,7 @@ class SiteSpec:
     sha256: str = ""
     base_dir: Path = field(default_factory=Path)
     terrain: TerrainSpec | None = None
+    protected_areas: tuple[ProtectedArea, ...] = ()
 
 
 def load_site(path: str | Path) -> SiteSpec:
@@ -198,9 +221,7 @@ def load_site(path: str | Path) -> SiteSpec:
         raise exc.with_source(name) from None
 
 
-def parse_site(
-    doc: dict[str, Any], source: str = "", sha256: str = "", base_dir: Path | None = None
-) -> SiteSpec:
+def parse_site(doc: dict[str, Any], source: str = "", sha256: str = "", base_dir: Path | None = None) -> SiteSpec:
     """Validate a parsed site document (a dict as TOML gives it).
 
     Parameters
@@ -218,7 +239,7 @@ def parse_site(
     """
     if not isinstance(doc, dict):
         raise SiteFileError("", "the site document must be a TOML table")
-    _only(doc, "", ("units", "site", "runway", "glide_path", "mast", "terrain"))
+    _only(doc, "", ("units", "site", "runway", "glide_path", "mast", "terrain", "protected_area"))
     units = doc.get("units")
     if units is None:
         raise SiteFileError("units", 'missing; add units = "m" or units = "ft" at the top')
@@ -249,14 +270,10 @@ def parse_site(
     )
     code = runway.get("code")
     if code is not None and (isinstance(code, bool) or code not in (1, 2, 3, 4)):
-        raise SiteFileError(
-            "runway.code", f"must be the aerodrome code number 1, 2, 3 or 4 (got {_show(code)})"
-        )
+        raise SiteFileError("runway.code", f"must be the aerodrome code number 1, 2, 3 or 4 (got {_show(code)})")
 
     gp = _table(doc, "glide_path")
-    _only(
-        gp, "glide_path", ("angle_deg", "localizer_mhz", "frequency_mhz", "array", "target_rdh", "category")
-    )
+    _only(gp, "glide_path", ("angle_deg", "localizer_mhz", "frequency_mhz", "array", "target_rdh", "category"))
     angle_deg = _number(
         gp,
         "glide_path",
@@ -309,6 +326,7 @@ def parse_site(
     mast = _mast(_table(doc, "mast"), scale, units, width_m, target_rdh_m)
     base_dir = base_dir if base_dir is not None else Path()
     terrain = _terrain(doc["terrain"], scale, units, base_dir) if "terrain" in doc else None
+    protected = _protected_areas(doc.get("protected_area", []), scale, units)
     return SiteSpec(
         name=name,
         notes=notes,
@@ -328,7 +346,61 @@ def parse_site(
         sha256=sha256,
         base_dir=base_dir,
         terrain=terrain,
+        protected_areas=protected,
     )
+
+
+def _protected_areas(items, scale: float, units: str) -> tuple[ProtectedArea, ...]:
+    if not isinstance(items, list):
+        raise SiteFileError("protected_area", "must be an array of tables: write each as [[protected_area]]")
+    out = []
+    for i, item in enumerate(items):
+        prefix = f"protected_area[{i}]"
+        if not isinstance(item, dict):
+            raise SiteFileError(prefix, f"must be a table [[protected_area]] (got {_show(item)})")
+        _only(item, prefix, ("name", "kind", "ahead", "behind", "toward_runway", "away", "outline"))
+        name = _text(item, prefix, "name", required=True)
+        kind = item.get("kind")
+        if kind not in ("critical", "sensitive"):
+            raise SiteFileError(f"{prefix}.kind", f'must be "critical" or "sensitive" (got {_show(kind)})')
+        if "outline" in item:
+            clash = [k for k in ("ahead", "behind", "toward_runway", "away") if k in item]
+            if clash:
+                raise SiteFileError(f"{prefix}.outline", "give either outline or ahead/behind/toward_runway/away")
+            outline = _outline(item["outline"], f"{prefix}.outline", scale, units)
+        else:
+            kw = {"required": True, "unit": units, "above": 0.0, "at_most": 20_000.0}
+            ahead = _number(item, prefix, "ahead", scale, **kw)
+            toward = _number(item, prefix, "toward_runway", scale, **kw)
+            kw = {"required": False, "unit": units, "at_least": 0.0, "at_most": 20_000.0}
+            behind = _number(item, prefix, "behind", scale, **kw) or 0.0
+            away = _number(item, prefix, "away", scale, **kw) or 0.0
+            outline = ((-behind, -away), (ahead, -away), (ahead, toward), (-behind, toward))
+        out.append(ProtectedArea(name, kind, outline))
+    return tuple(out)
+
+
+def _outline(value, name: str, scale: float, units: str) -> tuple[tuple[float, float], ...]:
+    fix = f"a list of at least 3 [ahead, toward_runway] pairs in {units}, e.g. [[0, -30], [600, -30], [600, 150]]"
+    if not isinstance(value, list) or len(value) < 3:
+        raise SiteFileError(name, f"must be {fix}")
+    points = []
+    for pair in value:
+        ok = (
+            isinstance(pair, list)
+            and len(pair) == 2
+            and all(
+                isinstance(v, (int, float))
+                and not isinstance(v, bool)
+                and math.isfinite(v)
+                and abs(v) <= 20_000 / scale
+                for v in pair
+            )
+        )
+        if not ok:
+            raise SiteFileError(name, f"must be {fix} (got {_show(pair)})")
+        points.append((float(pair[0]) * scale, float(pair[1]) * scale))
+    return tuple(points)
 
 
 def _terrain(table, scale: float, units: str, base_dir: Path) -> TerrainSpec:
@@ -359,9 +431,7 @@ def _terrain(table, scale: float, units: str, base_dir: Path) -> TerrainSpec:
     if not path.is_absolute():
         path = base_dir / path
     if not path.is_file():
-        raise SiteFileError(
-            "terrain.dem", f"no file at {path}; give the DEM's path, relative to the site file"
-        )
+        raise SiteFileError("terrain.dem", f"no file at {path}; give the DEM's path, relative to the site file")
     return TerrainSpec(path, offset, vertical_unit, clearance if clearance is not None else 0.0)
 
 
@@ -394,9 +464,7 @@ def _mast(mast: dict, scale: float, units: str, width_m: float, target_rdh_m) ->
         )
     if side not in SIDES:
         raise SiteFileError("mast.side", f'must be "left" or "right" (got {_show(side)})')
-    offset_m = _number(
-        mast, "mast", "offset", scale, required=True, above=0.0, at_most=_OFFSET_MAX_M, unit=units
-    )
+    offset_m = _number(mast, "mast", "offset", scale, required=True, above=0.0, at_most=_OFFSET_MAX_M, unit=units)
     if offset_m <= width_m / 2.0:
         raise SiteFileError(
             "mast.offset",
@@ -437,9 +505,7 @@ def _only(table: dict, prefix: str, allowed: tuple[str, ...]) -> None:
     for key in table:
         if key not in allowed:
             where = f"[{prefix}]" if prefix else "the top level"
-            raise SiteFileError(
-                _join(prefix, str(key)), f"unknown key in {where}; allowed: {', '.join(allowed)}"
-            )
+            raise SiteFileError(_join(prefix, str(key)), f"unknown key in {where}; allowed: {', '.join(allowed)}")
 
 
 def _table(doc: dict, name: str) -> dict:
@@ -510,8 +576,7 @@ def _point(table: dict, prefix: str, key: str, scale: float, units: str, elevati
     if value is None:
         raise SiteFileError(
             name,
-            "missing; give { lat = ..., lon = ..."
-            + (", elevation = ... }" if elevation == "required" else " }"),
+            "missing; give { lat = ..., lon = ..." + (", elevation = ... }" if elevation == "required" else " }"),
         )
     if not isinstance(value, dict):
         raise SiteFileError(name, f"must be an inline table {{ lat = ..., lon = ... }} (got {_show(value)})")

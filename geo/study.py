@@ -23,8 +23,10 @@ from geo.path import (
     setback_for_rdh_m,
 )
 from geo.profile import ApproachProfile, approach_profile
+from geo.protected import ZoneCover, zone_cover
 from geo.site import SiteSpec
 from geo.terrain import TerrainResult, analyse_terrain
+from geo.zones import ReflectionZone, reflection_zones
 
 __all__ = ["Antenna", "Runway", "Mast", "Gpip", "TerrainSource", "StudyResult", "run_study"]
 
@@ -168,6 +170,10 @@ class StudyResult:
     terrain : TerrainResult or None
     profile : ApproachProfile or None
     terrain_source : TerrainSource or None
+    zones : list of ReflectionZone
+        Path and coverage zones per antenna and for all antennas.
+    zone_covers : list of ZoneCover
+        The part of each kind's zone outside the site file's protected areas (empty without them).
     """
 
     spec: SiteSpec
@@ -184,6 +190,8 @@ class StudyResult:
     terrain: TerrainResult | None = None
     profile: ApproachProfile | None = None
     terrain_source: TerrainSource | None = None
+    zones: list[ReflectionZone] = field(default_factory=list)
+    zone_covers: list[ZoneCover] = field(default_factory=list)
 
 
 def channel_of(spec: SiteSpec) -> Channel:
@@ -198,13 +206,9 @@ def runway_of(spec: SiteSpec) -> Runway:
     thr, end = spec.threshold, spec.end
     bearing_deg, length_m = geodesic_inverse(thr.lat_deg, thr.lon_deg, end.lat_deg, end.lon_deg)
     if length_m < 100.0:
-        raise SiteFileError(
-            "runway.end", f"is only {length_m:.1f} m from the threshold; check both positions"
-        )
+        raise SiteFileError("runway.end", f"is only {length_m:.1f} m from the threshold; check both positions")
     if length_m > 20_000.0:
-        raise SiteFileError(
-            "runway.end", f"is {length_m / 1000:.1f} km from the threshold; check both positions"
-        )
+        raise SiteFileError("runway.end", f"is {length_m / 1000:.1f} km from the threshold; check both positions")
     frame = RunwayFrame(thr.lat_deg, thr.lon_deg, end.lat_deg, end.lon_deg)
     gradient = runway_gradient(thr.elevation_m, end.elevation_m, length_m)
     return Runway(frame, bearing_deg, length_m, spec.width_m, gradient)
@@ -305,9 +309,7 @@ def run_study(spec: SiteSpec) -> StudyResult:
     file_base = spec.mast.base_elevation_m
     terrain = profile = source = None
     if spec.terrain is None:
-        base_m, base_source = (
-            (file_base, "site file") if file_base is not None else (thr_elev, "threshold elevation")
-        )
+        base_m, base_source = (file_base, "site file") if file_base is not None else (thr_elev, "threshold elevation")
         if solve:
             setback = setback_for_rdh_m(spec.target_rdh_m, base_m, spec.angle_deg, thr_elev)
         _check_setback(setback, field_name, runway)
@@ -320,9 +322,7 @@ def run_study(spec: SiteSpec) -> StudyResult:
         with Dem.open(t.dem_path, t.vertical_offset_m, t.vertical_unit) as dem:
             if solve:
                 setback = setback_for_rdh_m(spec.target_rdh_m, thr_elev, spec.angle_deg, thr_elev)
-            setback, terrain = _solve_on_terrain(
-                spec, runway, dem, side, setback, offset, lam, field_name, solve
-            )
+            setback, terrain = _solve_on_terrain(spec, runway, dem, side, setback, offset, lam, field_name, solve)
             profile = approach_profile(
                 dem,
                 frame,
@@ -333,9 +333,7 @@ def run_study(spec: SiteSpec) -> StudyResult:
                 spec.angle_deg,
                 min(terrain.cell_size_m, 10.0),
             )
-            source = TerrainSource(
-                t.dem_path.name, dem.vertical_unit_source, dem.vertical_datum(), t.vertical_offset_m
-            )
+            source = TerrainSource(t.dem_path.name, dem.vertical_unit_source, dem.vertical_datum(), t.vertical_offset_m)
         base_m, base_source = terrain.ground_at_mast_m, "DEM"
         heights = terrain.heights_m
         plane_m, intercept_m = terrain.plane.elevation_at_mast_m, terrain.rpi_elevation_m
@@ -380,24 +378,16 @@ def run_study(spec: SiteSpec) -> StudyResult:
             found.append(checks.check_base_elevation(file_base, terrain.ground_at_mast_m))
         found += checks.check_roughness(terrain.roughness)
         found.append(
-            checks.check_clearance(
-                profile.min_clearance_m, profile.min_clearance_along_m, spec.terrain.min_clearance_m
-            )
+            checks.check_clearance(profile.min_clearance_m, profile.min_clearance_along_m, spec.terrain.min_clearance_m)
         )
+    gu, gw = (terrain.plane.forward_gradient, terrain.plane.lateral_gradient) if terrain else (0.0, 0.0)
+    zones = reflection_zones(roles, heights, shifts, setback, offset, spec.angle_deg, lam, gu, gw)
+    covers = []
+    if spec.protected_areas:
+        covers = [zone_cover(z.shape.polygon, z.kind, spec.protected_areas) for z in zones if z.antenna == "all"]
+        found += [checks.check_zone_cover(c) for c in covers]
     found = [f for f in found if f is not None]
     return StudyResult(
-        spec,
-        channel,
-        lam,
-        runway,
-        mast,
-        antennas,
-        rdh,
-        over_threshold,
-        gpip,
-        found,
-        intercept_m,
-        terrain,
-        profile,
-        source,
-    )
+        spec, channel, lam, runway, mast, antennas, rdh, over_threshold, gpip, found,
+        intercept_m, terrain, profile, source, zones, covers,
+    )  # fmt: skip

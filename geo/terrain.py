@@ -29,14 +29,13 @@ import numpy as np
 
 from geo.arrays import antenna_heights_m
 from geo.errors import TerrainError
-from geo.fresnel import GroundEllipse, far_field_ellipse, inside_ellipses
 from geo.roughness import RoughnessVerdict, roughness_verdicts
+from geo.zones import ZoneShape, antenna_zone, path_receivers
 
-__all__ = ["PlaneFit", "TerrainResult", "fit_plane", "analyse_terrain", "receiver_azimuths_rad"]
+__all__ = ["PlaneFit", "TerrainResult", "fit_plane", "analyse_terrain", "fit_zone"]
 
-#: Receivers on the course are considered out to 10 NM (Annex 10 Vol I 3.1.5.3.1). [m]
-COURSE_RANGE_M = 10 * 1852.0
-_RECEIVERS = 48
+#: Receivers on the path (at theta) for the zone the plane is fitted in.
+_RECEIVERS = 200
 _MAX_ITERATIONS = 30
 _CONVERGED_M = 1e-3
 
@@ -89,13 +88,24 @@ def fit_plane(u_m: np.ndarray, w_m: np.ndarray, z_m: np.ndarray) -> tuple[PlaneF
     return fit, residuals
 
 
-def receiver_azimuths_rad(setback_m: float, offset_m: float, count: int = _RECEIVERS) -> np.ndarray:
-    """Directions from the mast to receivers on the course, from the threshold to 10 NM.
+def fit_zone(
+    height_m: float,
+    wavelength_m: float,
+    angle_deg: float,
+    setback_m: float,
+    offset_m: float,
+    forward_gradient: float,
+    lateral_gradient: float,
+) -> ZoneShape:
+    """The ground the plane is fitted in.
 
-    Measured from the runway direction (toward the approach), positive toward the runway.
+    The lowest antenna's exact first Fresnel zones for receivers on the path (at theta) along
+    the course, from the threshold to 10 NM (:mod:`geo.zones`).
     """
-    distance = setback_m + np.geomspace(1.0, COURSE_RANGE_M + 1.0, count) - 1.0
-    return np.arctan2(offset_m, distance)
+    receivers = path_receivers(
+        setback_m, offset_m, angle_deg, _RECEIVERS, forward_gradient, lateral_gradient, fractions=(1.0,)
+    )
+    return antenna_zone(height_m, 0.0, receivers, wavelength_m)
 
 
 @dataclass(frozen=True)
@@ -115,10 +125,8 @@ class TerrainResult:
         Path angle over the plane, ``theta - forward slope``. [deg]
     heights_m : list of float
         Slope-corrected antenna heights above the plane. [m]
-    zone : GroundEllipse
-        The lowest antenna's zone used for the fit.
-    azimuths_rad : numpy.ndarray
-        Receiver directions the zone covers. [rad]
+    zone : ZoneShape
+        The lowest antenna's zone used for the fit (:func:`fit_zone`).
     roughness : list of RoughnessVerdict
     iterations : int
     cell_size_m : float
@@ -136,8 +144,7 @@ class TerrainResult:
     rpi_elevation_m: float
     grazing_deg: float
     heights_m: list[float]
-    zone: GroundEllipse
-    azimuths_rad: np.ndarray
+    zone: ZoneShape
     roughness: list[RoughnessVerdict]
     iterations: int
     cell_size_m: float
@@ -145,13 +152,6 @@ class TerrainResult:
     u_m: np.ndarray
     w_m: np.ndarray
     residual_m: np.ndarray
-
-
-def _zone_box(zone: GroundEllipse, azimuths: np.ndarray) -> tuple[float, float, float, float]:
-    cu, cw = zone.centre_m * np.cos(azimuths), zone.centre_m * np.sin(azimuths)
-    hu = np.hypot(zone.semi_along_m * np.cos(azimuths), zone.semi_across_m * np.sin(azimuths))
-    hw = np.hypot(zone.semi_along_m * np.sin(azimuths), zone.semi_across_m * np.cos(azimuths))
-    return float((cu - hu).min()), float((cu + hu).max()), float((cw - hw).min()), float((cw + hw).max())
 
 
 class _GridSampler:
@@ -238,20 +238,22 @@ def analyse_terrain(
             f"terrain.dem: the mast at lat {lat:.6f}, lon {lon:.6f} is off the DEM or on "
             "nodata; give a DEM that covers the site"
         )
+    import shapely
+
     sampler = _GridSampler(dem, frame, sign, setback_m, offset_m, spacing)
-    azimuths = receiver_azimuths_rad(setback_m, offset_m)
-    slope_deg = 0.0
+    slope_deg, gu, gw = 0.0, 0.0, 0.0
     heights = antenna_heights_m(array, wavelength_m, angle_deg, slope_deg)
     for iteration in range(1, _MAX_ITERATIONS + 1):  # noqa: B007 (the count is reported)
-        grazing_deg = angle_deg - slope_deg
-        zone = far_field_ellipse(heights[0], wavelength_m, math.radians(grazing_deg))
-        u, w, z = sampler.heights(_zone_box(zone, azimuths))
-        inside = inside_ellipses(u, w, zone, azimuths)
+        zone = fit_zone(heights[0], wavelength_m, angle_deg, setback_m, offset_m, gu, gw)
+        u0, w0, u1, w1 = zone.polygon.bounds
+        u, w, z = sampler.heights((u0, u1, w0, w1))
+        inside = shapely.contains_xy(zone.polygon, u, w)
         missing = inside & ~np.isfinite(z)
         if missing.any():
             raise _missing_error(frame, sign, setback_m, offset_m, u[inside], w[inside], missing[inside])
         plane, residuals = fit_plane(u[inside], w[inside], z[inside])
-        slope_deg = math.degrees(math.atan(plane.forward_gradient))
+        gu, gw = plane.forward_gradient, plane.lateral_gradient
+        slope_deg = math.degrees(math.atan(gu))
         if slope_deg >= angle_deg - 0.5:
             raise TerrainError(
                 f"terrain: the ground in front of the mast rises at {slope_deg:.2f} deg, too "
@@ -274,7 +276,6 @@ def analyse_terrain(
         grazing_deg=grazing_deg,
         heights_m=heights,
         zone=zone,
-        azimuths_rad=azimuths,
         roughness=roughness_verdicts(plane.rms_residual_m, wavelength_m, grazing_deg),
         iterations=iteration,
         cell_size_m=cell,

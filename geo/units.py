@@ -62,9 +62,7 @@ def _twin(key: str, value: Any):
                 return None
             if isinstance(value, (int, float)) and math.isfinite(value):
                 return key[: -len(suffix)] + twin_suffix, value * factor
-            if isinstance(value, list) and all(
-                isinstance(v, (int, float)) and not isinstance(v, bool) for v in value
-            ):
+            if isinstance(value, list) and all(isinstance(v, (int, float)) and not isinstance(v, bool) for v in value):
                 return key[: -len(suffix)] + twin_suffix, [v * factor for v in value]
     return None
 

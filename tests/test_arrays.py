@@ -38,14 +38,10 @@ def test_heights_from_the_pattern_conditions_by_root_finding(freq, angle):
     upper = brentq(lambda h: _gain(h, lam, e), 0.6 * lam / (2 * math.sin(e)), 1.4 * lam / (2 * math.sin(e)))
     assert antenna_heights_m("null-reference", lam, angle) == pytest.approx([upper / 2, upper], rel=1e-9)
     # Sideband-reference: the patterns of h and 3h cross on the path: sin x = sin 3x, first x > 0.
-    low = brentq(
-        lambda h: _gain(h, lam, e) - _gain(3 * h, lam, e), 0.05 * lam / math.sin(e), 0.2 * lam / math.sin(e)
-    )
+    low = brentq(lambda h: _gain(h, lam, e) - _gain(3 * h, lam, e), 0.05 * lam / math.sin(e), 0.2 * lam / math.sin(e))
     assert antenna_heights_m("sideband-reference", lam, angle) == pytest.approx([low, 3 * low], rel=1e-9)
     # Capture-effect: h, 2h, 3h with the 2h antenna's first null on the path.
-    assert antenna_heights_m("capture-effect", lam, angle) == pytest.approx(
-        [upper / 2, upper, 1.5 * upper], rel=1e-9
-    )
+    assert antenna_heights_m("capture-effect", lam, angle) == pytest.approx([upper / 2, upper, 1.5 * upper], rel=1e-9)
 
 
 def test_slope_correction_uses_theta_minus_slope():

@@ -91,9 +91,7 @@ def test_outside_and_nodata_give_nan(tmp_path):
         lambda x, y: np.where((np.abs(x - 600250) < 30) & (np.abs(y - 6099750) < 30), -9999.0, 100.0),
     )
     with Dem.open(path) as dem:
-        got = dem.sample_native(
-            np.array([600250.0, 600100.0, 590000.0]), np.array([6099750.0, 6099900.0, 0.0])
-        )
+        got = dem.sample_native(np.array([600250.0, 600100.0, 590000.0]), np.array([6099750.0, 6099900.0, 0.0]))
     assert np.isnan(got[0]) and got[1] == pytest.approx(100.0) and np.isnan(got[2])
 
 

@@ -64,7 +64,7 @@ def test_geojson_layers_follow_rfc_7946(written):
     result, out = written
     names = sorted(p.stem for p in (out / "layers").glob("*.geojson"))
     assert names == sorted(
-        ["runway", "centreline", "threshold", "extended_centreline", "mast", "antennas", "gpip"]
+        ["runway", "centreline", "threshold", "extended_centreline", "mast", "antennas", "gpip", "reflection_zones"]
     )
     for path in (out / "layers").glob("*.geojson"):
         fc = json.loads(path.read_text())
@@ -118,3 +118,55 @@ def test_failed_writer_leaves_nothing_behind(tmp_path, written, monkeypatch):
         w.write_study(result, tmp_path / "fresh")
     assert not (tmp_path / "fresh").exists()
     assert not [p for p in tmp_path.iterdir() if p.name.startswith(".fresh.")]
+
+
+def test_zone_layers_have_ccw_rings_seven_decimals_and_zone_figures(written):
+    # RFC 7946 sec. 3.1.6 (exterior rings counter-clockwise) and 11.2 (precision: 7 decimals ~ 1 cm).
+    result, out = written
+    fc = json.loads((out / "layers" / "reflection_zones.geojson").read_text())
+    assert {(f["properties"]["antenna"], f["properties"]["kind"]) for f in fc["features"]} == {
+        (a, k) for a in ("lower", "upper", "all") for k in ("path", "coverage")
+    }
+    for f in fc["features"]:
+        polys = [f["geometry"]["coordinates"]] if f["geometry"]["type"] == "Polygon" else f["geometry"]["coordinates"]
+        for rings in polys:
+            assert ring_is_ccw(rings[0])
+            for x, y in rings[0]:
+                assert round(x, 7) == x and round(y, 7) == y and -180 <= x <= 180 and -90 <= y <= 90
+        props = f["properties"]
+        assert props["area_ft2"] == pytest.approx(props["area_m2"] / M_PER_FT**2, rel=1e-6)
+        assert props["far_m"] > props["near_m"] >= 0
+    summary = json.loads((out / "summary.json").read_text())
+    assert len(summary["reflection_zones"]) == 6
+    assert {"antenna", "kind", "near_m", "far_m", "max_half_width_m", "area_m2", "area_ft2"} <= set(
+        summary["reflection_zones"][0]
+    )
+
+
+def test_protected_areas_layer_and_cover(tmp_path, write_site, site_text):
+    text = site_text + (
+        "\n[[protected_area]]\nname = 'everything'\nkind = 'critical'\nahead = 5000\nbehind = 100\n"
+        "toward_runway = 2000\naway = 2000\n"
+        "\n[[protected_area]]\nname = 'sliver'\nkind = 'sensitive'\noutline = [[0, 0], [10, 0], [10, 5]]\n"
+    )
+    result = run_study(load_site(write_site(text)))
+    covers = {c.kind: c for c in result.zone_covers}
+    assert covers["path"].outside_percent == pytest.approx(0.0, abs=1e-9)
+    out = write_study(result, tmp_path / "o")
+    layer = json.loads((out / "layers" / "protected_areas.geojson").read_text())
+    areas = {f["properties"]["name"]: f["properties"]["area_m2"] for f in layer["features"]}
+    # Rectangle (5000 + 100) x (2000 + 2000) m; triangle 10 x 5 / 2 m.
+    assert areas == {"everything": pytest.approx(5100 * 4000), "sliver": pytest.approx(25.0)}
+    small = run_study(
+        load_site(
+            write_site(
+                site_text
+                + (
+                    "\n[[protected_area]]\nname = 'far away'\nkind = 'critical'\n"
+                    "outline = [[-900, 500], [-800, 500], [-800, 600]]\n"
+                ),
+                "small.toml",
+            )
+        )
+    )
+    assert small.zone_covers[0].outside_percent == pytest.approx(100.0)

@@ -47,9 +47,7 @@ def test_path_over_threshold_is_at_the_path_angle_seen_from_the_mast(zi, s, d, t
     # Independent method: the actual path is where the elevation angle seen from the mast's
     # ground point (s, d, zi) equals theta; solve for the height over the threshold with brentq.
     h = path_height_over_threshold_m(zi, s, d, theta, zt)
-    z = brentq(
-        lambda z: math.degrees(math.atan2(z - zi, math.hypot(s, d))) - theta, zi, zi + 500.0, xtol=1e-10
-    )
+    z = brentq(lambda z: math.degrees(math.atan2(z - zi, math.hypot(s, d))) - theta, zi, zi + 500.0, xtol=1e-10)
     assert h == pytest.approx(z - zt, abs=1e-6)
     assert h > rdh_m(zi, s, theta, zt)  # the cone lies above the straight extension
 

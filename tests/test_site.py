@@ -84,3 +84,45 @@ def test_broken_toml_and_missing_file(write_site, tmp_path):
     bad.write_bytes('units = "m"\n[site]\nname = "Aérodrome"\n'.encode("latin-1"))
     with pytest.raises(SiteFileError, match="UTF-8"):
         load_site(bad)
+
+
+@pytest.mark.parametrize(
+    "block, field, words",
+    [
+        (
+            "[[protected_area]]\nname = 'a'\nkind = 'forbidden'\nahead = 1\ntoward_runway = 1\n",
+            "protected_area[0].kind",
+            '"critical" or "sensitive"',
+        ),
+        (
+            "[[protected_area]]\nname = 'a'\nkind = 'critical'\ntoward_runway = 1\n",
+            "protected_area[0].ahead",
+            "missing",
+        ),
+        (
+            "[[protected_area]]\nname = 'a'\nkind = 'critical'\noutline = [[0, 0], [1, 1]]\n",
+            "protected_area[0].outline",
+            "at least 3",
+        ),
+        (
+            "[[protected_area]]\nname = 'a'\nkind = 'critical'\noutline = [[0, 0], [1, 1], [1, 'x']]\n",
+            "protected_area[0].outline",
+            "pairs",
+        ),
+        (
+            "[[protected_area]]\nname = 'a'\nkind = 'critical'\nahead = 5\ntoward_runway = 1\noutline = [[0, 0]]\n",
+            "protected_area[0].outline",
+            "either",
+        ),
+        ("protected_area = 3\n", "protected_area", "array of tables"),
+    ],
+)
+def test_protected_area_errors(write_site, site_text, block, field, words):
+    text = (
+        site_text.replace('units = "m"', 'units = "m"\n' + block)
+        if block.startswith("protected_area =")
+        else site_text + "\n" + block
+    )
+    with pytest.raises(SiteFileError) as info:
+        load_site(write_site(text))
+    assert info.value.field == field and words in str(info.value)

@@ -23,9 +23,7 @@ def test_antenna_positions_match_a_geodesic_construction(write_site, site_text):
         assert miss < 0.05
     lon_g, lat_g, _ = GEOD.fwd(thr.lon_deg, thr.lat_deg, az, result.gpip.along_m)
     assert GEOD.inv(lon_g, lat_g, result.gpip.lon_deg, result.gpip.lat_deg)[2] < 0.05
-    assert result.runway.length_m == pytest.approx(
-        GEOD.inv(thr.lon_deg, thr.lat_deg, 148.95, -35.42)[2], abs=1e-6
-    )
+    assert result.runway.length_m == pytest.approx(GEOD.inv(thr.lon_deg, thr.lat_deg, 148.95, -35.42)[2], abs=1e-6)
 
 
 def test_surveyed_position_gives_back_side_offset_and_setback(write_site, site_text):
@@ -59,9 +57,7 @@ def test_findings_follow_annex_10_rdh_bands(write_site, site_text):
     assert by_code["rdh"].severity == "warning"  # Cat I, code unknown: 15 m recommended
     cat2 = run_study(
         load_site(
-            write_site(
-                site_text.replace('array = "null-reference"', 'array = "null-reference"\ncategory = "II"')
-            )
+            write_site(site_text.replace('array = "null-reference"', 'array = "null-reference"\ncategory = "II"'))
         )
     )
     assert {f.code: f for f in cat2.findings}["rdh"].severity == "fail"
@@ -77,9 +73,7 @@ def test_typical_ranges_from_the_aim(write_site, site_text):
     assert 250 * M_PER_FT < 130.0 < 650 * M_PER_FT and by_code["offset-typical"].severity == "pass"
     far = run_study(
         load_site(
-            write_site(
-                site_text.replace("setback = 290", "setback = 420").replace("offset = 130", "offset = 60")
-            )
+            write_site(site_text.replace("setback = 290", "setback = 420").replace("offset = 130", "offset = 60"))
         )
     )
     by_code = {f.code: f for f in far.findings}
@@ -94,7 +88,5 @@ def test_mast_past_the_runway_end_is_an_input_error(write_site, site_text):
 
 
 def test_unpaired_frequency_is_a_warning(write_site, site_text):
-    result = run_study(
-        load_site(write_site(site_text.replace("localizer_mhz = 109.30", "frequency_mhz = 332.07")))
-    )
+    result = run_study(load_site(write_site(site_text.replace("localizer_mhz = 109.30", "frequency_mhz = 332.07"))))
     assert {f.code: f for f in result.findings}["channel"].severity == "warning"

@@ -85,9 +85,7 @@ def test_planar_dem_in_utm_gives_slopes_plane_and_rdh(tmp_path, write_site, site
     assert result.rdh_m == pytest.approx(expected_rdh, abs=0.01)
     # Heights settled: they are the slope-corrected formula at the fitted slope, within 1 mm.
     lam = result.wavelength_m
-    assert t.heights_m == pytest.approx(
-        antenna_heights_m("null-reference", lam, 3.0, t.forward_slope_deg), abs=1e-3
-    )
+    assert t.heights_m == pytest.approx(antenna_heights_m("null-reference", lam, 3.0, t.forward_slope_deg), abs=1e-3)
 
 
 def test_planar_dem_in_us_survey_feet(tmp_path, write_site, site_text):
@@ -110,9 +108,7 @@ def test_planar_dem_in_us_survey_feet(tmp_path, write_site, site_text):
     k = Proj(CRS(crs)).get_factors(lon, lat).meridional_scale
     grad = np.array([0.01, 0.006])
     assert t.forward_slope_deg == pytest.approx(math.degrees(math.atan(-grad @ d * k)), abs=0.01)
-    assert t.lateral_slope_deg == pytest.approx(
-        math.degrees(math.atan(grad @ np.array([-d[1], d[0]]) * k)), abs=0.01
-    )
+    assert t.lateral_slope_deg == pytest.approx(math.degrees(math.atan(grad @ np.array([-d[1], d[0]]) * k)), abs=0.01)
     assert t.plane.elevation_at_mast_m == pytest.approx(plane_ft(xm, ym) * ftus, abs=0.01)
     assert t.rpi_elevation_m == pytest.approx(plane_ft(xr, yr) * ftus, abs=0.01)
     assert result.terrain_source.vertical_unit_source.startswith("raster")

@@ -64,6 +64,27 @@ def _polygon(frame, along_m, cross_m) -> dict:
     return {"type": "Polygon", "coordinates": [ring]}
 
 
+def _mast_plane_polygon(result: StudyResult, polygon) -> dict:
+    """A polygon in mast plane coordinates (u toward the approach, w toward the runway) as GeoJSON."""
+    mast, frame = result.mast, result.runway.frame
+    sign = 1.0 if mast.side == "right" else -1.0
+    parts = list(polygon.geoms) if polygon.geom_type == "MultiPolygon" else [polygon]
+    rings_per_part = []
+    for part in parts:
+        rings = []
+        for k, ring in enumerate([part.exterior, *part.interiors]):
+            uw = np.asarray(ring.coords)
+            lat, lon = frame.to_geographic(mast.setback_m - uw[:, 0], sign * (mast.offset_m - uw[:, 1]))
+            coords = [_coord(a, o) for a, o in zip(lat, lon)]
+            if ring_is_ccw(coords) != (k == 0):  # exterior counter-clockwise, holes clockwise
+                coords.reverse()
+            rings.append(coords)
+        rings_per_part.append(rings)
+    if len(rings_per_part) == 1:
+        return {"type": "Polygon", "coordinates": rings_per_part[0]}
+    return {"type": "MultiPolygon", "coordinates": rings_per_part}
+
+
 def _densified(start_m: float, stop_m: float) -> np.ndarray:
     count = max(2, int(np.ceil(abs(stop_m - start_m) / _VERTEX_SPACING_M)) + 1)
     return np.linspace(start_m, stop_m, count)
@@ -167,4 +188,32 @@ def study_layers(result: StudyResult) -> dict[str, dict]:
             ]
         ),
     }
+    layers["reflection_zones"] = collection(
+        [
+            feature(
+                _mast_plane_polygon(result, z.shape.polygon),
+                {
+                    "antenna": z.antenna,
+                    "kind": z.kind,
+                    "near_m": z.shape.near_m,
+                    "far_m": z.shape.far_m,
+                    "max_half_width_m": z.shape.max_half_width_m,
+                    "area_m2": z.shape.area_m2,
+                },
+            )
+            for z in result.zones
+        ]
+    )
+    if spec.protected_areas:
+        from geo.protected import area_polygon
+
+        layers["protected_areas"] = collection(
+            [
+                feature(
+                    _mast_plane_polygon(result, area_polygon(a)),
+                    {"name": a.name, "kind": a.kind, "area_m2": area_polygon(a).area},
+                )
+                for a in spec.protected_areas
+            ]
+        )
     return layers

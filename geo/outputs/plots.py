@@ -46,13 +46,9 @@ def plot_profile(result: StudyResult, path: Path) -> None:
             label="terrain under the centre line (DEM)",
         )
         ax.plot(x, prof.path_straight_m[sel], color="#1f5fa8", label="straight path (from the RPI)")
-        ax.plot(
-            x, prof.path_actual_m[sel], color="#d9480f", ls="--", label="actual path (cone about the mast)"
-        )
+        ax.plot(x, prof.path_actual_m[sel], color="#d9480f", ls="--", label="actual path (cone about the mast)")
         ax.axvline(0.0, color="k", lw=0.8)
-        ax.annotate(
-            "threshold", (0.0, ax.get_ylim()[1]), xytext=(3, -12), textcoords="offset points", fontsize=8
-        )
+        ax.annotate("threshold", (0.0, ax.get_ylim()[1]), xytext=(3, -12), textcoords="offset points", fontsize=8)
         ax.plot([result.gpip.along_m], [result.gpip.elevation_m], "v", color="#1f5fa8", label="GPIP")
         top = mast.plane_elevation_m + result.antennas[-1].height_m
         ax.plot(
@@ -62,9 +58,7 @@ def plot_profile(result: StudyResult, path: Path) -> None:
             lw=3,
             label=f"mast abeam ({mast.offset_m:.0f} m off the centre line)",
         )
-        ax.axvspan(
-            zone_near, zone_far, color="#2b8a3e", alpha=0.12, label="reflection zone used for the plane"
-        )
+        ax.axvspan(zone_near, zone_far, color="#2b8a3e", alpha=0.12, label="reflection zone used for the plane")
         ax.set_xlim(lo, hi)
         ax.set_xlabel("distance from the threshold along the centre line [m] (negative: approach)")
         ax.set_ylabel("elevation [m]")

@@ -91,6 +91,28 @@ def summary_dict(result: StudyResult) -> dict:
             "lon": result.gpip.lon_deg,
         },
         "findings": [{"code": f.code, "severity": f.severity, "message": f.message} for f in result.findings],
+        "reflection_zones": [
+            {
+                "antenna": z.antenna,
+                "kind": z.kind,
+                "near_m": z.shape.near_m,
+                "far_m": z.shape.far_m,
+                "max_half_width_m": z.shape.max_half_width_m,
+                "area_m2": z.shape.area_m2,
+                "receivers": z.shape.receivers,
+            }
+            for z in result.zones
+        ],
+        "protected_areas": [{"name": a.name, "kind": a.kind} for a in result.spec.protected_areas],
+        "zone_outside_protected_areas": [
+            {
+                "kind": c.kind,
+                "zone_area_m2": c.zone_area_m2,
+                "outside_m2": c.outside_m2,
+                "outside_percent": c.outside_percent,
+            }
+            for c in result.zone_covers
+        ],
         "cautions": list(CAUTIONS),
     }
     if result.terrain is not None:
@@ -123,10 +145,11 @@ def terrain_dict(result: StudyResult) -> dict:
         "samples": t.plane.samples,
         "iterations": t.iterations,
         "zone": {
-            "kind": "far-field first Fresnel zone of the lowest antenna, receivers on the course to 10 NM",
+            "kind": "exact first Fresnel zones of the lowest antenna, receivers on the path to 10 NM",
             "near_m": t.zone.near_m,
             "far_m": t.zone.far_m,
-            "half_width_m": t.zone.semi_across_m,
+            "max_half_width_m": t.zone.max_half_width_m,
+            "area_m2": t.zone.area_m2,
         },
         "roughness": {
             v.criterion: {

@@ -31,8 +31,7 @@ def summary_text(result: StudyResult) -> str:
     for a in result.antennas:
         lines.append(f"  {a.role:<7} height {_len(a.height_m, 3)}, shift {_len(a.shift_toward_runway_m, 3)}")
     lines += [
-        f"RDH: {_len(result.rdh_m)}; "
-        f"actual path over the threshold: {_len(result.path_height_over_threshold_m)}",
+        f"RDH: {_len(result.rdh_m)}; actual path over the threshold: {_len(result.path_height_over_threshold_m)}",
         f"GPIP: {_len(result.gpip.along_m, 1)} past the threshold "
         f"(lat {result.gpip.lat_deg:.7f}, lon {result.gpip.lon_deg:.7f})",
     ]

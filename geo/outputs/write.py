@@ -70,9 +70,7 @@ def _check_target(out: Path, overwrite: bool, inputs: list[Path]) -> None:
         raise OutputError(f"--out: {out} is a file; name a folder")
     if out.is_dir() and any(out.iterdir()):
         if not overwrite:
-            raise OutputError(
-                f"--out: {out} is not empty; add --overwrite to replace it, or name a new folder"
-            )
+            raise OutputError(f"--out: {out} is not empty; add --overwrite to replace it, or name a new folder")
         for path in inputs:
             if path.resolve().is_relative_to(out.resolve()):
                 raise OutputError(f"--out: {out} holds the input {path}; write the results elsewhere")
@@ -126,9 +124,7 @@ def atomic_folder(
     return out
 
 
-def write_study(
-    result: StudyResult, out_dir: str | Path, overwrite: bool = False, plots: bool = True
-) -> Path:
+def write_study(result: StudyResult, out_dir: str | Path, overwrite: bool = False, plots: bool = True) -> Path:
     """Write every output of a study into ``out_dir``, atomically.
 
     Parameters

@@ -1,0 +1,357 @@
+"""Reflection zones: exact first Fresnel zones for receivers along the approach, united.
+
+Each antenna's zone for a set of receivers is the union of the exact ground ellipses
+(:func:`geo.fresnel.exact_ellipses`). The union is taken in closed form row by row: every
+ellipse cuts a line ``w = const`` in an interval found from its quadratic, the intervals of a
+row are merged, and the row ends trace the boundary. No polygon-by-polygon trial and error.
+
+Coordinates: the reflecting plane with the foot of the mast (its lowest antenna) at the origin,
+``u`` along the course toward the approach, ``w`` across toward the runway. A receiver "at
+elevation e" stands ``tan(e)`` times its horizontal distance from the mast above the horizontal
+through the mast's foot (the path is a cone about the mast); its height above a tilted plane
+subtracts the plane's rise under it.
+
+References
+----------
+.. [1] ICAO Annex 10, Volume I, 3.1.5.6 (displacement sensitivity: the half-sector, 0.12 theta
+       below the path, here taken as 0.88 theta to 1.12 theta) and 3.1.5.3.1 (coverage:
+       8 deg in azimuth each side, 1.75 theta down to 0.45 theta, to 10 NM).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, replace
+
+import numpy as np
+
+from geo.fresnel import exact_ellipses
+
+__all__ = [
+    "RANGE_M",
+    "ZoneShape",
+    "path_receivers",
+    "coverage_receivers",
+    "united_zone",
+    "antenna_zone",
+    "ReflectionZone",
+    "reflection_zones",
+    "shape_of",
+]
+
+#: Receivers are placed out to 10 NM (Annex 10 Vol I 3.1.5.3.1). [m]
+RANGE_M = 10 * 1852.0
+#: Elevations of the path zone, as fractions of theta [1]_.
+PATH_FRACTIONS = (0.88, 1.0, 1.12)
+#: Coverage: azimuth half-width [deg] and elevation limits as fractions of theta [1]_.
+COVERAGE_AZIMUTH_DEG = 8.0
+COVERAGE_FRACTIONS = (0.45, 1.75)
+_ROWS = 256
+
+
+@dataclass(frozen=True)
+class ZoneShape:
+    """A united zone in the plane coordinates (u, w) of the mast.
+
+    Attributes
+    ----------
+    polygon : shapely.Polygon or shapely.MultiPolygon
+        The zone. [m]
+    near_m, far_m : float
+        Smallest and largest ``u``: distances from the mast along the course. [m]
+    max_half_width_m : float
+        Half the largest across-course extent of the zone at any ``u``. [m]
+    area_m2 : float
+        [m^2]
+    receivers : int
+        Receivers whose zones were united.
+    """
+
+    polygon: object
+    near_m: float
+    far_m: float
+    max_half_width_m: float
+    area_m2: float
+    receivers: int
+
+
+def _height_above_plane(u, w, height_above_horizontal, forward_gradient, lateral_gradient):
+    return height_above_horizontal - forward_gradient * u - lateral_gradient * w
+
+
+def path_receivers(
+    setback_m: float,
+    offset_m: float,
+    angle_deg: float,
+    count: int,
+    forward_gradient: float = 0.0,
+    lateral_gradient: float = 0.0,
+    fractions=PATH_FRACTIONS,
+) -> np.ndarray:
+    """Receivers on the extended centre line at the path and half-sector elevations.
+
+    Parameters
+    ----------
+    setback_m, offset_m : float
+        Mast position. [m]
+    angle_deg : float
+        Path angle theta. [deg]
+    count : int
+        Receivers per elevation, from the threshold to 10 NM, spaced geometrically in range.
+    forward_gradient, lateral_gradient : float
+        Rise of the reflecting plane toward the approach and toward the runway. [m/m]
+    fractions : sequence of float
+        Elevations as fractions of theta.
+
+    Returns
+    -------
+    numpy.ndarray, shape (len(fractions) * count, 3)
+        (u, w, height above the plane). [m]
+    """
+    before = np.geomspace(1.0, RANGE_M + 1.0, count) - 1.0  # distance before the threshold
+    u = np.tile(setback_m + before, len(fractions))
+    w = np.full(u.size, offset_m)
+    horizontal = np.hypot(u, w)
+    tan_e = np.repeat([math.tan(math.radians(f * angle_deg)) for f in fractions], count)
+    z = _height_above_plane(u, w, tan_e * horizontal, forward_gradient, lateral_gradient)
+    return np.column_stack([u, w, z])
+
+
+def coverage_receivers(
+    setback_m: float,
+    offset_m: float,
+    angle_deg: float,
+    count: int,
+    forward_gradient: float = 0.0,
+    lateral_gradient: float = 0.0,
+) -> np.ndarray:
+    """Receivers filling the coverage volume: +/-8 deg azimuth, 0.45-1.75 theta, to 10 NM.
+
+    The azimuth is measured at the mast from the course direction; ranges run geometrically
+    from the distance of the threshold to 10 NM. ``count`` is split as about
+    ``count / 6`` ranges by a 3 x 2 grid of azimuth and elevation extremes and middles
+    (the union is governed by the edges of the volume).
+
+    Returns
+    -------
+    numpy.ndarray, shape (n, 3)
+        (u, w, height above the plane). [m]
+    """
+    azimuths = np.radians(np.array([-COVERAGE_AZIMUTH_DEG, 0.0, COVERAGE_AZIMUTH_DEG]))
+    low, high = COVERAGE_FRACTIONS
+    elevations = np.radians(angle_deg * np.array([low, high]))
+    per = max(2, int(math.ceil(count / (azimuths.size * elevations.size))))
+    start = math.hypot(setback_m, offset_m)
+    ranges = np.geomspace(start, RANGE_M + setback_m, per)
+    az, el, rng = np.meshgrid(azimuths, elevations, ranges, indexing="ij")
+    u = (rng * np.cos(az)).ravel()
+    w = (rng * np.sin(az)).ravel()
+    z = _height_above_plane(u, w, (rng * np.tan(el)).ravel(), forward_gradient, lateral_gradient)
+    return np.column_stack([u, w, z])
+
+
+def _row_intervals(centres, quadratics, rows):
+    """Interval of every ellipse on every row ``w = rows[k]`` (NaN where it misses)."""
+    q_uu, q_uw, q_ww = quadratics[:, 0, 0], quadratics[:, 0, 1], quadratics[:, 1, 1]
+    dw = rows[:, None] - centres[None, :, 1]
+    disc = (q_uw * dw) ** 2 - q_uu * (q_ww * dw**2 - 1.0)
+    root = np.sqrt(np.where(disc >= 0.0, disc, np.nan))
+    lo = centres[:, 0] + (-q_uw * dw - root) / q_uu
+    hi = centres[:, 0] + (-q_uw * dw + root) / q_uu
+    return lo, hi
+
+
+def _merge(lo, hi):
+    """Merge the intervals of each row; returns (row index, start, end) of the merged ones."""
+    rows_idx, cols = np.nonzero(np.isfinite(lo))
+    lo_f, hi_f = lo[rows_idx, cols], hi[rows_idx, cols]
+    span = float(np.nanmax(hi) - np.nanmin(lo)) + 1.0
+    base = float(np.nanmin(lo))
+    # Offset each row by a multiple of the span so one global running maximum never crosses rows.
+    lo_o = (lo_f - base) + rows_idx * 2.0 * span
+    hi_o = (hi_f - base) + rows_idx * 2.0 * span
+    order = np.lexsort((lo_o, rows_idx))
+    lo_o, hi_o, r = lo_o[order], hi_o[order], rows_idx[order]
+    reach = np.maximum.accumulate(hi_o)
+    starts = np.r_[True, lo_o[1:] > reach[:-1]]
+    start_idx = np.flatnonzero(starts)
+    end_idx = np.r_[start_idx[1:] - 1, lo_o.size - 1]
+    row = r[start_idx]
+    offset = row * 2.0 * span - base
+    return row, lo_o[start_idx] - offset, reach[end_idx] - offset
+
+
+def _simple_union(centres, quadratics, rows):
+    """Union polygon when every row meets the union in one interval, else None."""
+    import shapely
+
+    det = quadratics[:, 0, 0] * quadratics[:, 1, 1] - quadratics[:, 0, 1] ** 2
+    half_w = np.sqrt(quadratics[:, 0, 0] / det)  # w half-extent of each ellipse
+    w_min = float(np.min(centres[:, 1] - half_w))
+    w_max = float(np.max(centres[:, 1] + half_w))
+    pad = 1e-9 * max(1.0, w_max - w_min)
+    w_rows = np.linspace(w_min + pad, w_max - pad, rows)
+    lo, hi = _row_intervals(centres, quadratics, w_rows)
+    row, start, end = _merge(lo, hi)
+    counts = np.bincount(row, minlength=rows)
+    present = np.flatnonzero(counts)
+    if not (np.all(counts[present] == 1) and present[-1] - present[0] + 1 == present.size):
+        return None
+    ring = np.column_stack([np.r_[start, end[::-1]], np.r_[w_rows[row], w_rows[row][::-1]]])
+    polygon = shapely.Polygon(ring)
+    return polygon if polygon.is_valid else shapely.make_valid(polygon)
+
+
+def _union_polygon(centres, quadratics, rows):
+    """Union of ellipses; a family that is not simple row by row is split in halves."""
+    import shapely
+
+    polygon = _simple_union(centres, quadratics, rows)
+    if polygon is not None:
+        return polygon
+    half = centres.shape[0] // 2
+    return shapely.union(
+        _union_polygon(centres[:half], quadratics[:half], rows), _union_polygon(centres[half:], quadratics[half:], rows)
+    )
+
+
+def _max_half_width(polygon, lines: int = 120) -> float:
+    import shapely
+
+    u0, w0, u1, w1 = polygon.bounds
+    u = np.linspace(u0, u1, lines)[1:-1]
+    cuts = shapely.intersection(
+        shapely.linestrings(
+            np.stack(
+                [np.column_stack([u, np.full(u.size, w0 - 1.0)]), np.column_stack([u, np.full(u.size, w1 + 1.0)])],
+                axis=1,
+            )
+        ),
+        polygon,
+    )
+    bounds = shapely.bounds(cuts)
+    spans = (bounds[:, 3] - bounds[:, 1]) / 2.0
+    return float(np.nanmax(spans)) if np.isfinite(spans).any() else 0.0
+
+
+def united_zone(centres: np.ndarray, quadratics: np.ndarray, rows: int = _ROWS) -> ZoneShape:
+    """Union of ground ellipses ``(p - c)^T Q (p - c) <= 1`` as one shape.
+
+    Parameters
+    ----------
+    centres : numpy.ndarray, shape (n, 2)
+    quadratics : numpy.ndarray, shape (n, 2, 2)
+        Ellipses in receiver order; neighbours should be close so that halves stay simple.
+    rows : int
+        Lines ``w = const`` across each part's width; the boundary between them is linear.
+
+    Returns
+    -------
+    ZoneShape
+    """
+    polygon = _union_polygon(centres, quadratics, rows)
+    u0, _, u1, _ = polygon.bounds
+    return ZoneShape(
+        polygon, float(u0), float(u1), _max_half_width(polygon), float(polygon.area), int(centres.shape[0])
+    )
+
+
+def antenna_zone(
+    height_m: float, shift_m: float, receivers_uwz: np.ndarray, wavelength_m: float, rows: int = _ROWS
+) -> ZoneShape:
+    """The united first Fresnel zone of one antenna for a set of receivers.
+
+    Parameters
+    ----------
+    height_m : float
+        Antenna height above the plane. [m]
+    shift_m : float
+        Proximity shift of the antenna toward the runway (its ``w``). [m]
+    receivers_uwz : numpy.ndarray, shape (n, 3)
+        Receivers from :func:`path_receivers` or :func:`coverage_receivers`. [m]
+    wavelength_m : float
+        [m]
+
+    Returns
+    -------
+    ZoneShape
+    """
+    centres, quadratics = exact_ellipses([0.0, shift_m, height_m], receivers_uwz, wavelength_m)
+    return united_zone(centres, quadratics, rows)
+
+
+@dataclass(frozen=True)
+class ReflectionZone:
+    """One antenna's (or all antennas') zone of one kind.
+
+    Attributes
+    ----------
+    antenna : str
+        ``"lower"``, ``"middle"``, ``"upper"`` or ``"all"``.
+    kind : str
+        ``"path"`` (receivers on the path and half-sector) or ``"coverage"``.
+    shape : ZoneShape
+    """
+
+    antenna: str
+    kind: str
+    shape: ZoneShape
+
+
+def shape_of(polygon, receivers: int) -> ZoneShape:
+    """Figures of a zone polygon in mast plane coordinates."""
+    u0, _, u1, _ = polygon.bounds
+    return ZoneShape(polygon, float(u0), float(u1), _max_half_width(polygon), float(polygon.area), receivers)
+
+
+def reflection_zones(
+    roles,
+    heights_m,
+    shifts_m,
+    setback_m: float,
+    offset_m: float,
+    angle_deg: float,
+    wavelength_m: float,
+    forward_gradient: float = 0.0,
+    lateral_gradient: float = 0.0,
+    receivers: int = 2001,
+) -> list[ReflectionZone]:
+    """Path and coverage zones of every antenna, and of all antennas together.
+
+    Parameters
+    ----------
+    roles : sequence of str
+        Antenna roles, lowest first.
+    heights_m, shifts_m : sequence of float
+        Heights above the plane and proximity shifts. [m]
+    setback_m, offset_m : float
+        Mast position. [m]
+    angle_deg : float
+        Path angle. [deg]
+    wavelength_m : float
+        [m]
+    forward_gradient, lateral_gradient : float
+        Reflecting plane gradients (0 on flat ground). [m/m]
+    receivers : int
+        Receivers per antenna and kind (at least this many).
+
+    Returns
+    -------
+    list of ReflectionZone
+        Per kind: one per antenna, then ``"all"``.
+    """
+    import shapely
+
+    per_elevation = int(math.ceil(receivers / len(PATH_FRACTIONS)))
+    families = {
+        "path": path_receivers(setback_m, offset_m, angle_deg, per_elevation, forward_gradient, lateral_gradient),
+        "coverage": coverage_receivers(setback_m, offset_m, angle_deg, receivers, forward_gradient, lateral_gradient),
+    }
+    out = []
+    for kind, rx in families.items():
+        shapes = [antenna_zone(h, s, rx, wavelength_m) for h, s in zip(heights_m, shifts_m)]
+        out += [ReflectionZone(role, kind, shape) for role, shape in zip(roles, shapes)]
+        union = shape_of(shapely.union_all([s.polygon for s in shapes]), rx.shape[0])
+        widest = max([union.max_half_width_m] + [s.max_half_width_m for s in shapes])
+        out.append(ReflectionZone("all", kind, replace(union, max_half_width_m=widest)))
+    return out
