@@ -158,6 +158,55 @@ class Dem:
         x, y = self._transformer(frame).transform(east, north)
         return self.sample_native(np.asarray(x, dtype=float), np.asarray(y, dtype=float))
 
+    def warped(
+        self, west_deg: float, south_deg: float, east_deg: float, north_deg: float, dst_crs: str, max_size: int = 1200
+    ) -> tuple[np.ndarray, tuple[float, float, float, float], float]:
+        """The DEM over a WGS 84 box, warped (bilinear) to another CRS, for display.
+
+        Parameters
+        ----------
+        west_deg, south_deg, east_deg, north_deg : float
+            Box. [deg]
+        dst_crs : str
+            Target CRS, e.g. ``"EPSG:3857"``.
+        max_size : int
+            Largest side of the result in cells.
+
+        Returns
+        -------
+        heights : numpy.ndarray
+            Heights in the site's datum, NaN where the DEM has none. [m]
+        bounds : tuple
+            (west, south, east, north) of the result in ``dst_crs``.
+        cell : float
+            Cell size in ``dst_crs`` units.
+        """
+        from rasterio.transform import from_origin
+        from rasterio.warp import Resampling, reproject, transform_bounds
+
+        west, south, east, north = transform_bounds("EPSG:4326", dst_crs, west_deg, south_deg, east_deg, north_deg)
+        cell = max(east - west, north - south) / max_size
+        cols, rows = int(np.ceil((east - west) / cell)), int(np.ceil((north - south) / cell))
+        ds = self.dataset
+        src_window = ds.window(*transform_bounds(dst_crs, ds.crs, west, south, east, north))
+        src_window = src_window.round_offsets().round_lengths()
+        nodata = ds.nodata if ds.nodata is not None else np.nan
+        source = ds.read(1, window=src_window, masked=True, boundless=True, fill_value=nodata)
+        out = np.full((rows, cols), np.nan)
+        reproject(
+            source=source.astype(np.float64).filled(np.nan),
+            destination=out,
+            src_transform=ds.window_transform(src_window),
+            src_crs=ds.crs,
+            src_nodata=np.nan,
+            dst_transform=from_origin(west, north, cell, cell),
+            dst_crs=dst_crs,
+            dst_nodata=np.nan,
+            resampling=Resampling.bilinear,
+        )
+        bounds = (west, north - rows * cell, west + cols * cell, north)
+        return out * self.vertical_scale + self.vertical_offset_m, bounds, cell
+
     def sample_native(self, x, y) -> np.ndarray:
         """Bilinear heights at points in the raster's own CRS [2]_.
 

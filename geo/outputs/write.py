@@ -33,13 +33,22 @@ def _write_summary(result: StudyResult, folder: Path) -> None:
     write_json(folder / "summary.json", summary_dict(result))
 
 
-def _write_geojson(result: StudyResult, folder: Path) -> None:
+def _write_layers(result: StudyResult, folder: Path) -> None:
+    """GeoJSON layers, the GeoPackage, KML and the web map: all from the same FeatureCollections."""
     from geo.outputs.geojson import study_layers
+    from geo.outputs.kml import write_kml
 
-    layers = folder / "layers"
-    layers.mkdir()
-    for name, fc in study_layers(result).items():
-        write_json(layers / f"{name}.geojson", fc)
+    layers = study_layers(result)
+    (folder / "layers").mkdir()
+    for name, fc in layers.items():
+        write_json(folder / "layers" / f"{name}.geojson", fc)
+    write_kml(result.spec.name, layers, folder / "site.kml")
+    from geo.outputs.gpkg import write_gpkg
+
+    write_gpkg(layers, folder / "site.gpkg")
+    from geo.outputs.webmap import write_map
+
+    write_map(result, layers, folder / "map.html")
 
 
 def _write_terrain(result: StudyResult, folder: Path) -> None:
@@ -60,7 +69,7 @@ def _write_terrain_plots(result: StudyResult, folder: Path) -> None:
 
 
 #: The writers of a study, in order.
-WRITERS: tuple[Writer, ...] = (_write_summary, _write_geojson, _write_terrain)
+WRITERS: tuple[Writer, ...] = (_write_summary, _write_layers, _write_terrain)
 #: Writers of pictures (matplotlib), which a caller may skip.
 PLOT_WRITERS: tuple[Writer, ...] = (_write_terrain_plots,)
 

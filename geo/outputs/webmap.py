@@ -1,0 +1,283 @@
+"""The interactive map (``map.html``): folium, with Leaflet inlined so it works offline.
+
+Leaflet's JS and CSS come from the vendored npm package (``vendor/leaflet``, BSD 2-Clause, its
+licence beside it); the images its CSS uses become data URIs. No CDN link is written: folium's
+default script and style links are cleared on the map. An online base map is offered as a
+layer that is off until the user switches it on. Every text from the site file is HTML-escaped.
+"""
+
+from __future__ import annotations
+
+import base64
+import html
+import re
+from pathlib import Path
+
+from geo.study import StudyResult
+from geo.units import M_PER_FT
+
+__all__ = ["write_map", "ZONE_COLOURS"]
+
+VENDOR = Path(__file__).with_name("vendor") / "leaflet"
+ZONE_COLOURS = {"lower": "#c92a2a", "middle": "#e67700", "upper": "#5f3dc4", "all": "#495057"}
+AREA_COLOURS = {"critical": "#2b8a3e", "sensitive": "#74b816"}
+MAST_COLOUR = "#1864ab"
+#: Vertical exaggeration of the hillshade, so that gentle airfield slopes show.
+_EXAGGERATION = 10.0
+
+
+def _popup(html_text: str, max_width: int = 320):
+    """A popup bound with Leaflet itself (folium's own popups need jQuery, which is not bundled)."""
+    from branca.element import MacroElement
+    from jinja2 import Template
+
+    class _BoundPopup(MacroElement):
+        _template = Template(
+            "{% macro script(this, kwargs) %}"
+            "{{ this._parent.get_name() }}.bindPopup({{ this.html|tojson }}, {maxWidth: {{ this.width }}});"
+            "{% endmacro %}"
+        )
+
+        def __init__(self):
+            super().__init__()
+            self._name = "BoundPopup"
+            self.html, self.width = html_text, max_width
+
+    return _BoundPopup()
+
+
+def _leaflet_inline() -> str:
+    css = (VENDOR / "leaflet.css").read_text(encoding="utf-8")
+
+    def data_uri(match: re.Match) -> str:
+        image = VENDOR / match.group(1)
+        return "url(data:image/png;base64," + base64.b64encode(image.read_bytes()).decode("ascii") + ")"
+
+    css = re.sub(r"url\((images/[^)]+\.png)\)", data_uri, css)
+    js = (VENDOR / "leaflet.js").read_text(encoding="utf-8").replace("</script", "<\\/script")
+    return f"<style>\n{css}\n</style>\n<script>\n{js}\n</script>"
+
+
+def _escaped(fc: dict) -> dict:
+    """A copy of a FeatureCollection whose text properties are HTML-escaped (popups are HTML)."""
+    return {
+        "type": "FeatureCollection",
+        "features": [
+            {**f, "properties": {k: html.escape(v) if isinstance(v, str) else v for k, v in f["properties"].items()}}
+            for f in fc["features"]
+        ],
+    }
+
+
+def _len(value_m: float, decimals: int = 2) -> str:
+    return f"{value_m:,.{decimals}f} m ({value_m / M_PER_FT:,.{decimals}f} ft)"
+
+
+def _mast_popup(result: StudyResult) -> str:
+    mast = result.mast
+    rows = "".join(
+        f"<tr><td>{html.escape(a.role)}</td><td>{_len(a.height_m, 3)}</td><td>{_len(a.shift_toward_runway_m, 3)}</td>"
+        f"<td>{a.lat_deg:.7f}, {a.lon_deg:.7f}</td></tr>"
+        for a in result.antennas
+    )
+    return (
+        f"<b>Glide path mast</b> ({html.escape(result.spec.array)}, {result.channel.glide_path_mhz:.2f} MHz)<br>"
+        f"{html.escape(mast.side)} side, setback {_len(mast.setback_m, 1)}, offset {_len(mast.offset_m, 1)}<br>"
+        f"ground {_len(mast.base_elevation_m)}<br>"
+        "<table class='mastplan-antennas'><tr><th>antenna</th><th>height</th><th>shift toward runway</th>"
+        f"<th>lat, lon</th></tr>{rows}</table>"
+        f"RDH {_len(result.rdh_m)}; GPIP {_len(result.gpip.along_m, 1)} past the threshold"
+    )
+
+
+def _legend(result: StudyResult) -> str:
+    items = [("#868e96", "runway"), (MAST_COLOUR, "glide path mast")]
+    items += [(ZONE_COLOURS[a.role], f"reflection zone, {a.role} antenna") for a in result.antennas]
+    items += [(AREA_COLOURS[k], f"protected area ({k})") for k in sorted({a.kind for a in result.spec.protected_areas})]
+    swatches = "".join(
+        f"<div><span style='display:inline-block;width:12px;height:12px;background:{c};margin-right:6px'></span>"
+        f"{html.escape(t)}</div>"
+        for c, t in items
+    )
+    return (
+        "<div class='mastplan-legend' style='position:fixed;bottom:28px;right:10px;z-index:1000;background:#fff;"
+        "padding:8px 10px;border:1px solid #999;border-radius:4px;font:12px sans-serif'>"
+        f"<b>{html.escape(result.spec.name)}</b><br>{swatches}"
+        "<div style='margin-top:4px;color:#555'>Path zones solid, coverage zones dashed.<br>"
+        f"Hillshade exaggerated {_EXAGGERATION:g} times.<br>"
+        "A planning aid: flight inspection and the local authority decide.</div></div>"
+    )
+
+
+def _png_data_uri(rgba) -> str:
+    """An RGBA uint8 array as a PNG data URI (zlib level 6; folium's own encoder is much slower).
+
+    References: W3C, Portable Network Graphics (PNG) Specification, 2nd ed. (2003).
+    """
+    import struct
+    import zlib
+
+    import numpy as np
+
+    rows, cols = rgba.shape[:2]
+    raw = np.concatenate([np.zeros((rows, 1), dtype=np.uint8), rgba.reshape(rows, cols * 4)], axis=1).tobytes()
+
+    def chunk(kind: bytes, data: bytes) -> bytes:
+        return struct.pack(">I", len(data)) + kind + data + struct.pack(">I", zlib.crc32(kind + data))
+
+    png = (
+        b"\x89PNG\r\n\x1a\n"
+        + chunk(b"IHDR", struct.pack(">IIBBBBB", cols, rows, 8, 6, 0, 0, 0))
+        + chunk(b"IDAT", zlib.compress(raw, 6))
+        + chunk(b"IEND", b"")
+    )
+    return "data:image/png;base64," + base64.b64encode(png).decode("ascii")
+
+
+def _hillshade_overlay(result: StudyResult, path_bounds):
+    import folium
+    import numpy as np
+
+    from geo.dem import Dem
+    from geo.hillshade import hillshade
+
+    t = result.spec.terrain
+    west, south, east, north = path_bounds
+    with Dem.open(t.dem_path, t.vertical_offset_m, t.vertical_unit) as dem:
+        z, (x0, y0, x1, y1), cell = dem.warped(west, south, east, north, "EPSG:3857", max_size=900)
+    # Web Mercator cells are stretched by 1 / cos(lat) on the ground.
+    scale = np.cos(np.radians((south + north) / 2.0))
+    shade = hillshade(z * _EXAGGERATION, cell * scale, cell * scale)
+    rgba = np.zeros(z.shape + (4,), dtype=np.uint8)
+    grey = (60 + 195 * np.nan_to_num(shade)).astype(np.uint8)
+    rgba[..., 0] = rgba[..., 1] = rgba[..., 2] = grey
+    rgba[..., 3] = np.where(np.isfinite(z), 150, 0).astype(np.uint8)
+    from pyproj import Transformer
+
+    back = Transformer.from_crs("EPSG:3857", "EPSG:4326", always_xy=True)
+    lon0, lat0 = back.transform(x0, y0)
+    lon1, lat1 = back.transform(x1, y1)
+    return folium.raster_layers.ImageOverlay(
+        _png_data_uri(rgba),
+        bounds=[[lat0, lon0], [lat1, lon1]],
+        name="DEM hillshade",
+        mercator_project=False,
+        overlay=True,
+        show=True,
+    )
+
+
+def write_map(result: StudyResult, layers: dict[str, dict], path: Path) -> None:
+    """Write ``map.html`` for a study.
+
+    Parameters
+    ----------
+    result : StudyResult
+    layers : dict
+        The study's GeoJSON FeatureCollections (:func:`geo.outputs.geojson.study_layers`).
+    path : Path
+    """
+    import folium
+
+    mast = result.mast
+    fmap = folium.Map(location=[mast.lat_deg, mast.lon_deg], zoom_start=15, tiles=None, control_scale=True)
+    fmap.default_js = []
+    fmap.default_css = []
+    fmap.get_root().header.add_child(folium.Element(_leaflet_inline()), name="leaflet_inline")
+    fmap.get_root().html.add_child(folium.Element(_legend(result)))
+
+    folium.TileLayer(
+        "OpenStreetMap", name="Online base map (OpenStreetMap, needs internet)", overlay=True, show=False
+    ).add_to(fmap)
+    zones = layers["reflection_zones"]
+    lons = [c[0] for f in zones["features"] for ring in _rings(f["geometry"]) for c in ring]
+    lats = [c[1] for f in zones["features"] for ring in _rings(f["geometry"]) for c in ring]
+    if result.spec.terrain is not None:
+        pad = 0.002
+        box = (min(lons) - pad, min(lats) - pad, max(lons) + pad, max(lats) + pad)
+        _hillshade_overlay(result, box).add_to(fmap)
+
+    def add(name: str, fc: dict, style: dict, fields=(), show: bool = True) -> None:
+        group = folium.FeatureGroup(name=name, show=show)
+        tooltip = folium.GeoJsonTooltip(fields=list(fields)) if fields else None
+        folium.GeoJson(_escaped(fc), style_function=lambda _f, s=style: s, tooltip=tooltip).add_to(group)
+        group.add_to(fmap)
+
+    for kind, dash, fill in (("coverage", "6 4", 0.08), ("path", None, 0.25)):
+        for antenna in [a.role for a in result.antennas]:
+            fc = {
+                "type": "FeatureCollection",
+                "features": [
+                    f
+                    for f in zones["features"]
+                    if f["properties"]["kind"] == kind and f["properties"]["antenna"] == antenna
+                ],
+            }
+            add(
+                f"{kind.capitalize()} zone, {antenna} antenna",
+                fc,
+                {"color": ZONE_COLOURS[antenna], "weight": 1.5, "fillOpacity": fill, "dashArray": dash},
+                ("antenna", "kind", "near_m", "far_m", "max_half_width_m", "area_m2"),
+                show=kind == "path",
+            )
+    if "protected_areas" in layers:
+        for kind in ("critical", "sensitive"):
+            fc = {
+                "type": "FeatureCollection",
+                "features": [f for f in layers["protected_areas"]["features"] if f["properties"]["kind"] == kind],
+            }
+            if fc["features"]:
+                add(
+                    f"Protected areas ({kind})",
+                    fc,
+                    {"color": AREA_COLOURS[kind], "weight": 2, "fillOpacity": 0.05},
+                    ("name", "kind", "area_m2"),
+                )
+    add(
+        "Runway",
+        layers["runway"],
+        {"color": "#495057", "fillColor": "#868e96", "weight": 1, "fillOpacity": 0.6},
+        ("name", "length_m", "width_m", "true_bearing_deg"),
+    )
+    add("Centre line", layers["centreline"], {"color": "#ffffff", "weight": 1.5, "dashArray": "8 6"})
+    add(
+        "Extended centre line (10 NM)",
+        layers["extended_centreline"],
+        {"color": "#343a40", "weight": 1, "dashArray": "4 6"},
+    )
+
+    points = folium.FeatureGroup(name="Threshold and GPIP")
+    thr = result.spec.threshold
+    marker = folium.CircleMarker(
+        [thr.lat_deg, thr.lon_deg], radius=5, color="#000", fill=True, fill_opacity=1, class_name="mastplan-threshold"
+    )
+    marker.add_child(_popup(f"<b>Threshold</b><br>elevation {_len(thr.elevation_m)}<br>RDH {_len(result.rdh_m)}"))
+    marker.add_to(points)
+    marker = folium.CircleMarker(
+        [result.gpip.lat_deg, result.gpip.lon_deg], radius=5, color="#1864ab", fill=True, class_name="mastplan-gpip"
+    )
+    marker.add_child(_popup(f"<b>GPIP</b><br>{_len(result.gpip.along_m, 1)} past the threshold"))
+    marker.add_to(points)
+    points.add_to(fmap)
+    mast_group = folium.FeatureGroup(name="Mast and antennas")
+    marker = folium.CircleMarker(
+        [mast.lat_deg, mast.lon_deg],
+        radius=8,
+        color=MAST_COLOUR,
+        fill=True,
+        fill_opacity=0.9,
+        tooltip="glide path mast",
+        class_name="mastplan-mast",
+    )
+    marker.add_child(_popup(_mast_popup(result), 520))
+    marker.add_to(mast_group)
+    mast_group.add_to(fmap)
+    fmap.fit_bounds([[min(lats), min(lons)], [max(lats), max(lons)]])
+    folium.LayerControl(collapsed=False).add_to(fmap)
+    fmap.save(str(path))
+
+
+def _rings(geometry: dict):
+    if geometry["type"] == "Polygon":
+        return geometry["coordinates"]
+    return [ring for poly in geometry["coordinates"] for ring in poly]
