@@ -41,12 +41,21 @@ class ArrayType:
         The base height is ``lambda / (divisor * sin(theta))``.
     multiples : tuple of int
         Height of each antenna as a multiple of the base height.
+    csb_feed, sbo_feed : tuple of complex
+        Default relative carrier-plus-sidebands (CSB) and sidebands-only (SBO) feed of each
+        antenna, lowest first; the SBO level is scaled by the prediction to the wanted
+        displacement sensitivity.
+    feeds_source : str
+        Where the default feeds come from.
     """
 
     name: str
     roles: tuple[str, ...]
     quarter_wave_divisor: float
     multiples: tuple[int, ...]
+    csb_feed: tuple[complex, ...] = ()
+    sbo_feed: tuple[complex, ...] = ()
+    feeds_source: str = ""
 
 
 #: The array types mastplan knows, by name.
@@ -54,11 +63,38 @@ ARRAY_TYPES: dict[str, ArrayType] = {
     t.name: t
     for t in (
         # Lower carries CSB, upper SBO with its first null on the path [2]_.
-        ArrayType("null-reference", ("lower", "upper"), 4.0, (1, 2)),
-        # Lower h, upper 3h with h = lambda / (8 sin theta) [2]_.
-        ArrayType("sideband-reference", ("lower", "upper"), 8.0, (1, 3)),
-        # M-array: h, 2h, 3h with h = lambda / (4 sin theta) [2]_.
-        ArrayType("capture-effect", ("lower", "middle", "upper"), 4.0, (1, 2, 3)),
+        ArrayType(
+            "null-reference",
+            ("lower", "upper"),
+            4.0,
+            (1, 2),
+            (1, 0),
+            (0, 1),
+            "CSB on the lower antenna, SBO on the upper (FAA Order 6750.16)",
+        ),
+        # Lower h, upper 3h with h = lambda / (8 sin theta); SBO on both, equal and opposite, so
+        # that the SBO pattern sin x - sin 3x has its null on the path [2]_.
+        ArrayType(
+            "sideband-reference",
+            ("lower", "upper"),
+            8.0,
+            (1, 3),
+            (1, 0),
+            (1, -1),
+            "CSB on the lower antenna, SBO on both equal and opposite (FAA Order 6750.16)",
+        ),
+        # M-array: h, 2h, 3h with h = lambda / (4 sin theta) [2]_. Its feed ratios are not
+        # published openly; this set is derived here: SBO 1 : -2 : 1 puts a null on the path and
+        # rises as x^3 near the horizon, CSB 1 : -0.5 : 0 lifts the carrier off the ground.
+        ArrayType(
+            "capture-effect",
+            ("lower", "middle", "upper"),
+            4.0,
+            (1, 2, 3),
+            (1, -0.5, 0),
+            (1, -2, 1),
+            "derived in mastplan (not a published set): SBO 1:-2:1, CSB 1:-0.5:0",
+        ),
     )
 }
 

@@ -41,6 +41,7 @@ __all__ = [
     "check_roughness",
     "check_clearance",
     "check_zone_cover",
+    "check_predicted_angle",
 ]
 
 SEVERITIES = ("pass", "info", "warning", "fail")
@@ -260,3 +261,13 @@ def check_zone_cover(cover) -> Finding:
         f"{cover.outside_percent:.1f} % ({cover.outside_m2:,.0f} m2) of the computed {cover.kind} zone "
         "lies outside the protected areas of the site file; consider extending them.",
     )
+
+
+def check_predicted_angle(predicted_deg: float, design_deg: float, tolerance_deg: float = 0.01) -> Finding:
+    """The predicted far-field path angle against the design angle (image theory; no siting errors)."""
+    diff = predicted_deg - design_deg
+    words = (
+        f"Predicted far-field path angle {predicted_deg:.4f} deg against the design {design_deg:g} deg "
+        f"({diff:+.4f} deg; image theory over the reflecting plane, confirmed only by flight inspection)."
+    )
+    return Finding("predicted-angle", "pass" if abs(diff) <= tolerance_deg else "warning", words)

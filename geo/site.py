@@ -23,7 +23,16 @@ from geo.channels import CHANNEL_PAIRS_MHZ, GLIDE_PATH_BAND_MHZ
 from geo.errors import SiteFileError
 from geo.units import LENGTH_UNITS
 
-__all__ = ["GeoPoint", "MastSpec", "TerrainSpec", "ProtectedArea", "SiteSpec", "load_site", "parse_site"]
+__all__ = [
+    "GeoPoint",
+    "MastSpec",
+    "TerrainSpec",
+    "ProtectedArea",
+    "PredictionSpec",
+    "SiteSpec",
+    "load_site",
+    "parse_site",
+]
 
 SIDES = ("left", "right")
 CATEGORIES = ("I", "II", "III")
@@ -121,6 +130,28 @@ class ProtectedArea:
 
 
 @dataclass(frozen=True)
+class PredictionSpec:
+    """Settings of the predicted path.
+
+    Attributes
+    ----------
+    relative_permittivity, conductivity_s_m : float or None
+        Ground constants; both ``None`` for a perfectly conducting ground. [-], [S/m]
+    half_sector : float
+        Fraction of theta below the path where the far-field DDM is 0.0875 (Annex 10 Vol I
+        3.1.5.6: 0.12, within 0.07-0.14).
+    csb_feed, sbo_feed : tuple of complex or None
+        Feeds per antenna, lowest first; ``None`` uses the array type's defaults.
+    """
+
+    relative_permittivity: float | None = None
+    conductivity_s_m: float | None = None
+    half_sector: float = 0.12
+    csb_feed: tuple[complex, ...] | None = None
+    sbo_feed: tuple[complex, ...] | None = None
+
+
+@dataclass(frozen=True)
 class SiteSpec:
     """Validated inputs of one site study; every length in metres.
 
@@ -161,6 +192,8 @@ class SiteSpec:
         The DEM, when the study uses real terrain.
     protected_areas : tuple of ProtectedArea
         Critical and sensitive areas of the local rules.
+    prediction : PredictionSpec
+        Ground constants and feeds for the predicted path.
     """
 
     name: str
@@ -182,6 +215,7 @@ class SiteSpec:
     base_dir: Path = field(default_factory=Path)
     terrain: TerrainSpec | None = None
     protected_areas: tuple[ProtectedArea, ...] = ()
+    prediction: PredictionSpec = field(default_factory=PredictionSpec)
 
 
 def load_site(path: str | Path) -> SiteSpec:
@@ -239,7 +273,7 @@ def parse_site(doc: dict[str, Any], source: str = "", sha256: str = "", base_dir
     """
     if not isinstance(doc, dict):
         raise SiteFileError("", "the site document must be a TOML table")
-    _only(doc, "", ("units", "site", "runway", "glide_path", "mast", "terrain", "protected_area"))
+    _only(doc, "", ("units", "site", "runway", "glide_path", "mast", "terrain", "protected_area", "prediction"))
     units = doc.get("units")
     if units is None:
         raise SiteFileError("units", 'missing; add units = "m" or units = "ft" at the top')
@@ -327,6 +361,7 @@ def parse_site(doc: dict[str, Any], source: str = "", sha256: str = "", base_dir
     base_dir = base_dir if base_dir is not None else Path()
     terrain = _terrain(doc["terrain"], scale, units, base_dir) if "terrain" in doc else None
     protected = _protected_areas(doc.get("protected_area", []), scale, units)
+    prediction = _prediction(doc.get("prediction", {}), len(ARRAY_TYPES[array].roles))
     return SiteSpec(
         name=name,
         notes=notes,
@@ -347,7 +382,55 @@ def parse_site(doc: dict[str, Any], source: str = "", sha256: str = "", base_dir
         base_dir=base_dir,
         terrain=terrain,
         protected_areas=protected,
+        prediction=prediction,
     )
+
+
+def _prediction(table, antennas: int) -> PredictionSpec:
+    if not isinstance(table, dict):
+        raise SiteFileError("prediction", f"must be a table [prediction] (got {_show(table)})")
+    _only(table, "prediction", ("relative_permittivity", "conductivity", "half_sector", "csb_feed", "sbo_feed"))
+    eps = _number(
+        table,
+        "prediction",
+        "relative_permittivity",
+        1.0,
+        required=False,
+        at_least=1.0,
+        at_most=100.0,
+        unit="(relative)",
+    )
+    sigma = _number(table, "prediction", "conductivity", 1.0, required=False, at_least=0.0, at_most=100.0, unit="S/m")
+    if (eps is None) != (sigma is None):
+        raise SiteFileError(
+            "prediction", "give both relative_permittivity and conductivity, or neither (a perfectly conducting ground)"
+        )
+    half = _number(
+        table, "prediction", "half_sector", 1.0, required=False, at_least=0.07, at_most=0.14, unit="(fraction of theta)"
+    )
+    feeds = {}
+    for key in ("csb_feed", "sbo_feed"):
+        if key not in table:
+            feeds[key] = None
+            continue
+        value = table[key]
+        fix = f"a list of {antennas} [amplitude, phase_deg] pairs, lowest antenna first"
+        if not isinstance(value, list) or len(value) != antennas:
+            raise SiteFileError(f"prediction.{key}", f"must be {fix} (got {_show(value)})")
+        out = []
+        for pair in value:
+            ok = (
+                isinstance(pair, list)
+                and len(pair) == 2
+                and all(isinstance(v, (int, float)) and not isinstance(v, bool) and math.isfinite(v) for v in pair)
+            )
+            if not ok or not 0.0 <= pair[0] <= 1000.0:
+                raise SiteFileError(f"prediction.{key}", f"must be {fix}, amplitude 0-1000 (got {_show(pair)})")
+            out.append(pair[0] * complex(math.cos(math.radians(pair[1])), math.sin(math.radians(pair[1]))))
+        if not any(abs(v) > 0 for v in out):
+            raise SiteFileError(f"prediction.{key}", "feeds every antenna with zero; give at least one amplitude")
+        feeds[key] = tuple(out)
+    return PredictionSpec(eps, sigma, half if half is not None else 0.12, feeds["csb_feed"], feeds["sbo_feed"])
 
 
 def _protected_areas(items, scale: float, units: str) -> tuple[ProtectedArea, ...]:

@@ -22,6 +22,7 @@ from geo.path import (
     runway_gradient,
     setback_for_rdh_m,
 )
+from geo.prediction import ArrayModel, PathPrediction, predict_path
 from geo.profile import ApproachProfile, approach_profile
 from geo.protected import ZoneCover, zone_cover
 from geo.site import SiteSpec
@@ -174,6 +175,10 @@ class StudyResult:
         Path and coverage zones per antenna and for all antennas.
     zone_covers : list of ZoneCover
         The part of each kind's zone outside the site file's protected areas (empty without them).
+    prediction, prediction_no_shift : PathPrediction or None
+        The predicted path with the proximity shifts, and with the antennas unshifted.
+    feeds : tuple
+        (CSB feeds, SBO feeds, source) used for the prediction.
     """
 
     spec: SiteSpec
@@ -192,6 +197,9 @@ class StudyResult:
     terrain_source: TerrainSource | None = None
     zones: list[ReflectionZone] = field(default_factory=list)
     zone_covers: list[ZoneCover] = field(default_factory=list)
+    prediction: PathPrediction | None = None
+    prediction_no_shift: PathPrediction | None = None
+    feeds: tuple = ()
 
 
 def channel_of(spec: SiteSpec) -> Channel:
@@ -386,8 +394,58 @@ def run_study(spec: SiteSpec) -> StudyResult:
     if spec.protected_areas:
         covers = [zone_cover(z.shape.polygon, z.kind, spec.protected_areas) for z in zones if z.antenna == "all"]
         found += [checks.check_zone_cover(c) for c in covers]
+    feeds = _feeds(spec)
+    prediction, unshifted = _predictions(
+        spec, heights, shifts, feeds, lam, gu, gw, setback, offset, intercept_m - plane_m
+    )
+    found.append(checks.check_predicted_angle(prediction.path_angle_deg, spec.angle_deg))
     found = [f for f in found if f is not None]
     return StudyResult(
         spec, channel, lam, runway, mast, antennas, rdh, over_threshold, gpip, found,
-        intercept_m, terrain, profile, source, zones, covers,
+        intercept_m, terrain, profile, source, zones, covers, prediction, unshifted, feeds,
     )  # fmt: skip
+
+
+def _feeds(spec: SiteSpec) -> tuple:
+    kind = array_type(spec.array)
+    p = spec.prediction
+    source = kind.feeds_source if p.csb_feed is None and p.sbo_feed is None else "site file"
+    return (p.csb_feed or kind.csb_feed, p.sbo_feed or kind.sbo_feed, source)
+
+
+def _predictions(spec, heights, shifts, feeds, lam, gu, gw, setback, offset, intercept_z):
+    """The predicted path with the proximity shifts and without them (same SBO level)."""
+    p = spec.prediction
+    build = dict(
+        wavelength_m=lam,
+        forward_gradient=gu,
+        lateral_gradient=gw,
+        relative_permittivity=p.relative_permittivity,
+        conductivity_s_m=p.conductivity_s_m,
+        phase_for_angle_deg=spec.angle_deg,
+    )
+    try:
+        shifted = predict_path(
+            ArrayModel.build(heights, shifts, feeds[0], feeds[1], **build),
+            spec.angle_deg,
+            setback,
+            offset,
+            intercept_z,
+            p.half_sector,
+        )
+        unshifted = predict_path(
+            ArrayModel.build(heights, [0.0] * len(heights), feeds[0], feeds[1], **build),
+            spec.angle_deg,
+            setback,
+            offset,
+            intercept_z,
+            p.half_sector,
+            sbo_scale=shifted.sbo_scale,
+        )
+    except (ValueError, ZeroDivisionError, FloatingPointError):
+        raise SiteFileError(
+            "prediction",
+            "the antennas and feeds give no path (DDM = 0) within 25 % of the "
+            "path angle; check prediction.csb_feed and prediction.sbo_feed",
+        ) from None
+    return shifted, unshifted

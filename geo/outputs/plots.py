@@ -9,7 +9,7 @@ import numpy as np
 from geo.study import StudyResult
 from geo.units import M_PER_FT
 
-__all__ = ["plot_profile", "plot_residuals"]
+__all__ = ["plot_profile", "plot_residuals", "plot_ddm", "plot_path"]
 
 
 def _figure(width_in: float, height_in: float, rows: int = 1):
@@ -23,9 +23,9 @@ def _figure(width_in: float, height_in: float, rows: int = 1):
     return fig, axes
 
 
-def _feet_axis(ax) -> None:
+def _feet_axis(ax, label: str = "elevation [ft]") -> None:
     sec = ax.secondary_yaxis("right", functions=(lambda m: m / M_PER_FT, lambda ft: ft * M_PER_FT))
-    sec.set_ylabel("elevation [ft]")
+    sec.set_ylabel(label)
 
 
 def plot_profile(result: StudyResult, path: Path) -> None:
@@ -103,4 +103,85 @@ def plot_residuals(result: StudyResult, path: Path) -> None:
     )
     ax.legend(loc="upper right")
     ax.grid(alpha=0.3)
+    fig.savefig(path, dpi=100)
+
+
+def plot_ddm(result: StudyResult, path: Path) -> None:
+    """DDM along the designed path (with and without proximity shifts) and in the far field by elevation."""
+    from geo.outputs.path_csv import path_columns
+
+    p = result.prediction
+    cols = path_columns(result)
+    fig, axes = _figure(11, 8.5, rows=2)
+    fig.subplots_adjust(left=0.08, right=0.97, top=0.95, bottom=0.07, hspace=0.3)
+    ax = axes[0]
+    before = cols["along_m"] < 0.0
+    nm = -cols["along_m"][before] / 1852.0
+    ax.plot(nm, cols["ddm_on_nominal"][before], color="#1f5fa8", label="with proximity shifts")
+    ax.plot(nm, cols["ddm_on_nominal_no_shift"][before], color="#d9480f", ls="--", label="antennas not shifted")
+    ax.axhline(0.0, color="k", lw=0.8)
+    ax.set_xscale("log")
+    ax.invert_xaxis()
+    ax.set_xlabel("distance before the threshold [NM]")
+    ax.set_ylabel("DDM on the designed straight path (+: 150 Hz)")
+    ax.set_title(f"{result.spec.name}: DDM along the designed path")
+    ax.legend(fontsize=8)
+    ax.grid(alpha=0.3)
+    ax = axes[1]
+    ax.plot(p.far_elevation_deg, p.far_ddm, color="#1f5fa8", label="far field")
+    for y in (0.0875, -0.0875):
+        ax.axhline(y, color="#868e96", ls=":", lw=1)
+    ax.axvline(p.path_angle_deg, color="k", lw=0.8, label=f"path {p.path_angle_deg:.3f} deg")
+    ax.axvspan(
+        p.path_angle_deg - p.half_sector_below_deg,
+        p.path_angle_deg + p.half_sector_above_deg,
+        color="#74c0fc",
+        alpha=0.2,
+        label="half-sectors (DDM 0.0875)",
+    )
+    ax.set_xlabel("elevation angle [deg]")
+    ax.set_ylabel("DDM (+: 150 Hz, below the path)")
+    ax.set_ylim(-0.4, 0.4)
+    ax.legend(fontsize=8)
+    ax.grid(alpha=0.3)
+    fig.savefig(path, dpi=100)
+
+
+def plot_path(result: StudyResult, path: Path) -> None:
+    """Predicted path against the geometric path, the whole approach and near the threshold."""
+    from geo.outputs.path_csv import path_columns
+
+    cols = path_columns(result)
+    fig, axes = _figure(11, 8.5, rows=2)
+    fig.subplots_adjust(left=0.08, right=0.92, top=0.95, bottom=0.07, hspace=0.3)
+    x = cols["along_m"]
+    for ax, near in zip(axes, (False, True)):
+        sel = x >= -1500.0 if near else np.ones(x.size, dtype=bool)
+        if near:
+            ax.plot(
+                x[sel],
+                cols["predicted_height_m"][sel] - cols["geometric_actual_height_m"][sel],
+                color="#1f5fa8",
+                label="predicted with shifts minus geometric (cone)",
+            )
+            ax.plot(
+                x[sel],
+                cols["predicted_height_no_shift_m"][sel] - cols["geometric_actual_height_m"][sel],
+                color="#d9480f",
+                ls="--",
+                label="predicted without shifts minus geometric",
+            )
+            ax.axhline(0.0, color="k", lw=0.8)
+            ax.set_ylabel("height difference [m]")
+            ax.set_title("near the threshold: what the proximity shifts buy")
+        else:
+            ax.plot(x, cols["nominal_height_m"], color="#868e96", label="designed straight path")
+            ax.plot(x, cols["geometric_actual_height_m"], color="#2b8a3e", ls=":", label="geometric actual path (cone)")
+            ax.plot(x, cols["predicted_height_m"], color="#1f5fa8", label="predicted path (DDM = 0)")
+            ax.set_ylabel("height above the threshold [m]")
+            _feet_axis(ax, "height above the threshold [ft]")
+            ax.set_title(f"{result.spec.name}: predicted path")
+        ax.set_xlabel("distance from the threshold along the centre line [m]")
+        ax.legend(fontsize=8)
+        ax.grid(alpha=0.3)
     fig.savefig(path, dpi=100)

@@ -6,7 +6,11 @@ Every length appears in metres and in feet: keys end in ``_m`` and gain an
 
 from __future__ import annotations
 
+import cmath
+import math
 from pathlib import Path
+
+import numpy as np
 
 from geo import __version__
 from geo.findings import CAUTIONS
@@ -115,6 +119,8 @@ def summary_dict(result: StudyResult) -> dict:
         ],
         "cautions": list(CAUTIONS),
     }
+    if result.prediction is not None:
+        body["prediction"] = prediction_dict(result)
     if result.terrain is not None:
         body["terrain"] = terrain_dict(result)
     return with_foot_twins(body)
@@ -165,4 +171,54 @@ def terrain_dict(result: StudyResult) -> dict:
         "min_clearance_along_m": p.min_clearance_along_m,
         "required_clearance_m": result.spec.terrain.min_clearance_m,
         "profile_start_along_m": float(p.along_m[0]),
+    }
+
+
+def _feed_list(feeds) -> list[dict]:
+    return [{"amplitude": abs(f), "phase_deg": math.degrees(cmath.phase(f)) if abs(f) > 0 else 0.0} for f in feeds]
+
+
+def prediction_dict(result: StudyResult) -> dict:
+    """The predicted-path part of the summary (metre keys; twins added by the caller)."""
+    p, q = result.prediction, result.prediction_no_shift
+    thr = result.spec.threshold.elevation_m
+    base = result.mast.plane_elevation_m
+    csb, sbo, source = result.feeds
+    ratio = abs(p.sbo_scale) * math.sqrt(sum(abs(f) ** 2 for f in sbo) / sum(abs(f) ** 2 for f in csb))
+    spec = result.spec.prediction
+
+    def heights(pred) -> dict:
+        return {
+            "rdh_m": pred.straight_fit[0] + base - thr,
+            "path_height_over_threshold_m": float(pred.path_z_m[-1]) + base - thr,
+        }
+
+    return {
+        "path_angle_deg": p.path_angle_deg,
+        "half_sector_below_deg": p.half_sector_below_deg,
+        "half_sector_above_deg": p.half_sector_above_deg,
+        "half_sector_below_fraction": p.half_sector_below_deg / result.spec.angle_deg,
+        "half_sector_above_fraction": p.half_sector_above_deg / result.spec.angle_deg,
+        **heights(p),
+        "sbo_csb_ratio": ratio,
+        "sbo_csb_ratio_db": 20.0 * math.log10(ratio) if ratio > 0 else None,
+        "sbo_phase_reversed": p.sbo_scale < 0,
+        "geometric_rdh_m": result.rdh_m,
+        "geometric_path_height_over_threshold_m": result.path_height_over_threshold_m,
+        "without_shifts": {
+            **heights(q),
+            "path_angle_deg": q.path_angle_deg,
+            "largest_difference_near_threshold_m": float(np.max(np.abs(q.path_z_m - p.path_z_m)[p.along_m >= -1852.0])),
+        },
+        "feeds": {"csb": _feed_list(csb), "sbo": _feed_list(sbo), "source": source},
+        "slope_phasing_deg": [float(v) for v in p.slope_phases_deg],
+        "ground": (
+            "perfect conductor (reflection coefficient -1)"
+            if spec.relative_permittivity is None
+            else f"relative permittivity {spec.relative_permittivity:g}, conductivity {spec.conductivity_s_m:g} S/m"
+        ),
+        "ddm_at_half_sector": 0.0875,
+        "tone_modulation_percent": 40.0,
+        "scope": "CSB/SBO course signals by image theory over the reflecting plane; clearance signals, "
+        "multipath from objects and receiver effects are out of scope.",
     }

@@ -44,6 +44,17 @@ def summary_text(result: StudyResult) -> str:
             f"Approach: smallest path clearance {_len(result.profile.min_clearance_m)} "
             f"at {result.profile.min_clearance_along_m:,.0f} m from the threshold",
         ]
+    p, q = result.prediction, result.prediction_no_shift
+    if p is not None:
+        thr = spec.threshold.elevation_m
+        base = mast.plane_elevation_m
+        lines += [
+            f"Predicted path (image theory): angle {p.path_angle_deg:.4f} deg, half-sectors "
+            f"{p.half_sector_below_deg:.4f} deg below / {p.half_sector_above_deg:.4f} deg above, "
+            f"RDH {_len(p.straight_fit[0] + base - thr)}, "
+            f"over the threshold {_len(float(p.path_z_m[-1]) + base - thr)}",
+            f"  without proximity shifts: over the threshold {_len(float(q.path_z_m[-1]) + base - thr)}",
+        ]
     lines += ["Findings:"]
     lines += [f"  [{f.severity}] {f.message}" for f in result.findings]
     lines += ["Caution:"] + [f"  {c}" for c in CAUTIONS]

@@ -59,6 +59,19 @@ def _write_terrain(result: StudyResult, folder: Path) -> None:
     write_profile_csv(result.profile, folder / "profile.csv")
 
 
+def _write_path(result: StudyResult, folder: Path) -> None:
+    from geo.outputs.path_csv import write_path_csv
+
+    write_path_csv(result, folder / "path.csv")
+
+
+def _write_path_plots(result: StudyResult, folder: Path) -> None:
+    from geo.outputs.plots import plot_ddm, plot_path
+
+    plot_ddm(result, folder / "ddm.png")
+    plot_path(result, folder / "path.png")
+
+
 def _write_terrain_plots(result: StudyResult, folder: Path) -> None:
     if result.profile is None:
         return
@@ -69,9 +82,9 @@ def _write_terrain_plots(result: StudyResult, folder: Path) -> None:
 
 
 #: The writers of a study, in order.
-WRITERS: tuple[Writer, ...] = (_write_summary, _write_layers, _write_terrain)
+WRITERS: tuple[Writer, ...] = (_write_summary, _write_layers, _write_terrain, _write_path)
 #: Writers of pictures (matplotlib), which a caller may skip.
-PLOT_WRITERS: tuple[Writer, ...] = (_write_terrain_plots,)
+PLOT_WRITERS: tuple[Writer, ...] = (_write_terrain_plots, _write_path_plots)
 
 
 def _check_target(out: Path, overwrite: bool, inputs: list[Path]) -> None:

@@ -1,0 +1,47 @@
+"""Reflection of the glide path carrier by the ground (horizontal polarisation).
+
+References
+----------
+.. [1] Balanis, C. A., *Advanced Engineering Electromagnetics*, Wiley, 1989, sec. 5.3
+       (reflection at a planar interface, perpendicular = horizontal polarisation, lossy media
+       through the complex permittivity).
+.. [2] ITU-R Recommendation P.527, "Electrical characteristics of the surface of the Earth"
+       (complex relative permittivity ``eps_r - j 60 lambda sigma``; typical ground values).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+__all__ = ["reflection_coefficient_h"]
+
+
+def reflection_coefficient_h(
+    grazing_rad, relative_permittivity: float | None, conductivity_s_m: float | None, wavelength_m: float
+):
+    """Fresnel reflection coefficient for horizontal polarisation at grazing angle ``psi``.
+
+    Parameters
+    ----------
+    grazing_rad : array_like
+        Angle between the ray and the ground. [rad]
+    relative_permittivity : float or None
+        ``eps_r`` of the ground; ``None`` for a perfect conductor.
+    conductivity_s_m : float or None
+        Ground conductivity. [S/m]
+    wavelength_m : float
+        [m]
+
+    Returns
+    -------
+    numpy.ndarray of complex
+        ``(sin psi - sqrt(eps_c - cos^2 psi)) / (sin psi + sqrt(eps_c - cos^2 psi))`` with
+        ``eps_c = eps_r - j 60 lambda sigma`` [1]_ [2]_; -1 for a perfect conductor.
+    """
+    psi = np.asarray(grazing_rad, dtype=float)
+    if relative_permittivity is None:
+        return np.full(psi.shape, -1.0 + 0.0j)
+    eps = relative_permittivity - 1j * 60.0 * wavelength_m * (conductivity_s_m or 0.0)
+    root = np.sqrt(eps - np.cos(psi) ** 2 + 0j)
+    s = np.sin(psi)
+    return (s - root) / (s + root)
