@@ -6,6 +6,7 @@ import click
 
 from cli.demo import demo
 from cli.run import run
+from cli.sweep import sweep
 from geo import __version__
 
 
@@ -20,6 +21,7 @@ def main() -> None:
 
 main.add_command(run)
 main.add_command(demo)
+main.add_command(sweep)
 
 if __name__ == "__main__":  # pragma: no cover
     main()

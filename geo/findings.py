@@ -42,6 +42,7 @@ __all__ = [
     "check_clearance",
     "check_zone_cover",
     "check_predicted_angle",
+    "check_mast_clearance",
 ]
 
 SEVERITIES = ("pass", "info", "warning", "fail")
@@ -271,3 +272,38 @@ def check_predicted_angle(predicted_deg: float, design_deg: float, tolerance_deg
         f"({diff:+.4f} deg; image theory over the reflecting plane, confirmed only by flight inspection)."
     )
     return Finding("predicted-angle", "pass" if abs(diff) <= tolerance_deg else "warning", words)
+
+
+def check_mast_clearance(clearance, spec) -> Finding:
+    """The top of the mast against the inner transitional and transitional surfaces (Annex 14)."""
+    import math
+
+    top = float(clearance.top_height_m)
+    margins = [
+        (name, float(m))
+        for name, m in (
+            ("inner transitional", clearance.inner_transitional_margin_m),
+            ("transitional", clearance.transitional_margin_m),
+        )
+        if math.isfinite(m)
+    ]
+    strip = (
+        " It stands inside the runway strip: it must be frangible and as low as possible."
+        if bool(clearance.in_strip)
+        else ""
+    )
+    worst = min(margins, key=lambda x: x[1]) if margins else None
+    if worst is not None and worst[1] < 0:
+        return Finding(
+            "mast-clearance",
+            "warning",
+            f"The top of the mast ({_ft(top)} above the centre line) penetrates the {worst[0]} surface "
+            f"by {_ft(-worst[1])}; the mast must be frangible and the penetration agreed with the "
+            f"authority.{strip} Surfaces: {spec.source}.",
+        )
+    clear = f"clears the {worst[0]} surface by {_ft(worst[1])}" if worst else "is below the surfaces' lower edges"
+    return Finding(
+        "mast-clearance",
+        "info" if strip else "pass",
+        f"The top of the mast ({_ft(top)} above the centre line) {clear}.{strip} Surfaces: {spec.source}.",
+    )

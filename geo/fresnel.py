@@ -127,8 +127,8 @@ def exact_ellipses(antenna_uwh_m, receivers_uwz_m, wavelength_m: float) -> tuple
 
     Parameters
     ----------
-    antenna_uwh_m : array_like, shape (3,)
-        Antenna position (u, w, height above the plane). [m]
+    antenna_uwh_m : array_like, shape (3,) or (n, 3)
+        Antenna position (u, w, height above the plane), one for all receivers or one each. [m]
     receivers_uwz_m : array_like, shape (n, 3)
         Receiver positions (u, w, height above the plane). [m]
     wavelength_m : float
@@ -156,9 +156,9 @@ def exact_ellipses(antenna_uwh_m, receivers_uwz_m, wavelength_m: float) -> tuple
     ``K = h z_R lambda / (2 S) + lambda S / 8 + lambda**2 / 16`` is computed in that form, so
     distant receivers lose no digits to cancellation.
     """
-    ant = np.asarray(antenna_uwh_m, dtype=float)
     rx = np.atleast_2d(np.asarray(receivers_uwz_m, dtype=float))
-    h, z_r = ant[2], rx[:, 2]
+    ant = np.broadcast_to(np.asarray(antenna_uwh_m, dtype=float), rx.shape)
+    h, z_r = ant[:, 2], rx[:, 2]
     via_image = np.linalg.norm(rx - ant * np.array([1.0, 1.0, -1.0]), axis=1)
     direct = np.linalg.norm(rx - ant, axis=1)
     s = via_image + direct
@@ -166,9 +166,9 @@ def exact_ellipses(antenna_uwh_m, receivers_uwz_m, wavelength_m: float) -> tuple
     b2 = (2.0 * h * z_r / s + wavelength_m / 4.0) * (s / 2.0 + wavelength_m / 4.0)
     t = b2 + ((z_r - h) / 2.0) ** 2
     k = h * z_r * wavelength_m / (2.0 * s) + wavelength_m * s / 8.0 + wavelength_m**2 / 16.0
-    horizontal = rx[:, :2] - ant[:2]
+    horizontal = rx[:, :2] - ant[:, :2]
     d = horizontal / np.linalg.norm(horizontal, axis=1)[:, None]
-    centre = (rx[:, :2] + ant[:2]) / 2.0 - (((z_r + h) / 2.0) * ((z_r - h) / 2.0) / (2.0 * t))[:, None] * horizontal
+    centre = (rx[:, :2] + ant[:, :2]) / 2.0 - (((z_r + h) / 2.0) * ((z_r - h) / 2.0) / (2.0 * t))[:, None] * horizontal
     across = t / b2 / k
     along = t * t / (a2 * b2) / k
     outer = d[:, :, None] * d[:, None, :]

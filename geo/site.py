@@ -21,6 +21,7 @@ from typing import Any
 from geo.arrays import ARRAY_TYPES
 from geo.channels import CHANNEL_PAIRS_MHZ, GLIDE_PATH_BAND_MHZ
 from geo.errors import SiteFileError
+from geo.surfaces import DEFAULT_SURFACES, SurfaceSpec
 from geo.units import LENGTH_UNITS
 
 __all__ = [
@@ -194,6 +195,8 @@ class SiteSpec:
         Critical and sensitive areas of the local rules.
     prediction : PredictionSpec
         Ground constants and feeds for the predicted path.
+    surfaces : SurfaceSpec
+        Obstacle limitation surface parameters for the mast clearance.
     """
 
     name: str
@@ -216,6 +219,7 @@ class SiteSpec:
     terrain: TerrainSpec | None = None
     protected_areas: tuple[ProtectedArea, ...] = ()
     prediction: PredictionSpec = field(default_factory=PredictionSpec)
+    surfaces: SurfaceSpec = DEFAULT_SURFACES
 
 
 def load_site(path: str | Path) -> SiteSpec:
@@ -273,7 +277,11 @@ def parse_site(doc: dict[str, Any], source: str = "", sha256: str = "", base_dir
     """
     if not isinstance(doc, dict):
         raise SiteFileError("", "the site document must be a TOML table")
-    _only(doc, "", ("units", "site", "runway", "glide_path", "mast", "terrain", "protected_area", "prediction"))
+    _only(
+        doc,
+        "",
+        ("units", "site", "runway", "glide_path", "mast", "terrain", "protected_area", "prediction", "surfaces"),
+    )
     units = doc.get("units")
     if units is None:
         raise SiteFileError("units", 'missing; add units = "m" or units = "ft" at the top')
@@ -362,6 +370,7 @@ def parse_site(doc: dict[str, Any], source: str = "", sha256: str = "", base_dir
     terrain = _terrain(doc["terrain"], scale, units, base_dir) if "terrain" in doc else None
     protected = _protected_areas(doc.get("protected_area", []), scale, units)
     prediction = _prediction(doc.get("prediction", {}), len(ARRAY_TYPES[array].roles))
+    surfaces = _surfaces(doc.get("surfaces"), scale, units)
     return SiteSpec(
         name=name,
         notes=notes,
@@ -383,7 +392,36 @@ def parse_site(doc: dict[str, Any], source: str = "", sha256: str = "", base_dir
         terrain=terrain,
         protected_areas=protected,
         prediction=prediction,
+        surfaces=surfaces,
     )
+
+
+def _surfaces(table, scale: float, units: str) -> SurfaceSpec:
+    if table is None:
+        return DEFAULT_SURFACES
+    if not isinstance(table, dict):
+        raise SiteFileError("surfaces", f"must be a table [surfaces] (got {_show(table)})")
+    keys = (
+        "strip_half_width",
+        "transitional_slope",
+        "inner_transitional_start",
+        "inner_transitional_slope",
+        "mast_allowance",
+        "source",
+    )
+    _only(table, "surfaces", keys)
+    d = DEFAULT_SURFACES
+    length = {"unit": units, "required": False, "at_least": 0.0, "at_most": 2000.0}
+    ratio = {"unit": "(rise per run)", "required": False, "above": 0.0, "at_most": 1.0}
+    values = {
+        "strip_half_width_m": _number(table, "surfaces", "strip_half_width", scale, **length),
+        "transitional_slope": _number(table, "surfaces", "transitional_slope", 1.0, **ratio),
+        "inner_transitional_start_m": _number(table, "surfaces", "inner_transitional_start", scale, **length),
+        "inner_transitional_slope": _number(table, "surfaces", "inner_transitional_slope", 1.0, **ratio),
+        "mast_allowance_m": _number(table, "surfaces", "mast_allowance", scale, **length),
+    }
+    source = _text(table, "surfaces", "source", required=False) or "site file [surfaces] (defaults where not given)"
+    return SurfaceSpec(**{k: (v if v is not None else getattr(d, k)) for k, v in values.items()}, source=source)
 
 
 def _prediction(table, antennas: int) -> PredictionSpec:

@@ -26,6 +26,7 @@ from geo.prediction import ArrayModel, PathPrediction, predict_path
 from geo.profile import ApproachProfile, approach_profile
 from geo.protected import ZoneCover, zone_cover
 from geo.site import SiteSpec
+from geo.surfaces import MastClearance, mast_clearance
 from geo.terrain import TerrainResult, analyse_terrain
 from geo.zones import ReflectionZone, reflection_zones
 
@@ -179,6 +180,8 @@ class StudyResult:
         The predicted path with the proximity shifts, and with the antennas unshifted.
     feeds : tuple
         (CSB feeds, SBO feeds, source) used for the prediction.
+    mast_clearance : MastClearance
+        Top of the mast against the Annex 14 surfaces.
     """
 
     spec: SiteSpec
@@ -200,6 +203,7 @@ class StudyResult:
     prediction: PathPrediction | None = None
     prediction_no_shift: PathPrediction | None = None
     feeds: tuple = ()
+    mast_clearance: MastClearance | None = None
 
 
 def channel_of(spec: SiteSpec) -> Channel:
@@ -394,6 +398,13 @@ def run_study(spec: SiteSpec) -> StudyResult:
     if spec.protected_areas:
         covers = [zone_cover(z.shape.polygon, z.kind, spec.protected_areas) for z in zones if z.antenna == "all"]
         found += [checks.check_zone_cover(c) for c in covers]
+    clearance = mast_clearance(
+        antennas[-1].offset_m,
+        antennas[-1].elevation_m + spec.surfaces.mast_allowance_m,
+        thr_elev + runway.gradient * setback,
+        spec.surfaces,
+    )
+    found.append(checks.check_mast_clearance(clearance, spec.surfaces))
     feeds = _feeds(spec)
     prediction, unshifted = _predictions(
         spec, heights, shifts, feeds, lam, gu, gw, setback, offset, intercept_m - plane_m
@@ -402,7 +413,7 @@ def run_study(spec: SiteSpec) -> StudyResult:
     found = [f for f in found if f is not None]
     return StudyResult(
         spec, channel, lam, runway, mast, antennas, rdh, over_threshold, gpip, found,
-        intercept_m, terrain, profile, source, zones, covers, prediction, unshifted, feeds,
+        intercept_m, terrain, profile, source, zones, covers, prediction, unshifted, feeds, clearance,
     )  # fmt: skip
 
 

@@ -3,11 +3,12 @@
 Inside the library every length is in metres. A site file states its length
 unit once; :func:`to_metres` converts on the way in. On the way out every
 key that ends in ``_m`` (``_m2``) gets a twin in feet ending in ``_ft``
-(``_ft2``), made in one place: :func:`with_foot_twins`.
+(``_ft2``) and every ``_m3`` a twin in cubic yards (``_yd3``, as earthworks are priced), made in
+one place: :func:`with_foot_twins`.
 
 References
 ----------
-.. [1] International Yard and Pound Agreement (1959): 1 ft = 0.3048 m exactly.
+.. [1] International Yard and Pound Agreement (1959): 1 ft = 0.3048 m, 1 yd = 0.9144 m exactly.
 """
 
 from __future__ import annotations
@@ -17,6 +18,7 @@ from typing import Any
 
 __all__ = [
     "M_PER_FT",
+    "M_PER_YD",
     "LENGTH_UNITS",
     "to_metres",
     "metres_to_feet",
@@ -29,7 +31,14 @@ M_PER_FT = 0.3048
 #: Length units a site file may declare, with metres per unit.
 LENGTH_UNITS = {"m": 1.0, "ft": M_PER_FT}
 
-_TWINS = (("_m", "_ft", 1.0 / M_PER_FT), ("_m2", "_ft2", 1.0 / M_PER_FT**2))
+#: Metres in one international yard, exact [1]_.
+M_PER_YD = 0.9144
+
+_TWINS = (
+    ("_m", "_ft", 1.0 / M_PER_FT),
+    ("_m2", "_ft2", 1.0 / M_PER_FT**2),
+    ("_m3", "_yd3", 1.0 / M_PER_YD**3),
+)
 
 
 def to_metres(value: float, unit: str) -> float:
@@ -58,7 +67,9 @@ def metres_to_feet(value_m: float) -> float:
 def _twin(key: str, value: Any):
     for suffix, twin_suffix, factor in _TWINS:
         if key.endswith(suffix):
-            if isinstance(value, bool) or value is None:
+            if value is None:  # a missing length stays missing in both units
+                return key[: -len(suffix)] + twin_suffix, None
+            if isinstance(value, bool):
                 return None
             if isinstance(value, (int, float)) and math.isfinite(value):
                 return key[: -len(suffix)] + twin_suffix, value * factor

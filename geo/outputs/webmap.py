@@ -272,9 +272,45 @@ def write_map(result: StudyResult, layers: dict[str, dict], path: Path) -> None:
     marker.add_child(_popup(_mast_popup(result), 520))
     marker.add_to(mast_group)
     mast_group.add_to(fmap)
+    if "candidates" in layers:
+        _candidates(layers["candidates"]).add_to(fmap)
     fmap.fit_bounds([[min(lats), min(lons)], [max(lats), max(lons)]])
     folium.LayerControl(collapsed=False).add_to(fmap)
     fmap.save(str(path))
+
+
+def _score_colour(score) -> str:
+    """A colour ramp from red (low score) to green (high); grey for infeasible candidates."""
+    if score is None:
+        return "#adb5bd"
+    t = max(0.0, min(1.0, score / 100.0))
+    red, green = int(220 * (1 - t) + 30 * t), int(60 * (1 - t) + 160 * t)
+    return f"#{red:02x}{green:02x}40"
+
+
+def _candidates(fc: dict):
+    import folium
+
+    group = folium.FeatureGroup(name="Sweep candidates (coloured by score)")
+    for f in fc["features"]:
+        p = f["properties"]
+        lon, lat = f["geometry"]["coordinates"]
+        score = "none" if p["score"] is None else f"{p['score']:.1f}"
+        text = (
+            f"{html.escape(str(p['side']))} side, setback {p['setback_m']:.0f} m, offset {p['offset_m']:.0f} m; "
+            f"RDH {p['rdh_m']:.2f} m; score {score}; {html.escape(p['reasons'] or 'feasible')}"
+        )
+        folium.CircleMarker(
+            [lat, lon],
+            radius=6 if p.get("best") else 3,
+            color=_score_colour(p["score"]),
+            fill=True,
+            fill_opacity=0.9,
+            weight=2 if p.get("best") else 0,
+            tooltip=text,
+            class_name="mastplan-candidate",
+        ).add_to(group)
+    return group
 
 
 def _rings(geometry: dict):

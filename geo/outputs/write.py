@@ -33,12 +33,12 @@ def _write_summary(result: StudyResult, folder: Path) -> None:
     write_json(folder / "summary.json", summary_dict(result))
 
 
-def _write_layers(result: StudyResult, folder: Path) -> None:
+def _write_layers(result: StudyResult, folder: Path, extra: dict | None = None) -> None:
     """GeoJSON layers, the GeoPackage, KML and the web map: all from the same FeatureCollections."""
     from geo.outputs.geojson import study_layers
     from geo.outputs.kml import write_kml
 
-    layers = study_layers(result)
+    layers = {**study_layers(result), **(extra or {})}
     (folder / "layers").mkdir()
     for name, fc in layers.items():
         write_json(folder / "layers" / f"{name}.geojson", fc)
@@ -146,6 +146,12 @@ def atomic_folder(
     return out
 
 
+def fill_study(result: StudyResult, folder: Path, plots: bool = True) -> None:
+    """Write every output of a study into an existing, empty folder (not atomic by itself)."""
+    for writer in WRITERS + (PLOT_WRITERS if plots else ()):
+        writer(result, folder)
+
+
 def write_study(result: StudyResult, out_dir: str | Path, overwrite: bool = False, plots: bool = True) -> Path:
     """Write every output of a study into ``out_dir``, atomically.
 
@@ -171,8 +177,42 @@ def write_study(result: StudyResult, out_dir: str | Path, overwrite: bool = Fals
     """
     inputs = [Path(result.spec.source)] if result.spec.source else []
 
+    return atomic_folder(out_dir, overwrite, lambda folder: fill_study(result, folder, plots), inputs)
+
+
+def write_sweep(
+    spec, sweep, options, best: StudyResult | None, out_dir: str | Path, overwrite: bool = False, plots: bool = True
+) -> Path:
+    """Write a siting sweep atomically: table, candidates, plot, summary, and the best candidate's study.
+
+    Parameters
+    ----------
+    spec : SiteSpec
+    sweep : SweepResult
+    options : SweepOptions
+    best : StudyResult or None
+        Full study of the best feasible candidate, written to ``best/`` (with the candidates on its map).
+    out_dir : str or Path
+    overwrite, plots : bool
+    """
+    from geo.outputs.sweep_out import candidates_layer, plot_sweep, sweep_summary, write_sweep_csv
+
+    inputs = [Path(spec.source)] if spec.source else []
+
     def fill(folder: Path) -> None:
-        for writer in WRITERS + (PLOT_WRITERS if plots else ()):
-            writer(result, folder)
+        write_json(folder / "summary.json", sweep_summary(spec, sweep, options))
+        write_sweep_csv(sweep, folder / "sweep.csv")
+        candidates = candidates_layer(spec, sweep)
+        (folder / "layers").mkdir()
+        write_json(folder / "layers" / "candidates.geojson", candidates)
+        if plots:
+            plot_sweep(spec, sweep, options, folder / "sweep.png")
+        if best is not None:
+            (folder / "best").mkdir()
+            for writer in WRITERS + (PLOT_WRITERS if plots else ()):
+                if writer is _write_layers:
+                    _write_layers(best, folder / "best", {"candidates": candidates})
+                else:
+                    writer(best, folder / "best")
 
     return atomic_folder(out_dir, overwrite, fill, inputs)
