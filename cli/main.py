@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import click
 
+from cli.batch import batch
 from cli.demo import demo
 from cli.run import run
 from cli.sweep import sweep
@@ -22,6 +23,7 @@ def main() -> None:
 main.add_command(run)
 main.add_command(demo)
 main.add_command(sweep)
+main.add_command(batch)
 
 if __name__ == "__main__":  # pragma: no cover
     main()

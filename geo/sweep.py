@@ -39,6 +39,7 @@ __all__ = ["SweepOptions", "SweepResult", "run_sweep", "candidate_grid", "best_s
 
 _RECEIVERS = 48
 _ITERATIONS = 12
+_CHUNK = 48
 
 
 @dataclass(frozen=True)
@@ -134,6 +135,7 @@ class _SideGrid:
         ga, gc = np.meshgrid(self.along, self.cross)
         z = dem.sample_frame(frame, ga.ravel(), gc.ravel()).reshape(nj, ni) - z_ref
         self.z = z
+        self.z32 = z.astype(np.float32)
         valid = np.isfinite(z)
         zf = np.where(valid, z, 0.0)
         a = (self.along - self.a0)[None, :] * valid
@@ -156,7 +158,7 @@ def _receivers(setback, offset, angle_deg, gu, gw):
     return np.stack([u, w, z], axis=-1)
 
 
-def _zone_rows(heights_low, setback, offset, sign, angle_deg, lam, gu, gw, grid: _SideGrid):
+def _zone_rows(heights_low, setback, offset, sign, angle_deg, lam, gu, gw, grid: _SideGrid, count: int | None = None):
     """Per candidate and grid row near it: the along-index interval of the zone (lo > hi: empty).
 
     Returns
@@ -165,6 +167,30 @@ def _zone_rows(heights_low, setback, offset, sign, angle_deg, lam, gu, gw, grid:
     w_rows : numpy.ndarray, shape (C, R)
         ``w`` of each row for its candidate. [m]
     """
+    if setback.size > _CHUNK:  # keep the (candidates x rows x receivers) arrays small enough for the cache
+        parts = [
+            _zone_rows(
+                heights_low[k : k + _CHUNK],
+                setback[k : k + _CHUNK],
+                offset[k : k + _CHUNK],
+                sign,
+                angle_deg,
+                lam,
+                gu[k : k + _CHUNK],
+                gw[k : k + _CHUNK],
+                grid,
+                count,
+            )
+            for k in range(0, setback.size, _CHUNK)
+        ]
+        width = max(p[0].shape[1] for p in parts)
+        fills = (0, 1, 0, 0.0)
+        return tuple(
+            np.concatenate(
+                [np.pad(p[m], ((0, 0), (0, width - p[m].shape[1])), constant_values=fills[m]) for p in parts]
+            )
+            for m in range(4)
+        )
     c = setback.size
     receivers = _receivers(setback, offset, angle_deg, gu, gw)
     n = receivers.shape[1]
@@ -179,24 +205,36 @@ def _zone_rows(heights_low, setback, offset, sign, angle_deg, lam, gu, gw, grid:
     w_hi = (centres[..., 1] + reach).max(axis=1)
     cross_a, cross_b = sign * (offset - w_lo), sign * (offset - w_hi)
     j0 = np.floor((np.minimum(cross_a, cross_b) - grid.c0) / grid.sp).astype(np.int64)
-    count = int(math.ceil(np.max(w_hi - w_lo) / grid.sp)) + 2
+    needed = int(math.ceil(np.max(w_hi - w_lo) / grid.sp)) + 2
+    count = needed if count is None else max(count, needed)
     rows = j0[:, None] + np.arange(count)[None, :]
     outside = (rows < 0) | (rows >= grid.cross.size)
     rows = np.clip(rows, 0, grid.cross.size - 1)
     w_rows = offset[:, None] - sign * grid.cross[rows]
-    dw = w_rows[:, :, None] - centres[:, None, :, 1]  # (C, R, N)
-    q_uu, q_uw, q_ww = q[:, None, :, 0, 0], q[:, None, :, 0, 1], q[:, None, :, 1, 1]
-    disc = (q_uw * dw) ** 2 - q_uu * (q_ww * dw**2 - 1.0)
-    ok = disc >= 0.0
-    root = np.sqrt(np.where(ok, disc, 0.0))
-    mid = centres[:, None, :, 0] - q_uw * dw / q_uu
-    half = root / q_uu
-    lo = np.where(ok, mid - half, np.inf).min(axis=2)
-    hi = np.where(ok, mid + half, -np.inf).max(axis=2)
+    # On the row w, ellipse (p - c)^T Q (p - c) <= 1 spans u = c_u - (q_uw/q_uu) dw +/- sqrt(g - b dw^2)
+    # with g = 1/q_uu and b = det(Q)/q_uu^2 (dw = w - c_w); empty where g < b dw^2.
+    # float32 here: near a zone's tips the half-length loses a few centimetres, far below a cell.
+    f4 = np.float32
+    alpha = (q[..., 0, 1] / q[..., 0, 0]).astype(f4)[:, None, :]
+    beta = (det / q[..., 0, 0] ** 2).astype(f4)[:, None, :]
+    gamma = (1.0 / q[..., 0, 0]).astype(f4)[:, None, :]
+    dw = w_rows.astype(f4)[:, :, None] - centres[:, None, :, 1].astype(f4)  # (C, R, N)
+    mid = centres[:, None, :, 0].astype(f4) - alpha * dw
+    dw *= dw
+    dw *= beta
+    np.subtract(gamma, dw, out=dw)  # now the squared half-length, negative where the row misses
+    missing = dw < 0.0
+    np.sqrt(np.maximum(dw, f4(0.0), out=dw), out=dw)
+    lo = np.where(missing, np.inf, mid - dw).min(axis=2).astype(np.float64)
+    mid += dw
+    mid[missing] = -np.inf
+    hi = mid.max(axis=2).astype(np.float64)
     # along = setback - u; grid index i = (along - a0) / sp, cells whose centres are inside.
     i_lo = np.ceil((setback[:, None] - hi - grid.a0) / grid.sp - 1e-9)
     i_hi = np.floor((setback[:, None] - lo - grid.a0) / grid.sp + 1e-9)
     empty = ~np.isfinite(lo) | outside
+    if np.any(~empty & ((i_lo < 0) | (i_hi > grid.along.size - 1))) or np.any(outside & np.isfinite(lo)):
+        raise RuntimeError("a candidate's zone reaches beyond the sampled grid")  # a bug: the grid is sized for it
     i_lo = np.where(empty, 1, np.clip(i_lo, 0, grid.along.size)).astype(np.int64)
     i_hi = np.where(empty, 0, np.clip(i_hi, -1, grid.along.size - 1)).astype(np.int64)
     return rows, i_lo, i_hi, w_rows
@@ -248,7 +286,10 @@ def _fit(grid: _SideGrid, rows, i_lo, i_hi, w_rows, setback):
 
 
 def _grading(grid: _SideGrid, row_index, i_lo, i_hi, w_rows, setback, a, b, c, tol):
-    """Cut and fill volumes and worked area to bring every zone cell within ``tol`` of its plane."""
+    """Cut and fill volumes and worked area to bring every zone cell within ``tol`` of its plane.
+
+    Residuals in float32: heights are relative to the threshold, so float32 keeps well under a millimetre.
+    """
     cut = np.zeros(setback.size)
     fill = np.zeros(setback.size)
     area = np.zeros(setback.size)
@@ -258,16 +299,15 @@ def _grading(grid: _SideGrid, row_index, i_lo, i_hi, w_rows, setback, a, b, c, t
         total = int(lengths.sum())
         if total == 0 or not np.isfinite(a[k]):
             continue
-        rows = np.repeat(np.arange(lengths.size), lengths)
-        starts = np.repeat(i_lo[k] - np.cumsum(lengths) + lengths, lengths)
-        cols = starts + np.arange(total)
-        z = grid.z[row_index[k, rows], cols]
-        u = setback[k] - grid.along[cols]
-        r = z - (a[k] + b[k] * u + c[k] * w_rows[k, rows])
+        rows = np.repeat(row_index[k], lengths)
+        cols = np.repeat(i_lo[k] - np.cumsum(lengths) + lengths, lengths) + np.arange(total)
+        plane = (a[k] + b[k] * (setback[k] - grid.along)).astype(np.float32)  # along each row, before w
+        r = grid.z32[rows, cols] - plane[cols] - np.float32(c[k]) * np.repeat(w_rows[k], lengths).astype(np.float32)
         r = r[np.isfinite(r)]
-        cut[k] = np.sum(np.maximum(r - tol[k], 0.0)) * cell
-        fill[k] = np.sum(np.maximum(-r - tol[k], 0.0)) * cell
-        area[k] = np.count_nonzero(np.abs(r) > tol[k]) * cell
+        t = np.float32(tol[k])
+        cut[k] = float(np.maximum(r - t, 0.0).sum()) * cell
+        fill[k] = float(np.maximum(-r - t, 0.0).sum()) * cell
+        area[k] = np.count_nonzero(np.abs(r) > t) * cell
     return cut, fill, area
 
 
@@ -327,6 +367,7 @@ def run_sweep(spec: SiteSpec, options: SweepOptions) -> SweepResult:
                     z = antenna_zone(heights[0, 0], 0.0, path_receivers(s, o, theta, _RECEIVERS, fractions=(1.0,)), lam)
                     u0, w0, u1, w1 = z.polygon.bounds
                     u_max, w_lo, w_hi = max(u_max, u1), min(w_lo, w0), max(w_hi, w1)
+            w_lo0, w_hi0 = w_lo, w_hi
             u_max, w_lo, w_hi = 1.6 * u_max, 1.6 * w_lo - 10.0, 1.6 * w_hi + 10.0
             grids = {}
             for sg in np.unique(sign):
@@ -352,16 +393,29 @@ def run_sweep(spec: SiteSpec, options: SweepOptions) -> SweepResult:
         worst = np.nanmin(-prof.along_m[approach] * tan - prof.terrain_m[approach])
         for sg, grid in grids.items():
             sel = np.flatnonzero(sign == sg)
-            active = sel
+            # Row slots per candidate: the widest flat-ground zone, with room for the slopes to widen it.
+            count = int(math.ceil(1.15 * (w_hi0 - w_lo0) / spacing)) + 2
+            rows = np.zeros((sel.size, count), dtype=np.int64)
+            i_lo = np.ones((sel.size, count), dtype=np.int64)
+            i_hi = np.zeros((sel.size, count), dtype=np.int64)
+            w_rows = np.zeros((sel.size, count))
+            active = np.arange(sel.size)
             for _ in range(_ITERATIONS):  # heights -> zone -> plane, as geo.terrain.analyse_terrain
-                low = np.nan_to_num(heights[active, 0], nan=float(np.nanmean(heights[:, 0])))
-                rows, i_lo, i_hi, w_rows = _zone_rows(
-                    low, setback[active], offset[active], sg, theta, lam, gu[active], gw[active], grid
-                )
-                a, b, cc, r, n, miss = _fit(grid, rows, i_lo, i_hi, w_rows, setback[active])
-                gu[active], gw[active] = np.nan_to_num(b), np.nan_to_num(cc)
-                plane_at_mast[active], rms[active], samples[active], missing[active] = a + thr, r, n, miss
-                slope = np.degrees(np.arctan(gu[active]))
+                idx = sel[active]
+                low = np.nan_to_num(heights[idx, 0], nan=float(np.nanmean(heights[:, 0])))
+                zone = _zone_rows(low, setback[idx], offset[idx], sg, theta, lam, gu[idx], gw[idx], grid, count)
+                if zone[0].shape[1] > count:  # a zone outgrew the slots: widen them for everyone
+                    extra = zone[0].shape[1] - count
+                    rows, i_lo, i_hi, w_rows = (
+                        np.pad(a, ((0, 0), (0, extra)), constant_values=v)
+                        for a, v in ((rows, 0), (i_lo, 1), (i_hi, 0), (w_rows, 0.0))
+                    )
+                    count = zone[0].shape[1]
+                rows[active], i_lo[active], i_hi[active], w_rows[active] = zone
+                a, b, cc, r, n, miss = _fit(grid, *zone, setback[idx])
+                gu[idx], gw[idx] = np.nan_to_num(b), np.nan_to_num(cc)
+                plane_at_mast[idx], rms[idx], samples[idx], missing[idx] = a + thr, r, n, miss
+                slope = np.degrees(np.arctan(gu[idx]))
                 new = np.array(
                     [
                         antenna_heights_m(spec.array, lam, theta, sl)
@@ -370,16 +424,12 @@ def run_sweep(spec: SiteSpec, options: SweepOptions) -> SweepResult:
                         for sl in slope
                     ]
                 )
-                moved = np.nan_to_num(np.abs(new - heights[active]).max(axis=1), nan=0.0)
-                heights[active] = new
+                moved = np.nan_to_num(np.abs(new - heights[idx]).max(axis=1), nan=0.0)
+                heights[idx] = new
                 active = active[moved >= 1e-3]
                 if active.size == 0:
                     break
-            # The converged zones of the side, for grading (plane from the final fit).
-            low = np.nan_to_num(heights[sel, 0], nan=float(np.nanmean(heights[:, 0])))
-            rows, i_lo, i_hi, w_rows = _zone_rows(
-                low, setback[sel], offset[sel], sg, theta, lam, gu[sel], gw[sel], grid
-            )
+            # Grading in each candidate's last zone, against its fitted plane.
             a, b, cc = plane_at_mast[sel] - thr, gu[sel], gw[sel]
             psi = theta - np.degrees(np.arctan(gu[sel]))
             tol = lam / (criterion * np.sin(np.radians(psi)))

@@ -36,6 +36,8 @@ __all__ = ["PlaneFit", "TerrainResult", "fit_plane", "analyse_terrain", "fit_zon
 
 #: Receivers on the path (at theta) for the zone the plane is fitted in.
 _RECEIVERS = 200
+#: Rows of the fit zone's polygon: fine, so that its edge follows the ellipses closely.
+_FIT_ROWS = 480
 _MAX_ITERATIONS = 30
 _CONVERGED_M = 1e-3
 
@@ -105,7 +107,7 @@ def fit_zone(
     receivers = path_receivers(
         setback_m, offset_m, angle_deg, _RECEIVERS, forward_gradient, lateral_gradient, fractions=(1.0,)
     )
-    return antenna_zone(height_m, 0.0, receivers, wavelength_m)
+    return antenna_zone(height_m, 0.0, receivers, wavelength_m, rows=_FIT_ROWS)
 
 
 @dataclass(frozen=True)

@@ -46,7 +46,7 @@ PATH_FRACTIONS = (0.88, 1.0, 1.12)
 #: Coverage: azimuth half-width [deg] and elevation limits as fractions of theta [1]_.
 COVERAGE_AZIMUTH_DEG = 8.0
 COVERAGE_FRACTIONS = (0.45, 1.75)
-_ROWS = 256
+_ROWS = 160
 
 
 @dataclass(frozen=True)
@@ -234,7 +234,7 @@ def _max_half_width(polygon, lines: int = 120) -> float:
     return float(np.nanmax(spans)) if np.isfinite(spans).any() else 0.0
 
 
-def united_zone(centres: np.ndarray, quadratics: np.ndarray, rows: int = _ROWS) -> ZoneShape:
+def united_zone(centres: np.ndarray, quadratics: np.ndarray, rows: int = _ROWS, blocks: int = 1) -> ZoneShape:
     """Union of ground ellipses ``(p - c)^T Q (p - c) <= 1`` as one shape.
 
     Parameters
@@ -244,12 +244,21 @@ def united_zone(centres: np.ndarray, quadratics: np.ndarray, rows: int = _ROWS) 
         Ellipses in receiver order; neighbours should be close so that halves stay simple.
     rows : int
         Lines ``w = const`` across each part's width; the boundary between them is linear.
+    blocks : int
+        Contiguous families of receivers (each one sweep in range) united separately first.
 
     Returns
     -------
     ZoneShape
     """
-    polygon = _union_polygon(centres, quadratics, rows)
+    import shapely
+
+    parts = [
+        _union_polygon(c, q, rows)
+        for c, q in zip(np.array_split(centres, blocks), np.array_split(quadratics, blocks))
+        if len(c)
+    ]
+    polygon = parts[0] if len(parts) == 1 else shapely.union_all(parts)
     u0, _, u1, _ = polygon.bounds
     return ZoneShape(
         polygon, float(u0), float(u1), _max_half_width(polygon), float(polygon.area), int(centres.shape[0])
@@ -257,7 +266,12 @@ def united_zone(centres: np.ndarray, quadratics: np.ndarray, rows: int = _ROWS) 
 
 
 def antenna_zone(
-    height_m: float, shift_m: float, receivers_uwz: np.ndarray, wavelength_m: float, rows: int = _ROWS
+    height_m: float,
+    shift_m: float,
+    receivers_uwz: np.ndarray,
+    wavelength_m: float,
+    rows: int = _ROWS,
+    blocks: int = 1,
 ) -> ZoneShape:
     """The united first Fresnel zone of one antenna for a set of receivers.
 
@@ -277,7 +291,7 @@ def antenna_zone(
     ZoneShape
     """
     centres, quadratics = exact_ellipses([0.0, shift_m, height_m], receivers_uwz, wavelength_m)
-    return united_zone(centres, quadratics, rows)
+    return united_zone(centres, quadratics, rows, blocks)
 
 
 @dataclass(frozen=True)
@@ -347,9 +361,11 @@ def reflection_zones(
         "path": path_receivers(setback_m, offset_m, angle_deg, per_elevation, forward_gradient, lateral_gradient),
         "coverage": coverage_receivers(setback_m, offset_m, angle_deg, receivers, forward_gradient, lateral_gradient),
     }
+    # Receivers come in sweeps along the range: 3 elevations (path), 3 azimuths x 2 elevations (coverage).
+    blocks = {"path": len(PATH_FRACTIONS), "coverage": 6}
     out = []
     for kind, rx in families.items():
-        shapes = [antenna_zone(h, s, rx, wavelength_m) for h, s in zip(heights_m, shifts_m)]
+        shapes = [antenna_zone(h, s, rx, wavelength_m, blocks=blocks[kind]) for h, s in zip(heights_m, shifts_m)]
         out += [ReflectionZone(role, kind, shape) for role, shape in zip(roles, shapes)]
         union = shape_of(shapely.union_all([s.polygon for s in shapes]), rx.shape[0])
         widest = max([union.max_half_width_m] + [s.max_half_width_m for s in shapes])

@@ -22,9 +22,13 @@ __all__ = ["write_study", "write_json", "atomic_folder"]
 Writer = Callable[[StudyResult, Path], None]
 
 
-def write_json(path: Path, obj) -> None:
-    """Write JSON with a stable layout (UTF-8, 2-space indent, no NaN)."""
-    path.write_text(json.dumps(obj, indent=2, ensure_ascii=False, allow_nan=False) + "\n", encoding="utf-8")
+def write_json(path: Path, obj, compact: bool = False) -> None:
+    """Write JSON with a stable layout (UTF-8, no NaN); 2-space indent unless ``compact``."""
+    if compact:
+        text = json.dumps(obj, separators=(",", ":"), ensure_ascii=False, allow_nan=False)
+    else:
+        text = json.dumps(obj, indent=2, ensure_ascii=False, allow_nan=False)
+    path.write_text(text + "\n", encoding="utf-8")
 
 
 def _write_summary(result: StudyResult, folder: Path) -> None:
@@ -41,7 +45,7 @@ def _write_layers(result: StudyResult, folder: Path, extra: dict | None = None) 
     layers = {**study_layers(result), **(extra or {})}
     (folder / "layers").mkdir()
     for name, fc in layers.items():
-        write_json(folder / "layers" / f"{name}.geojson", fc)
+        write_json(folder / "layers" / f"{name}.geojson", fc, compact=True)
     write_kml(result.spec.name, layers, folder / "site.kml")
     from geo.outputs.gpkg import write_gpkg
 
@@ -204,7 +208,7 @@ def write_sweep(
         write_sweep_csv(sweep, folder / "sweep.csv")
         candidates = candidates_layer(spec, sweep)
         (folder / "layers").mkdir()
-        write_json(folder / "layers" / "candidates.geojson", candidates)
+        write_json(folder / "layers" / "candidates.geojson", candidates, compact=True)
         if plots:
             plot_sweep(spec, sweep, options, folder / "sweep.png")
         if best is not None:
