@@ -43,13 +43,26 @@ def fail(message: str, code: int) -> None:
     sys.exit(code)
 
 
+class _Terminated(BaseException):
+    """Raised in the main thread when the process receives SIGTERM."""
+
+
+def _terminated(signum, frame):
+    raise _Terminated()
+
+
 def reports_errors(func):
     """Turn library errors into one-line messages and exit codes."""
 
     @functools.wraps(func)
     def wrapper(*args, **kwargs):
+        import signal
+
         from geo.errors import MastplanError, OutputError, SiteFileError, TerrainError
 
+        # A terminated run unwinds like an interrupted one: its temporary folder is removed and the
+        # earlier results stay as they were.
+        signal.signal(signal.SIGTERM, _terminated)
         try:
             return func(*args, **kwargs)
         except (SiteFileError, OutputError, TerrainError) as exc:
@@ -58,6 +71,8 @@ def reports_errors(func):
             fail(f"error: {exc}", EXIT_FAILED)
         except KeyboardInterrupt:
             fail("interrupted; earlier results are untouched", 130)
+        except _Terminated:
+            fail("terminated; earlier results are untouched", 143)
         except Exception as exc:  # a bug: say so in one line, traceback on request
             if os.environ.get("MASTPLAN_DEBUG"):
                 raise

@@ -5,7 +5,14 @@ Each message is one line that names the field and the fix, so the command
 line can print it as it is.
 """
 
-__all__ = ["MastplanError", "SiteFileError", "OutputError", "TerrainError"]
+__all__ = ["MastplanError", "SiteFileError", "OutputError", "TerrainError", "printable"]
+
+
+def printable(text: str) -> str:
+    """Text fit for a one-line message: control and other unprintable characters as escapes."""
+    if text.isprintable():
+        return text
+    return "".join(c if c.isprintable() else c.encode("unicode_escape").decode("ascii") for c in text)
 
 
 class MastplanError(Exception):
@@ -27,10 +34,10 @@ class SiteFileError(MastplanError, ValueError):
     """
 
     def __init__(self, field: str, problem: str, source: str = ""):
-        self.field = field
+        self.field = printable(field)
         self.problem = " ".join(problem.split())
         self.source = source
-        parts = [p for p in (source, field) if p]
+        parts = [p for p in (source, self.field) if p]
         super().__init__(": ".join([*parts, self.problem]))
 
     def with_source(self, source: str) -> "SiteFileError":

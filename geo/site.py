@@ -285,7 +285,7 @@ def parse_site(doc: dict[str, Any], source: str = "", sha256: str = "", base_dir
     units = doc.get("units")
     if units is None:
         raise SiteFileError("units", 'missing; add units = "m" or units = "ft" at the top')
-    if units not in LENGTH_UNITS:
+    if not _is_choice(units, LENGTH_UNITS):
         raise SiteFileError("units", f'must be "m" or "ft" (got {_show(units)})')
     scale = LENGTH_UNITS[units]
 
@@ -311,7 +311,7 @@ def parse_site(doc: dict[str, Any], source: str = "", sha256: str = "", base_dir
         unit=units,
     )
     code = runway.get("code")
-    if code is not None and (isinstance(code, bool) or code not in (1, 2, 3, 4)):
+    if code is not None and (isinstance(code, bool) or not isinstance(code, int) or code not in (1, 2, 3, 4)):
         raise SiteFileError("runway.code", f"must be the aerodrome code number 1, 2, 3 or 4 (got {_show(code)})")
 
     gp = _table(doc, "glide_path")
@@ -349,7 +349,7 @@ def parse_site(doc: dict[str, Any], source: str = "", sha256: str = "", base_dir
     array = gp.get("array")
     if array is None:
         raise SiteFileError("glide_path.array", "missing; " + _array_choices())
-    if array not in ARRAY_TYPES:
+    if not _is_choice(array, ARRAY_TYPES):
         raise SiteFileError("glide_path.array", f"unknown array {_show(array)}; " + _array_choices())
     target_rdh_m = _number(
         gp,
@@ -362,7 +362,7 @@ def parse_site(doc: dict[str, Any], source: str = "", sha256: str = "", base_dir
         unit=units,
     )
     category = gp.get("category", "I")
-    if category not in CATEGORIES:
+    if not _is_choice(category, CATEGORIES):
         raise SiteFileError("glide_path.category", f'must be "I", "II" or "III" (got {_show(category)})')
 
     mast = _mast(_table(doc, "mast"), scale, units, width_m, target_rdh_m)
@@ -482,7 +482,7 @@ def _protected_areas(items, scale: float, units: str) -> tuple[ProtectedArea, ..
         _only(item, prefix, ("name", "kind", "ahead", "behind", "toward_runway", "away", "outline"))
         name = _text(item, prefix, "name", required=True)
         kind = item.get("kind")
-        if kind not in ("critical", "sensitive"):
+        if not _is_choice(kind, ("critical", "sensitive")):
             raise SiteFileError(f"{prefix}.kind", f'must be "critical" or "sensitive" (got {_show(kind)})')
         if "outline" in item:
             clash = [k for k in ("ahead", "behind", "toward_runway", "away") if k in item]
@@ -543,7 +543,7 @@ def _terrain(table, scale: float, units: str, base_dir: Path) -> TerrainSpec:
         or 0.0
     )
     vertical_unit = table.get("vertical_unit")
-    if vertical_unit is not None and vertical_unit not in LENGTH_UNITS:
+    if vertical_unit is not None and not _is_choice(vertical_unit, LENGTH_UNITS):
         raise SiteFileError("terrain.vertical_unit", f'must be "m" or "ft" (got {_show(vertical_unit)})')
     clearance = _number(
         table, "terrain", "min_clearance", scale, required=False, at_least=-1000.0, at_most=1000.0, unit=units
@@ -583,7 +583,7 @@ def _mast(mast: dict, scale: float, units: str, width_m: float, target_rdh_m) ->
         raise SiteFileError(
             "mast.side", 'missing; "left" or "right" as seen by a pilot on approach (or give mast.position)'
         )
-    if side not in SIDES:
+    if not _is_choice(side, SIDES):
         raise SiteFileError("mast.side", f'must be "left" or "right" (got {_show(side)})')
     offset_m = _number(mast, "mast", "offset", scale, required=True, above=0.0, at_most=_OFFSET_MAX_M, unit=units)
     if offset_m <= width_m / 2.0:
@@ -603,6 +603,11 @@ def _mast(mast: dict, scale: float, units: str, width_m: float, target_rdh_m) ->
         missing="missing; give mast.setback, or glide_path.target_rdh to solve it",
     )
     return MastSpec(side=side, offset_m=offset_m, setback_m=setback_m, base_elevation_m=base)
+
+
+def _is_choice(value, allowed) -> bool:
+    """True when ``value`` is a text among ``allowed`` (other types are never a choice)."""
+    return isinstance(value, str) and value in allowed
 
 
 def _array_choices() -> str:

@@ -33,6 +33,8 @@ from geo.zones import ReflectionZone, reflection_zones
 __all__ = ["Antenna", "Runway", "Mast", "Gpip", "TerrainSource", "StudyResult", "run_study"]
 
 _SIGN = {"right": 1.0, "left": -1.0}
+#: Largest mean runway gradient accepted; Annex 14 allows 1-2 % (memory), beyond 5 % is a typing slip.
+_MAX_GRADIENT = 0.05
 
 
 @dataclass(frozen=True)
@@ -223,6 +225,13 @@ def runway_of(spec: SiteSpec) -> Runway:
         raise SiteFileError("runway.end", f"is {length_m / 1000:.1f} km from the threshold; check both positions")
     frame = RunwayFrame(thr.lat_deg, thr.lon_deg, end.lat_deg, end.lon_deg)
     gradient = runway_gradient(thr.elevation_m, end.elevation_m, length_m)
+    if abs(gradient) > _MAX_GRADIENT:
+        raise SiteFileError(
+            "runway.end.elevation",
+            f"gives a mean runway gradient of {100 * gradient:+.1f} % "
+            f"(threshold {thr.elevation_m:g} m, end {end.elevation_m:g} m); runways slope at most a few "
+            "per cent: check both elevations and the units",
+        )
     return Runway(frame, bearing_deg, length_m, spec.width_m, gradient)
 
 
@@ -372,7 +381,14 @@ def run_study(spec: SiteSpec) -> StudyResult:
 
     rdh = rdh_m(intercept_m, setback, spec.angle_deg, thr_elev)
     over_threshold = path_height_over_threshold_m(intercept_m, setback, offset, spec.angle_deg, thr_elev)
-    gpip_x = gpip_along_m(rdh, spec.angle_deg, runway.gradient)
+    try:
+        gpip_x = gpip_along_m(rdh, spec.angle_deg, runway.gradient)
+    except ValueError:
+        raise SiteFileError(
+            "runway.end.elevation",
+            "the runway falls faster than the path descends; the path "
+            "never meets it: check the elevations and the path angle",
+        ) from None
     gpip_lat, gpip_lon = frame.to_geographic(gpip_x, 0.0)
     gpip = Gpip(gpip_x, thr_elev + runway.gradient * gpip_x, gpip_lat, gpip_lon)
 

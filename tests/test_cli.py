@@ -99,4 +99,13 @@ def test_no_plots_option_skips_only_the_pictures(tmp_path):
     res = _run("run", str(SITE_FILE), "--out", str(tmp_path / "r"), "--no-plots", "-q")
     assert res.exit_code == 0, res.output
     names = sorted(p.name for p in (tmp_path / "r").iterdir())
-    assert names == ["layers", "map.html", "path.csv", "profile.csv", "site.gpkg", "site.kml", "summary.json"]
+    assert names == [
+        "layers",
+        "map.html",
+        "path.csv",
+        "profile.csv",
+        "report.html",
+        "site.gpkg",
+        "site.kml",
+        "summary.json",
+    ]

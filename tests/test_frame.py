@@ -30,15 +30,13 @@ def test_vincenty_published_example():
 
 
 GEOD = Geod(ellps="WGS84")
+# Edges of the world: the antimeridian crossed (179.99 E heading east, 179.99 W heading west), 85 deg N
+# and S, a UTM zone boundary crossed (6 deg E), the southern hemisphere, the equator.
 CASES = [
-    (-35.41, 148.92, 73.0),
-    (0.0, 10.0, 0.0),
-    (46.35, -101.2, 272.4),
-    (60.2, 25.0, 135.0),
-    (-54.8, -68.3, 200.0),
-    (78.2, 15.6, 318.0),
-    (12.0, 179.95, 90.0),
-]
+    (-35.41, 148.92, 73.0), (0.0, 10.0, 0.0), (46.35, -101.2, 272.4), (60.2, 25.0, 135.0),
+    (-54.8, -68.3, 200.0), (78.2, 15.6, 318.0), (12.0, 179.95, 90.0), (-16.5, 179.99, 95.0),
+    (65.0, -179.99, 268.0), (85.0, 30.0, 10.0), (-85.0, -120.0, 190.0), (50.0, 5.995, 90.0),
+]  # fmt: skip
 
 
 @pytest.mark.parametrize("lat, lon, bearing", CASES)

@@ -76,12 +76,16 @@ def test_hostile_site_name_is_escaped_everywhere(tmp_path):
     text = DEMO_SITE.read_text().replace(
         'name = "Harrowfield Regional RWY 27 (fictional)"', f"name = {json.dumps(HOSTILE)}"
     )
+    text = text.replace('notes = "Demo site', 'notes = "<b>notes</b> <img src=x onerror=alert(1)> Demo site')
     site = tmp_path / "site.toml"
     site.write_text(text)
     shutil.copy(DEMO_SITE.with_name("dem.tif"), tmp_path / "dem.tif")
     out = write_study(run_study(load_site(site)), tmp_path / "out", plots=False)
     html = (out / "map.html").read_text(encoding="utf-8")
     assert "<script>alert" not in html and "&lt;script&gt;alert" in html
+    report = (out / "report.html").read_text(encoding="utf-8")
+    assert "<script>alert" not in report and "&lt;script&gt;alert" in report
+    assert "&lt;b&gt;notes&lt;/b&gt;" in report
     kml = (out / "site.kml").read_text(encoding="utf-8")
     root = ET.fromstring(kml)  # well-formed despite the markup in the name
     name = root.find("{http://www.opengis.net/kml/2.2}Document/{http://www.opengis.net/kml/2.2}name")

@@ -17,7 +17,7 @@ import numpy as np
 from geo.study import StudyResult
 from geo.units import with_foot_twins
 
-__all__ = ["study_layers", "feature", "collection", "ring_is_ccw"]
+__all__ = ["study_layers", "feature", "collection", "ring_is_ccw", "cut_antimeridian"]
 
 #: Length of the extended centre line drawn before the threshold: 10 NM. [m]
 EXTENDED_CENTRELINE_M = 10 * 1852.0
@@ -37,8 +37,73 @@ def ring_is_ccw(ring: list[list[float]]) -> bool:
 
 
 def feature(geometry: dict, properties: dict) -> dict:
-    """A GeoJSON Feature with foot twins added to its properties."""
-    return {"type": "Feature", "properties": with_foot_twins(properties), "geometry": geometry}
+    """A GeoJSON Feature with foot twins added to its properties (cut at the antimeridian)."""
+    return {"type": "Feature", "properties": with_foot_twins(properties), "geometry": cut_antimeridian(geometry)}
+
+
+def _split_line(coords: list) -> list[list]:
+    parts, part = [], [coords[0]]
+    for (x1, y1), (x2, y2) in zip(coords, coords[1:]):
+        if abs(x2 - x1) > 180.0:
+            edge = 180.0 if x1 > 0 else -180.0
+            x2u = x2 + 360.0 if x1 > 0 else x2 - 360.0
+            t = (edge - x1) / (x2u - x1)
+            y = round(y1 + t * (y2 - y1), _DECIMALS)
+            part.append([edge, y])
+            parts.append(part)
+            part = [[-edge, y]]
+        part.append([x2, y2])
+    parts.append(part)
+    return parts
+
+
+def _crosses(ring: list) -> bool:
+    return any(abs(b[0] - a[0]) > 180.0 for a, b in zip(ring, ring[1:]))
+
+
+def _cut_polygon(rings: list) -> list:
+    """Parts of a polygon that crosses the antimeridian, each within [-180, 180]."""
+    import shapely
+    import shapely.affinity
+    from shapely.geometry.polygon import orient
+
+    unwrapped = []
+    for ring in rings:
+        xs = np.unwrap(np.radians([p[0] for p in ring]))
+        unwrapped.append(np.column_stack([np.degrees(xs), [p[1] for p in ring]]))
+    poly = shapely.Polygon(unwrapped[0], unwrapped[1:])
+    parts = []
+    for shift in (-360.0, 0.0, 360.0):
+        piece = shapely.intersection(poly, shapely.box(-180.0 - shift, -90.0, 180.0 - shift, 90.0))
+        piece = shapely.affinity.translate(piece, xoff=shift) if shift else piece
+        for geom in getattr(piece, "geoms", [piece]):
+            if geom.geom_type == "Polygon" and not geom.is_empty:
+                geom = orient(geom, 1.0)
+                parts.append(
+                    [[_round_pair(c) for c in geom.exterior.coords]]
+                    + [[_round_pair(c) for c in i.coords] for i in geom.interiors]
+                )
+    return parts
+
+
+def _round_pair(c) -> list[float]:
+    return [round(float(c[0]), _DECIMALS), round(float(c[1]), _DECIMALS)]
+
+
+def cut_antimeridian(geometry: dict) -> dict:
+    """Cut a geometry that crosses the antimeridian in two, as RFC 7946 sec. 3.1.9 asks.
+
+    LineStrings become MultiLineStrings and Polygons MultiPolygons whose parts meet at +/-180 deg;
+    other geometries are returned as they are.
+    """
+    kind, coords = geometry["type"], geometry.get("coordinates")
+    if kind == "LineString" and _crosses(coords):
+        return {"type": "MultiLineString", "coordinates": _split_line(coords)}
+    if kind == "Polygon" and any(_crosses(r) for r in coords):
+        return {"type": "MultiPolygon", "coordinates": _cut_polygon(coords)}
+    if kind == "MultiPolygon" and any(_crosses(r) for p in coords for r in p):
+        return {"type": "MultiPolygon", "coordinates": [q for p in coords for q in _cut_polygon(p)]}
+    return geometry
 
 
 def collection(features: list[dict]) -> dict:

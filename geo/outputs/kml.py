@@ -43,6 +43,12 @@ def _geometry(geom: dict) -> str:
             f"<Polygon><tessellate>1</tessellate><outerBoundaryIs><LinearRing><coordinates>{_coords(c[0])}"
             f"</coordinates></LinearRing></outerBoundaryIs>{inner}</Polygon>"
         )
+    if kind == "MultiLineString":
+        return (
+            "<MultiGeometry>"
+            + "".join(_geometry({"type": "LineString", "coordinates": p}) for p in c)
+            + "</MultiGeometry>"
+        )
     if kind == "MultiPolygon":
         return (
             "<MultiGeometry>"

@@ -276,7 +276,17 @@ def write_map(result: StudyResult, layers: dict[str, dict], path: Path) -> None:
         _candidates(layers["candidates"]).add_to(fmap)
     fmap.fit_bounds([[min(lats), min(lons)], [max(lats), max(lons)]])
     folium.LayerControl(collapsed=False).add_to(fmap)
-    fmap.save(str(path))
+    path.write_text(_stable_ids(fmap.get_root().render()), encoding="utf-8")
+
+
+def _stable_ids(page: str) -> str:
+    """Replace folium's random element ids with numbers in order of appearance (same input, same file)."""
+    seen: dict[str, str] = {}
+
+    def number(match: re.Match) -> str:
+        return seen.setdefault(match.group(0), f"{len(seen):032d}")
+
+    return re.sub(r"(?<=_)[0-9a-f]{32}(?![0-9a-f])", number, page)
 
 
 def _score_colour(score) -> str:

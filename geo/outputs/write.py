@@ -91,6 +91,23 @@ WRITERS: tuple[Writer, ...] = (_write_summary, _write_layers, _write_terrain, _w
 PLOT_WRITERS: tuple[Writer, ...] = (_write_terrain_plots, _write_path_plots)
 
 
+def _clean_stale(parent: Path, name: str) -> None:
+    """Remove temporary folders left by runs that were killed outright (their process is gone)."""
+    for tmp in parent.glob(f".{name}.partial-*"):
+        try:
+            pid = int(tmp.name.rsplit("-", 2)[-2])
+        except (ValueError, IndexError):
+            continue
+        if pid == os.getpid():
+            continue
+        try:
+            os.kill(pid, 0)
+        except ProcessLookupError:
+            shutil.rmtree(tmp, ignore_errors=True)
+        except PermissionError:
+            pass
+
+
 def _check_target(out: Path, overwrite: bool, inputs: list[Path]) -> None:
     if out.exists() and not out.is_dir():
         raise OutputError(f"--out: {out} is a file; name a folder")
@@ -131,7 +148,8 @@ def atomic_folder(
     parent = out.parent
     try:
         parent.mkdir(parents=True, exist_ok=True)
-        tmp = Path(tempfile.mkdtemp(prefix=f".{out.name}.partial-", dir=parent))
+        _clean_stale(parent, out.name)
+        tmp = Path(tempfile.mkdtemp(prefix=f".{out.name}.partial-{os.getpid()}-", dir=parent))
     except OSError as exc:
         raise OutputError(f"--out: cannot create {out} ({exc.strerror or exc})") from None
     try:
@@ -152,8 +170,11 @@ def atomic_folder(
 
 def fill_study(result: StudyResult, folder: Path, plots: bool = True) -> None:
     """Write every output of a study into an existing, empty folder (not atomic by itself)."""
+    from geo.outputs.report import write_report
+
     for writer in WRITERS + (PLOT_WRITERS if plots else ()):
         writer(result, folder)
+    write_report(result, folder / "report.html", plots)
 
 
 def write_study(result: StudyResult, out_dir: str | Path, overwrite: bool = False, plots: bool = True) -> Path:
@@ -213,10 +234,13 @@ def write_sweep(
             plot_sweep(spec, sweep, options, folder / "sweep.png")
         if best is not None:
             (folder / "best").mkdir()
+            from geo.outputs.report import write_report
+
             for writer in WRITERS + (PLOT_WRITERS if plots else ()):
                 if writer is _write_layers:
                     _write_layers(best, folder / "best", {"candidates": candidates})
                 else:
                     writer(best, folder / "best")
+            write_report(best, folder / "best" / "report.html", plots)
 
     return atomic_folder(out_dir, overwrite, fill, inputs)

@@ -1,0 +1,98 @@
+"""A printable study report (``report.html``): the key figures, findings and cautions on one page.
+
+Every text from the site file is HTML-escaped; the plots are linked, not embedded.
+"""
+
+from __future__ import annotations
+
+import html
+from pathlib import Path
+
+from geo.findings import CAUTIONS
+from geo.study import StudyResult
+from geo.units import M_PER_FT
+
+__all__ = ["write_report"]
+
+_STYLE = """body{font:14px/1.4 sans-serif;max-width:60em;margin:2em auto;color:#222}
+table{border-collapse:collapse;margin:.5em 0 1.5em}td,th{border:1px solid #bbb;padding:.25em .6em;text-align:left}
+.pass{color:#2b8a3e}.info{color:#1864ab}.warning{color:#e67700}.fail{color:#c92a2a;font-weight:bold}
+.caution{border:2px solid #e67700;padding:.6em 1em;background:#fff4e6}img{max-width:100%}"""
+
+
+def _len(value_m: float, decimals: int = 2) -> str:
+    return f"{value_m:,.{decimals}f} m ({value_m / M_PER_FT:,.{decimals}f} ft)"
+
+
+def _rows(pairs) -> str:
+    return "".join(f"<tr><th>{html.escape(k)}</th><td>{html.escape(v)}</td></tr>" for k, v in pairs)
+
+
+def write_report(result: StudyResult, path: Path, plots: bool) -> None:
+    """Write ``report.html`` next to the other outputs of the study."""
+    spec, mast, ch = result.spec, result.mast, result.channel
+    loc = f" (localizer {ch.localizer_mhz:.2f} MHz)" if ch.localizer_mhz else ""
+    figures = [
+        ("Glide path", f"{ch.glide_path_mhz:.2f} MHz{loc}, {spec.array}, {spec.angle_deg:g} deg"),
+        ("Runway", f"true bearing {result.runway.true_bearing_deg:.4f} deg, length {_len(result.runway.length_m, 1)}"),
+        ("Mast", f"{mast.side} side, setback {_len(mast.setback_m, 1)}, offset {_len(mast.offset_m, 1)}"),
+        ("Mast position (WGS 84)", f"{mast.lat_deg:.7f}, {mast.lon_deg:.7f}"),
+        ("RDH", _len(result.rdh_m)),
+        ("Actual path over the threshold", _len(result.path_height_over_threshold_m)),
+        ("GPIP", f"{_len(result.gpip.along_m, 1)} past the threshold"),
+    ]
+    if result.prediction is not None:
+        p = result.prediction
+        figures.append(
+            (
+                "Predicted path angle",
+                f"{p.path_angle_deg:.4f} deg; half-sectors "
+                f"{p.half_sector_below_deg:.4f} / {p.half_sector_above_deg:.4f} deg",
+            )
+        )
+    if result.terrain is not None:
+        t = result.terrain
+        figures.append(
+            (
+                "Reflecting plane",
+                f"forward slope {t.forward_slope_deg:+.3f} deg, lateral slope "
+                f"{t.lateral_slope_deg:+.3f} deg, RMS {_len(t.plane.rms_residual_m, 3)}",
+            )
+        )
+    antennas = "".join(
+        f"<tr><td>{html.escape(a.role)}</td><td>{_len(a.height_m, 3)}</td><td>{_len(a.shift_toward_runway_m, 3)}</td>"
+        f"<td>{a.lat_deg:.7f}, {a.lon_deg:.7f}</td></tr>"
+        for a in result.antennas
+    )
+    findings = "".join(
+        f"<li class='{html.escape(f.severity)}'>[{html.escape(f.severity)}] {html.escape(f.message)}</li>"
+        for f in result.findings
+    )
+    zones = "".join(
+        f"<tr><td>{html.escape(z.antenna)}</td><td>{html.escape(z.kind)}</td><td>{_len(z.shape.near_m, 0)}</td>"
+        f"<td>{_len(z.shape.far_m, 0)}</td><td>{_len(z.shape.max_half_width_m, 0)}</td>"
+        f"<td>{z.shape.area_m2:,.0f} m2 ({z.shape.area_m2 / M_PER_FT**2:,.0f} ft2)</td></tr>"
+        for z in result.zones
+    )
+    images = ""
+    if plots:
+        names = ["path.png", "ddm.png"] + (["profile.png", "residuals.png"] if result.profile is not None else [])
+        images = "".join(f"<p><img src='{n}' alt='{n}'></p>" for n in names)
+    page = f"""<!DOCTYPE html>
+<html lang="en"><head><meta charset="utf-8"><title>mastplan study: {html.escape(spec.name)}</title>
+<style>{_STYLE}</style></head><body>
+<h1>Glide path siting study: {html.escape(spec.name)}</h1>
+<p>{html.escape(spec.notes)}</p>
+<div class="caution">{"<br>".join(html.escape(c) for c in CAUTIONS)}</div>
+<h2>Key figures</h2><table>{_rows(figures)}</table>
+<h2>Antennas</h2><table><tr><th>antenna</th><th>height above the reflecting plane</th>
+<th>shift toward the runway</th><th>position (WGS 84)</th></tr>{antennas}</table>
+<h2>Findings</h2><ul>{findings}</ul>
+<h2>Reflection zones</h2><table><tr><th>antenna</th><th>kind</th><th>nearest</th><th>farthest</th>
+<th>largest half-width</th><th>area</th></tr>{zones}</table>
+{images}
+<p>Input file {html.escape(Path(spec.source).name if spec.source else "(in code)")}, SHA-256
+{html.escape(spec.sha256)}. Layers: layers/*.geojson, site.gpkg, site.kml; interactive map: map.html.</p>
+</body></html>
+"""
+    path.write_text(page, encoding="utf-8")
