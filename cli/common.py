@@ -34,6 +34,13 @@ plots_option = click.option(
     show_default=True,
     help="Draw the PNG plots (the slowest output).",
 )
+outputs_option = click.option(
+    "--outputs",
+    default=",".join(("summary", "layers", "gpkg", "kml", "map", "tables", "plots", "report")),
+    show_default=True,
+    metavar="LIST",
+    help="Comma-separated outputs to write: summary, layers, gpkg, kml, map, tables, plots, report.",
+)
 quiet_option = click.option("--quiet", "-q", is_flag=True, help="Print nothing on success.")
 
 

@@ -6,18 +6,21 @@ from pathlib import Path
 
 import click
 
-from cli.common import out_option, overwrite_option, plots_option, quiet_option, reports_errors
+from cli.common import out_option, outputs_option, overwrite_option, plots_option, quiet_option, reports_errors
 
 
-def run_site(site_path: Path, out_dir: str, overwrite: bool, quiet: bool, plots: bool = True) -> None:
+def run_site(
+    site_path: Path, out_dir: str, overwrite: bool, quiet: bool, plots: bool = True, outputs: str | None = None
+) -> None:
     """Load, study, write and report one site (shared by ``run`` and ``demo``)."""
     from geo.outputs.text import summary_text
-    from geo.outputs.write import write_study
+    from geo.outputs.write import OUTPUTS, check_outputs, write_study
     from geo.site import load_site
     from geo.study import run_study
 
+    chosen = check_outputs(outputs.split(",")) if outputs else OUTPUTS
     result = run_study(load_site(site_path))
-    folder = write_study(result, out_dir, overwrite=overwrite, plots=plots)
+    folder = write_study(result, out_dir, overwrite=overwrite, plots=plots, outputs=chosen)
     if not quiet:
         click.echo(summary_text(result))
         click.echo(f"Results written to {folder}")
@@ -28,11 +31,12 @@ def run_site(site_path: Path, out_dir: str, overwrite: bool, quiet: bool, plots:
 @out_option
 @overwrite_option
 @plots_option
+@outputs_option
 @quiet_option
 @reports_errors
-def run(site: Path, out_dir: str, overwrite: bool, plots: bool, quiet: bool) -> None:
+def run(site: Path, out_dir: str, overwrite: bool, plots: bool, outputs: str, quiet: bool) -> None:
     """Study one glide path site from a SITE file (TOML).
 
     Example: mastplan run site.toml --out results/
     """
-    run_site(site, out_dir, overwrite, quiet, plots)
+    run_site(site, out_dir, overwrite, quiet, plots, outputs)

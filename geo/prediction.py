@@ -194,9 +194,20 @@ def far_field_ddm(model: ArrayModel, elevation_rad, sbo_scale: float) -> np.ndar
 
 
 def _root(func, lo: float, hi: float, tol: float = 1e-13) -> float:
-    from scipy.optimize import brentq
-
-    return float(brentq(func, lo, hi, xtol=tol))
+    """A root of ``func`` between ``lo`` and ``hi`` by bisection (ValueError without a sign change)."""
+    f_lo, f_hi = func(lo), func(hi)
+    if not (np.isfinite(f_lo) and np.isfinite(f_hi)) or f_lo * f_hi > 0.0:
+        raise ValueError("no sign change in the bracket")
+    while hi - lo > tol:
+        mid = 0.5 * (lo + hi)
+        f_mid = func(mid)
+        if f_mid == 0.0:
+            return mid
+        if (f_mid > 0.0) == (f_lo > 0.0):
+            lo, f_lo = mid, f_mid
+        else:
+            hi = mid
+    return 0.5 * (lo + hi)
 
 
 @dataclass(frozen=True)

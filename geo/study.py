@@ -288,15 +288,19 @@ def _check_setback(setback_m: float, field_name: str, runway: Runway) -> None:
 def _solve_on_terrain(spec, runway, dem, side, setback, offset, lam, field_name, solve):
     """Terrain analysis at the mast; with ``solve``, move the setback until the RDH settles."""
     thr = spec.threshold.elevation_m
+    previous = None  # (setback, RDH error) of the last try, for a secant step
     for _ in range(30):
         _check_setback(setback, field_name, runway)
         ground = analyse_terrain(dem, runway.frame, side, setback, offset, spec.array, lam, spec.angle_deg)
         if not solve:
             return setback, ground
+        error = rdh_m(ground.rpi_elevation_m, setback, spec.angle_deg, thr) - spec.target_rdh_m
         new = setback_for_rdh_m(spec.target_rdh_m, ground.rpi_elevation_m, spec.angle_deg, thr)
+        if previous is not None and error != previous[1]:
+            new = setback - error * (setback - previous[0]) / (error - previous[1])
         if abs(new - setback) < 1e-3:
             return setback, ground
-        setback = new
+        previous, setback = (setback, error), new
     raise TerrainError("terrain: the setback for the target RDH did not settle; give mast.setback instead")
 
 

@@ -70,9 +70,18 @@ class ZoneShape:
     polygon: object
     near_m: float
     far_m: float
-    max_half_width_m: float
     area_m2: float
     receivers: int
+    half_width_floor_m: float = 0.0
+
+    @property
+    def max_half_width_m(self) -> float:
+        """Half the largest across-course extent (measured on demand; at least ``half_width_floor_m``). [m]"""
+        cached = self.__dict__.get("_half_width")
+        if cached is None:
+            cached = max(_max_half_width(self.polygon), self.half_width_floor_m)
+            object.__setattr__(self, "_half_width", cached)
+        return cached
 
 
 def _height_above_plane(u, w, height_above_horizontal, forward_gradient, lateral_gradient):
@@ -260,9 +269,7 @@ def united_zone(centres: np.ndarray, quadratics: np.ndarray, rows: int = _ROWS, 
     ]
     polygon = parts[0] if len(parts) == 1 else shapely.union_all(parts)
     u0, _, u1, _ = polygon.bounds
-    return ZoneShape(
-        polygon, float(u0), float(u1), _max_half_width(polygon), float(polygon.area), int(centres.shape[0])
-    )
+    return ZoneShape(polygon, float(u0), float(u1), float(polygon.area), int(centres.shape[0]))
 
 
 def antenna_zone(
@@ -315,7 +322,7 @@ class ReflectionZone:
 def shape_of(polygon, receivers: int) -> ZoneShape:
     """Figures of a zone polygon in mast plane coordinates."""
     u0, _, u1, _ = polygon.bounds
-    return ZoneShape(polygon, float(u0), float(u1), _max_half_width(polygon), float(polygon.area), receivers)
+    return ZoneShape(polygon, float(u0), float(u1), float(polygon.area), receivers)
 
 
 def reflection_zones(
@@ -368,6 +375,6 @@ def reflection_zones(
         shapes = [antenna_zone(h, s, rx, wavelength_m, blocks=blocks[kind]) for h, s in zip(heights_m, shifts_m)]
         out += [ReflectionZone(role, kind, shape) for role, shape in zip(roles, shapes)]
         union = shape_of(shapely.union_all([s.polygon for s in shapes]), rx.shape[0])
-        widest = max([union.max_half_width_m] + [s.max_half_width_m for s in shapes])
-        out.append(ReflectionZone("all", kind, replace(union, max_half_width_m=widest)))
+        widest = max(s.max_half_width_m for s in shapes)  # the union is at least as wide as any member
+        out.append(ReflectionZone("all", kind, replace(union, half_width_floor_m=widest)))
     return out

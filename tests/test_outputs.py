@@ -109,11 +109,11 @@ def test_failed_writer_leaves_nothing_behind(tmp_path, written, monkeypatch):
 
     result, _ = written
 
-    def broken(result, folder):
+    def broken(result, folder, *args, **kwargs):
         (folder / "half.txt").write_text("half")
         raise RuntimeError("disk full")
 
-    monkeypatch.setattr(w, "WRITERS", (broken,))
+    monkeypatch.setattr(w, "fill_study", broken)
     with pytest.raises(RuntimeError):
         w.write_study(result, tmp_path / "fresh")
     assert not (tmp_path / "fresh").exists()

@@ -31,64 +31,81 @@ def write_json(path: Path, obj, compact: bool = False) -> None:
     path.write_text(text + "\n", encoding="utf-8")
 
 
-def _write_summary(result: StudyResult, folder: Path) -> None:
-    from geo.outputs.summary import summary_dict
-
-    write_json(folder / "summary.json", summary_dict(result))
+#: The outputs of a study, in the order they are written; ``mastplan run --outputs`` picks among them.
+OUTPUTS = ("summary", "layers", "gpkg", "kml", "map", "tables", "plots", "report")
 
 
-def _write_layers(result: StudyResult, folder: Path, extra: dict | None = None) -> None:
-    """GeoJSON layers, the GeoPackage, KML and the web map: all from the same FeatureCollections."""
-    from geo.outputs.geojson import study_layers
-    from geo.outputs.kml import write_kml
-
-    layers = {**study_layers(result), **(extra or {})}
-    (folder / "layers").mkdir()
-    for name, fc in layers.items():
-        write_json(folder / "layers" / f"{name}.geojson", fc, compact=True)
-    write_kml(result.spec.name, layers, folder / "site.kml")
-    from geo.outputs.gpkg import write_gpkg
-
-    write_gpkg(layers, folder / "site.gpkg")
-    from geo.outputs.webmap import write_map
-
-    write_map(result, layers, folder / "map.html")
+def check_outputs(names) -> tuple[str, ...]:
+    """Validate a selection of outputs (raises OutputError naming the allowed ones)."""
+    names = tuple(dict.fromkeys(n.strip() for n in names if n.strip()))
+    unknown = [n for n in names if n not in OUTPUTS]
+    if unknown or not names:
+        what = ", ".join(unknown) or "nothing"
+        raise OutputError(f"--outputs: {what} is not an output; choose from {', '.join(OUTPUTS)}")
+    return names
 
 
-def _write_terrain(result: StudyResult, folder: Path) -> None:
-    if result.profile is None:
-        return
-    from geo.outputs.profile_csv import write_profile_csv
+def fill_study(
+    result: StudyResult, folder: Path, plots: bool = True, outputs=OUTPUTS, extra_layers: dict | None = None
+) -> None:
+    """Write the chosen outputs of a study into an existing, empty folder (not atomic by itself).
 
-    write_profile_csv(result.profile, folder / "profile.csv")
+    Parameters
+    ----------
+    result : StudyResult
+    folder : Path
+    plots : bool
+        ``False`` drops ``"plots"`` from ``outputs``.
+    outputs : sequence of str
+        Names from :data:`OUTPUTS`.
+    extra_layers : dict, optional
+        More FeatureCollections for the layers, GeoPackage, KML and map (a sweep's candidates).
+    """
+    chosen = set(outputs) - (set() if plots else {"plots"})
+    layers = None
+    if chosen & {"layers", "gpkg", "kml", "map"}:
+        from geo.outputs.geojson import study_layers
 
+        layers = {**study_layers(result), **(extra_layers or {})}
+    if "summary" in chosen:
+        from geo.outputs.summary import summary_dict
 
-def _write_path(result: StudyResult, folder: Path) -> None:
-    from geo.outputs.path_csv import write_path_csv
+        write_json(folder / "summary.json", summary_dict(result))
+    if "layers" in chosen:
+        (folder / "layers").mkdir()
+        for name, fc in layers.items():
+            write_json(folder / "layers" / f"{name}.geojson", fc, compact=True)
+    if "kml" in chosen:
+        from geo.outputs.kml import write_kml
 
-    write_path_csv(result, folder / "path.csv")
+        write_kml(result.spec.name, layers, folder / "site.kml")
+    if "gpkg" in chosen:
+        from geo.outputs.gpkg import write_gpkg
 
+        write_gpkg(layers, folder / "site.gpkg")
+    if "map" in chosen:
+        from geo.outputs.webmap import write_map
 
-def _write_path_plots(result: StudyResult, folder: Path) -> None:
-    from geo.outputs.plots import plot_ddm, plot_path
+        write_map(result, layers, folder / "map.html")
+    if "tables" in chosen:
+        from geo.outputs.path_csv import write_path_csv
+        from geo.outputs.profile_csv import write_profile_csv
 
-    plot_ddm(result, folder / "ddm.png")
-    plot_path(result, folder / "path.png")
+        if result.profile is not None:
+            write_profile_csv(result.profile, folder / "profile.csv")
+        write_path_csv(result, folder / "path.csv")
+    if "plots" in chosen:
+        from geo.outputs.plots import plot_ddm, plot_path, plot_profile, plot_residuals
 
+        if result.profile is not None:
+            plot_profile(result, folder / "profile.png")
+            plot_residuals(result, folder / "residuals.png")
+        plot_ddm(result, folder / "ddm.png")
+        plot_path(result, folder / "path.png")
+    if "report" in chosen:
+        from geo.outputs.report import write_report
 
-def _write_terrain_plots(result: StudyResult, folder: Path) -> None:
-    if result.profile is None:
-        return
-    from geo.outputs.plots import plot_profile, plot_residuals
-
-    plot_profile(result, folder / "profile.png")
-    plot_residuals(result, folder / "residuals.png")
-
-
-#: The writers of a study, in order.
-WRITERS: tuple[Writer, ...] = (_write_summary, _write_layers, _write_terrain, _write_path)
-#: Writers of pictures (matplotlib), which a caller may skip.
-PLOT_WRITERS: tuple[Writer, ...] = (_write_terrain_plots, _write_path_plots)
+        write_report(result, folder / "report.html", "plots" in chosen)
 
 
 def _clean_stale(parent: Path, name: str) -> None:
@@ -168,16 +185,9 @@ def atomic_folder(
     return out
 
 
-def fill_study(result: StudyResult, folder: Path, plots: bool = True) -> None:
-    """Write every output of a study into an existing, empty folder (not atomic by itself)."""
-    from geo.outputs.report import write_report
-
-    for writer in WRITERS + (PLOT_WRITERS if plots else ()):
-        writer(result, folder)
-    write_report(result, folder / "report.html", plots)
-
-
-def write_study(result: StudyResult, out_dir: str | Path, overwrite: bool = False, plots: bool = True) -> Path:
+def write_study(
+    result: StudyResult, out_dir: str | Path, overwrite: bool = False, plots: bool = True, outputs=OUTPUTS
+) -> Path:
     """Write every output of a study into ``out_dir``, atomically.
 
     Parameters
@@ -202,7 +212,7 @@ def write_study(result: StudyResult, out_dir: str | Path, overwrite: bool = Fals
     """
     inputs = [Path(result.spec.source)] if result.spec.source else []
 
-    return atomic_folder(out_dir, overwrite, lambda folder: fill_study(result, folder, plots), inputs)
+    return atomic_folder(out_dir, overwrite, lambda folder: fill_study(result, folder, plots, outputs), inputs)
 
 
 def write_sweep(
@@ -234,13 +244,6 @@ def write_sweep(
             plot_sweep(spec, sweep, options, folder / "sweep.png")
         if best is not None:
             (folder / "best").mkdir()
-            from geo.outputs.report import write_report
-
-            for writer in WRITERS + (PLOT_WRITERS if plots else ()):
-                if writer is _write_layers:
-                    _write_layers(best, folder / "best", {"candidates": candidates})
-                else:
-                    writer(best, folder / "best")
-            write_report(best, folder / "best" / "report.html", plots)
+            fill_study(best, folder / "best", plots, extra_layers={"candidates": candidates})
 
     return atomic_folder(out_dir, overwrite, fill, inputs)
