@@ -19,7 +19,7 @@ import numpy as np
 
 sys.path.insert(0, str(Path(__file__).resolve().parent))
 
-from bench_terrain import END, THRESHOLD, make_dem  # noqa: E402
+from bench_terrain import make_dem, write_site  # noqa: E402
 
 from geo.site import MastSpec, SiteSpec, load_site  # noqa: E402
 from geo.study import run_study  # noqa: E402
@@ -30,25 +30,7 @@ def main() -> None:
     with tempfile.TemporaryDirectory() as tmp:
         dem = Path(tmp) / "dem_1m.tif"
         make_dem(dem)
-        site = Path(tmp) / "site.toml"
-        site.write_text(f"""units = "m"
-[site]
-name = "sweep benchmark"
-[runway]
-threshold = {{ lat = {THRESHOLD[0]}, lon = {THRESHOLD[1]}, elevation = 612.0 }}
-end = {{ lat = {END[0]}, lon = {END[1]}, elevation = 606.4 }}
-width = 45
-[glide_path]
-angle_deg = 3.0
-localizer_mhz = 110.30
-array = "null-reference"
-[mast]
-side = "right"
-offset = 120
-setback = 300
-[terrain]
-dem = "{dem}"
-""")
+        site = write_site(Path(tmp), dem, setback_m=300.0)
         spec: SiteSpec = load_site(site)
         options = SweepOptions(tuple(np.arange(230.0, 381.0, 2.0)), tuple(np.arange(80.0, 201.0, 20.0)))
         run_sweep(spec, SweepOptions((300.0,), (120.0,)))  # imports and caches

@@ -87,6 +87,33 @@ def make_dem(path: Path) -> None:
             dst.write(z.astype(np.float32), 1, window=Window(0, r0, N, 1000))
 
 
+def write_site(folder: Path, dem_path: Path, setback_m: float) -> Path:
+    """The benchmark's site file beside the 1 m DEM."""
+    site = folder / "site.toml"
+    site.write_text(
+        textwrap.dedent(f"""
+        units = "m"
+        [site]
+        name = "benchmark"
+        [runway]
+        threshold = {{ lat = {THRESHOLD[0]}, lon = {THRESHOLD[1]}, elevation = 612.0 }}
+        end = {{ lat = {END[0]}, lon = {END[1]}, elevation = 606.4 }}
+        width = 45
+        [glide_path]
+        angle_deg = 3.0
+        localizer_mhz = 110.30
+        array = "null-reference"
+        [mast]
+        side = "right"
+        offset = 120
+        setback = {setback_m}
+        [terrain]
+        dem = "{dem_path}"
+    """)
+    )
+    return site
+
+
 def main() -> None:
     import rasterio
 
@@ -100,28 +127,7 @@ def main() -> None:
             f"made a {N:,} x {N:,} cell 1 m DEM ({dem_path.stat().st_size / 1e6:.0f} MB) "
             f"in {time.perf_counter() - start:.1f} s"
         )
-        site = Path(tmp) / "site.toml"
-        site.write_text(
-            textwrap.dedent(f"""
-            units = "m"
-            [site]
-            name = "benchmark"
-            [runway]
-            threshold = {{ lat = {THRESHOLD[0]}, lon = {THRESHOLD[1]}, elevation = 612.0 }}
-            end = {{ lat = {END[0]}, lon = {END[1]}, elevation = 606.4 }}
-            width = 45
-            [glide_path]
-            angle_deg = 3.0
-            localizer_mhz = 110.30
-            array = "null-reference"
-            [mast]
-            side = "right"
-            offset = 120
-            setback = 330
-            [terrain]
-            dem = "{dem_path}"
-        """)
-        )
+        site = write_site(Path(tmp), dem_path, setback_m=330.0)
         runs = []
         for _ in range(3):
             out = subprocess.run(

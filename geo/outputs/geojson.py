@@ -164,6 +164,8 @@ def study_layers(result: StudyResult) -> dict[str, dict]:
         FeatureCollections: ``runway``, ``centreline``, ``threshold``,
         ``extended_centreline``, ``mast``, ``antennas``, ``gpip``.
     """
+    from geo.outputs.summary import zone_figures
+
     spec, runway, mast = result.spec, result.runway, result.mast
     frame = runway.frame
     half = runway.width_m / 2.0
@@ -254,20 +256,7 @@ def study_layers(result: StudyResult) -> dict[str, dict]:
         ),
     }
     layers["reflection_zones"] = collection(
-        [
-            feature(
-                _mast_plane_polygon(result, z.shape.polygon),
-                {
-                    "antenna": z.antenna,
-                    "kind": z.kind,
-                    "near_m": z.shape.near_m,
-                    "far_m": z.shape.far_m,
-                    "max_half_width_m": z.shape.max_half_width_m,
-                    "area_m2": z.shape.area_m2,
-                },
-            )
-            for z in result.zones
-        ]
+        [feature(_mast_plane_polygon(result, z.shape.polygon), zone_figures(z)) for z in result.zones]
     )
     if spec.protected_areas:
         from geo.protected import area_polygon

@@ -17,7 +17,19 @@ from geo.findings import CAUTIONS
 from geo.study import StudyResult
 from geo.units import with_foot_twins
 
-__all__ = ["summary_dict"]
+__all__ = ["summary_dict", "zone_figures"]
+
+
+def zone_figures(zone) -> dict:
+    """The figures of one reflection zone, as the summary and the zone layer give them (metres)."""
+    return {
+        "antenna": zone.antenna,
+        "kind": zone.kind,
+        "near_m": zone.shape.near_m,
+        "far_m": zone.shape.far_m,
+        "max_half_width_m": zone.shape.max_half_width_m,
+        "area_m2": zone.shape.area_m2,
+    }
 
 
 def summary_dict(result: StudyResult) -> dict:
@@ -95,18 +107,7 @@ def summary_dict(result: StudyResult) -> dict:
             "lon": result.gpip.lon_deg,
         },
         "findings": [{"code": f.code, "severity": f.severity, "message": f.message} for f in result.findings],
-        "reflection_zones": [
-            {
-                "antenna": z.antenna,
-                "kind": z.kind,
-                "near_m": z.shape.near_m,
-                "far_m": z.shape.far_m,
-                "max_half_width_m": z.shape.max_half_width_m,
-                "area_m2": z.shape.area_m2,
-                "receivers": z.shape.receivers,
-            }
-            for z in result.zones
-        ],
+        "reflection_zones": [{**zone_figures(z), "receivers": z.shape.receivers} for z in result.zones],
         "protected_areas": [{"name": a.name, "kind": a.kind} for a in result.spec.protected_areas],
         "zone_outside_protected_areas": [
             {
