@@ -11,6 +11,9 @@ elevation e" stands ``tan(e)`` times its horizontal distance from the mast above
 through the mast's foot (the path is a cone about the mast); its height above a tilted plane
 subtracts the plane's rise under it.
 
+The coverage zone's azimuth spread is handled by :func:`swept_zone`: on a level plane the zone
+of a receiver turned in azimuth is the same zone turned about the antenna's foot.
+
 References
 ----------
 .. [1] ICAO Annex 10, Volume I, 3.1.5.6 (displacement sensitivity: the half-sector, 0.12 theta
@@ -37,6 +40,9 @@ __all__ = [
     "ReflectionZone",
     "reflection_zones",
     "shape_of",
+    "coverage_grid",
+    "coverage_zone",
+    "swept_zone",
 ]
 
 #: Receivers are placed out to 10 NM (Annex 10 Vol I 3.1.5.3.1). [m]
@@ -134,29 +140,95 @@ def coverage_receivers(
     forward_gradient: float = 0.0,
     lateral_gradient: float = 0.0,
 ) -> np.ndarray:
-    """Receivers filling the coverage volume: +/-8 deg azimuth, 0.45-1.75 theta, to 10 NM.
+    """Receivers of the coverage volume on the course: 0.45-1.75 theta, from the threshold to 10 NM.
 
-    The azimuth is measured at the mast from the course direction; ranges run geometrically
-    from the distance of the threshold to 10 NM. ``count`` is split as about
-    ``count / 6`` ranges by a 3 x 2 grid of azimuth and elevation extremes and middles
-    (the union is governed by the edges of the volume).
+    The volume also spans +/-8 deg of azimuth; :func:`swept_zone` sweeps these receivers' zones
+    through it in closed form, so they are placed at azimuth 0 only. ``count`` receivers fill a
+    grid of elevations and ranges (1 : 250), ordered so that each elevation is one sweep in range.
 
     Returns
     -------
     numpy.ndarray, shape (n, 3)
         (u, w, height above the plane). [m]
     """
-    azimuths = np.radians(np.array([-COVERAGE_AZIMUTH_DEG, 0.0, COVERAGE_AZIMUTH_DEG]))
+    n_el, n_range = coverage_grid(count)
     low, high = COVERAGE_FRACTIONS
-    elevations = np.radians(angle_deg * np.array([low, high]))
-    per = max(2, int(math.ceil(count / (azimuths.size * elevations.size))))
+    elevations = np.radians(angle_deg * np.linspace(low, high, n_el))
     start = math.hypot(setback_m, offset_m)
-    ranges = np.geomspace(start, RANGE_M + setback_m, per)
-    az, el, rng = np.meshgrid(azimuths, elevations, ranges, indexing="ij")
-    u = (rng * np.cos(az)).ravel()
-    w = (rng * np.sin(az)).ravel()
+    ranges = np.geomspace(start, RANGE_M + setback_m, n_range)
+    el, rng = np.meshgrid(elevations, ranges, indexing="ij")
+    u = rng.ravel()
+    w = np.zeros(u.size)
     z = _height_above_plane(u, w, (rng * np.tan(el)).ravel(), forward_gradient, lateral_gradient)
     return np.column_stack([u, w, z])
+
+
+def coverage_grid(count: int) -> tuple[int, int]:
+    """Elevations and ranges of about ``count`` coverage receivers."""
+    n_el = max(2, int(round(math.sqrt(max(count, 8) / 250.0) * 8)))
+    return n_el, max(2, int(math.ceil(count / n_el)))
+
+
+def swept_zone(
+    polygon, pivot_uw, half_angle_rad: float, receivers: int, bins: int = 1000, spacing_m: float = 0.25
+) -> ZoneShape:
+    """A zone turned through +/- ``half_angle_rad`` about a pivot: the zone of receivers spread in azimuth.
+
+    On a level plane the zone of a receiver at azimuth ``phi`` is the azimuth-0 zone turned by ``phi``
+    about the foot of the antenna, so the union over the azimuths is the azimuth-0 union swept through
+    the angle. Every circle about the pivot meets the zone of receivers ahead in one arc; sweeping
+    widens each arc by the half-angle on both sides. The arcs' ends are read off the zone's boundary
+    (densified to ``spacing_m``) in ``bins`` rings of distance.
+
+    Parameters
+    ----------
+    polygon : shapely.Polygon
+        Union of the zones of receivers at azimuth 0 (u, w). [m]
+    pivot_uw : sequence of float
+        Foot of the antenna (u, w). [m]
+    half_angle_rad : float
+        Azimuth half-width of the receivers. [rad]
+    receivers : int
+        Receivers represented (recorded in the result).
+
+    Returns
+    -------
+    ZoneShape
+    """
+    import shapely
+
+    rings = [polygon] if polygon.geom_type == "Polygon" else list(polygon.geoms)
+    points = np.concatenate([np.asarray(shapely.segmentize(p.exterior, spacing_m).coords) for p in rings])
+    rel = points - np.asarray(pivot_uw, dtype=float)
+    r = np.hypot(rel[:, 0], rel[:, 1])
+    beta = np.arctan2(rel[:, 1], rel[:, 0])
+    edges = np.linspace(r.min(), r.max(), bins + 1)
+    index = np.clip(np.searchsorted(edges, r, side="right") - 1, 0, bins - 1)
+    lo = np.full(bins, np.inf)
+    hi = np.full(bins, -np.inf)
+    np.minimum.at(lo, index, beta)
+    np.maximum.at(hi, index, beta)
+    keep = np.isfinite(lo)
+    radius = np.clip(0.5 * (edges[:-1] + edges[1:]), r.min(), r.max())[keep]
+    radius[0], radius[-1] = r.min(), r.max()
+    lo, hi = lo[keep] - half_angle_rad, hi[keep] + half_angle_rad
+    # Out along the low side, round the far arc, back along the high side, round the near arc.
+    far = np.linspace(lo[-1], hi[-1], 65)[1:-1]
+    near = np.linspace(hi[0], lo[0], 65)[1:-1]
+    polar = np.r_[
+        np.column_stack([radius, lo]),
+        np.column_stack([np.full(far.size, radius[-1]), far]),
+        np.column_stack([radius, hi])[::-1],
+        np.column_stack([np.full(near.size, radius[0]), near]),
+    ]
+    ring = np.column_stack([polar[:, 0] * np.cos(polar[:, 1]), polar[:, 0] * np.sin(polar[:, 1])])
+    ring += np.asarray(pivot_uw, dtype=float)
+    swept = shapely.Polygon(ring)
+    if not swept.is_valid:
+        swept = shapely.make_valid(swept)
+    swept = shapely.union(swept, polygon)  # the arcs' ends are samples: never lose the unswept zone
+    u0, _, u1, _ = swept.bounds
+    return ZoneShape(swept, float(u0), float(u1), float(swept.area), receivers)
 
 
 def _row_intervals(centres, quadratics, rows):
@@ -301,6 +373,16 @@ def antenna_zone(
     return united_zone(centres, quadratics, rows, blocks)
 
 
+def coverage_zone(height_m: float, shift_m: float, receivers_uwz: np.ndarray, wavelength_m: float) -> ZoneShape:
+    """The coverage zone of one antenna: its zones for receivers on the course swept through +/-8 deg.
+
+    Parameters are those of :func:`antenna_zone`, with receivers from :func:`coverage_receivers`.
+    """
+    n_el, _ = coverage_grid(receivers_uwz.shape[0])
+    ahead = antenna_zone(height_m, shift_m, receivers_uwz, wavelength_m, blocks=n_el)
+    return swept_zone(ahead.polygon, (0.0, shift_m), math.radians(COVERAGE_AZIMUTH_DEG), receivers_uwz.shape[0])
+
+
 @dataclass(frozen=True)
 class ReflectionZone:
     """One antenna's (or all antennas') zone of one kind.
@@ -368,11 +450,14 @@ def reflection_zones(
         "path": path_receivers(setback_m, offset_m, angle_deg, per_elevation, forward_gradient, lateral_gradient),
         "coverage": coverage_receivers(setback_m, offset_m, angle_deg, receivers, forward_gradient, lateral_gradient),
     }
-    # Receivers come in sweeps along the range: 3 elevations (path), 3 azimuths x 2 elevations (coverage).
-    blocks = {"path": len(PATH_FRACTIONS), "coverage": 6}
     out = []
     for kind, rx in families.items():
-        shapes = [antenna_zone(h, s, rx, wavelength_m, blocks=blocks[kind]) for h, s in zip(heights_m, shifts_m)]
+        if kind == "path":  # one sweep in range per elevation
+            shapes = [
+                antenna_zone(h, s, rx, wavelength_m, blocks=len(PATH_FRACTIONS)) for h, s in zip(heights_m, shifts_m)
+            ]
+        else:
+            shapes = [coverage_zone(h, s, rx, wavelength_m) for h, s in zip(heights_m, shifts_m)]
         out += [ReflectionZone(role, kind, shape) for role, shape in zip(roles, shapes)]
         union = shape_of(shapely.union_all([s.polygon for s in shapes]), rx.shape[0])
         widest = max(s.max_half_width_m for s in shapes)  # the union is at least as wide as any member

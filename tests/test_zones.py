@@ -10,7 +10,16 @@ from geo.arrays import antenna_heights_m
 from geo.channels import wavelength_m
 from geo.fresnel import ellipse_axes, exact_ellipses, far_field_ellipse
 from geo.units import M_PER_FT
-from geo.zones import antenna_zone, coverage_receivers, path_receivers, reflection_zones, united_zone
+from geo.zones import (
+    antenna_zone,
+    coverage_grid,
+    coverage_receivers,
+    coverage_zone,
+    path_receivers,
+    reflection_zones,
+    swept_zone,
+    united_zone,
+)
 
 
 @pytest.mark.parametrize("h, psi_deg", [(4.3, 3.0), (8.6, 3.0), (2.1, 2.5), (12.9, 3.5)])
@@ -78,14 +87,38 @@ def test_union_area_against_a_brute_force_grid():
 @pytest.mark.parametrize("kind", ["path", "coverage"])
 def test_doubling_the_sampling_changes_the_area_by_less_than_half_a_percent(kind):
     lam = wavelength_m(332.0)
-    make = path_receivers if kind == "path" else coverage_receivers
-    n = 667 if kind == "path" else 2000
-    base = antenna_zone(4.3, 0.0, make(300.0, 120.0, 3.0, n), lam)
-    more_receivers = antenna_zone(4.3, 0.0, make(300.0, 120.0, 3.0, 2 * n), lam)
-    more_rows = antenna_zone(4.3, 0.0, make(300.0, 120.0, 3.0, n), lam, rows=512)
+    if kind == "path":
+        base = antenna_zone(4.3, 0.0, path_receivers(300.0, 120.0, 3.0, 667), lam, blocks=3)
+        more_receivers = antenna_zone(4.3, 0.0, path_receivers(300.0, 120.0, 3.0, 1334), lam, blocks=3)
+        more_rows = antenna_zone(4.3, 0.0, path_receivers(300.0, 120.0, 3.0, 667), lam, rows=320, blocks=3)
+    else:
+        base = coverage_zone(4.3, 0.0, coverage_receivers(300.0, 120.0, 3.0, 2000), lam)
+        more_receivers = coverage_zone(4.3, 0.0, coverage_receivers(300.0, 120.0, 3.0, 4000), lam)
+        ahead = antenna_zone(
+            4.3, 0.0, coverage_receivers(300.0, 120.0, 3.0, 2000), lam, rows=320, blocks=coverage_grid(2000)[0]
+        )
+        more_rows = swept_zone(ahead.polygon, (0.0, 0.0), math.radians(8.0), 2000, bins=2000, spacing_m=0.125)
     assert more_receivers.area_m2 == pytest.approx(base.area_m2, rel=0.005)
     assert more_rows.area_m2 == pytest.approx(base.area_m2, rel=0.005)
     assert base.receivers >= 2000
+
+
+def test_coverage_sweep_in_azimuth_against_receivers_spread_in_azimuth():
+    # Independent method: place the receivers explicitly at 129 azimuths across +/-8 deg (Annex 10 Vol I
+    # 3.1.5.3.1) and unite all their exact zones; the closed-form sweep of the azimuth-0 zones must agree
+    # (the explicit set scallops between azimuths, a little below the sweep).
+    lam = wavelength_m(332.0)
+    rx = coverage_receivers(300.0, 120.0, 3.0, 120)
+    swept = coverage_zone(4.3, 0.0, rx, lam)
+    spread = []
+    for a in np.radians(np.linspace(-8.0, 8.0, 129)):
+        turned = rx.copy()
+        turned[:, 0], turned[:, 1] = rx[:, 0] * math.cos(a), rx[:, 0] * math.sin(a)
+        spread.append(turned)
+    centres, q = exact_ellipses([0.0, 0.0, 4.3], np.concatenate(spread), lam)
+    explicit = united_zone(centres, q, rows=800, blocks=129 * coverage_grid(120)[0])
+    assert explicit.area_m2 == pytest.approx(swept.area_m2, rel=0.005)
+    assert explicit.area_m2 <= swept.area_m2 * 1.0005
 
 
 def test_null_reference_path_zone_reaches_the_rule_of_thumb():
