@@ -27,7 +27,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-__all__ = ["GroundEllipse", "far_field_ellipse", "inside_ellipses", "exact_ellipses", "ellipse_axes"]
+__all__ = ["GroundEllipse", "far_field_ellipse", "exact_ellipses", "ellipse_axes"]
 
 
 @dataclass(frozen=True)
@@ -86,34 +86,6 @@ def far_field_ellipse(height_m: float, wavelength_m: float, grazing_rad: float) 
     a = height_m * s + wavelength_m / 2.0
     q = math.sqrt(wavelength_m * height_m * s + (wavelength_m / 2.0) ** 2)
     return GroundEllipse(a * math.cos(grazing_rad) / (s * s), q / (s * s), q / s)
-
-
-def inside_ellipses(u_m, w_m, ellipse: GroundEllipse, azimuths_rad) -> np.ndarray:
-    """Whether ground points lie in the ellipse turned to any of several azimuths.
-
-    Parameters
-    ----------
-    u_m, w_m : array_like
-        Points: ``u`` from the foot of the mast along the reference direction,
-        ``w`` across it. [m]
-    ellipse : GroundEllipse
-    azimuths_rad : array_like
-        Directions of the receivers from the reference direction, toward +w. [rad]
-
-    Returns
-    -------
-    numpy.ndarray of bool
-    """
-    u = np.asarray(u_m, dtype=float)
-    w = np.asarray(w_m, dtype=float)
-    inside = np.zeros(np.broadcast(u, w).shape, dtype=bool)
-    a2, b2 = ellipse.semi_along_m**2, ellipse.semi_across_m**2
-    for az in np.asarray(azimuths_rad, dtype=float).ravel():
-        c, s = math.cos(az), math.sin(az)
-        x = u * c + w * s - ellipse.centre_m
-        y = w * c - u * s
-        inside |= x * x / a2 + y * y / b2 <= 1.0
-    return inside
 
 
 def exact_ellipses(antenna_uwh_m, receivers_uwz_m, wavelength_m: float) -> tuple[np.ndarray, np.ndarray]:

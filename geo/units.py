@@ -1,7 +1,7 @@
 """Length units and the metre/foot twin rule.
 
 Inside the library every length is in metres. A site file states its length
-unit once; :func:`to_metres` converts on the way in. On the way out every
+unit once; :mod:`geo.site` converts by :data:`LENGTH_UNITS` on the way in. On the way out every
 key that ends in ``_m`` (``_m2``) gets a twin in feet ending in ``_ft``
 (``_ft2``) and every ``_m3`` a twin in cubic yards (``_yd3``, as earthworks are priced), made in
 one place: :func:`with_foot_twins`.
@@ -20,8 +20,6 @@ __all__ = [
     "M_PER_FT",
     "M_PER_YD",
     "LENGTH_UNITS",
-    "to_metres",
-    "metres_to_feet",
     "with_foot_twins",
 ]
 
@@ -39,29 +37,6 @@ _TWINS = (
     ("_m2", "_ft2", 1.0 / M_PER_FT**2),
     ("_m3", "_yd3", 1.0 / M_PER_YD**3),
 )
-
-
-def to_metres(value: float, unit: str) -> float:
-    """Convert a length from a declared unit to metres.
-
-    Parameters
-    ----------
-    value : float
-        Length in ``unit``.
-    unit : {"m", "ft"}
-        Unit of ``value``.
-
-    Returns
-    -------
-    float
-        Length. [m]
-    """
-    return value * LENGTH_UNITS[unit]
-
-
-def metres_to_feet(value_m: float) -> float:
-    """Convert metres to international feet, [ft]."""
-    return value_m / M_PER_FT
 
 
 def _twin(key: str, value: Any):
