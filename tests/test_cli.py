@@ -109,3 +109,44 @@ def test_no_plots_option_skips_only_the_pictures(tmp_path):
         "site.kml",
         "summary.json",
     ]
+
+
+def test_sweep_command_writes_the_table_candidates_and_the_best_study(tmp_path):
+    from demo_airfield import SITE_FILE
+
+    out = tmp_path / "sweep"
+    res = _run(
+        "sweep",
+        str(SITE_FILE),
+        "--out",
+        str(out),
+        "--setback",
+        "280",
+        "340",
+        "30",
+        "--offset",
+        "100",
+        "150",
+        "50",
+        "--no-plots",
+    )
+    assert res.exit_code == 0, res.output
+    rows = list(__import__("csv").DictReader((out / "sweep.csv").open()))
+    assert len(rows) == 3 * 2 * 2 and {"setback_m", "setback_ft", "cut_m3", "cut_yd3", "feasible", "score"} <= set(
+        rows[0]
+    )
+    summary = json.loads((out / "summary.json").read_text())
+    assert summary["candidates"] == 12
+    if summary["best"] is not None:
+        best = json.loads((out / "best" / "summary.json").read_text())
+        assert best["mast"]["setback_m"] == pytest.approx(summary["best"]["setback_m"], abs=1e-3)
+        assert "candidates" in (out / "best" / "map.html").read_text()
+    fc = json.loads((out / "layers" / "candidates.geojson").read_text())
+    assert len(fc["features"]) == 12
+
+
+def test_sweep_command_refuses_a_bad_range(tmp_path):
+    from demo_airfield import SITE_FILE
+
+    res = _run("sweep", str(SITE_FILE), "--out", str(tmp_path / "s"), "--setback", "300", "200", "10")
+    assert res.exit_code == 2 and "--setback" in res.output and len(res.output.strip().splitlines()) == 1
