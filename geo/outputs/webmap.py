@@ -274,7 +274,11 @@ def write_map(result: StudyResult, layers: dict[str, dict], path: Path) -> None:
     mast_group.add_to(fmap)
     if "candidates" in layers:
         _candidates(layers["candidates"]).add_to(fmap)
-    fmap.fit_bounds([[min(lats), min(lons)], [max(lats), max(lons)]])
+    # Open on what is shown at first: the path zones, the mast and the threshold.
+    shown = [f for f in zones["features"] if f["properties"]["kind"] == "path"]
+    view_lons = [c[0] for f in shown for ring in _rings(f["geometry"]) for c in ring] + [thr.lon_deg]
+    view_lats = [c[1] for f in shown for ring in _rings(f["geometry"]) for c in ring] + [thr.lat_deg]
+    fmap.fit_bounds([[min(view_lats), min(view_lons)], [max(view_lats), max(view_lons)]], padding=(30, 30))
     folium.LayerControl(collapsed=False).add_to(fmap)
     path.write_text(_stable_ids(fmap.get_root().render()), encoding="utf-8")
 
