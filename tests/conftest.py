@@ -6,8 +6,7 @@ import textwrap
 from pathlib import Path
 
 import pytest
-
-DEMO_SITE = Path(__file__).resolve().parents[1] / "demo_airfield" / "site.toml"
+from tests_support import BASE_SITE
 
 
 def pytest_report_header(config):
@@ -19,26 +18,6 @@ def pytest_report_header(config):
         f"pyproj {pyproj.__version__} (PROJ {pyproj.proj_version_str}), "
         f"shapely {shapely.__version__} (GEOS {shapely.geos_version_string}), numpy {numpy.__version__}"
     )
-
-
-BASE_SITE = """
-units = "m"
-[site]
-name = "Test strip"
-[runway]
-threshold = { lat = -35.41, lon = 148.92, elevation = 512.0 }
-end = { lat = -35.42, lon = 148.95, elevation = 515.0 }
-width = 45
-[glide_path]
-angle_deg = 3.0
-localizer_mhz = 109.30
-array = "null-reference"
-[mast]
-side = "right"
-offset = 130
-setback = 290
-base_elevation = 511.2
-"""
 
 
 @pytest.fixture

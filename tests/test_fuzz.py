@@ -16,32 +16,17 @@ import toml_writer
 from click.testing import CliRunner
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
+from tests_support import BASE_SITE
 
 from cli.main import main
 from geo.errors import SiteFileError, TerrainError
 from geo.site import load_site, parse_site
 from geo.study import run_study
 
-BASE_TEXT = """
-units = "m"
-[site]
-name = "Fuzz strip"
-notes = "base"
-[runway]
-threshold = { lat = -35.41, lon = 148.92, elevation = 512.0 }
-end = { lat = -35.42, lon = 148.95, elevation = 515.0 }
-width = 45
-code = 4
-[glide_path]
-angle_deg = 3.0
-localizer_mhz = 109.30
-array = "null-reference"
-[mast]
-side = "right"
-offset = 130
-setback = 290
-base_elevation = 511.2
-"""
+# The shared test site with notes and a runway code, so that those fields are fuzzed too.
+BASE_TEXT = BASE_SITE.replace('name = "Test strip"', 'name = "Test strip"\nnotes = "base"').replace(
+    "width = 45", "width = 45\ncode = 4"
+)
 BASE = tomllib.loads(BASE_TEXT)
 CI = bool(os.environ.get("CI"))
 LIBRARY_EXAMPLES = 2000 if CI else 150

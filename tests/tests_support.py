@@ -1,5 +1,25 @@
-"""Paths shared by tests."""
+"""Paths and texts shared by tests (invented test values)."""
 
 from pathlib import Path
 
 DEMO_SITE = Path(__file__).resolve().parents[1] / "demo_airfield" / "site.toml"
+
+#: A valid site file on flat ground (invented test values).
+BASE_SITE = """
+units = "m"
+[site]
+name = "Test strip"
+[runway]
+threshold = { lat = -35.41, lon = 148.92, elevation = 512.0 }
+end = { lat = -35.42, lon = 148.95, elevation = 515.0 }
+width = 45
+[glide_path]
+angle_deg = 3.0
+localizer_mhz = 109.30
+array = "null-reference"
+[mast]
+side = "right"
+offset = 130
+setback = 290
+base_elevation = 511.2
+"""
