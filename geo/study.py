@@ -344,7 +344,7 @@ def run_study(spec: SiteSpec) -> StudyResult:
         from geo.dem import Dem
 
         t = spec.terrain
-        with Dem.open(t.dem_path, t.vertical_offset_m, t.vertical_unit) as dem:
+        with Dem.open(t) as dem:
             if solve:
                 setback = setback_for_rdh_m(spec.target_rdh_m, thr_elev, spec.angle_deg, thr_elev)
             setback, terrain = _solve_on_terrain(spec, runway, dem, side, setback, offset, lam, field_name, solve)
