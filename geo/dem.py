@@ -179,7 +179,9 @@ class Dem:
             w, s, e, n = tile.extent()
             crs = CRS.from_wkt(tile.crs_wkt)
             name = f"EPSG:{crs.to_epsg()}" if crs.to_epsg() else crs.name
-            parts.append(f"{tile.path.name} x {w:.6g}..{e:.6g}, y {s:.6g}..{n:.6g} ({name})")
+            digits = 6 if crs.is_geographic else 1
+            x_range = f"x {w:.{digits}f} to {e:.{digits}f}"
+            parts.append(f"{tile.path.name} {x_range}, y {s:.{digits}f} to {n:.{digits}f} ({name})")
         return "; ".join(parts)
 
     def cell_size_m(self, frame) -> float:
