@@ -48,13 +48,6 @@ def check_dem_covers_site(dem, frame, survey_threshold_m: float, mast_points) ->
         When the threshold or the mast is off the DEM (naming its extent and CRS), or when the DEM
         and the survey disagree by more than 100 m at the threshold.
     """
-    z = float(dem.sample_frame(frame, np.array([0.0]), np.array([0.0]))[0])
-    if not math.isfinite(z):
-        lat, lon = frame.to_geographic(0.0, 0.0)
-        raise TerrainError(
-            f"terrain.dem: the threshold at lat {lat:.6f}, lon {lon:.6f} is off the DEM or on nodata; "
-            f"the DEM covers {dem.extent_text()}; give a DEM that covers the runway"
-        )
     for along, cross in mast_points:
         if not math.isfinite(float(dem.sample_frame(frame, np.array([along]), np.array([cross]))[0])):
             lat, lon = frame.to_geographic(along, cross)
@@ -62,6 +55,13 @@ def check_dem_covers_site(dem, frame, survey_threshold_m: float, mast_points) ->
                 f"terrain.dem: the mast at lat {lat:.6f}, lon {lon:.6f} is off the DEM or on nodata; "
                 f"the DEM covers {dem.extent_text()}; give a DEM that covers the site"
             )
+    z = float(dem.sample_frame(frame, np.array([0.0]), np.array([0.0]))[0])
+    if not math.isfinite(z):
+        lat, lon = frame.to_geographic(0.0, 0.0)
+        raise TerrainError(
+            f"terrain.dem: the threshold at lat {lat:.6f}, lon {lon:.6f} is off the DEM or on nodata; "
+            f"the DEM covers {dem.extent_text()}; give a DEM that covers the runway"
+        )
     finding = check_dem_threshold(z, survey_threshold_m)
     if finding is not None and abs(z - survey_threshold_m) > DEM_MISMATCH_STOP_M:
         raise TerrainError(f"terrain.dem: {finding.message} No results written: the difference exceeds 100 m.")
