@@ -120,7 +120,7 @@ class DemTile:
         b = self.dataset.bounds
         return (b.left, b.bottom, b.right, b.top)
 
-    def sample(self, x, y, border: BorderHeights | None = None, extrapolate: bool = False) -> np.ndarray:
+    def sample(self, x, y, border: BorderHeights | None = None, reach_cells: float = 0.0) -> np.ndarray:
         """Bilinear heights in metres at points in the raster's own CRS [2]_.
 
         Parameters
@@ -130,9 +130,9 @@ class DemTile:
         border : callable, optional
             Heights at cell centres just outside the raster (the neighbouring tiles). With it,
             points in the raster's outer half cell get heights; without it they get NaN.
-        extrapolate : bool
-            Extend the edge cells' bilinear surface linearly by up to one cell beyond the
-            last cell centre (used to fill borders between tiles of different grids).
+        reach_cells : float
+            Without ``border``: extend the edge cells' bilinear surface linearly by up to this
+            many cells beyond the last cell centre (at most 1; used to fill borders between tiles).
 
         Returns
         -------
@@ -149,7 +149,7 @@ class DemTile:
         ds = self.dataset
         gi, gj = self.grid_index(x, y)
         out = np.full(x.shape, np.nan)
-        reach = 0.5 if border is not None else (1.0 if extrapolate else 0.0)
+        reach = 0.5 if border is not None else min(max(reach_cells, 0.0), 1.0)
         ok = (gi >= -reach) & (gj >= -reach) & (gi <= ds.height - 1 + reach) & (gj <= ds.width - 1 + reach)
         ok &= np.isfinite(gi + gj)
         if not ok.any():

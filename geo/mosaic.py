@@ -34,6 +34,10 @@ from geo.dem_tile import DemTile, apply_affine
 
 __all__ = ["Mosaic", "transformer_between"]
 
+#: A cell centre computed through another tile's geotransform lands within this many cells of
+#: itself (floating-point rounding of the transforms; 1e-6 cells is 0.1 mm on a 90 m cell).
+_ROUNDING_CELLS = 1e-6
+
 
 class Mosaic:
     """DEM tiles sampled as one surface; points in the CRS of the first tile.
@@ -83,15 +87,23 @@ class Mosaic:
         return out
 
     def _border(self, k: int, x: np.ndarray, y: np.ndarray) -> np.ndarray:
-        """Heights [m] at cell centres just outside tile ``k`` (its CRS), from the other tiles."""
+        """Heights [m] at cell centres just outside tile ``k`` (its CRS), from the other tiles.
+
+        In turn: a tile whose cell centres surround the point (within rounding: on a shared grid
+        the point is one of them); a tile that covers the point in its outer half cell (extended
+        linearly); any tile within one cell of the point (extended linearly).
+        """
         out = np.full(x.shape, np.nan)
-        for extrapolate in (False, True):
+        for reach, covering in ((_ROUNDING_CELLS, False), (0.5, True), (1.0, False)):
             for j, other in enumerate(self.tiles):
                 todo = np.flatnonzero(~np.isfinite(out))
                 if j == k or todo.size == 0:
                     continue
                 ox, oy = self.to_tile(j, x[todo], y[todo], from_tile=k)
-                out[todo] = other.sample(ox, oy, extrapolate=extrapolate)
+                z = other.sample(ox, oy, reach_cells=reach)
+                if covering:
+                    z[~other.covers(ox, oy)] = np.nan
+                out[todo] = z
         return out
 
     def tile_at(self, x: float, y: float) -> DemTile:

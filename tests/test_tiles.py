@@ -232,3 +232,89 @@ def _write_vrt(path: Path, like: Path, tiles: list[Path]) -> Path:
             )
     path.write_text(head + "".join(sources) + "  </VRTRasterBand>\n</VRTDataset>\n", encoding="utf-8")
     return path
+
+
+# ---- Real terrain ---------------------------------------------------------------------------------
+
+
+@pytest.fixture(scope="module")
+def real_dem(tmp_path_factory):
+    """matplotlib's sample DEM jacksboro_fault_dem.npz (USGS-derived, 3 arc-second cells, WGS 84 geographic),
+    its relief scaled by 0.02 about its mean to airfield-like ground. The file's ymin and ymax are swapped
+    (../shared/REFERENCE.md): the sheet's top is the larger, ``ymin`` = 36.733."""
+    from matplotlib import cbook
+
+    data = cbook.get_sample_data("jacksboro_fault_dem.npz")
+    z = data["elevation"].astype(float)
+    north = max(float(data["ymin"]), float(data["ymax"]))
+    west, cell = float(data["xmin"]), float(data["dx"])
+    path = tmp_path_factory.mktemp("real") / "real.tif"
+    profile = {
+        "driver": "GTiff",
+        "width": z.shape[1],
+        "height": z.shape[0],
+        "count": 1,
+        "dtype": "float64",
+        "crs": "EPSG:4326",
+        "transform": rasterio.transform.from_origin(west, north, cell, cell),
+        "nodata": -9999.0,
+    }
+    with rasterio.open(path, "w", **profile) as dst:
+        dst.write(300.0 + 0.02 * (z - z.mean()), 1)
+    return path
+
+
+@pytest.mark.parametrize("row, col", [(150, 200), (200, 57), (33, 33), (301, 203)])
+def test_real_geographic_tiles_sample_like_the_single_file_at_a_four_corner_seam(tmp_path, real_dem, row, col):
+    # Geographic cell sizes (1/1200 deg) are not exact binary fractions: a neighbour's cell centre comes back
+    # through another tile's geotransform a rounding error away, and must still count as that cell centre.
+    with rasterio.open(real_dem) as ds:
+        x0, y0 = ds.xy(row, col, offset="ul")
+        cell = ds.res[0]
+    tiles = _cut(real_dem, tmp_path, (row,), (col,))
+    g = np.linspace(-2.0 * cell, 2.0 * cell, 81)
+    x, y = (a.ravel() for a in np.meshgrid(x0 + g, y0 + g))
+    with Dem.open(real_dem) as one, Dem.open(tiles) as four:
+        reference, got = one.sample_native(x, y), four.sample_native(x, y)
+    assert np.isfinite(reference).all()
+    np.testing.assert_allclose(got, reference, rtol=0, atol=1e-9)
+
+
+def test_real_terrain_studies_on_four_tiles_equal_the_single_file(tmp_path, real_dem):
+    # Fictional runways at random places and headings on the real DEM; each DEM cut in four through the
+    # middle of the plane's zone. Cells of about 75 x 93 m: the zone holds few, which the study says.
+    from pyproj import Geod
+
+    geod = Geod(ellps="WGS84")
+    rng = np.random.default_rng(3)
+    largest = {}
+    compared = 0
+    with rasterio.open(real_dem) as ds:
+        heights = ds.read(1)
+        index = ds.index
+    for trial in range(8):
+        lat0, lon0 = rng.uniform(36.5, 36.68), rng.uniform(-84.35, -84.15)
+        lon1, lat1, _ = geod.fwd(lon0, lat0, rng.uniform(0.0, 360.0), 2500.0)
+        thr, end = heights[index(lon0, lat0)], heights[index(lon1, lat1)]
+        text = (
+            f'units = "m"\n[site]\nname = "Real-ground strip {trial} (fictional)"\n[runway]\n'
+            f"threshold = {{ lat = {lat0!r}, lon = {lon0!r}, elevation = {thr:.2f} }}\n"
+            f"end = {{ lat = {lat1!r}, lon = {lon1!r}, elevation = {end:.2f} }}\nwidth = 45\n"
+            '[glide_path]\nangle_deg = 3.0\nlocalizer_mhz = 110.30\narray = "null-reference"\n'
+            '[mast]\nside = "right"\noffset = 120\nsetback = 300\n[terrain]\ndem = DEM\n'
+        )
+        folder = tmp_path / f"site{trial}"
+        folder.mkdir()
+        (folder / "one.toml").write_text(text.replace("DEM", f'"{real_dem}"'), encoding="utf-8")
+        one = run_study(load_site(folder / "one.toml"))
+        row, col = _zone_centre_cell(one, real_dem)
+        tiles = _cut(real_dem, folder, (row,), (col,))
+        (folder / "four.toml").write_text(
+            text.replace("DEM", "[" + ", ".join(f'"{p.name}"' for p in tiles) + "]"), encoding="utf-8"
+        )
+        four = run_study(load_site(folder / "four.toml"))
+        diff = _assert_same(one, four)
+        largest = {k: max(v, largest.get(k, 0.0)) for k, v in diff.items()}
+        compared += 1
+    print(f"seam (real terrain, {compared} sites, four tiles): largest differences {largest}")
+    assert compared == 8
