@@ -255,3 +255,37 @@ def test_another_offset_names_the_offset_and_a_gross_one_stops(tmp_path):
 
 def test_agreeing_dem_adds_no_threshold_finding(plain):
     assert "dem-threshold" not in {f.code for f in plain.findings}
+
+
+def test_the_sweep_applies_the_datum_conversion_too(tmp_path):
+    from geo.sweep import SweepOptions, run_sweep
+
+    n = -20.5  # invented published undulation
+    options = SweepOptions((250.0, 310.0), (100.0, 150.0), sides=("right",))
+    plain = run_sweep(load_site(DEMO_SITE), options)
+    path = _site(
+        tmp_path,
+        _survey_in_wgs84(n),
+        runway_extra=f'vertical_datum = "WGS84"\ngeoid_undulation = {n!r}\n',
+        terrain_extra='vertical_datum = "EGM96"\n',
+    )
+    shifted = run_sweep(load_site(path), options)
+    np.testing.assert_allclose(shifted.columns["rdh_m"], plain.columns["rdh_m"], atol=1e-6)
+    ground = [k for k in ("ground_at_mast_m", "plane_elevation_at_mast_m", "rpi_elevation_m") if k in plain.columns]
+    assert ground, "the sweep reports the ground at each mast"
+    for k in ground:
+        np.testing.assert_allclose(shifted.columns[k] - plain.columns[k], n, atol=1e-6)
+
+
+def test_the_command_line_stops_on_a_gross_mismatch_with_exit_2_and_writes_nothing(tmp_path):
+    from click.testing import CliRunner
+
+    from cli.main import main
+
+    dem = _feet_dem(tmp_path)
+    site = _site(tmp_path, dem=dem)
+    out = tmp_path / "out"
+    run = CliRunner().invoke(main, ["run", str(site), "--out", str(out)])
+    assert run.exit_code == 2
+    assert "Traceback" not in run.output and 'terrain.vertical_unit = "ft"' in run.output
+    assert str(site) in run.output and not out.exists()

@@ -318,3 +318,22 @@ def test_real_terrain_studies_on_four_tiles_equal_the_single_file(tmp_path, real
         compared += 1
     print(f"seam (real terrain, {compared} sites, four tiles): largest differences {largest}")
     assert compared == 8
+
+
+def test_the_sweep_on_tiles_equals_the_sweep_on_the_single_file(tmp_path, single):
+    # The sweep opens the DEM through the same call as the study (Dem.open of the [terrain] table).
+    from geo.sweep import SweepOptions, run_sweep
+
+    row, col = _zone_centre_cell(single, DEMO_DEM)
+    tiles = _cut(DEMO_DEM, tmp_path, (row,), (col,))
+    names = "[" + ", ".join(f'"{p.name}"' for p in tiles) + "]"
+    options = SweepOptions((250.0, 310.0, 370.0), (100.0, 150.0))
+    one = run_sweep(load_site(DEMO_SITE), options)
+    four = run_sweep(load_site(_site_with_dem(tmp_path, names)), options)
+    assert one.columns.keys() == four.columns.keys() and len(one) == len(four) == 12
+    for key, a in one.columns.items():
+        b = four.columns[key]
+        if a.dtype.kind == "f":
+            np.testing.assert_allclose(b, a, rtol=0, atol=_MM, equal_nan=True, err_msg=key)
+        else:
+            assert (a == b).all(), key
