@@ -763,7 +763,7 @@ def _dem_paths(table: dict, base_dir: Path) -> tuple[Path, ...]:
         for i, item in enumerate(value):
             if not isinstance(item, str):
                 raise SiteFileError(f"terrain.dem.{i}", f"must be a file path in quotes (got {_show(item)})")
-            names.append(_text({"dem": item}, "terrain", "dem", required=True))
+            names.append(_text({str(i): item}, "terrain.dem", str(i), required=True))
     else:
         names = [_text(table, "terrain", "dem", required=True)]
     paths = []

@@ -21,7 +21,7 @@ from rasterio.windows import Window
 from tests_support import DEMO_SITE
 
 from geo.dem import Dem
-from geo.errors import TerrainError
+from geo.errors import SiteFileError, TerrainError
 from geo.site import load_site
 from geo.study import run_study
 
@@ -337,3 +337,27 @@ def test_the_sweep_on_tiles_equals_the_sweep_on_the_single_file(tmp_path, single
             np.testing.assert_allclose(b, a, rtol=0, atol=_MM, equal_nan=True, err_msg=key)
         else:
             assert (a == b).all(), key
+
+
+@pytest.mark.parametrize(
+    "value, field, words",
+    [
+        ("[]", "terrain.dem", "empty list"),
+        ('["tile_0_0.tif", 3]', "terrain.dem.1", "file path in quotes"),
+        ('["tile_0_0.tif", "missing.tif"]', "terrain.dem.1", "no file at"),
+        ('["tile_0_0.tif", "tile_0_0.tif"]', "terrain.dem.1", "listed twice"),
+    ],
+)
+def test_bad_tile_lists_name_the_entry(tmp_path, value, field, words):
+    _cut(DEMO_DEM, tmp_path, (), (900,))
+    with pytest.raises(SiteFileError, match=words) as info:
+        load_site(_site_with_dem(tmp_path, value))
+    assert info.value.field == field
+
+
+def test_tile_paths_resolve_against_the_site_file_folder(tmp_path):
+    sub = tmp_path / "tiles"
+    sub.mkdir()
+    tiles = _cut(DEMO_DEM, sub, (), (900,))
+    spec = load_site(_site_with_dem(tmp_path, '["tiles/tile_0_0.tif", "tiles/tile_0_1.tif"]'))
+    assert spec.terrain.dem_paths == tuple(tiles) and spec.terrain.dem_path == tiles[0]
