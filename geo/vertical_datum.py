@@ -158,11 +158,15 @@ def datum_conversion(
             f"apt-get install proj-data, which has EGM96 only; or projsync --file {grids[0]}, or put the file in "
             f"a folder named by PROJ_DATA){hint}"
         )
-    return DatumConversion(dem_datum, survey_datum, "geoid grid", None, tuple(grids))
+    return DatumConversion(dem_datum, survey_datum, "geoid grid", None, grids)
 
 
-def _grids(dem_datum: str, survey_datum: str) -> tuple[bool, list[str]]:
-    """Whether PROJ's best transformation is available, and the grids it needs (missing ones first)."""
+@lru_cache(maxsize=8)
+def _grids(dem_datum: str, survey_datum: str) -> tuple[bool, tuple[str, ...]]:
+    """Whether PROJ's best transformation is available, and the grids it needs (missing ones first).
+
+    Cached: building a transformer group costs a tenth of a second or more.
+    """
     from pyproj.transformer import TransformerGroup
 
     add_system_proj_data()
@@ -171,13 +175,13 @@ def _grids(dem_datum: str, survey_datum: str) -> tuple[bool, list[str]]:
         group = TransformerGroup(DATUMS[dem_datum], DATUMS[survey_datum], always_xy=True)
     if group.best_available and group.transformers:
         used = _grid_names(group.transformers[0])
-        return True, used or ["(none)"]
+        return True, tuple(used or ["(none)"])
     missing = []
     for op in group.unavailable_operations:
         for grid in op.grids:
             if not grid.available and grid.short_name not in missing:
                 missing.append(grid.short_name)
-    return False, missing or ["(unknown)"]
+    return False, tuple(missing or ["(unknown)"])
 
 
 def _grid_names(transformer) -> list[str]:
