@@ -289,3 +289,27 @@ def test_the_command_line_stops_on_a_gross_mismatch_with_exit_2_and_writes_nothi
     assert run.exit_code == 2
     assert "Traceback" not in run.output and 'terrain.vertical_unit = "ft"' in run.output
     assert str(site) in run.output and not out.exists()
+
+
+@pytest.mark.parametrize(
+    "dem_m, words",
+    [
+        (612.0 / M_PER_FT, 'terrain.vertical_unit = "ft"'),  # 1 ft = 0.3048 m exactly (NIST HB 44 App. C)
+        (612.0 * M_PER_FT, 'terrain.vertical_unit = "m"'),
+        (612.0 - 20.5, "runway.vertical_datum"),  # 15-40 m: a geoid against the ellipsoid (issue 10 band)
+        (612.0 + 33.0, "runway.vertical_datum"),
+        (612.0 - 8.0, "terrain.vertical_offset"),
+        (612.0 + 60.0, "terrain.vertical_offset"),
+    ],
+)
+def test_the_likely_cause_follows_from_the_size_of_the_difference(dem_m, words):
+    from geo.findings import check_dem_threshold
+
+    finding = check_dem_threshold(dem_m, 612.0)
+    assert finding.code == "dem-threshold" and finding.severity == "warning" and words in finding.message
+
+
+def test_a_few_metres_are_no_finding():
+    from geo.findings import check_dem_threshold
+
+    assert check_dem_threshold(612.0 + 4.9, 612.0) is None and check_dem_threshold(612.0 - 4.9, 612.0) is None
