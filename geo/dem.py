@@ -1,10 +1,19 @@
-"""Digital elevation models: windowed reading and bilinear sampling.
+"""Digital elevation models: one raster or tiles, heights in the survey's datum.
 
-Only windows around the requested points are read, never the whole raster,
-so a 10,000 x 10,000 cell DEM costs what the site needs. Points are moved
-into the DEM's own CRS with pyproj; the raster is never warped. Heights are
-interpolated bilinearly between cell centres; a point outside the raster or
-next to a nodata cell gets NaN.
+:class:`Dem` is what the study, the sweep and the map use. It is built in
+named steps, each in its own module:
+
+1. opening and checking each raster, its vertical unit (:mod:`geo.dem_tile`);
+2. choosing the vertical datum conversion (:mod:`geo.vertical_datum`);
+3. reading windows and sampling bilinearly, across tile seams
+   (:mod:`geo.dem_tile`, :mod:`geo.mosaic`);
+4. warping for display (:mod:`geo.dem_display`).
+
+Points are moved into the DEM's own CRS with pyproj; the rasters are never
+warped for the study. Heights come out in metres in the site file's vertical
+datum: scaled by the vertical unit, plus ``terrain.vertical_offset``, plus the
+datum conversion at each point. A point off every tile or next to a nodata
+cell gets NaN.
 
 References
 ----------
@@ -12,7 +21,6 @@ References
        centre of cell (row, col) is at pixel coordinate (col + 0.5, row + 0.5).
 .. [2] Press, W. H. et al., *Numerical Recipes*, 3rd ed., 2007, sec. 3.6
        (bilinear interpolation on a grid).
-.. [3] NIST Handbook 44, Appendix C: US survey foot = 1200/3937 m.
 """
 
 from __future__ import annotations
@@ -23,86 +31,119 @@ from pathlib import Path
 
 import numpy as np
 
-from geo.errors import TerrainError
-from geo.units import M_PER_FT
+from geo.dem_tile import VERTICAL_UNITS_M, DemTile, apply_affine, bilinear
+from geo.mosaic import Mosaic
+from geo.vertical_datum import DatumConversion, datum_conversion
 
 __all__ = ["Dem", "VERTICAL_UNITS_M", "bilinear"]
-
-#: Metres per vertical unit, by the names rasters and site files use [3]_.
-VERTICAL_UNITS_M = {
-    "m": 1.0, "metre": 1.0, "metres": 1.0, "meter": 1.0, "meters": 1.0,
-    "ft": M_PER_FT, "foot": M_PER_FT, "feet": M_PER_FT, "international foot": M_PER_FT,
-    "us survey foot": 1200.0 / 3937.0, "ftus": 1200.0 / 3937.0, "us-ft": 1200.0 / 3937.0,
-}  # fmt: skip
-
-_BLOCK = 1024  # cells per side of one read window
 
 
 @dataclass
 class Dem:
-    """An open DEM.
+    """An open DEM: one raster or several tiles.
 
     Use :meth:`open`; close with :meth:`close` or a ``with`` block.
 
     Attributes
     ----------
-    path : Path
-    vertical_scale : float
-        Metres per raster height unit.
+    paths : tuple of Path
+        The rasters, in priority order.
+    mosaic : Mosaic
+        The open tiles.
     vertical_offset_m : float
         Added to every height after scaling. [m]
-    vertical_unit_source : str
-        Where the vertical unit came from: ``"site file"``, ``"raster"`` or
-        ``"default (metres)"``.
+    conversion : DatumConversion
+        From the DEM's vertical datum to the survey's.
     """
 
-    path: Path
-    dataset: object
-    vertical_scale: float
+    paths: tuple[Path, ...]
+    mosaic: Mosaic
     vertical_offset_m: float
-    vertical_unit_source: str
+    conversion: DatumConversion
 
     @classmethod
-    def open(cls, path: str | Path, vertical_offset_m: float = 0.0, vertical_unit: str | None = None) -> Dem:
-        """Open a raster GDAL can read.
+    def open(
+        cls,
+        source,
+        vertical_offset_m: float = 0.0,
+        vertical_unit: str | None = None,
+        *,
+        vertical_datum: str | None = None,
+        survey_datum: str | None = None,
+        geoid_undulation_m: float | None = None,
+    ) -> Dem:
+        """Open a DEM: a raster, a list of tiles, or what a site file's ``[terrain]`` says.
 
         Parameters
         ----------
-        path : str or Path
+        source : str, Path, list of them, or geo.site.TerrainSpec
+            With a ``TerrainSpec``, every other argument comes from it.
         vertical_offset_m : float
             Added to the DEM heights to reach the surveyed datum. [m]
         vertical_unit : str, optional
-            Unit of the raster's heights; default from the raster's metadata,
-            else metres.
+            Unit of the rasters' heights; default from each raster's metadata, else metres.
+        vertical_datum, survey_datum : str, optional
+            Vertical datums of the DEM and of the site file's elevations
+            (``"EGM96"``, ``"EGM2008"``, ``"WGS84"``); both given and different: converted.
+        geoid_undulation_m : float, optional
+            Geoid undulation published at the threshold; converts without a grid. [m]
 
         Raises
         ------
         TerrainError
-            When the file cannot be read, has no CRS or no single height band.
+            When a file cannot be read, has no CRS, or the datum conversion needs a missing grid.
         """
-        import rasterio
-
-        path = Path(path)
+        if hasattr(source, "dem_paths"):  # a TerrainSpec
+            t = source
+            source = t.dem_paths or (t.dem_path,)
+            vertical_offset_m, vertical_unit = t.vertical_offset_m, t.vertical_unit
+            vertical_datum, survey_datum = t.vertical_datum, t.survey_vertical_datum
+            geoid_undulation_m = t.geoid_undulation_m
+        paths = tuple(Path(p) for p in source) if isinstance(source, (list, tuple)) else (Path(source),)
+        conversion = datum_conversion(vertical_datum, survey_datum, geoid_undulation_m)
+        tiles = []
         try:
-            ds = rasterio.open(path)
-        except (rasterio.errors.RasterioIOError, OSError) as exc:
-            raise TerrainError(f"terrain.dem: cannot read {path} ({exc}); give a raster GDAL reads") from None
-        if ds.crs is None:
-            ds.close()
-            raise TerrainError(f"terrain.dem: {path} has no coordinate reference system; georeference it")
-        if vertical_unit is not None:
-            scale, source = VERTICAL_UNITS_M[vertical_unit], "site file"
-        else:
-            unit = (ds.units[0] or "").strip().lower() if ds.units else ""
-            if unit in VERTICAL_UNITS_M:
-                scale, source = VERTICAL_UNITS_M[unit], f"raster ({unit})"
-            else:
-                scale, source = 1.0, "default (metres)"
-        return cls(path, ds, scale, vertical_offset_m, source)
+            for path in paths:
+                tiles.append(DemTile.open(path, vertical_unit))
+        except BaseException:
+            for tile in tiles:
+                tile.close()
+            raise
+        return cls(paths, Mosaic(tiles), vertical_offset_m, conversion)
+
+    # Callers written for one raster read these.
+    @property
+    def path(self) -> Path:
+        """The first raster."""
+        return self.paths[0]
+
+    @property
+    def dataset(self):
+        """The first raster's rasterio dataset."""
+        return self.mosaic.tiles[0].dataset
+
+    @property
+    def vertical_scale(self) -> float:
+        """Metres per height unit of the first raster."""
+        return self.mosaic.tiles[0].vertical_scale
+
+    @property
+    def vertical_unit_source(self) -> str:
+        """Where the height unit came from (each distinct source once)."""
+        sources = []
+        for tile in self.mosaic.tiles:
+            if tile.vertical_unit_source not in sources:
+                sources.append(tile.vertical_unit_source)
+        return ", ".join(sources)
+
+    @property
+    def names(self) -> str:
+        """The rasters' file names, comma-separated."""
+        return ", ".join(p.name for p in self.paths)
 
     def close(self) -> None:
-        """Close the raster."""
-        self.dataset.close()
+        """Close the rasters."""
+        self.mosaic.close()
 
     def __enter__(self) -> Dem:
         return self
@@ -112,36 +153,58 @@ class Dem:
 
     @property
     def crs(self):
-        """The raster's CRS as a :class:`pyproj.CRS`."""
+        """The first raster's CRS as a :class:`pyproj.CRS` (the CRS of :meth:`sample_native`)."""
         from pyproj import CRS
 
-        return CRS.from_user_input(self.dataset.crs.to_wkt())
+        return CRS.from_wkt(self.mosaic.crs_wkt)
 
     def vertical_datum(self) -> str | None:
-        """Name of the vertical datum when the raster states one, else ``None``."""
-        crs = self.crs
-        for sub in crs.sub_crs_list or []:
-            if sub.is_vertical:
-                return sub.name
+        """Name of the vertical datum: the one the site file gives, else the one a raster states."""
+        if self.conversion.dem_datum is not None:
+            return self.conversion.dem_datum
+        from pyproj import CRS
+
+        for tile in self.mosaic.tiles:
+            for sub in CRS.from_wkt(tile.crs_wkt).sub_crs_list or []:
+                if sub.is_vertical:
+                    return sub.name
         return None
 
+    def extent_text(self) -> str:
+        """Each raster's extent and CRS, for error messages."""
+        from pyproj import CRS
+
+        parts = []
+        for tile in self.mosaic.tiles:
+            w, s, e, n = tile.extent()
+            crs = CRS.from_wkt(tile.crs_wkt)
+            name = f"EPSG:{crs.to_epsg()}" if crs.to_epsg() else crs.name
+            digits = 6 if crs.is_geographic else 1
+            x_range = f"x {w:.{digits}f} to {e:.{digits}f}"
+            parts.append(f"{tile.path.name} {x_range}, y {s:.{digits}f} to {n:.{digits}f} ({name})")
+        return "; ".join(parts)
+
     def cell_size_m(self, frame) -> float:
-        """Ground size of one cell near the runway threshold (the smaller side). [m]"""
-        x, y = self._transformer(frame).transform(0.0, 0.0)
-        col, row = _apply(~self.dataset.transform, x, y)
-        fwd = self.dataset.transform
-        corners = [_apply(fwd, col, row), _apply(fwd, col + 1, row), _apply(fwd, col, row + 1)]
+        """Ground size of one cell near the runway threshold (the smaller side), of the tile there. [m]"""
+        x0, y0 = self._transformer(frame).transform(0.0, 0.0)
+        tile = self.mosaic.tile_at(x0, y0)
+        k = self.mosaic.tiles.index(tile)
+        tx, ty = self.mosaic.to_tile(k, [x0], [y0])
+        fwd = tile.dataset.transform
+        col, row = apply_affine(~fwd, float(tx[0]), float(ty[0]))
+        corners = [apply_affine(fwd, col, row), apply_affine(fwd, col + 1, row), apply_affine(fwd, col, row + 1)]
+        cx, cy = self.mosaic.to_tile(0, [c[0] for c in corners], [c[1] for c in corners], from_tile=k)
         back = self._transformer(frame, inverse=True)
-        pts = [back.transform(cx, cy) for cx, cy in corners]
+        pts = [back.transform(float(a), float(b)) for a, b in zip(cx, cy)]
         return min(math.dist(pts[0], pts[1]), math.dist(pts[0], pts[2]))
 
     def _transformer(self, frame, inverse: bool = False):
         from geo.frame import frame_transformer
 
-        return frame_transformer(frame, self.dataset.crs.to_wkt(), inverse)
+        return frame_transformer(frame, self.mosaic.crs_wkt, inverse)
 
     def sample_frame(self, frame, along_m, cross_m) -> np.ndarray:
-        """Bilinear heights at runway-frame points; NaN off the raster or on nodata.
+        """Bilinear heights at runway-frame points; NaN off the DEM or on nodata.
 
         Parameters
         ----------
@@ -152,115 +215,90 @@ class Dem:
         Returns
         -------
         numpy.ndarray
-            Heights in the site's vertical datum (scaled, offset). [m]
+            Heights in the site's vertical datum (scaled, offset, converted). [m]
         """
         east, north = frame.to_tm(along_m, cross_m)
         x, y = self._transformer(frame).transform(east, north)
         return self.sample_native(np.asarray(x, dtype=float), np.asarray(y, dtype=float))
+
+    def sample_native(self, x, y) -> np.ndarray:
+        """Bilinear heights [m] at points in the first raster's CRS [2]_, in the site's datum."""
+        x = np.atleast_1d(np.asarray(x, dtype=float))
+        y = np.atleast_1d(np.asarray(y, dtype=float))
+        z = self.mosaic.sample(x, y) + self.vertical_offset_m
+        if self.conversion.applied:
+            z = z + self.datum_shift_native(x, y)
+        return z
+
+    def datum_shift_native(self, x, y) -> np.ndarray:
+        """The vertical datum conversion [m] at points in the first raster's CRS (0 without one)."""
+        x = np.atleast_1d(np.asarray(x, dtype=float))
+        if not self.conversion.applied:
+            return np.zeros(x.shape)
+        lon, lat = _to_wgs84(self.mosaic.crs_wkt).transform(x, np.atleast_1d(np.asarray(y, dtype=float)))
+        return self.conversion.shift_m(lon, lat)
+
+    def datum_shift_at(self, lat_deg: float, lon_deg: float) -> float:
+        """The vertical datum conversion at a WGS 84 position. [m]"""
+        return float(self.conversion.shift_m([lon_deg], [lat_deg])[0])
 
     def warped(
         self, west_deg: float, south_deg: float, east_deg: float, north_deg: float, dst_crs: str, max_size: int = 1200
     ) -> tuple[np.ndarray, tuple[float, float, float, float], float]:
         """The DEM over a WGS 84 box, warped (bilinear) to another CRS, for display.
 
+        See :func:`geo.dem_display.warp_tiles`; heights are in the site's datum. [m]
+        """
+        from geo.dem_display import warp_tiles
+
+        z, bounds, cell = warp_tiles(self.mosaic.tiles, west_deg, south_deg, east_deg, north_deg, dst_crs, max_size)
+        z = z + self.vertical_offset_m
+        if self.conversion.applied:
+            from pyproj import Transformer
+
+            w, s, e, n = bounds
+            rows, cols = z.shape
+            gx, gy = np.meshgrid(w + (np.arange(cols) + 0.5) * cell, n - (np.arange(rows) + 0.5) * cell)
+            lon, lat = Transformer.from_crs(dst_crs, "EPSG:4326", always_xy=True).transform(gx, gy)
+            z = z + self.conversion.shift_m(np.ravel(lon), np.ravel(lat)).reshape(z.shape)
+        return z, bounds, cell
+
+    def cells_in_zone(self, frame, side: str, setback_m: float, offset_m: float, polygon) -> int:
+        """Number of valid DEM cells whose centres lie in a zone around the mast (each tile's own grid).
+
         Parameters
         ----------
-        west_deg, south_deg, east_deg, north_deg : float
-            Box. [deg]
-        dst_crs : str
-            Target CRS, e.g. ``"EPSG:3857"``.
-        max_size : int
-            Largest side of the result in cells.
-
-        Returns
-        -------
-        heights : numpy.ndarray
-            Heights in the site's datum, NaN where the DEM has none. [m]
-        bounds : tuple
-            (west, south, east, north) of the result in ``dst_crs``.
-        cell : float
-            Cell size in ``dst_crs`` units.
+        frame : geo.frame.RunwayFrame
+        side : {"left", "right"}
+        setback_m, offset_m : float
+            The mast in the runway frame. [m]
+        polygon : shapely.Polygon
+            The zone in the mast's local (u, w) coordinates: ``u`` toward the approach, ``w``
+            toward the runway (:mod:`geo.terrain`). [m]
         """
-        from rasterio.transform import from_origin
-        from rasterio.warp import Resampling, reproject, transform_bounds
+        import shapely
 
-        west, south, east, north = transform_bounds("EPSG:4326", dst_crs, west_deg, south_deg, east_deg, north_deg)
-        cell = max(east - west, north - south) / max_size
-        cols, rows = int(np.ceil((east - west) / cell)), int(np.ceil((north - south) / cell))
-        ds = self.dataset
-        src_window = ds.window(*transform_bounds(dst_crs, ds.crs, west, south, east, north))
-        src_window = src_window.round_offsets().round_lengths()
-        nodata = ds.nodata if ds.nodata is not None else np.nan
-        source = ds.read(1, window=src_window, masked=True, boundless=True, fill_value=nodata)
-        out = np.full((rows, cols), np.nan)
-        reproject(
-            source=source.astype(np.float64).filled(np.nan),
-            destination=out,
-            src_transform=ds.window_transform(src_window),
-            src_crs=ds.crs,
-            src_nodata=np.nan,
-            dst_transform=from_origin(west, north, cell, cell),
-            dst_crs=dst_crs,
-            dst_nodata=np.nan,
-            resampling=Resampling.bilinear,
-        )
-        bounds = (west, north - rows * cell, west + cols * cell, north)
-        return out * self.vertical_scale + self.vertical_offset_m, bounds, cell
-
-    def sample_native(self, x, y) -> np.ndarray:
-        """Bilinear heights at points in the raster's own CRS [2]_.
-
-        Points are grouped by block so that each part of the raster is read
-        once, in a window of at most ``_BLOCK`` cells a side.
-        """
-        from rasterio.windows import Window
-
-        x = np.atleast_1d(np.asarray(x, dtype=float))
-        y = np.atleast_1d(np.asarray(y, dtype=float))
-        ds = self.dataset
-        col, row = _apply(~ds.transform, x, y)
-        # Cell-centre grid coordinates [1]_: cell (i, j) has its centre at (i + 0.5, j + 0.5).
-        gi, gj = row - 0.5, col - 0.5
-        out = np.full(x.shape, np.nan)
-        ok = (gi >= 0) & (gj >= 0) & (gi <= ds.height - 1) & (gj <= ds.width - 1) & np.isfinite(gi + gj)
-        if not ok.any():
-            return out
-        idx = np.flatnonzero(ok)
-        bi = np.minimum(gi[idx] // _BLOCK, (ds.height - 1) // _BLOCK).astype(np.int64)
-        bj = np.minimum(gj[idx] // _BLOCK, (ds.width - 1) // _BLOCK).astype(np.int64)
-        key = bi * (ds.width // _BLOCK + 2) + bj
-        order = np.argsort(key, kind="stable")
-        keys_sorted = key[order]
-        starts = np.flatnonzero(np.r_[True, keys_sorted[1:] != keys_sorted[:-1]])
-        stops = np.r_[starts[1:], keys_sorted.size]
-        for start, stop in zip(starts, stops):
-            members = idx[order[start:stop]]
-            r0 = int(max(0, min(math.floor(gi[members].min()), ds.height - 2)))
-            c0 = int(max(0, min(math.floor(gj[members].min()), ds.width - 2)))
-            r1 = int(min(ds.height, max(math.floor(gi[members].max()) + 2, r0 + 2)))
-            c1 = int(min(ds.width, max(math.floor(gj[members].max()) + 2, c0 + 2)))
-            window = Window(c0, r0, c1 - c0, r1 - r0)
-            block = ds.read(1, window=window, masked=True).astype(np.float64).filled(np.nan)
-            out[members] = bilinear(block, gi[members] - r0, gj[members] - c0)
-        return out * self.vertical_scale + self.vertical_offset_m
+        sign = 1.0 if side == "right" else -1.0
+        u0, w0, u1, w1 = polygon.bounds
+        uu, ww = np.meshgrid(np.linspace(u0, u1, 9), np.linspace(w0, w1, 9))
+        along, cross = setback_m - uu.ravel(), sign * (offset_m - ww.ravel())
+        east, north = frame.to_tm(along, cross)
+        bx, by = self._transformer(frame).transform(east, north)
+        x, y = self.mosaic.cell_centres(float(np.min(bx)), float(np.min(by)), float(np.max(bx)), float(np.max(by)))
+        if x.size == 0:
+            return 0
+        te, tn = self._transformer(frame, inverse=True).transform(x, y)
+        # Inverse of frame.to_tm, a rotation: (ue, un) is the along-runway unit vector.
+        ue, un = (float(v) for v in frame.to_tm(1.0, 0.0))
+        te, tn = np.asarray(te, dtype=float), np.asarray(tn, dtype=float)
+        along_c, cross_c = te * ue + tn * un, te * un - tn * ue
+        return int(np.count_nonzero(shapely.contains_xy(polygon, setback_m - along_c, offset_m - sign * cross_c)))
 
 
-def _apply(affine, x, y):
-    """An affine transform applied to coordinates (scalars or arrays)."""
-    return affine.a * x + affine.b * y + affine.c, affine.d * x + affine.e * y + affine.f
+def _to_wgs84(crs_wkt: str):
+    """Cached transformer from a CRS to WGS 84 (lon, lat)."""
+    from pyproj import CRS
 
+    from geo.mosaic import transformer_between
 
-def bilinear(grid: np.ndarray, gi: np.ndarray, gj: np.ndarray) -> np.ndarray:
-    """Bilinear interpolation in a 2-D array at fractional (row, column) indices [2]_.
-
-    Indices must lie within ``[0, n - 1]``; a NaN among the four neighbours gives NaN.
-    """
-    rows, cols = grid.shape
-    i0 = np.clip(np.floor(gi).astype(np.int64), 0, max(rows - 2, 0))
-    j0 = np.clip(np.floor(gj).astype(np.int64), 0, max(cols - 2, 0))
-    i1 = np.minimum(i0 + 1, rows - 1)
-    j1 = np.minimum(j0 + 1, cols - 1)
-    di, dj = gi - i0, gj - j0
-    top = grid[i0, j0] * (1.0 - dj) + grid[i0, j1] * dj
-    bottom = grid[i1, j0] * (1.0 - dj) + grid[i1, j1] * dj
-    return top * (1.0 - di) + bottom * di
+    return transformer_between(crs_wkt, CRS.from_epsg(4326).to_wkt())

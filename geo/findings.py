@@ -307,3 +307,104 @@ def check_mast_clearance(clearance, spec) -> Finding:
         "info" if strip else "pass",
         f"The top of the mast ({_ft(top)} above the centre line) {clear}.{strip} Surfaces: {spec.source}.",
     )
+
+
+#: DEM and surveyed threshold further apart than this: one finding names the likely cause. [m]
+DEM_MISMATCH_WARN_M = 5.0
+#: Further apart than this: the study stops (no result could be right). [m]
+DEM_MISMATCH_STOP_M = 100.0
+#: Geoid undulations over most land lie within these magnitudes (EGM96: about -107 to +86 m
+#: worldwide; 15-40 m is the band issue 10 names for a geoid read as the ellipsoid; memory). [m]
+_GEOID_BAND_M = (15.0, 40.0)
+
+
+def check_dem_threshold(dem_m: float, survey_m: float) -> Finding | None:
+    """The DEM at the threshold against the surveyed threshold elevation, with the likely cause.
+
+    A DEM that disagrees with the survey by more than a few metres at the threshold gives a wrong
+    RDH by about as much. The size of the difference points at the cause: a ratio near 3.28 (the
+    number of feet in a metre, NIST Handbook 44 App. C) is a DEM in feet read as metres; 15-40 m is
+    a geoid height read as an ellipsoidal one or the reverse (h = H + N, Hofmann-Wellenhof and
+    Moritz, *Physical Geodesy*, sec. 2.7); anything else is a wrong offset or a wrong DEM.
+
+    Parameters
+    ----------
+    dem_m : float
+        DEM height at the threshold, in the site's datum (after unit, offset and datum). [m]
+    survey_m : float
+        Surveyed threshold elevation. [m]
+
+    Returns
+    -------
+    Finding or None
+        ``"dem-threshold"`` warning, or ``None`` within :data:`DEM_MISMATCH_WARN_M`.
+    """
+    diff = dem_m - survey_m
+    if not abs(diff) > DEM_MISMATCH_WARN_M:
+        return None
+    ft_per_m = 1.0 / M_PER_FT
+    ratio = dem_m / survey_m if abs(survey_m) > 30.0 else float("nan")
+    if abs(ratio - ft_per_m) < 0.05 * ft_per_m:
+        cause = (
+            f"the ratio {ratio:.3f} is near 3.281 ft per m: the DEM's heights look like feet read as metres; "
+            'set terrain.vertical_unit = "ft"'
+        )
+    elif abs(ratio - M_PER_FT) < 0.05 * M_PER_FT:
+        cause = (
+            f"the ratio {ratio:.3f} is near 0.305 m per ft: the DEM's heights look like metres read as feet; "
+            'set terrain.vertical_unit = "m"'
+        )
+    elif _GEOID_BAND_M[0] <= abs(diff) <= _GEOID_BAND_M[1]:
+        cause = (
+            "a difference of this size is typical of heights above a geoid (EGM96, EGM2008) against "
+            "ellipsoidal (WGS 84, GNSS) heights; give runway.vertical_datum and terrain.vertical_datum "
+            "(and runway.geoid_undulation if published) so that the DEM is converted"
+        )
+    else:
+        cause = "check terrain.vertical_offset and that terrain.dem is the DEM of this airfield"
+    return Finding(
+        "dem-threshold",
+        "warning",
+        f"The DEM at the threshold {_ft(dem_m)} differs from the surveyed threshold elevation {_ft(survey_m)} "
+        f"by {diff:+.2f} m ({diff * ft_per_m:+.1f} ft): {cause}. Every height of the study follows the DEM.",
+    )
+
+
+#: Fewest DEM cells in the zone for a plane and a roughness verdict (issue 10; common practice, no source).
+MIN_ZONE_CELLS = 30
+
+
+def check_dem_resolution(cells: int, cell_size_m: float, zone_half_width_m: float) -> Finding | None:
+    """Whether the DEM has enough cells in the zone the plane is fitted in.
+
+    Samples are interpolated between cell centres, so a plane and an RMS resting on a few cells
+    say little of the ground between them: a ditch narrower than a cell is invisible. Warn when
+    the cell is wider than a third of the zone's half-width or fewer than :data:`MIN_ZONE_CELLS`
+    cell centres lie in the zone (thresholds of issue 10; common practice, no source).
+
+    Parameters
+    ----------
+    cells : int
+        DEM cell centres inside the zone (each tile's own grid).
+    cell_size_m : float
+        DEM cell near the site. [m]
+    zone_half_width_m : float
+        Largest half-width of the zone. [m]
+    """
+    coarse = cell_size_m > zone_half_width_m / 3.0
+    if not coarse and cells >= MIN_ZONE_CELLS:
+        return None
+    why = []
+    if coarse:
+        why.append(
+            f"its cells of {_ft(cell_size_m)} are wider than a third of the zone's half-width {_ft(zone_half_width_m)}"
+        )
+    if cells < MIN_ZONE_CELLS:
+        why.append(f"only {cells} cell centres lie in the zone (fewer than {MIN_ZONE_CELLS})")
+    return Finding(
+        "dem-resolution",
+        "warning",
+        f"The DEM is too coarse for the reflection zone: {' and '.join(why)}. The plane, the slopes and the "
+        "roughness verdicts rest on too little data; a survey or lidar DEM with cells of 5 m (16 ft) or finer "
+        "is needed.",
+    )

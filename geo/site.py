@@ -14,7 +14,7 @@ from __future__ import annotations
 import hashlib
 import math
 import tomllib
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Any
 
@@ -102,12 +102,25 @@ class TerrainSpec:
         Unit of the raster's heights; ``None``: from the raster, else metres.
     min_clearance_m : float
         Smallest acceptable height of the path above the approach terrain. [m]
+    dem_paths : tuple of Path
+        Every raster of ``terrain.dem`` (one, or the tiles in the order given); ``dem_path``
+        is the first.
+    vertical_datum : {"EGM96", "EGM2008", "WGS84"} or None
+        Vertical datum of the DEM's heights.
+    survey_vertical_datum : {"EGM96", "EGM2008", "WGS84"} or None
+        Vertical datum of the site file's elevations (``runway.vertical_datum``).
+    geoid_undulation_m : float or None
+        Geoid undulation published at the threshold (``runway.geoid_undulation``). [m]
     """
 
     dem_path: Path
     vertical_offset_m: float = 0.0
     vertical_unit: str | None = None
     min_clearance_m: float = 0.0
+    dem_paths: tuple[Path, ...] = ()
+    vertical_datum: str | None = None
+    survey_vertical_datum: str | None = None
+    geoid_undulation_m: float | None = None
 
 
 @dataclass(frozen=True)
@@ -197,6 +210,10 @@ class SiteSpec:
         Ground constants and feeds for the predicted path.
     surfaces : SurfaceSpec
         Obstacle limitation surface parameters for the mast clearance.
+    vertical_datum : {"EGM96", "EGM2008", "WGS84"} or None
+        Vertical datum of every elevation in the site file (``runway.vertical_datum``).
+    geoid_undulation_m : float or None
+        Geoid undulation N published with the threshold (ICAO Annex 15), ``h = H + N``. [m]
     """
 
     name: str
@@ -220,6 +237,8 @@ class SiteSpec:
     protected_areas: tuple[ProtectedArea, ...] = ()
     prediction: PredictionSpec = field(default_factory=PredictionSpec)
     surfaces: SurfaceSpec = DEFAULT_SURFACES
+    vertical_datum: str | None = None
+    geoid_undulation_m: float | None = None
 
 
 def load_site(path: str | Path) -> SiteSpec:
@@ -295,7 +314,7 @@ def parse_site(doc: dict[str, Any], source: str = "", sha256: str = "", base_dir
     notes = _text(site, "site", "notes", required=False) or ""
 
     runway = _table(doc, "runway")
-    _only(runway, "runway", ("threshold", "end", "width", "code"))
+    _only(runway, "runway", ("threshold", "end", "width", "code", "vertical_datum", "geoid_undulation"))
     threshold = _point(runway, "runway", "threshold", scale, units, elevation="required")
     end = _point(runway, "runway", "end", scale, units, elevation="required")
     if abs(threshold.lat_deg - end.lat_deg) < 1e-9 and abs(_wrap(threshold.lon_deg - end.lon_deg)) < 1e-9:
@@ -367,7 +386,10 @@ def parse_site(doc: dict[str, Any], source: str = "", sha256: str = "", base_dir
 
     mast = _mast(_table(doc, "mast"), scale, units, width_m, target_rdh_m)
     base_dir = base_dir if base_dir is not None else Path()
+    survey_datum, undulation_m = _survey_datum(runway, scale, units)
     terrain = _terrain(doc["terrain"], scale, units, base_dir) if "terrain" in doc else None
+    if terrain is not None:
+        terrain = replace(terrain, survey_vertical_datum=survey_datum, geoid_undulation_m=undulation_m)
     protected = _protected_areas(doc.get("protected_area", []), scale, units)
     prediction = _prediction(doc.get("prediction", {}), len(ARRAY_TYPES[array].roles))
     surfaces = _surfaces(doc.get("surfaces"), scale, units)
@@ -393,6 +415,8 @@ def parse_site(doc: dict[str, Any], source: str = "", sha256: str = "", base_dir
         protected_areas=protected,
         prediction=prediction,
         surfaces=surfaces,
+        vertical_datum=survey_datum,
+        geoid_undulation_m=undulation_m,
     )
 
 
@@ -527,8 +551,9 @@ def _outline(value, name: str, scale: float, units: str) -> tuple[tuple[float, f
 def _terrain(table, scale: float, units: str, base_dir: Path) -> TerrainSpec:
     if not isinstance(table, dict):
         raise SiteFileError("terrain", f"must be a table [terrain] (got {_show(table)})")
-    _only(table, "terrain", ("dem", "vertical_offset", "vertical_unit", "min_clearance"))
-    dem = _text(table, "terrain", "dem", required=True)
+    _only(table, "terrain", ("dem", "vertical_offset", "vertical_unit", "min_clearance", "vertical_datum"))
+    paths = _dem_paths(table, base_dir)
+    dem_datum = _datum(table, "terrain")
     offset = (
         _number(
             table,
@@ -548,12 +573,7 @@ def _terrain(table, scale: float, units: str, base_dir: Path) -> TerrainSpec:
     clearance = _number(
         table, "terrain", "min_clearance", scale, required=False, at_least=-1000.0, at_most=1000.0, unit=units
     )
-    path = Path(dem)
-    if not path.is_absolute():
-        path = base_dir / path
-    if not path.is_file():
-        raise SiteFileError("terrain.dem", f"no file at {path}; give the DEM's path, relative to the site file")
-    return TerrainSpec(path, offset, vertical_unit, clearance if clearance is not None else 0.0)
+    return TerrainSpec(paths[0], offset, vertical_unit, clearance if clearance is not None else 0.0, paths, dem_datum)
 
 
 def _mast(mast: dict, scale: float, units: str, width_m: float, target_rdh_m) -> MastSpec:
@@ -725,3 +745,69 @@ def _point(table: dict, prefix: str, key: str, scale: float, units: str, elevati
             unit=units,
         )
     return GeoPoint(lat, lon, elev)
+
+
+#: Vertical datums a site file may name (see geo.vertical_datum).
+VERTICAL_DATUMS = ("EGM96", "EGM2008", "WGS84")
+#: Largest geoid undulation accepted: EGM96 spans about -107 to +86 m (memory).
+_UNDULATION_MAX_M = 150.0
+
+
+def _dem_paths(table: dict, base_dir: Path) -> tuple[Path, ...]:
+    """``terrain.dem``: one path or a list of tiles, each resolved against the site file's folder."""
+    value = table.get("dem")
+    if isinstance(value, list):
+        if not value:
+            raise SiteFileError("terrain.dem", 'is an empty list; give a raster or a list of tiles ["a.tif", "b.tif"]')
+        names = []
+        for i, item in enumerate(value):
+            if not isinstance(item, str):
+                raise SiteFileError(f"terrain.dem.{i}", f"must be a file path in quotes (got {_show(item)})")
+            names.append(_text({str(i): item}, "terrain.dem", str(i), required=True))
+    else:
+        names = [_text(table, "terrain", "dem", required=True)]
+    paths = []
+    for i, name in enumerate(names):
+        path = Path(name)
+        if not path.is_absolute():
+            path = base_dir / path
+        field_name = "terrain.dem" if len(names) == 1 else f"terrain.dem.{i}"
+        if not path.is_file():
+            raise SiteFileError(field_name, f"no file at {path}; give the DEM's path, relative to the site file")
+        if path in paths:
+            raise SiteFileError(field_name, f"{path} is listed twice; give each tile once")
+        paths.append(path)
+    return tuple(paths)
+
+
+def _datum(table: dict, prefix: str) -> str | None:
+    value = table.get("vertical_datum")
+    if value is None:
+        return None
+    if not _is_choice(value, VERTICAL_DATUMS):
+        raise SiteFileError(
+            f"{prefix}.vertical_datum",
+            f'must be "EGM96", "EGM2008" or "WGS84" (ellipsoidal) (got {_show(value)})',
+        )
+    return value
+
+
+def _survey_datum(runway: dict, scale: float, units: str) -> tuple[str | None, float | None]:
+    """``runway.vertical_datum`` and ``runway.geoid_undulation`` (N, converted to metres)."""
+    datum = _datum(runway, "runway")
+    undulation = _number(
+        runway,
+        "runway",
+        "geoid_undulation",
+        scale,
+        required=False,
+        at_least=-_UNDULATION_MAX_M,
+        at_most=_UNDULATION_MAX_M,
+        unit=units,
+    )
+    if undulation is not None and datum is None:
+        raise SiteFileError(
+            "runway.geoid_undulation",
+            'needs runway.vertical_datum ("EGM96", "EGM2008" or "WGS84"), the datum of the elevations',
+        )
+    return datum, undulation

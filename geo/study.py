@@ -13,6 +13,7 @@ from dataclasses import dataclass, field
 from geo import findings as checks
 from geo.arrays import antenna_heights_m, array_type, proximity_shifts_m
 from geo.channels import Channel, channel_for_glide_path, channel_for_localizer, wavelength_m
+from geo.dem_checks import check_dem_covers_site, dem_extent_in_errors
 from geo.errors import SiteFileError, TerrainError
 from geo.frame import RunwayFrame, geodesic_inverse
 from geo.path import (
@@ -26,6 +27,7 @@ from geo.prediction import ArrayModel, PathPrediction, predict_path
 from geo.profile import ApproachProfile, approach_profile
 from geo.protected import ZoneCover, zone_cover
 from geo.site import SiteSpec
+from geo.site_errors import naming_site_file
 from geo.surfaces import MastClearance, mast_clearance
 from geo.terrain import TerrainResult, analyse_terrain
 from geo.zones import ReflectionZone, reflection_zones
@@ -249,12 +251,24 @@ class TerrainSource:
         The raster's vertical datum, when it states one.
     vertical_offset_m : float
         Offset added to DEM heights. [m]
+    datum_conversion : DatumConversion or None
+        How DEM heights were moved into the site file's vertical datum.
+    datum_shift_at_mast_m : float
+        Size of that conversion at the mast (0 without one). [m]
+    cells_in_zone : int or None
+        DEM cell centres inside the zone the plane is fitted in.
+    dem_threshold_m : float or None
+        The DEM at the threshold (site's datum). [m]
     """
 
     dem_name: str
     vertical_unit_source: str
     vertical_datum: str | None
     vertical_offset_m: float
+    datum_conversion: object = None
+    datum_shift_at_mast_m: float = 0.0
+    cells_in_zone: int | None = None
+    dem_threshold_m: float | None = None
 
 
 def _placement(spec: SiteSpec, runway: Runway) -> tuple[str, float | None, float, str, str]:
@@ -304,6 +318,7 @@ def _solve_on_terrain(spec, runway, dem, side, setback, offset, lam, field_name,
     raise TerrainError("terrain: the setback for the target RDH did not settle; give mast.setback instead")
 
 
+@naming_site_file
 def run_study(spec: SiteSpec) -> StudyResult:
     """Run one site study, on flat ground or on the DEM of ``spec.terrain``.
 
@@ -332,7 +347,7 @@ def run_study(spec: SiteSpec) -> StudyResult:
     side, setback, offset, field_name, setback_source = _placement(spec, runway)
     solve = setback is None
     file_base = spec.mast.base_elevation_m
-    terrain = profile = source = None
+    terrain = profile = source = dem_finding = None
     if spec.terrain is None:
         base_m, base_source = (file_base, "site file") if file_base is not None else (thr_elev, "threshold elevation")
         if solve:
@@ -344,9 +359,13 @@ def run_study(spec: SiteSpec) -> StudyResult:
         from geo.dem import Dem
 
         t = spec.terrain
-        with Dem.open(t.dem_path, t.vertical_offset_m, t.vertical_unit) as dem:
+        with Dem.open(t) as dem, dem_extent_in_errors(dem):
             if solve:
                 setback = setback_for_rdh_m(spec.target_rdh_m, thr_elev, spec.angle_deg, thr_elev)
+            else:
+                _check_setback(setback, field_name, runway)
+            mast_at = [] if solve else [(setback, _SIGN[side] * offset)]
+            dem_finding, dem_threshold = check_dem_covers_site(dem, frame, thr_elev, mast_at)
             setback, terrain = _solve_on_terrain(spec, runway, dem, side, setback, offset, lam, field_name, solve)
             profile = approach_profile(
                 dem,
@@ -359,6 +378,7 @@ def run_study(spec: SiteSpec) -> StudyResult:
                 min(terrain.cell_size_m, 10.0),
             )
             source = TerrainSource(t.dem_path.name, dem.vertical_unit_source, dem.vertical_datum(), t.vertical_offset_m)
+            source = _dem_source_details(source, dem, frame, side, setback, offset, terrain, dem_threshold)
         base_m, base_source = terrain.ground_at_mast_m, "DEM"
         heights = terrain.heights_m
         plane_m, intercept_m = terrain.plane.elevation_at_mast_m, terrain.rpi_elevation_m
@@ -410,6 +430,9 @@ def run_study(spec: SiteSpec) -> StudyResult:
             found.append(checks.check_base_elevation(file_base, terrain.ground_at_mast_m))
         found += checks.check_roughness(terrain.roughness)
         found.append(
+            checks.check_dem_resolution(source.cells_in_zone, terrain.cell_size_m, terrain.zone.max_half_width_m)
+        )
+        found.append(
             checks.check_clearance(profile.min_clearance_m, profile.min_clearance_along_m, spec.terrain.min_clearance_m)
         )
     gu, gw = (terrain.plane.forward_gradient, terrain.plane.lateral_gradient) if terrain else (0.0, 0.0)
@@ -430,6 +453,8 @@ def run_study(spec: SiteSpec) -> StudyResult:
         spec, heights, shifts, feeds, lam, gu, gw, setback, offset, intercept_m - plane_m
     )
     found.append(checks.check_predicted_angle(prediction.path_angle_deg, spec.angle_deg))
+    if dem_finding is not None:
+        found.insert(0, dem_finding)  # the likely cause of every other odd height: shown first
     found = [f for f in found if f is not None]
     return StudyResult(
         spec, channel, lam, runway, mast, antennas, rdh, over_threshold, gpip, found,
@@ -480,3 +505,18 @@ def _predictions(spec, heights, shifts, feeds, lam, gu, gw, setback, offset, int
             "path angle; check prediction.csb_feed and prediction.sbo_feed",
         ) from None
     return shifted, unshifted
+
+
+def _dem_source_details(source, dem, frame, side, setback, offset, terrain, dem_threshold_m):
+    """The DEM facts the outputs state: tiles, datum conversion and its size at the mast, cells in the zone."""
+    from dataclasses import replace
+
+    lat, lon = frame.to_geographic(setback, _SIGN[side] * offset)
+    return replace(
+        source,
+        dem_name=dem.names,
+        datum_conversion=dem.conversion,
+        datum_shift_at_mast_m=dem.datum_shift_at(lat, lon),
+        cells_in_zone=dem.cells_in_zone(frame, side, setback, offset, terrain.zone.polygon),
+        dem_threshold_m=dem_threshold_m,
+    )

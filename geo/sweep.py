@@ -358,7 +358,7 @@ def run_sweep(spec: SiteSpec, options: SweepOptions) -> SweepResult:
         from geo.zones import antenna_zone
 
         t = spec.terrain
-        with Dem.open(t.dem_path, t.vertical_offset_m, t.vertical_unit) as dem:
+        with Dem.open(t) as dem:
             spacing = min(dem.cell_size_m(frame), 5.0)
             # Extent of the zones: exact zones of the extreme candidates on flat ground, with room for slopes.
             u_max, w_lo, w_hi = 0.0, 0.0, 0.0

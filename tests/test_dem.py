@@ -6,10 +6,13 @@ import rasterio
 from dem_helpers import write_dem
 from matplotlib import cbook
 from scipy.interpolate import RegularGridInterpolator
+from tests_support import DEMO_SITE
 
 from geo.dem import Dem, bilinear
-from geo.errors import TerrainError
+from geo.errors import SiteFileError, TerrainError
 from geo.frame import RunwayFrame
+from geo.site import load_site
+from geo.study import run_study
 
 
 def test_bilinear_is_exact_on_a_plane():
@@ -125,3 +128,102 @@ def test_unreadable_or_unreferenced_rasters(tmp_path):
         dst.write(np.zeros((4, 4), dtype="float32"), 1)
     with pytest.raises(TerrainError, match="no coordinate reference system"):
         Dem.open(plain)
+
+
+# ---- Cells in the zone, coarse DEMs, errors that name the site file and the DEM's extent ---------
+
+DEMO_DEM = DEMO_SITE.parent / "dem.tif"
+_FIXED_SETBACK = ("offset = 120\n", "offset = 120\nsetback = 300\n")
+
+
+def _demo_copy(folder, dem_name="dem.tif", replacements=()):
+    text = DEMO_SITE.read_text(encoding="utf-8").replace('dem = "dem.tif"', f'dem = "{dem_name}"')
+    for old, new in replacements:
+        assert old in text
+        text = text.replace(old, new)
+    path = folder / "site.toml"
+    path.write_text(text, encoding="utf-8")
+    return path
+
+
+def test_cells_in_the_zone_match_an_independent_count():
+    # Independent count: every cell centre of the demo DEM near the mast, taken to WGS 84 with pyproj and
+    # into the runway frame by its geodesic-free plane (RunwayFrame.to_plane), tested with shapely.
+    import shapely
+    from pyproj import Transformer
+
+    result = run_study(load_site(DEMO_SITE))
+    m, zone = result.mast, result.terrain.zone.polygon
+    with rasterio.open(DEMO_DEM) as ds:
+        z = ds.read(1, masked=True)
+        rows, cols = np.nonzero(~np.ma.getmaskarray(z))
+        x, y = rasterio.transform.xy(ds.transform, rows, cols, offset="center")
+        lon, lat = Transformer.from_crs(ds.crs.to_wkt(), "EPSG:4326", always_xy=True).transform(x, y)
+    along, cross = result.runway.frame.to_plane(np.asarray(lat), np.asarray(lon))
+    sign = 1.0 if m.side == "right" else -1.0
+    expected = int(shapely.contains_xy(zone, m.setback_m - along, m.offset_m - sign * cross).sum())
+    assert result.terrain_source.cells_in_zone == expected
+    assert expected > 30 and "dem-resolution" not in {f.code for f in result.findings}
+
+
+def test_a_coarse_dem_gets_the_resolution_warning(tmp_path):
+    # The demo DEM averaged over 6 x 6 cells: 30 m cells, wider than a third of the zone's half-width
+    # (thresholds of issue 10; common practice, no source).
+    with rasterio.open(DEMO_DEM) as src:
+        z = src.read(1).astype(np.float64)
+        profile = src.profile
+    rows, cols = (z.shape[0] // 6) * 6, (z.shape[1] // 6) * 6
+    coarse = z[:rows, :cols].reshape(rows // 6, 6, cols // 6, 6).mean(axis=(1, 3))
+    t = profile["transform"]
+    profile.update(
+        width=coarse.shape[1], height=coarse.shape[0], transform=rasterio.Affine(t.a * 6, 0, t.c, 0, t.e * 6, t.f)
+    )
+    with rasterio.open(tmp_path / "coarse.tif", "w", **profile) as dst:
+        dst.write(coarse.astype(profile["dtype"]), 1)
+    result = run_study(load_site(_demo_copy(tmp_path, "coarse.tif", [_FIXED_SETBACK])))
+    warning = {f.code: f for f in result.findings}["dem-resolution"]
+    assert warning.severity == "warning" and "lidar DEM" in warning.message and "5 m" in warning.message
+    assert result.terrain.cell_size_m == pytest.approx(30.0, abs=0.1)
+    cells = result.terrain_source.cells_in_zone
+    # Independent bound: the zone's area over the cell area (30 m x 30 m), within the cells the edge cuts.
+    area_cells = result.terrain.zone.area_m2 / 900.0
+    assert abs(cells - area_cells) < 0.5 * result.terrain.zone.polygon.length / 30.0 + 2
+
+
+def test_errors_found_by_the_study_name_the_site_file(write_site, site_text, tmp_path):
+    # Mast on the runway (surveyed position on the centre line) and setback past the end.
+    on_runway = site_text.replace(
+        'side = "right"\noffset = 130\nsetback = 290\n', "position = { lat = -35.4105, lon = 148.9215 }\n"
+    )
+    path = write_site(on_runway, "on_runway.toml")
+    with pytest.raises(SiteFileError, match="on the runway") as info:
+        run_study(load_site(path))
+    assert str(info.value).startswith(f"{path}: mast.position: ")
+    path = write_site(site_text.replace("setback = 290", "setback = 4000"), "past_end.toml")
+    with pytest.raises(SiteFileError, match="outside the") as info:
+        run_study(load_site(path))
+    assert str(info.value).startswith(f"{path}: mast.setback: ")
+
+
+def test_mast_off_the_dem_names_the_file_the_extent_and_the_crs(tmp_path):
+    # A window of the demo DEM that holds the threshold but stops 60 m north of the centre line.
+    result = run_study(load_site(DEMO_SITE))
+    with rasterio.open(DEMO_DEM) as src:
+        row, _ = src.index(*_to_crs(src, result.runway.frame.to_geographic(0.0, 60.0)))
+        window = rasterio.windows.Window(0, row, src.width, src.height - row)
+        profile = src.profile | {"height": window.height, "transform": src.window_transform(window)}
+        with rasterio.open(tmp_path / "south.tif", "w", **profile) as dst:
+            dst.write(src.read(1, window=window), 1)
+    site = _demo_copy(tmp_path, "south.tif", [_FIXED_SETBACK])
+    with pytest.raises(TerrainError) as info:
+        run_study(load_site(site))
+    text = str(info.value)
+    assert text.startswith(f"{site}: terrain.dem: the mast at lat ")
+    assert "the DEM covers south.tif x 327500.0 to " in text and "(EPSG:32614)" in text
+
+
+def _to_crs(ds, lat_lon):
+    from pyproj import Transformer
+
+    lat, lon = lat_lon
+    return Transformer.from_crs("EPSG:4326", ds.crs.to_wkt(), always_xy=True).transform(lon, lat)

@@ -135,8 +135,10 @@ def terrain_dict(result: StudyResult) -> dict:
         "vertical_unit_source": src.vertical_unit_source,
         "vertical_datum": src.vertical_datum or "not stated by the DEM",
         "vertical_offset_m": src.vertical_offset_m,
-        "datum_caution": "DEM heights must be in the vertical datum of the surveyed threshold and end "
-        "elevations; mastplan converts no vertical datum (use terrain.vertical_offset).",
+        "datum_caution": _datum_caution(src),
+        "vertical_datum_conversion": datum_conversion_dict(src),
+        "dem_cells_in_zone": src.cells_in_zone,
+        "dem_at_threshold_m": src.dem_threshold_m,
         "cell_size_m": t.cell_size_m,
         "sample_spacing_m": t.sample_spacing_m,
         "forward_slope_deg": t.forward_slope_deg,
@@ -222,4 +224,35 @@ def prediction_dict(result: StudyResult) -> dict:
         "tone_modulation_percent": 40.0,
         "scope": "CSB/SBO course signals by image theory over the reflecting plane; clearance signals, "
         "multipath from objects and receiver effects are out of scope.",
+    }
+
+
+def _datum_caution(src) -> str:
+    conversion = src.datum_conversion
+    if conversion is None or conversion.dem_datum is None or conversion.survey_datum is None:
+        return (
+            "DEM heights must be in the vertical datum of the surveyed threshold and end elevations; "
+            "without runway.vertical_datum and terrain.vertical_datum mastplan converts no vertical datum "
+            "(use terrain.vertical_offset)."
+        )
+    return (
+        f"DEM heights ({conversion.dem_datum}) are converted into the site file's datum ({conversion.survey_datum}) "
+        "as stated under vertical_datum_conversion; check both datums against the survey report."
+    )
+
+
+def datum_conversion_dict(src) -> dict:
+    """The vertical datum conversion applied to the DEM and its size at the mast (metre keys)."""
+    conversion = src.datum_conversion
+    if conversion is None:
+        return {"applied": False, "description": "none", "shift_at_mast_m": 0.0}
+    return {
+        "applied": conversion.applied,
+        "from": conversion.dem_datum,
+        "to": conversion.survey_datum,
+        "method": conversion.method,
+        "grids": list(conversion.grids),
+        "geoid_undulation_m": conversion.undulation_m,
+        "description": conversion.describe(),
+        "shift_at_mast_m": src.datum_shift_at_mast_m,
     }

@@ -143,7 +143,7 @@ def _hillshade_overlay(result: StudyResult, path_bounds):
 
     t = result.spec.terrain
     west, south, east, north = path_bounds
-    with Dem.open(t.dem_path, t.vertical_offset_m, t.vertical_unit) as dem:
+    with Dem.open(t) as dem:
         z, (x0, y0, x1, y1), cell = dem.warped(west, south, east, north, "EPSG:3857", max_size=900)
     # Web Mercator cells are stretched by 1 / cos(lat) on the ground.
     scale = np.cos(np.radians((south + north) / 2.0))
