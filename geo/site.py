@@ -22,7 +22,7 @@ from geo.arrays import ARRAY_TYPES
 from geo.channels import CHANNEL_PAIRS_MHZ, GLIDE_PATH_BAND_MHZ
 from geo.errors import SiteFileError
 from geo.surfaces import DEFAULT_SURFACES, SurfaceSpec, surfaces_for_code
-from geo.units import LENGTH_UNITS
+from geo.units import LENGTH_UNITS, format_length
 
 __all__ = [
     "GeoPoint",
@@ -597,8 +597,8 @@ def _mast(mast: dict, scale: float, units: str, width_m: float, target_rdh_m) ->
     if offset_m <= width_m / 2.0:
         raise SiteFileError(
             "mast.offset",
-            f"{offset_m / scale:g} {units} puts the mast on the runway "
-            f"(half-width {width_m / 2.0 / scale:g} {units}); give the distance from the centre line",
+            f"{format_length(offset_m, units, 1)} puts the mast on the runway "
+            f"(half-width {format_length(width_m / 2.0, units, 1)}); give the distance from the centre line",
         )
     setback_m = _number(
         mast,
@@ -693,6 +693,8 @@ def _number(
     converted = float(value) * scale
 
     def bound(x: float) -> str:
+        if unit in LENGTH_UNITS:  # the file's unit first, the other beside it
+            return format_length(x, unit, 1)
         return f"{x / scale:g} {unit}"
 
     if above is not None and not converted > above:
