@@ -46,7 +46,7 @@ def summary_text(result: StudyResult) -> str:
         lines += [
             f"Terrain ({result.terrain_source.dem_name}): forward slope {t.forward_slope_deg:+.3f} deg, "
             f"lateral slope {t.lateral_slope_deg:+.3f} deg, RPI {_len(t.rpi_elevation_m)}, "
-            f"RMS about the plane {_len(t.plane.rms_residual_m, 3)} ({t.plane.samples} samples)",
+            f"RMS about the plane {_len(t.plane.rms_residual_m, 3)} ({t.plane.samples:,} samples)",
             f"Approach: smallest path clearance {_len(result.profile.min_clearance_m)} "
             f"at {_len(result.profile.min_clearance_along_m, 0)} from the threshold",
         ]
