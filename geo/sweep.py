@@ -492,7 +492,7 @@ def run_sweep(spec: SiteSpec, options: SweepOptions) -> SweepResult:
                 f"against {_len(required, units)} required)"
             )
         if not 0.0 <= gpip[k] <= runway.length_m:
-            why.append("GPIP off the runway")
+            why.append(f"GPIP off the runway ({_len(gpip[k], units, 1)} from the threshold)")
         reasons.append("; ".join(why))
     feasible = np.array([r == "" for r in reasons])
     target = options.rdh_target_m if options.rdh_target_m is not None else (spec.target_rdh_m or 15.5)

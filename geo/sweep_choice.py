@@ -180,8 +180,12 @@ def rank_candidates(columns: dict, reasons: list[str], criterion: str, rdh_targe
                 why = "less cut + fill"
             elif margin[prev] > margin[k]:
                 why = f"a larger {_CRITERION_NAMES.get(criterion, criterion)} margin"
+            elif setback[prev] < setback[k]:
+                why = "the smaller setback"
+            elif offset[prev] < offset[k]:
+                why = "the smaller offset"
             else:
-                why = "a smaller setback, offset or the left side"
+                why = "the left side (otherwise equal)"
             notes[k] = f"score shows as rank {pos}'s {format_number(shown[k], 1)}; rank {pos} has {why}"
     return rank, notes
 

@@ -92,6 +92,8 @@ def test_rank_column_sorted_and_the_top_ten_on_screen(demo_default):
     assert len(feasible) >= 10 and "Top 10 by rank:" in output
     listed = [line for line in output.splitlines() if re.match(r"\s+\d+\. (left|right) side", line)]
     assert [int(line.split(".")[0]) for line in listed] == list(range(1, 11))
+    page = (out / "best" / "map.html").read_text()
+    assert "mastplan-score-legend" in page and "rank 1; right side, setback" in page
 
 
 def test_ties_are_broken_and_explained():
