@@ -33,7 +33,8 @@ from geo.fresnel import exact_ellipses
 from geo.roughness import CRITERIA
 from geo.site import SiteSpec
 from geo.surfaces import SurfaceSpec, mast_clearance
-from geo.sweep_choice import _CRITERION_NAMES, _len, clearance_reasons
+from geo.sweep_choice import CRITERION_NAMES, clearance_reasons
+from geo.units import format_length
 from geo.zones import RANGE_M, path_receivers
 
 __all__ = ["SweepOptions", "SweepResult", "run_sweep", "candidate_grid", "best_site"]
@@ -344,11 +345,13 @@ def run_sweep(spec: SiteSpec, options: SweepOptions) -> SweepResult:
     sign, setback, offset = candidate_grid(options)
     if np.any(offset <= runway.width_m / 2.0):
         raise SiteFileError(
-            "--offset", f"offsets must exceed the runway half-width {_len(runway.width_m / 2, spec.units, 1)}"
+            "--offset",
+            f"offsets must exceed the runway half-width {format_length(runway.width_m / 2, spec.units, 1)}",
         )
     if np.any((setback <= 0.0) | (setback >= runway.length_m)):
         raise SiteFileError(
-            "--setback", f"setbacks must lie between 0 and the runway length {_len(runway.length_m, spec.units, 1)}"
+            "--setback",
+            f"setbacks must lie between 0 and the runway length {format_length(runway.length_m, spec.units, 1)}",
         )
     kind = array_type(spec.array)
     c = setback.size
@@ -479,20 +482,21 @@ def run_sweep(spec: SiteSpec, options: SweepOptions) -> SweepResult:
         if not np.all(np.isfinite(heights[k])):
             why.append("ground too steep for an image array")
         if not low <= rdh[k] <= high:
-            why.append(f"RDH {_len(rdh[k], units)} outside {_len(low, units)} to {_len(high, units)}")
+            band = f"{format_length(low, units)} to {format_length(high, units)}"
+            why.append(f"RDH {format_length(rdh[k], units)} outside {band}")
         if margins[options.roughness_criterion][k] < 0:
             why.append(
-                f"rough by the {_CRITERION_NAMES[options.roughness_criterion]} criterion "
-                f"(margin {_len(margins[options.roughness_criterion][k], units, 3, signed=True)})"
+                f"rough by the {CRITERION_NAMES[options.roughness_criterion]} criterion "
+                f"(margin {format_length(margins[options.roughness_criterion][k], units, 3, signed=True)})"
             )
         why += clearance_reasons(clearance, k, surf, units)
         if np.isfinite(min_clearance[k]) and min_clearance[k] < required:
             why.append(
-                f"approach terrain too close to the path ({_len(min_clearance[k], units)} "
-                f"against {_len(required, units)} required)"
+                f"approach terrain too close to the path ({format_length(min_clearance[k], units)} "
+                f"against {format_length(required, units)} required)"
             )
         if not 0.0 <= gpip[k] <= runway.length_m:
-            why.append(f"GPIP off the runway ({_len(gpip[k], units, 1)} from the threshold)")
+            why.append(f"GPIP off the runway ({format_length(gpip[k], units, 1)} from the threshold)")
         reasons.append("; ".join(why))
     feasible = np.array([r == "" for r in reasons])
     target = options.rdh_target_m if options.rdh_target_m is not None else (spec.target_rdh_m or 15.5)

@@ -34,6 +34,7 @@ from geo.units import format_length, format_number
 
 __all__ = [
     "ROUGH_PREFIX",
+    "CRITERION_NAMES",
     "RANK_TEXT",
     "clearance_reasons",
     "rank_candidates",
@@ -45,7 +46,8 @@ __all__ = [
 #: Every roughness reason starts with these words (near-feasible candidates are found by them).
 ROUGH_PREFIX = "rough by the"
 
-_CRITERION_NAMES = {"rayleigh": "Rayleigh", "fraunhofer": "Fraunhofer", "iev": "IEV"}
+#: Roughness criteria as their sources name them.
+CRITERION_NAMES = {"rayleigh": "Rayleigh", "fraunhofer": "Fraunhofer", "iev": "IEV"}
 
 RANK_TEXT = (
     "feasible candidates first, by score; equal scores are ordered by less cut + fill, then the "
@@ -179,7 +181,7 @@ def rank_candidates(columns: dict, reasons: list[str], criterion: str, rdh_targe
             elif volume[prev] < volume[k]:
                 why = "less cut + fill"
             elif margin[prev] > margin[k]:
-                why = f"a larger {_CRITERION_NAMES.get(criterion, criterion)} margin"
+                why = f"a larger {CRITERION_NAMES.get(criterion, criterion)} margin"
             elif setback[prev] < setback[k]:
                 why = "the smaller setback"
             elif offset[prev] < offset[k]:
