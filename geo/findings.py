@@ -248,13 +248,15 @@ def check_clearance(min_clearance_m: float, along_m: float, required_m: float, u
             "clearance",
             "pass",
             f"The path clears the approach terrain by at least {_ft(min_clearance_m, unit)} ({where}); "
-            f"required {_ft(required_m, unit)} (terrain.min_clearance).",
+            f"required {_ft(required_m, unit)} (terrain.min_clearance), margin "
+            f"{_ft(min_clearance_m - required_m, unit, signed=True)}.",
         )
     return Finding(
         "clearance",
         "fail",
         f"The path clears the approach terrain by only {_ft(min_clearance_m, unit)} ({where}); "
-        f"required {_ft(required_m, unit)} (terrain.min_clearance). Obstacles are not in the DEM: "
+        f"required {_ft(required_m, unit)} (terrain.min_clearance), margin "
+        f"{_ft(min_clearance_m - required_m, unit, signed=True)}. Obstacles are not in the DEM: "
         "survey them separately.",
     )
 

@@ -96,6 +96,8 @@ def test_clearance_required_in_both_units():
     # terrain.min_clearance = 30 ft is 9.144 m exactly (the "required 9.144 m" without feet).
     f = check_clearance(12.0, -500.0, 9.144, unit="ft")
     assert "required 30.00 ft (9.14 m)" in f.message and "1,640 ft (500 m) before the threshold" in f.message
+    # 12 m = 39.37 ft; margin 12 - 9.144 = +2.856 m = +9.37 ft.
+    assert "margin +9.37 ft (+2.86 m)" in f.message
 
 
 def test_errors_name_both_units(write_site):
