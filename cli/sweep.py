@@ -29,6 +29,16 @@ def _range(values, name: str, unit: str) -> tuple[float, ...]:
     return tuple(from_unit(start + i * step, unit) for i in range(count))
 
 
+def _surveyed_side(spec) -> str:
+    """The side of a surveyed mast position (``"both"`` without one)."""
+    if spec.mast.position is None:
+        return "both"
+    from geo.study import runway_of
+
+    _, cross = runway_of(spec).frame.to_plane(spec.mast.position.lat_deg, spec.mast.position.lon_deg)
+    return "right" if cross > 0 else "left"
+
+
 @click.command("sweep")
 @click.argument("site", type=click.Path(dir_okay=False, path_type=Path))
 @out_option
@@ -53,7 +63,7 @@ def _range(values, name: str, unit: str) -> tuple[float, ...]:
     "--side",
     type=click.Choice(["left", "right", "both"]),
     default=None,
-    help="Side(s) of the runway to try. [default: the site file's mast.side; both when it gives a position]",
+    help="Side(s) of the runway to try. [default: the site file's mast side]",
 )
 @click.option(
     "--solve-setback",
@@ -114,7 +124,7 @@ def sweep(
     setbacks = _range(setback or DEFAULT_SETBACKS[unit], "--setback", unit)
     offsets = _range(offset or DEFAULT_OFFSETS[unit], "--offset", unit)
     if side is None:
-        side = spec.mast.side or "both"
+        side = spec.mast.side or _surveyed_side(spec)
     low, high, _, _ = rdh_band_m(spec.category, spec.runway_code)
     band = (from_unit(rdh_band[0], unit), from_unit(rdh_band[1], unit)) if rdh_band else (low, high)
     options = SweepOptions(

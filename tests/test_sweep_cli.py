@@ -168,3 +168,19 @@ def test_a_mast_in_the_obstacle_free_zone_is_infeasible(tmp_path):
         else:
             assert "obstacle free zone" not in r["reasons"]
     assert not any(r["feasible"] == "True" and float(r["offset_m"]) <= 80.0 for r in _rows(out))
+
+
+def test_the_side_of_a_surveyed_position_is_the_default(tmp_path, write_site):
+    from geo.site import load_site
+    from geo.study import run_study
+
+    # Place the mast on the left side by side/offset/setback, then give its position instead (the study's
+    # own geodesic placement), and sweep without --side: only the left side.
+    left = run_study(load_site(write_site(FEET_SITE.replace('side = "right"', 'side = "left"'), "left.toml")))
+    text = FEET_SITE.replace(
+        'side = "right"\noffset = 400\nsetback = 1000',
+        f"position = {{ lat = {left.mast.lat_deg:.9f}, lon = {left.mast.lon_deg:.9f} }}",
+    )
+    res = _run("sweep", write_site(text), "--out", tmp_path / "p", "--setback", 1000, 1000, 10, "--no-plots")
+    assert res.exit_code == 0, res.output
+    assert {r["side"] for r in _rows(tmp_path / "p")} == {"left"}

@@ -350,7 +350,7 @@ def _candidates_legend() -> str:
         for v in (0, 20, 40, 60, 80, 100)
     )
     return (
-        "<div class='mastplan-score-legend' style='position:fixed;bottom:28px;left:10px;z-index:1000;"
+        "<div class='mastplan-score-legend' style='position:fixed;bottom:48px;left:10px;z-index:1000;"
         "background:#fff;padding:6px 8px;border:1px solid #999;border-radius:4px;font:12px sans-serif'>"
         f"<b>Sweep candidates: score</b><br>0 {steps} 100<br>"
         f"<span style='display:inline-block;width:10px;height:10px;border-radius:5px;background:{_score_colour(None)}'>"
