@@ -184,3 +184,18 @@ def test_the_side_of_a_surveyed_position_is_the_default(tmp_path, write_site):
     res = _run("sweep", write_site(text), "--out", tmp_path / "p", "--setback", 1000, 1000, 10, "--no-plots")
     assert res.exit_code == 0, res.output
     assert {r["side"] for r in _rows(tmp_path / "p")} == {"left"}
+
+
+def test_the_site_file_may_accept_a_mast_in_the_obstacle_free_zone(tmp_path, write_site):
+    # Flat ground, 200 ft (60.96 m) from the centre line: the inner transitional surface (33.3 % from 60 m,
+    # Annex 14 Table 4-1, memory) is under 0.4 m high there, far below a mast about 9.6 m high.
+    args = ("--setback", 1000, 1000, 10, "--offset", 200, 200, 10, "--no-plots")
+    res = _run("sweep", write_site(FEET_SITE), "--out", tmp_path / "no", *args)
+    assert res.exit_code == 0, res.output
+    (row,) = _rows(tmp_path / "no")
+    assert row["feasible"] == "False" and "mast in the obstacle free zone" in row["reasons"]
+    allowed = write_site(FEET_SITE + "[surfaces]\nallow_in_obstacle_free_zone = true\n", "allowed.toml")
+    res = _run("sweep", allowed, "--out", tmp_path / "yes", *args)
+    assert res.exit_code == 0, res.output
+    (row,) = _rows(tmp_path / "yes")
+    assert row["feasible"] == "True" and row["reasons"] == ""
