@@ -302,6 +302,26 @@ def check_mast_clearance(clearance, spec, unit: str = "m") -> Finding:
     objects that must stand there for air navigation may (Annex 14 Vol I, Chapter 1 and
     4.2.15-4.2.17, from memory). A penetration of the transitional surface is a warning. Every
     surface is named with its margin.
+
+    Parameters
+    ----------
+    clearance : geo.surfaces.MastClearance
+        One mast's clearance (scalars), with the obstacle free zone when the setback was given.
+    spec : geo.surfaces.SurfaceSpec
+        The surfaces used (their source is quoted).
+    unit : {"m", "ft"}
+        The site file's length unit, shown first.
+
+    Returns
+    -------
+    Finding
+        Code ``"mast-clearance"``.
+
+    References
+    ----------
+    See :mod:`geo.surfaces`: ICAO Annex 14 Vol I, Chapter 1 (obstacle free zone), 4.1 and
+    Table 4-1 (the surfaces), 4.2.15-4.2.17 and 9.9 (objects on the strip and in the zone); all
+    from memory, to be confirmed against the edition in force.
     """
     import math
 

@@ -140,6 +140,7 @@ def test_solved_setbacks_agree_with_the_study_solver(tmp_path):
     assert res.exit_code == 0, res.output
     rows = _rows(out)
     assert len(rows) == 4
+    assert json.loads((out / "summary.json").read_text())["options"]["setbacks_solved_for_target_rdh"] is True
     spec = load_site(DEMO_SITE)
     for r in rows:
         assert float(r["rdh_m"]) == pytest.approx(spec.target_rdh_m, abs=0.01)

@@ -109,6 +109,7 @@ def sweep_summary(spec: SiteSpec, sweep: SweepResult, options) -> dict:
                 "sides": list(options.sides),
                 "rdh_band_m": list(options.rdh_band_m),
                 "roughness_criterion": options.roughness_criterion,
+                "setbacks_solved_for_target_rdh": bool(getattr(options, "paired", False)),
             },
             "grid_spacing_m": sweep.grid_spacing_m,
             "score": SCORE_TEXT,
