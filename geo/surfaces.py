@@ -27,7 +27,10 @@ References
        code 3-4 precision approach runway; code 1-2: inner approach half-width 45 m, 2.5 %,
        inner transitional 40 %, balked landing 3.33 %); 4.2.15-4.2.17 (no fixed objects above
        these surfaces except frangible ones that must be there for air navigation). All from
-       memory: confirm against the edition in force.
+       memory: confirm against the edition in force. For Category I these three surfaces are,
+       as we recall, a recommendation (4.2.13) and a standard for Categories II and III; mastplan
+       treats the obstacle free zone as a limit for every category, and the site file can accept
+       a mast in it (``[surfaces] allow_in_obstacle_free_zone = true``).
 """
 
 from __future__ import annotations
