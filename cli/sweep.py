@@ -8,17 +8,35 @@ import click
 
 from cli.common import out_option, overwrite_option, plots_option, quiet_option, reports_errors
 
+#: Default grids in the site file's unit: FROM, TO, STEP (the FAA AIM 1-1-9 typical ranges,
+#: 750-1,250 ft down the runway and 250-650 ft from the centre line, in round steps of each unit).
+DEFAULT_SETBACKS = {"m": (230.0, 380.0, 10.0), "ft": (750.0, 1250.0, 25.0)}
+DEFAULT_OFFSETS = {"m": (75.0, 200.0, 25.0), "ft": (250.0, 650.0, 50.0)}
 
-def _range(values, name: str, scale: float) -> tuple[float, ...]:
+
+def _range(values, name: str, unit: str) -> tuple[float, ...]:
+    """FROM TO STEP in the site file's unit -> metres."""
     from geo.errors import SiteFileError
+    from geo.units import format_number, from_unit
 
     start, stop, step = values
     if not (step > 0 and stop >= start):
-        raise SiteFileError(name, f"give FROM TO STEP with TO >= FROM and STEP > 0 (got {start:g} {stop:g} {step:g})")
+        shown = " ".join(format_number(v, 1) for v in values)
+        raise SiteFileError(name, f"give FROM TO STEP in {unit} with TO >= FROM and STEP > 0 (got {shown})")
     count = int((stop - start) / step + 1e-9) + 1
     if count > 5000:
-        raise SiteFileError(name, f"{count} values; use a larger STEP (at most 5000 values)")
-    return tuple((start + i * step) * scale for i in range(count))
+        raise SiteFileError(name, f"{count:,} values; use a larger STEP (at most 5,000 values)")
+    return tuple(from_unit(start + i * step, unit) for i in range(count))
+
+
+def _surveyed_side(spec) -> str:
+    """The side of a surveyed mast position (``"both"`` without one)."""
+    if spec.mast.position is None:
+        return "both"
+    from geo.study import runway_of
+
+    _, cross = runway_of(spec).frame.to_plane(spec.mast.position.lat_deg, spec.mast.position.lon_deg)
+    return "right" if cross > 0 else "left"
 
 
 @click.command("sweep")
@@ -30,7 +48,8 @@ def _range(values, name: str, scale: float) -> tuple[float, ...]:
     type=float,
     default=None,
     metavar="FROM TO STEP",
-    help="Setbacks to try, in the site file's units. [default: 750-1,250 ft in 10 m steps]",
+    help="Setbacks to try, in the site file's unit. [default: 230-380 m in 10 m steps, or 750-1,250 ft in 25 ft "
+    "steps for a site file in feet]",
 )
 @click.option(
     "--offset",
@@ -38,9 +57,20 @@ def _range(values, name: str, scale: float) -> tuple[float, ...]:
     type=float,
     default=None,
     metavar="FROM TO STEP",
-    help="Offsets to try, in the site file's units. [default: 250-650 ft in 25 m steps]",
+    help="Offsets to try, in the site file's unit. [default: 75-200 m in 25 m steps, or 250-650 ft in 50 ft steps]",
 )
-@click.option("--side", type=click.Choice(["left", "right", "both"]), default="both", show_default=True)
+@click.option(
+    "--side",
+    type=click.Choice(["left", "right", "both"]),
+    default=None,
+    help="Side(s) of the runway to try. [default: the site file's mast side]",
+)
+@click.option(
+    "--solve-setback",
+    is_flag=True,
+    help="At each side and offset, the setback that meets the target RDH (glide_path.target_rdh, else "
+    "15.5 m) on the candidate's own reflecting plane, instead of a grid of setbacks.",
+)
 @click.option(
     "--criterion",
     type=click.Choice(["rayleigh", "fraunhofer", "iev"]),
@@ -65,7 +95,8 @@ def sweep(
     out_dir: str,
     setback,
     offset,
-    side: str,
+    side: str | None,
+    solve_setback: bool,
     criterion: str,
     rdh_band,
     overwrite: bool,
@@ -76,39 +107,39 @@ def sweep(
 
     Example: mastplan sweep site.toml --out sweep/ --setback 230 380 5 --offset 80 200 20
     """
+    from geo.errors import SiteFileError
     from geo.findings import rdh_band_m
-    from geo.outputs.sweep_out import SCORE_TEXT
+    from geo.outputs.sweep_out import SCORE_TEXT, sweep_text
     from geo.outputs.write import write_sweep
     from geo.site import load_site
     from geo.study import run_study
     from geo.sweep import SweepOptions, best_site, run_sweep
-    from geo.units import LENGTH_UNITS
+    from geo.sweep_choice import RANK_TEXT, add_ranks, solve_setbacks
+    from geo.units import from_unit
 
     spec = load_site(site)
-    scale = LENGTH_UNITS[spec.units]
-    setbacks = _range(setback, "--setback", scale) if setback else tuple(228.6 + 10.0 * i for i in range(16))
-    offsets = _range(offset, "--offset", scale) if offset else tuple(76.2 + 25.0 * i for i in range(5))
+    unit = spec.units
+    if solve_setback and setback:
+        raise SiteFileError("--setback", "give either --setback or --solve-setback, not both")
+    setbacks = _range(setback or DEFAULT_SETBACKS[unit], "--setback", unit)
+    offsets = _range(offset or DEFAULT_OFFSETS[unit], "--offset", unit)
+    if side is None:
+        side = spec.mast.side or _surveyed_side(spec)
     low, high, _, _ = rdh_band_m(spec.category, spec.runway_code)
-    band = (rdh_band[0] * scale, rdh_band[1] * scale) if rdh_band else (low, high)
+    band = (from_unit(rdh_band[0], unit), from_unit(rdh_band[1], unit)) if rdh_band else (low, high)
     options = SweepOptions(
         setbacks, offsets, ("left", "right") if side == "both" else (side,), band, roughness_criterion=criterion
     )
-    result = run_sweep(spec, options)
+    if solve_setback:
+        result, options, _ = solve_setbacks(spec, options)
+    else:
+        result = run_sweep(spec, options)
+    add_ranks(result, options, spec)
     best_spec = best_site(spec, result)
     best = run_study(best_spec) if best_spec is not None else None
     folder = write_sweep(spec, result, options, best, out_dir, overwrite=overwrite, plots=plots)
     if not quiet:
-        c = result.columns
-        feasible = int(c["feasible"].sum())
-        click.echo(f"{len(result)} candidates, {feasible} feasible.")
-        if result.best is not None:
-            k = result.best
-            click.echo(
-                f"Best: {c['side'][k]} side, setback {c['setback_m'][k]:.1f} m, offset {c['offset_m'][k]:.1f} m, "
-                f"RDH {c['rdh_m'][k]:.2f} m, cut {c['cut_m3'][k]:.0f} m3, fill {c['fill_m3'][k]:.0f} m3, "
-                f"score {c['score'][k]:.1f} (full study in {folder / 'best'})"
-            )
-        else:
-            click.echo("No candidate is feasible; see the reasons in sweep.csv.")
+        click.echo(sweep_text(spec, result, options, folder / "best" if best is not None else None))
         click.echo(f"Score: {SCORE_TEXT}")
+        click.echo(f"Ranking: {RANK_TEXT}")
         click.echo(f"Results written to {folder}")

@@ -24,7 +24,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from geo.units import M_PER_FT
+from geo.units import M_PER_FT, format_area, format_length, format_number, to_unit
 
 __all__ = [
     "Finding",
@@ -79,8 +79,19 @@ class Finding:
     message: str
 
 
-def _ft(value_m: float) -> str:
-    return f"{value_m:.2f} m ({value_m / M_PER_FT:.1f} ft)"
+def _ft(value_m: float, unit: str = "m", decimals: int = 2, signed: bool = False) -> str:
+    """A length in the site file's unit first, the other beside it (:func:`geo.units.format_length`)."""
+    return format_length(value_m, unit, decimals, signed)
+
+
+def _band(low_m: float, high_m: float, unit: str = "m", decimals: int = 1) -> str:
+    """A range of lengths, e.g. ``"15.0-18.0 m (49.2-59.1 ft)"``."""
+    other = "m" if unit == "ft" else "ft"
+
+    def text(u):
+        return f"{format_number(to_unit(low_m, u), decimals)}-{format_number(to_unit(high_m, u), decimals)} {u}"
+
+    return f"{text(unit)} ({text(other)})"
 
 
 def rdh_band_m(category: str, runway_code: int | None) -> tuple[float, float, str, str]:
@@ -108,24 +119,24 @@ def rdh_band_m(category: str, runway_code: int | None) -> tuple[float, float, st
     return 15.0, 18.0, "warning", "Annex 10 Vol I 3.1.5.1.5, Category I: 15 m +3 m (recommended)"
 
 
-def check_rdh(rdh_m: float, category: str, runway_code: int | None) -> Finding:
-    """RDH against the Annex 10 band [1]_."""
+def check_rdh(rdh_m: float, category: str, runway_code: int | None, unit: str = "m") -> Finding:
+    """RDH against the Annex 10 band [1]_; lengths in ``unit`` first."""
     low, high, severity, rule = rdh_band_m(category, runway_code)
     if low - 1e-9 <= rdh_m <= high + 1e-9:
-        return Finding("rdh", "pass", f"RDH {_ft(rdh_m)} is within {low:g}-{high:g} m ({rule}).")
+        return Finding("rdh", "pass", f"RDH {_ft(rdh_m, unit)} is within {_band(low, high, unit)} ({rule}).")
     where = "below" if rdh_m < low else "above"
-    return Finding("rdh", severity, f"RDH {_ft(rdh_m)} is {where} {low:g}-{high:g} m ({rule}).")
+    return Finding("rdh", severity, f"RDH {_ft(rdh_m, unit)} is {where} {_band(low, high, unit)} ({rule}).")
 
 
-def check_target_rdh(rdh_m: float, target_rdh_m: float, tolerance_m: float = 0.05) -> Finding | None:
+def check_target_rdh(rdh_m: float, target_rdh_m: float, tolerance_m: float = 0.05, unit: str = "m") -> Finding | None:
     """RDH against the site file's target, when both a setback and a target are given."""
     if abs(rdh_m - target_rdh_m) <= tolerance_m:
         return None
     return Finding(
         "rdh-target",
         "warning",
-        f"RDH {_ft(rdh_m)} differs from the target {_ft(target_rdh_m)} by "
-        f"{rdh_m - target_rdh_m:+.2f} m; move the mast or drop the setback to solve it.",
+        f"RDH {_ft(rdh_m, unit)} differs from the target {_ft(target_rdh_m, unit)} by "
+        f"{_ft(rdh_m - target_rdh_m, unit, signed=True)}; move the mast or drop the setback to solve it.",
     )
 
 
@@ -142,7 +153,7 @@ def check_angle(angle_deg: float) -> Finding:
     )
 
 
-def check_typical_siting(setback_m: float, offset_m: float) -> list[Finding]:
+def check_typical_siting(setback_m: float, offset_m: float, unit: str = "m") -> list[Finding]:
     """Setback and offset against the FAA AIM typical ranges [3]_ (not requirements)."""
     out = []
     for code, value, (low, high), what in (
@@ -154,8 +165,8 @@ def check_typical_siting(setback_m: float, offset_m: float) -> list[Finding]:
             Finding(
                 code,
                 "pass" if inside else "info",
-                f"Mast {what} {_ft(value)} is {'within' if inside else 'outside'} the typical "
-                f"{low / M_PER_FT:,.0f}-{high / M_PER_FT:,.0f} ft "
+                f"Mast {what} {_ft(value, unit, 1)} is {'within' if inside else 'outside'} the typical "
+                f"{_band(low, high, unit, 0)} "
                 "(FAA AIM 1-1-9; a typical range, not a requirement).",
             )
         )
@@ -178,38 +189,38 @@ def check_channel(glide_path_mhz: float, localizer_mhz: float | None) -> Finding
     )
 
 
-def check_gpip(gpip_along_m: float, runway_length_m: float) -> Finding | None:
+def check_gpip(gpip_along_m: float, runway_length_m: float, unit: str = "m") -> Finding | None:
     """The GPIP must lie on the runway."""
     if 0.0 <= gpip_along_m <= runway_length_m:
         return None
     return Finding(
         "gpip",
         "fail",
-        f"The glide path meets the runway profile {_ft(gpip_along_m)} from the threshold, "
-        f"off the {_ft(runway_length_m)} runway.",
+        f"The glide path meets the runway profile {_ft(gpip_along_m, unit, 1)} from the threshold, "
+        f"off the {_ft(runway_length_m, unit, 1)} runway.",
     )
 
 
-def check_base_elevation(site_file_m: float, dem_m: float, tolerance_m: float = 0.5) -> Finding:
+def check_base_elevation(site_file_m: float, dem_m: float, tolerance_m: float = 0.5, unit: str = "m") -> Finding:
     """The site file's mast ground against the DEM (more than 0.5 m apart: a warning)."""
     diff = site_file_m - dem_m
     if abs(diff) <= tolerance_m:
         return Finding(
             "base-elevation",
             "pass",
-            f"Mast ground in the site file {_ft(site_file_m)} agrees with the DEM {_ft(dem_m)} "
-            f"within {tolerance_m:g} m.",
+            f"Mast ground in the site file {_ft(site_file_m, unit)} agrees with the DEM {_ft(dem_m, unit)} "
+            f"within {_ft(tolerance_m, unit)}.",
         )
     return Finding(
         "base-elevation",
         "warning",
-        f"Mast ground in the site file {_ft(site_file_m)} differs from the DEM {_ft(dem_m)} by "
-        f"{diff:+.2f} m; check the survey, the DEM's vertical datum and terrain.vertical_offset. "
+        f"Mast ground in the site file {_ft(site_file_m, unit)} differs from the DEM {_ft(dem_m, unit)} by "
+        f"{_ft(diff, unit, signed=True)}; check the survey, the DEM's vertical datum and terrain.vertical_offset. "
         "The study uses the DEM.",
     )
 
 
-def check_roughness(verdicts) -> list[Finding]:
+def check_roughness(verdicts, unit: str = "m") -> list[Finding]:
     """Roughness of the reflection zone against each criterion (see :mod:`geo.roughness`)."""
     out = []
     for v in verdicts:
@@ -222,33 +233,35 @@ def check_roughness(verdicts) -> list[Finding]:
             Finding(
                 f"roughness-{v.criterion}",
                 severity,
-                f"Reflection zone RMS {v.rms_m:.3f} m against the {v.source} limit "
-                f"{v.limit_m:.3f} m: {word} (margin {v.margin_m:+.3f} m).",
+                f"Reflection zone RMS {_ft(v.rms_m, unit, 3)} against the {v.source} limit "
+                f"{_ft(v.limit_m, unit, 3)}: {word} (margin {_ft(v.margin_m, unit, 3, signed=True)}).",
             )
         )
     return out
 
 
-def check_clearance(min_clearance_m: float, along_m: float, required_m: float) -> Finding:
+def check_clearance(min_clearance_m: float, along_m: float, required_m: float, unit: str = "m") -> Finding:
     """Smallest height of the straight path above the approach terrain."""
-    where = f"{-along_m:,.0f} m before the threshold"
+    where = f"{_ft(-along_m, unit, 0)} before the threshold"
     if min_clearance_m >= required_m:
         return Finding(
             "clearance",
             "pass",
-            f"The path clears the approach terrain by at least {_ft(min_clearance_m)} ({where}); "
-            f"required {required_m:g} m (terrain.min_clearance).",
+            f"The path clears the approach terrain by at least {_ft(min_clearance_m, unit)} ({where}); "
+            f"required {_ft(required_m, unit)} (terrain.min_clearance), margin "
+            f"{_ft(min_clearance_m - required_m, unit, signed=True)}.",
         )
     return Finding(
         "clearance",
         "fail",
-        f"The path clears the approach terrain by only {_ft(min_clearance_m)} ({where}); "
-        f"required {required_m:g} m (terrain.min_clearance). Obstacles are not in the DEM: "
+        f"The path clears the approach terrain by only {_ft(min_clearance_m, unit)} ({where}); "
+        f"required {_ft(required_m, unit)} (terrain.min_clearance), margin "
+        f"{_ft(min_clearance_m - required_m, unit, signed=True)}. Obstacles are not in the DEM: "
         "survey them separately.",
     )
 
 
-def check_zone_cover(cover) -> Finding:
+def check_zone_cover(cover, unit: str = "m") -> Finding:
     """How much of a computed zone lies outside the site file's protected areas."""
     if cover.outside_percent < 0.05:
         return Finding(
@@ -259,7 +272,7 @@ def check_zone_cover(cover) -> Finding:
     return Finding(
         f"zone-cover-{cover.kind}",
         "warning",
-        f"{cover.outside_percent:.1f} % ({cover.outside_m2:,.0f} m2) of the computed {cover.kind} zone "
+        f"{cover.outside_percent:.1f} % ({format_area(cover.outside_m2, unit)}) of the computed {cover.kind} zone "
         "lies outside the protected areas of the site file; consider extending them.",
     )
 
@@ -274,38 +287,157 @@ def check_predicted_angle(predicted_deg: float, design_deg: float, tolerance_deg
     return Finding("predicted-angle", "pass" if abs(diff) <= tolerance_deg else "warning", words)
 
 
-def check_mast_clearance(clearance, spec) -> Finding:
-    """The top of the mast against the inner transitional and transitional surfaces (Annex 14)."""
+def _ofz_floor_words(part: str) -> str:
+    if part == "strip":
+        return "the strip between the inner transitional surfaces, at the centre line's elevation"
+    return f"the {part}"
+
+
+def check_mast_clearance(clearance, spec, unit: str = "m") -> Finding:
+    """The top of the mast against the obstacle free zone and the transitional surface (Annex 14).
+
+    A mast in the obstacle free zone (above the inner approach, inner transitional or balked
+    landing surface, or standing in the strip between them) is a fail unless the site file says
+    the authority accepts it (``[surfaces] allow_in_obstacle_free_zone = true``): only frangible
+    objects that must stand there for air navigation may (Annex 14 Vol I, Chapter 1 and
+    4.2.15-4.2.17, from memory). A penetration of the transitional surface is a warning. Every
+    surface is named with its margin.
+
+    Parameters
+    ----------
+    clearance : geo.surfaces.MastClearance
+        One mast's clearance (scalars), with the obstacle free zone when the setback was given.
+    spec : geo.surfaces.SurfaceSpec
+        The surfaces used (their source is quoted).
+    unit : {"m", "ft"}
+        The site file's length unit, shown first.
+
+    Returns
+    -------
+    Finding
+        Code ``"mast-clearance"``.
+
+    References
+    ----------
+    See :mod:`geo.surfaces`: ICAO Annex 14 Vol I, Chapter 1 (obstacle free zone), 4.1 and
+    Table 4-1 (the surfaces), 4.2.15-4.2.17 and 9.9 (objects on the strip and in the zone); all
+    from memory, to be confirmed against the edition in force.
+    """
     import math
 
     top = float(clearance.top_height_m)
-    margins = [
-        (name, float(m))
-        for name, m in (
-            ("inner transitional", clearance.inner_transitional_margin_m),
-            ("transitional", clearance.transitional_margin_m),
-        )
-        if math.isfinite(m)
-    ]
+    lateral = getattr(clearance, "lateral_m", None)
+    where = f" above the centre line, {_ft(float(lateral), unit, 1)} from it" if lateral is not None else ""
+    head = f"The top of the mast ({_ft(top, unit)}{where})"
+    parts = []
+    ofz = getattr(clearance, "ofz_margin_m", None)
+    in_ofz = False
+    if ofz is not None:
+        margin = float(ofz)
+        if math.isfinite(margin):
+            floor = _ofz_floor_words(str(clearance.ofz_part))
+            in_ofz = margin < 0
+            if in_ofz:
+                parts.append(f"stands in the obstacle free zone: {_ft(-margin, unit)} above its floor, {floor}")
+            else:
+                parts.append(f"is {_ft(margin, unit)} below the obstacle free zone's floor, {floor}")
+        else:
+            parts.append("is beyond the obstacle free zone")
+    else:
+        inner = float(clearance.inner_transitional_margin_m)
+        if math.isfinite(inner):
+            word = "below" if inner >= 0 else "above"
+            parts.append(f"is {_ft(abs(inner), unit)} {word} the inner transitional surface")
+    trans = float(clearance.transitional_margin_m)
+    if math.isfinite(trans):
+        word = "below" if trans >= 0 else "above"
+        parts.append(f"is {_ft(abs(trans), unit)} {word} the transitional surface")
+    else:
+        parts.append("the transitional surface does not reach it (it starts at the strip's edge)")
     strip = (
         " It stands inside the runway strip: it must be frangible and as low as possible."
         if bool(clearance.in_strip)
         else ""
     )
-    worst = min(margins, key=lambda x: x[1]) if margins else None
-    if worst is not None and worst[1] < 0:
+    inner_pen = ofz is None and float(clearance.inner_transitional_margin_m) < 0
+    body = f"{head} {'; '.join(parts)}.{strip}"
+    tail = f" Surfaces: {spec.source}."
+    if in_ofz:
+        allowed = bool(getattr(spec, "allow_in_obstacle_free_zone", False))
+        rule = (
+            " Only frangible objects that must stand there for air navigation may (Annex 14 Vol I, "
+            "obstacle free zone, from memory)."
+        )
+        if allowed:
+            return Finding(
+                "mast-clearance",
+                "warning",
+                body + rule + " The site file says the authority accepts it "
+                "([surfaces] allow_in_obstacle_free_zone = true): the mast must be frangible." + tail,
+            )
+        return Finding(
+            "mast-clearance",
+            "fail",
+            body + rule + " Move the mast farther from the centre line or make it lower; where the authority "
+            "accepts a frangible mast there, set [surfaces] allow_in_obstacle_free_zone = true." + tail,
+        )
+    if trans < 0 or inner_pen:
         return Finding(
             "mast-clearance",
             "warning",
-            f"The top of the mast ({_ft(top)} above the centre line) penetrates the {worst[0]} surface "
-            f"by {_ft(-worst[1])}; the mast must be frangible and the penetration agreed with the "
-            f"authority.{strip} Surfaces: {spec.source}.",
+            body + " The mast must be frangible and the penetration agreed with the authority." + tail,
         )
-    clear = f"clears the {worst[0]} surface by {_ft(worst[1])}" if worst else "is below the surfaces' lower edges"
+    return Finding("mast-clearance", "info" if strip else "pass", body + tail)
+
+
+#: Offsets and setbacks a glide path mast plausibly has: half the lowest to twice the highest of the
+#: FAA AIM 1-1-9 typical ranges [3]_ (the factor of two is common practice, no source).
+_PLAUSIBLE_SETBACK_M = (_TYPICAL_SETBACK_M[0] / 2.0, _TYPICAL_SETBACK_M[1] * 2.0)
+_PLAUSIBLE_OFFSET_M = (_TYPICAL_OFFSET_M[0] / 2.0, _TYPICAL_OFFSET_M[1] * 2.0)
+
+
+def check_length_unit(setback_m: float, offset_m: float, unit: str) -> Finding | None:
+    """A warning when the mast's setback or offset looks written in the other length unit.
+
+    A value far outside every plausible range for the file's unit (half the lowest to twice the
+    highest of the FAA AIM typical ranges [3]_) whose number, read in the other unit, falls in the
+    typical range suggests a wrong ``units`` line: 120 "ft" (36.6 m) inside the strip of a code 4
+    runway is 120 m, a usual offset.
+
+    Parameters
+    ----------
+    setback_m, offset_m : float
+        As the study uses them. [m]
+    unit : {"m", "ft"}
+        The site file's length unit.
+
+    Returns
+    -------
+    Finding or None
+    """
+    other = "m" if unit == "ft" else "ft"
+    suspects = []
+    for key, value_m, plausible, typical in (
+        ("mast.setback", setback_m, _PLAUSIBLE_SETBACK_M, _TYPICAL_SETBACK_M),
+        ("mast.offset", offset_m, _PLAUSIBLE_OFFSET_M, _TYPICAL_OFFSET_M),
+    ):
+        if plausible[0] <= value_m <= plausible[1]:
+            continue
+        number = to_unit(value_m, unit)
+        as_other_m = number * (M_PER_FT if other == "ft" else 1.0)
+        if typical[0] <= as_other_m <= typical[1]:
+            suspects.append(
+                f"{key} = {format_number(number, 1)} is {_ft(value_m, unit, 1)}, far outside the plausible "
+                f"{_band(*plausible, unit, 0)}, while {format_number(number, 1)} {other} would be typical"
+            )
+    if not suspects:
+        return None
     return Finding(
-        "mast-clearance",
-        "info" if strip else "pass",
-        f"The top of the mast ({_ft(top)} above the centre line) {clear}.{strip} Surfaces: {spec.source}.",
+        "length-unit",
+        "warning",
+        f'The length unit may be wrong: {"; ".join(suspects)}. The site file says units = "{unit}"; '
+        f'if its lengths are in {other}, write units = "{other}" (FAA AIM 1-1-9 typical ranges; the '
+        "plausible ranges are common practice, no source).",
     )
 
 

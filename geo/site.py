@@ -21,8 +21,8 @@ from typing import Any
 from geo.arrays import ARRAY_TYPES
 from geo.channels import CHANNEL_PAIRS_MHZ, GLIDE_PATH_BAND_MHZ
 from geo.errors import SiteFileError
-from geo.surfaces import DEFAULT_SURFACES, SurfaceSpec
-from geo.units import LENGTH_UNITS
+from geo.surfaces import DEFAULT_SURFACES, SurfaceSpec, surfaces_for_code
+from geo.units import LENGTH_UNITS, format_length
 
 __all__ = [
     "GeoPoint",
@@ -392,7 +392,7 @@ def parse_site(doc: dict[str, Any], source: str = "", sha256: str = "", base_dir
         terrain = replace(terrain, survey_vertical_datum=survey_datum, geoid_undulation_m=undulation_m)
     protected = _protected_areas(doc.get("protected_area", []), scale, units)
     prediction = _prediction(doc.get("prediction", {}), len(ARRAY_TYPES[array].roles))
-    surfaces = _surfaces(doc.get("surfaces"), scale, units)
+    surfaces = _surfaces(doc.get("surfaces"), scale, units, code)
     return SiteSpec(
         name=name,
         notes=notes,
@@ -420,30 +420,38 @@ def parse_site(doc: dict[str, Any], source: str = "", sha256: str = "", base_dir
     )
 
 
-def _surfaces(table, scale: float, units: str) -> SurfaceSpec:
+def _surfaces(table, scale: float, units: str, runway_code: int | None = None) -> SurfaceSpec:
+    d = surfaces_for_code(runway_code)
     if table is None:
-        return DEFAULT_SURFACES
+        return d
     if not isinstance(table, dict):
         raise SiteFileError("surfaces", f"must be a table [surfaces] (got {_show(table)})")
-    keys = (
+    lengths = (
         "strip_half_width",
-        "transitional_slope",
         "inner_transitional_start",
-        "inner_transitional_slope",
         "mast_allowance",
-        "source",
+        "inner_approach_start",
+        "inner_approach_length",
+        "balked_landing_start",
+        "inner_horizontal_height",
     )
-    _only(table, "surfaces", keys)
-    d = DEFAULT_SURFACES
+    ratios = (
+        "transitional_slope",
+        "inner_transitional_slope",
+        "inner_approach_slope",
+        "balked_landing_divergence",
+        "balked_landing_slope",
+    )
+    flag = "allow_in_obstacle_free_zone"
+    _only(table, "surfaces", (*lengths, *ratios, flag, "source"))
     length = {"unit": units, "required": False, "at_least": 0.0, "at_most": 2000.0}
     ratio = {"unit": "(rise per run)", "required": False, "above": 0.0, "at_most": 1.0}
-    values = {
-        "strip_half_width_m": _number(table, "surfaces", "strip_half_width", scale, **length),
-        "transitional_slope": _number(table, "surfaces", "transitional_slope", 1.0, **ratio),
-        "inner_transitional_start_m": _number(table, "surfaces", "inner_transitional_start", scale, **length),
-        "inner_transitional_slope": _number(table, "surfaces", "inner_transitional_slope", 1.0, **ratio),
-        "mast_allowance_m": _number(table, "surfaces", "mast_allowance", scale, **length),
-    }
+    values = {f"{k}_m": _number(table, "surfaces", k, scale, **length) for k in lengths}
+    values.update({k: _number(table, "surfaces", k, 1.0, **ratio) for k in ratios})
+    allow = table.get(flag)
+    if allow is not None and not isinstance(allow, bool):
+        raise SiteFileError(f"surfaces.{flag}", f"must be true or false (got {_show(allow)})")
+    values[flag] = allow
     source = _text(table, "surfaces", "source", required=False) or "site file [surfaces] (defaults where not given)"
     return SurfaceSpec(**{k: (v if v is not None else getattr(d, k)) for k, v in values.items()}, source=source)
 
@@ -609,8 +617,8 @@ def _mast(mast: dict, scale: float, units: str, width_m: float, target_rdh_m) ->
     if offset_m <= width_m / 2.0:
         raise SiteFileError(
             "mast.offset",
-            f"{offset_m / scale:g} {units} puts the mast on the runway "
-            f"(half-width {width_m / 2.0 / scale:g} {units}); give the distance from the centre line",
+            f"{format_length(offset_m, units, 1)} puts the mast on the runway "
+            f"(half-width {format_length(width_m / 2.0, units, 1)}); give the distance from the centre line",
         )
     setback_m = _number(
         mast,
@@ -705,6 +713,8 @@ def _number(
     converted = float(value) * scale
 
     def bound(x: float) -> str:
+        if unit in LENGTH_UNITS:  # the file's unit first, the other beside it
+            return format_length(x, unit, 1)
         return f"{x / scale:g} {unit}"
 
     if above is not None and not converted > above:

@@ -30,6 +30,7 @@ from geo.site import SiteSpec
 from geo.site_errors import naming_site_file
 from geo.surfaces import MastClearance, mast_clearance
 from geo.terrain import TerrainResult, analyse_terrain
+from geo.units import format_length
 from geo.zones import ReflectionZone, reflection_zones
 
 __all__ = ["Antenna", "Runway", "Mast", "Gpip", "TerrainSource", "StudyResult", "run_study"]
@@ -222,16 +223,21 @@ def runway_of(spec: SiteSpec) -> Runway:
     thr, end = spec.threshold, spec.end
     bearing_deg, length_m = geodesic_inverse(thr.lat_deg, thr.lon_deg, end.lat_deg, end.lon_deg)
     if length_m < 100.0:
-        raise SiteFileError("runway.end", f"is only {length_m:.1f} m from the threshold; check both positions")
+        raise SiteFileError(
+            "runway.end", f"is only {format_length(length_m, spec.units, 1)} from the threshold; check both positions"
+        )
     if length_m > 20_000.0:
-        raise SiteFileError("runway.end", f"is {length_m / 1000:.1f} km from the threshold; check both positions")
+        raise SiteFileError(
+            "runway.end", f"is {format_length(length_m, spec.units, 0)} from the threshold; check both positions"
+        )
     frame = RunwayFrame(thr.lat_deg, thr.lon_deg, end.lat_deg, end.lon_deg)
     gradient = runway_gradient(thr.elevation_m, end.elevation_m, length_m)
     if abs(gradient) > _MAX_GRADIENT:
         raise SiteFileError(
             "runway.end.elevation",
             f"gives a mean runway gradient of {100 * gradient:+.1f} % "
-            f"(threshold {thr.elevation_m:g} m, end {end.elevation_m:g} m); runways slope at most a few "
+            f"(threshold {format_length(thr.elevation_m, spec.units, 1)}, "
+            f"end {format_length(end.elevation_m, spec.units, 1)}); runways slope at most a few "
             "per cent: check both elevations and the units",
         )
     return Runway(frame, bearing_deg, length_m, spec.width_m, gradient)
@@ -280,8 +286,8 @@ def _placement(spec: SiteSpec, runway: Runway) -> tuple[str, float | None, float
         if offset <= runway.width_m / 2.0:
             raise SiteFileError(
                 "mast.position",
-                f"is {offset:.1f} m from the centre line, on the runway "
-                f"(half-width {runway.width_m / 2.0:g} m); check the position",
+                f"is {format_length(offset, spec.units, 1)} from the centre line, on the runway "
+                f"(half-width {format_length(runway.width_m / 2.0, spec.units, 1)}); check the position",
             )
         return ("right" if cross > 0 else "left"), along, offset, "mast.position", "surveyed position"
     if mast.setback_m is not None:
@@ -289,12 +295,12 @@ def _placement(spec: SiteSpec, runway: Runway) -> tuple[str, float | None, float
     return mast.side, None, mast.offset_m, "glide_path.target_rdh", "solved for target RDH"
 
 
-def _check_setback(setback_m: float, field_name: str, runway: Runway) -> None:
+def _check_setback(setback_m: float, field_name: str, runway: Runway, unit: str = "m") -> None:
     if not 0.0 < setback_m < runway.length_m:
         raise SiteFileError(
             field_name,
-            f"puts the mast {setback_m:.1f} m along the runway, outside the "
-            f"{runway.length_m:.1f} m between threshold and end; the mast must stand "
+            f"puts the mast {format_length(setback_m, unit, 1)} along the runway, outside the "
+            f"{format_length(runway.length_m, unit, 1)} between threshold and end; the mast must stand "
             "beside the runway past the threshold",
         )
 
@@ -304,7 +310,7 @@ def _solve_on_terrain(spec, runway, dem, side, setback, offset, lam, field_name,
     thr = spec.threshold.elevation_m
     previous = None  # (setback, RDH error) of the last try, for a secant step
     for _ in range(30):
-        _check_setback(setback, field_name, runway)
+        _check_setback(setback, field_name, runway, spec.units)
         ground = analyse_terrain(dem, runway.frame, side, setback, offset, spec.array, lam, spec.angle_deg)
         if not solve:
             return setback, ground
@@ -352,7 +358,7 @@ def run_study(spec: SiteSpec) -> StudyResult:
         base_m, base_source = (file_base, "site file") if file_base is not None else (thr_elev, "threshold elevation")
         if solve:
             setback = setback_for_rdh_m(spec.target_rdh_m, base_m, spec.angle_deg, thr_elev)
-        _check_setback(setback, field_name, runway)
+        _check_setback(setback, field_name, runway, spec.units)
         heights = antenna_heights_m(spec.array, lam, spec.angle_deg)
         plane_m = intercept_m = base_m
     else:
@@ -419,35 +425,44 @@ def run_study(spec: SiteSpec) -> StudyResult:
     found = [
         checks.check_channel(channel.glide_path_mhz, channel.localizer_mhz),
         checks.check_angle(spec.angle_deg),
-        checks.check_rdh(rdh, spec.category, spec.runway_code),
-        *checks.check_typical_siting(setback, offset),
+        checks.check_rdh(rdh, spec.category, spec.runway_code, unit=spec.units),
+        *checks.check_typical_siting(setback, offset, unit=spec.units),
+        checks.check_length_unit(setback, offset, spec.units),
     ]
     if spec.target_rdh_m is not None and not solve:
-        found.append(checks.check_target_rdh(rdh, spec.target_rdh_m))
-    found.append(checks.check_gpip(gpip_x, runway.length_m))
+        found.append(checks.check_target_rdh(rdh, spec.target_rdh_m, unit=spec.units))
+    found.append(checks.check_gpip(gpip_x, runway.length_m, unit=spec.units))
     if terrain is not None:
         if file_base is not None:
-            found.append(checks.check_base_elevation(file_base, terrain.ground_at_mast_m))
-        found += checks.check_roughness(terrain.roughness)
+            found.append(checks.check_base_elevation(file_base, terrain.ground_at_mast_m, unit=spec.units))
+        found += checks.check_roughness(terrain.roughness, unit=spec.units)
         found.append(
             checks.check_dem_resolution(source.cells_in_zone, terrain.cell_size_m, terrain.zone.max_half_width_m)
         )
         found.append(
-            checks.check_clearance(profile.min_clearance_m, profile.min_clearance_along_m, spec.terrain.min_clearance_m)
+            checks.check_clearance(
+                profile.min_clearance_m,
+                profile.min_clearance_along_m,
+                spec.terrain.min_clearance_m,
+                unit=spec.units,
+            )
         )
     gu, gw = (terrain.plane.forward_gradient, terrain.plane.lateral_gradient) if terrain else (0.0, 0.0)
     zones = reflection_zones(roles, heights, shifts, setback, offset, spec.angle_deg, lam, gu, gw)
     covers = []
     if spec.protected_areas:
         covers = [zone_cover(z.shape.polygon, z.kind, spec.protected_areas) for z in zones if z.antenna == "all"]
-        found += [checks.check_zone_cover(c) for c in covers]
+        found += [checks.check_zone_cover(c, unit=spec.units) for c in covers]
     clearance = mast_clearance(
         antennas[-1].offset_m,
         antennas[-1].elevation_m + spec.surfaces.mast_allowance_m,
         thr_elev + runway.gradient * setback,
         spec.surfaces,
+        setback_m=setback,
+        runway_length_m=runway.length_m,
+        runway_gradient=runway.gradient,
     )
-    found.append(checks.check_mast_clearance(clearance, spec.surfaces))
+    found.append(checks.check_mast_clearance(clearance, spec.surfaces, unit=spec.units))
     feeds = _feeds(spec)
     prediction, unshifted = _predictions(
         spec, heights, shifts, feeds, lam, gu, gw, setback, offset, intercept_m - plane_m

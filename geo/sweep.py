@@ -33,6 +33,8 @@ from geo.fresnel import exact_ellipses
 from geo.roughness import CRITERIA
 from geo.site import SiteSpec
 from geo.surfaces import SurfaceSpec, mast_clearance
+from geo.sweep_choice import CRITERION_NAMES, clearance_reasons
+from geo.units import format_length
 from geo.zones import RANGE_M, path_receivers
 
 __all__ = ["SweepOptions", "SweepResult", "run_sweep", "candidate_grid", "best_site"]
@@ -61,6 +63,9 @@ class SweepOptions:
         or ``"iev"``.
     surfaces : SurfaceSpec or None
         ``None``: the site file's surfaces.
+    paired : bool
+        ``True``: ``sides``, ``setbacks_m`` and ``offsets_m`` have one entry per candidate (as the
+        solved setbacks of :func:`geo.sweep_choice.solve_setbacks` give them) instead of a grid.
     """
 
     setbacks_m: tuple[float, ...]
@@ -70,6 +75,7 @@ class SweepOptions:
     rdh_target_m: float | None = None
     roughness_criterion: str = "fraunhofer"
     surfaces: SurfaceSpec | None = None
+    paired: bool = False
 
 
 @dataclass
@@ -102,6 +108,9 @@ class SweepResult:
 
 def candidate_grid(options: SweepOptions) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Every (sign, setback, offset) of the options; sign +1 right, -1 left."""
+    if options.paired:
+        sign = np.array([1.0 if s == "right" else -1.0 for s in options.sides])
+        return sign, np.asarray(options.setbacks_m, float), np.asarray(options.offsets_m, float)
     sides = np.array([1.0 if s == "right" else -1.0 for s in options.sides])
     sign, setback, offset = np.meshgrid(
         sides, np.asarray(options.setbacks_m, float), np.asarray(options.offsets_m, float), indexing="ij"
@@ -335,9 +344,15 @@ def run_sweep(spec: SiteSpec, options: SweepOptions) -> SweepResult:
     thr = spec.threshold.elevation_m
     sign, setback, offset = candidate_grid(options)
     if np.any(offset <= runway.width_m / 2.0):
-        raise SiteFileError("--offset", f"offsets must exceed the runway half-width {runway.width_m / 2:g} m")
+        raise SiteFileError(
+            "--offset",
+            f"offsets must exceed the runway half-width {format_length(runway.width_m / 2, spec.units, 1)}",
+        )
     if np.any((setback <= 0.0) | (setback >= runway.length_m)):
-        raise SiteFileError("--setback", f"setbacks must lie between 0 and the runway length {runway.length_m:.0f} m")
+        raise SiteFileError(
+            "--setback",
+            f"setbacks must lie between 0 and the runway length {format_length(runway.length_m, spec.units, 1)}",
+        )
     kind = array_type(spec.array)
     c = setback.size
     gu = np.zeros(c)
@@ -452,8 +467,12 @@ def run_sweep(spec: SiteSpec, options: SweepOptions) -> SweepResult:
         plane_at_mast + heights[:, -1] + surf.mast_allowance_m,
         thr + runway.gradient * setback,
         surf,
+        setback_m=setback,
+        runway_length_m=runway.length_m,
+        runway_gradient=runway.gradient,
     )
     required = spec.terrain.min_clearance_m if spec.terrain is not None else 0.0
+    units = spec.units
     low, high = options.rdh_band_m
     reasons = []
     for k in range(c):
@@ -463,15 +482,21 @@ def run_sweep(spec: SiteSpec, options: SweepOptions) -> SweepResult:
         if not np.all(np.isfinite(heights[k])):
             why.append("ground too steep for an image array")
         if not low <= rdh[k] <= high:
-            why.append(f"RDH {rdh[k]:.2f} m outside {low:g}-{high:g} m")
+            band = f"{format_length(low, units)} to {format_length(high, units)}"
+            why.append(f"RDH {format_length(rdh[k], units)} outside {band}")
         if margins[options.roughness_criterion][k] < 0:
-            why.append(f"rough by the {options.roughness_criterion} criterion")
-        if clearance.penetrates[k]:
-            why.append("mast penetrates an Annex 14 surface")
+            why.append(
+                f"rough by the {CRITERION_NAMES[options.roughness_criterion]} criterion "
+                f"(margin {format_length(margins[options.roughness_criterion][k], units, 3, signed=True)})"
+            )
+        why += clearance_reasons(clearance, k, surf, units)
         if np.isfinite(min_clearance[k]) and min_clearance[k] < required:
-            why.append("approach terrain too close to the path")
+            why.append(
+                f"approach terrain too close to the path ({format_length(min_clearance[k], units)} "
+                f"against {format_length(required, units)} required)"
+            )
         if not 0.0 <= gpip[k] <= runway.length_m:
-            why.append("GPIP off the runway")
+            why.append(f"GPIP off the runway ({format_length(gpip[k], units, 1)} from the threshold)")
         reasons.append("; ".join(why))
     feasible = np.array([r == "" for r in reasons])
     target = options.rdh_target_m if options.rdh_target_m is not None else (spec.target_rdh_m or 15.5)

@@ -21,6 +21,13 @@ __all__ = [
     "M_PER_YD",
     "LENGTH_UNITS",
     "with_foot_twins",
+    "to_unit",
+    "from_unit",
+    "other_unit",
+    "format_number",
+    "format_length",
+    "format_area",
+    "format_volume",
 ]
 
 #: Metres in one international foot, exact [1]_.
@@ -107,3 +114,124 @@ def with_foot_twins(obj: Any, digits: int | None = 4) -> Any:
     if isinstance(obj, float) and digits is not None and math.isfinite(obj):
         return round(obj, digits)
     return obj
+
+
+# --- Lengths for people: the site file's unit first, the other beside it ---------------------------
+#
+# One number format for every printed length, area and volume: thousands separators always, a fixed
+# number of decimals, the site file's unit first and the other unit in brackets. Findings, errors,
+# the screen summary, the report, the sweep lines and the map's tooltips all use these helpers.
+
+
+def to_unit(value_m: float, unit: str) -> float:
+    """A length in metres expressed in ``unit`` (``"m"`` or ``"ft"``) [1]_.
+
+    Examples
+    --------
+    >>> to_unit(304.8, "ft")
+    1000.0
+    """
+    return float(value_m) / LENGTH_UNITS[unit]
+
+
+def from_unit(value: float, unit: str) -> float:
+    """A length given in ``unit`` expressed in metres [1]_.
+
+    Examples
+    --------
+    >>> from_unit(1000.0, "ft")
+    304.8
+    """
+    return float(value) * LENGTH_UNITS[unit]
+
+
+def other_unit(unit: str) -> str:
+    """The length unit shown in brackets beside ``unit``."""
+    return "m" if unit == "ft" else "ft"
+
+
+def format_number(value: float | None, decimals: int = 2) -> str:
+    """A number with thousands separators and fixed decimals; ``"n/a"`` when missing or not finite.
+
+    Examples
+    --------
+    >>> format_number(12345.678, 1)
+    '12,345.7'
+    """
+    if value is None or not math.isfinite(float(value)):
+        return "n/a"
+    text = f"{float(value):,.{decimals}f}"
+    return "0" + text[2:] if text.startswith("-0") and float(text.replace(",", "")) == 0 else text
+
+
+def _pair(
+    value_si: float | None, first: tuple[str, float], second: tuple[str, float], decimals: int, signed: bool = False
+) -> str:
+    if value_si is None or not math.isfinite(float(value_si)):
+        return "n/a"
+    (u1, per1), (u2, per2) = first, second
+    a, b = format_number(value_si / per1, decimals), format_number(value_si / per2, decimals)
+    if signed:
+        a, b = (t if t.startswith("-") else "+" + t for t in (a, b))
+    return f"{a} {u1} ({b} {u2})"
+
+
+def format_length(value_m: float | None, unit: str = "m", decimals: int = 2, signed: bool = False) -> str:
+    """A length in the site file's unit, the other unit in brackets.
+
+    Parameters
+    ----------
+    value_m : float or None
+        The length. [m]
+    unit : {"m", "ft"}
+        The site file's length unit, shown first.
+    decimals : int
+        Decimals in both units.
+    signed : bool
+        Put ``+`` before positive values (differences, margins).
+
+    Returns
+    -------
+    str
+        E.g. ``"1,000.0 ft (304.8 m)"``; ``"n/a"`` for a missing length.
+
+    References
+    ----------
+    .. [1] International Yard and Pound Agreement (1959): 1 ft = 0.3048 m exactly.
+
+    Examples
+    --------
+    >>> format_length(304.8, "ft", 1)
+    '1,000.0 ft (304.8 m)'
+    >>> format_length(15.0, "m")
+    '15.00 m (49.21 ft)'
+    """
+    first = (unit, LENGTH_UNITS[unit])
+    second = (other_unit(unit), LENGTH_UNITS[other_unit(unit)])
+    return _pair(value_m, first, second, decimals, signed)
+
+
+def format_area(value_m2: float | None, unit: str = "m", decimals: int = 0) -> str:
+    """An area in the site file's unit squared, the other in brackets (``m2``, ``ft2``).
+
+    Examples
+    --------
+    >>> format_area(92.90304, "ft")
+    '1,000 ft2 (93 m2)'
+    """
+    first = (f"{unit}2", LENGTH_UNITS[unit] ** 2)
+    second = (f"{other_unit(unit)}2", LENGTH_UNITS[other_unit(unit)] ** 2)
+    return _pair(value_m2, first, second, decimals)
+
+
+def format_volume(value_m3: float | None, unit: str = "m", decimals: int = 0) -> str:
+    """A volume: cubic metres and cubic yards (earthworks), the site file's side first.
+
+    Examples
+    --------
+    >>> format_volume(0.9144**3 * 100, "ft")
+    '100 yd3 (76 m3)'
+    """
+    m3, yd3 = ("m3", 1.0), ("yd3", M_PER_YD**3)
+    first, second = (yd3, m3) if unit == "ft" else (m3, yd3)
+    return _pair(value_m3, first, second, decimals)

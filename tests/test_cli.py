@@ -128,6 +128,8 @@ def test_sweep_command_writes_the_table_candidates_and_the_best_study(tmp_path):
         "100",
         "150",
         "50",
+        "--side",
+        "both",
         "--no-plots",
     )
     assert res.exit_code == 0, res.output

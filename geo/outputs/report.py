@@ -10,7 +10,7 @@ from pathlib import Path
 
 from geo.findings import CAUTIONS
 from geo.study import StudyResult
-from geo.units import M_PER_FT
+from geo.units import format_area, format_length
 
 __all__ = ["write_report"]
 
@@ -20,8 +20,13 @@ table{border-collapse:collapse;margin:.5em 0 1.5em}td,th{border:1px solid #bbb;p
 .caution{border:2px solid #e67700;padding:.6em 1em;background:#fff4e6}img{max-width:100%}"""
 
 
-def _len(value_m: float, decimals: int = 2) -> str:
-    return f"{value_m:,.{decimals}f} m ({value_m / M_PER_FT:,.{decimals}f} ft)"
+def _lengths(unit: str):
+    """``_len(value_m, decimals)`` in the site file's unit first (:func:`geo.units.format_length`)."""
+
+    def _len(value_m: float, decimals: int = 2) -> str:
+        return format_length(value_m, unit, decimals)
+
+    return _len
 
 
 def _rows(pairs) -> str:
@@ -31,6 +36,7 @@ def _rows(pairs) -> str:
 def write_report(result: StudyResult, path: Path, plots: bool) -> None:
     """Write ``report.html`` next to the other outputs of the study."""
     spec, mast, ch = result.spec, result.mast, result.channel
+    _len = _lengths(spec.units)
     loc = f" (localizer {ch.localizer_mhz:.2f} MHz)" if ch.localizer_mhz else ""
     figures = [
         ("Glide path", f"{ch.glide_path_mhz:.2f} MHz{loc}, {spec.array}, {spec.angle_deg:g} deg"),
@@ -71,7 +77,7 @@ def write_report(result: StudyResult, path: Path, plots: bool) -> None:
     zones = "".join(
         f"<tr><td>{html.escape(z.antenna)}</td><td>{html.escape(z.kind)}</td><td>{_len(z.shape.near_m, 0)}</td>"
         f"<td>{_len(z.shape.far_m, 0)}</td><td>{_len(z.shape.max_half_width_m, 0)}</td>"
-        f"<td>{z.shape.area_m2:,.0f} m2 ({z.shape.area_m2 / M_PER_FT**2:,.0f} ft2)</td></tr>"
+        f"<td>{format_area(z.shape.area_m2, spec.units)}</td></tr>"
         for z in result.zones
     )
     images = ""

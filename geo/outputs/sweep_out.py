@@ -11,9 +11,19 @@ import numpy as np
 from geo import __version__
 from geo.site import SiteSpec
 from geo.sweep import SweepResult
-from geo.units import with_foot_twins
+from geo.sweep_choice import RANK_TEXT, near_feasible
+from geo.units import M_PER_YD, format_length, format_number, format_volume, to_unit, with_foot_twins
 
-__all__ = ["sweep_rows", "write_sweep_csv", "candidates_layer", "sweep_summary", "plot_sweep", "SCORE_TEXT"]
+__all__ = [
+    "sweep_rows",
+    "write_sweep_csv",
+    "candidates_layer",
+    "sweep_summary",
+    "plot_sweep",
+    "sweep_text",
+    "candidate_line",
+    "SCORE_TEXT",
+]
 
 SCORE_TEXT = (
     "0-100 for feasible candidates: 40 points for the RDH (all at the target, none half a band away), "
@@ -38,9 +48,21 @@ def sweep_rows(sweep: SweepResult) -> list[dict]:
     return [dict({n: _value(sweep.columns[n][k]) for n in names}, reasons=sweep.reasons[k]) for k in range(len(sweep))]
 
 
+def _order(sweep: SweepResult) -> list[int]:
+    """Candidate indices by rank when the sweep is ranked (:func:`geo.sweep_choice.add_ranks`), else as swept."""
+    if "rank" not in sweep.columns:
+        return list(range(len(sweep)))
+    return [int(k) for k in np.argsort(sweep.columns["rank"], kind="stable")]
+
+
 def write_sweep_csv(sweep: SweepResult, path: Path) -> None:
-    """``sweep.csv``: one row per candidate, every length with its foot (or yd3, ft2) twin."""
-    rows = [with_foot_twins(r) for r in sweep_rows(sweep)]
+    """``sweep.csv``: one row per candidate, sorted by rank when ranked.
+
+    Every length has its foot (or yd3, ft2) twin; ``candidate`` is the candidate's number in the
+    layers and plots.
+    """
+    table = sweep_rows(sweep)
+    rows = [with_foot_twins(dict(candidate=k, **table[k])) for k in _order(sweep)]
     with path.open("w", newline="", encoding="utf-8") as fh:
         writer = csv.DictWriter(fh, fieldnames=list(rows[0]), lineterminator="\n")
         writer.writeheader()
@@ -68,7 +90,8 @@ def candidates_layer(spec: SiteSpec, sweep: SweepResult) -> dict:
 
 def sweep_summary(spec: SiteSpec, sweep: SweepResult, options) -> dict:
     """``summary.json`` of a sweep."""
-    best = sweep_rows(sweep)[sweep.best] if sweep.best is not None else None
+    rows = sweep_rows(sweep)
+    best = rows[sweep.best] if sweep.best is not None else None
     return with_foot_twins(
         {
             "site": {"name": spec.name},
@@ -86,10 +109,16 @@ def sweep_summary(spec: SiteSpec, sweep: SweepResult, options) -> dict:
                 "sides": list(options.sides),
                 "rdh_band_m": list(options.rdh_band_m),
                 "roughness_criterion": options.roughness_criterion,
+                "setbacks_solved_for_target_rdh": bool(getattr(options, "paired", False)),
             },
             "grid_spacing_m": sweep.grid_spacing_m,
             "score": SCORE_TEXT,
+            "ranking": RANK_TEXT if "rank" in sweep.columns else "",
             "best": best,
+            "top": [dict(candidate=k, **rows[k]) for k in _order(sweep)[:10] if sweep.columns["feasible"][k]],
+            "near_feasible": [
+                dict(candidate=int(k), **rows[int(k)]) for k in near_feasible(sweep.columns, sweep.reasons)[:10]
+            ],
             "cautions": [
                 "A sweep ranks candidates on the figures mastplan computes; the siting decision rests with "
                 "the engineer, flight inspection and the local authority."
@@ -106,34 +135,100 @@ def plot_sweep(spec: SiteSpec, sweep: SweepResult, options, path: Path) -> None:
     fig, axes = _figure(11, 10, rows=3)
     fig.subplots_adjust(left=0.08, right=0.78, top=0.95, bottom=0.06, hspace=0.35)
     margin_key = f"{options.roughness_criterion}_margin_m"
+    unit = spec.units
+    per = to_unit(1.0, unit)  # lengths in the site file's unit
+    vol_unit, vol_per = ("yd3", 1.0 / M_PER_YD**3) if unit == "ft" else ("m3", 1.0)
     panels = [
-        ("rdh_m", "RDH [m]"),
-        ("volume", "cut + fill [m3]"),
-        (margin_key, f"{options.roughness_criterion} margin [m]"),
+        ("rdh_m", f"RDH [{unit}]"),
+        ("volume", f"cut + fill [{vol_unit}]"),
+        (margin_key, f"{options.roughness_criterion} margin [{unit}]"),
     ]
+
+    def values(key, sel):
+        if key == "volume":
+            return (c["cut_m3"] + c["fill_m3"])[sel] * vol_per
+        return c[key][sel] * per
+
     for side in ("left", "right"):
         for o in np.unique(c["offset_m"]):
             sel = (c["side"] == side) & (c["offset_m"] == o)
             if not sel.any():
                 continue
             order = np.argsort(c["setback_m"][sel])
-            x = c["setback_m"][sel][order]
+            x = c["setback_m"][sel][order] * per
             for ax, (key, _label) in zip(axes, panels):
-                y = (c["cut_m3"] + c["fill_m3"])[sel][order] if key == "volume" else c[key][sel][order]
-                (line,) = ax.plot(x, y, ls="-" if side == "right" else "--", label=f"{side}, offset {o:g} m")
+                y = values(key, sel)[order]
+                label = f"{side}, offset {format_length(o, spec.units, 1)}"
+                (line,) = ax.plot(x, y, ls="-" if side == "right" else "--", label=label)
                 feas = c["feasible"][sel][order]
                 ax.plot(x[feas], y[feas], "o", ms=3, color=line.get_color())
     low, high = options.rdh_band_m
-    axes[0].axhspan(low, high, color="#b2f2bb", alpha=0.4, label="feasible RDH band")
+    axes[0].axhspan(low * per, high * per, color="#b2f2bb", alpha=0.4, label="feasible RDH band")
     axes[2].axhline(0.0, color="k", lw=0.8)
     if sweep.best is not None:
         for ax, (key, _label) in zip(axes, panels):
-            y = (c["cut_m3"] + c["fill_m3"])[sweep.best] if key == "volume" else c[key][sweep.best]
-            ax.plot([c["setback_m"][sweep.best]], [y], "*", ms=14, color="k", label="best")
+            y = values(key, np.arange(len(sweep)) == sweep.best)[0]
+            ax.plot([c["setback_m"][sweep.best] * per], [y], "*", ms=14, color="k", label="best")
     for ax, (_key, label) in zip(axes, panels):
         ax.set_ylabel(label)
-        ax.set_xlabel("setback from the threshold [m]")
+        ax.set_xlabel(f"setback from the threshold [{unit}]")
         ax.grid(alpha=0.3)
     axes[0].legend(fontsize=7, loc="upper left", bbox_to_anchor=(1.01, 1.0))
     axes[0].set_title(f"{spec.name}: siting sweep (dots: feasible; solid right, dashed left)")
     fig.savefig(path, dpi=100)
+
+
+def candidate_line(sweep: SweepResult, k: int, unit: str) -> str:
+    """One candidate in words, the site file's unit first."""
+    c = sweep.columns
+    score = c["score"][k]
+    tail = f", score {format_number(score, 1)}" if math.isfinite(score) else ""
+    return (
+        f"{c['side'][k]} side, setback {format_length(c['setback_m'][k], unit, 1)}, "
+        f"offset {format_length(c['offset_m'][k], unit, 1)}, RDH {format_length(c['rdh_m'][k], unit)}, "
+        f"cut {format_volume(c['cut_m3'][k], unit)}, fill {format_volume(c['fill_m3'][k], unit)}{tail}"
+    )
+
+
+def sweep_text(spec: SiteSpec, sweep: SweepResult, options, best_folder: Path | None = None, top: int = 10) -> str:
+    """What the command line prints after a sweep: counts, the top candidates, near-feasible ones.
+
+    Parameters
+    ----------
+    spec : SiteSpec
+    sweep : SweepResult
+    options : SweepOptions
+    best_folder : Path, optional
+        Where the best candidate's full study was written.
+    top : int
+        Feasible candidates to list.
+
+    Returns
+    -------
+    str
+    """
+    unit = spec.units
+    c = sweep.columns
+    feasible = int(np.count_nonzero(c["feasible"]))
+    criterion = options.roughness_criterion
+    lines = [f"{len(sweep):,} candidates, {feasible:,} feasible (roughness by the {criterion} criterion)."]
+    order = [k for k in _order(sweep) if c["feasible"][k]][:top]
+    if sweep.best is not None:
+        where = f" (full study in {best_folder})" if best_folder is not None else ""
+        lines.append(f"Best: {candidate_line(sweep, sweep.best, unit)}{where}")
+    if order:
+        lines.append(f"Top {len(order)} by rank:")
+        for k in order:
+            rank = int(c["rank"][k]) if "rank" in c else order.index(k) + 1
+            note = str(c["rank_note"][k]) if "rank_note" in c else ""
+            lines.append(f"  {rank:>3}. {candidate_line(sweep, k, unit)}" + (f" ({note})" if note else ""))
+    else:
+        lines.append("No candidate is feasible; see the reasons in sweep.csv.")
+    near = near_feasible(c, sweep.reasons)
+    if feasible < top and near.size:
+        lines.append(
+            f"Feasible after the computed grading ({near.size:,}; cut and fill bring the reflection zone within "
+            f"the {options.roughness_criterion} limit of its plane), least earthworks first:"
+        )
+        lines += [f"  {candidate_line(sweep, int(k), unit)}" for k in near[:top]]
+    return "\n".join(lines)

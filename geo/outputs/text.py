@@ -4,18 +4,24 @@ from __future__ import annotations
 
 from geo.findings import CAUTIONS
 from geo.study import StudyResult
-from geo.units import M_PER_FT
+from geo.units import format_length
 
 __all__ = ["summary_text"]
 
 
-def _len(value_m: float, decimals: int = 2) -> str:
-    return f"{value_m:,.{decimals}f} m ({value_m / M_PER_FT:,.{decimals}f} ft)"
+def _lengths(unit: str):
+    """``_len(value_m, decimals)`` in the site file's unit first (:func:`geo.units.format_length`)."""
+
+    def _len(value_m: float, decimals: int = 2) -> str:
+        return format_length(value_m, unit, decimals)
+
+    return _len
 
 
 def summary_text(result: StudyResult) -> str:
     """Several lines: channel, mast, antennas, RDH, GPIP, findings, cautions."""
     spec, mast, runway = result.spec, result.mast, result.runway
+    _len = _lengths(spec.units)
     ch = result.channel
     loc = f", paired with localizer {ch.localizer_mhz:.2f} MHz" if ch.localizer_mhz else ""
     lines = [
@@ -40,9 +46,9 @@ def summary_text(result: StudyResult) -> str:
         lines += [
             f"Terrain ({result.terrain_source.dem_name}): forward slope {t.forward_slope_deg:+.3f} deg, "
             f"lateral slope {t.lateral_slope_deg:+.3f} deg, RPI {_len(t.rpi_elevation_m)}, "
-            f"RMS about the plane {_len(t.plane.rms_residual_m, 3)} ({t.plane.samples} samples)",
+            f"RMS about the plane {_len(t.plane.rms_residual_m, 3)} ({t.plane.samples:,} samples)",
             f"Approach: smallest path clearance {_len(result.profile.min_clearance_m)} "
-            f"at {result.profile.min_clearance_along_m:,.0f} m from the threshold",
+            f"at {_len(result.profile.min_clearance_along_m, 0)} from the threshold",
         ]
     p, q = result.prediction, result.prediction_no_shift
     if p is not None:

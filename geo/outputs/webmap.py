@@ -14,7 +14,7 @@ import re
 from pathlib import Path
 
 from geo.study import StudyResult
-from geo.units import M_PER_FT
+from geo.units import format_length
 
 __all__ = ["write_map", "ZONE_COLOURS"]
 
@@ -69,11 +69,17 @@ def _escaped(fc: dict) -> dict:
     }
 
 
-def _len(value_m: float, decimals: int = 2) -> str:
-    return f"{value_m:,.{decimals}f} m ({value_m / M_PER_FT:,.{decimals}f} ft)"
+def _lengths(unit: str):
+    """``_len(value_m, decimals)`` in the site file's unit first (:func:`geo.units.format_length`)."""
+
+    def _len(value_m: float, decimals: int = 2) -> str:
+        return format_length(value_m, unit, decimals)
+
+    return _len
 
 
 def _mast_popup(result: StudyResult) -> str:
+    _len = _lengths(result.spec.units)
     mast = result.mast
     rows = "".join(
         f"<tr><td>{html.escape(a.role)}</td><td>{_len(a.height_m, 3)}</td><td>{_len(a.shift_toward_runway_m, 3)}</td>"
@@ -179,6 +185,7 @@ def write_map(result: StudyResult, layers: dict[str, dict], path: Path) -> None:
     """
     import folium
 
+    _len = _lengths(result.spec.units)
     mast = result.mast
     fmap = folium.Map(location=[mast.lat_deg, mast.lon_deg], zoom_start=15, tiles=None, control_scale=True)
     fmap.default_js = []
@@ -273,7 +280,8 @@ def write_map(result: StudyResult, layers: dict[str, dict], path: Path) -> None:
     marker.add_to(mast_group)
     mast_group.add_to(fmap)
     if "candidates" in layers:
-        _candidates(layers["candidates"]).add_to(fmap)
+        _candidates(layers["candidates"], result.spec.units).add_to(fmap)
+        fmap.get_root().html.add_child(folium.Element(_candidates_legend()))
     # Open on what is shown at first: the path zones, the mast and the threshold.
     shown = [f for f in zones["features"] if f["properties"]["kind"] == "path"]
     view_lons = [c[0] for f in shown for ring in _rings(f["geometry"]) for c in ring] + [thr.lon_deg]
@@ -302,7 +310,7 @@ def _score_colour(score) -> str:
     return f"#{red:02x}{green:02x}40"
 
 
-def _candidates(fc: dict):
+def _candidates(fc: dict, unit: str = "m"):
     import folium
 
     group = folium.FeatureGroup(name="Sweep candidates (coloured by score)")
@@ -310,9 +318,11 @@ def _candidates(fc: dict):
         p = f["properties"]
         lon, lat = f["geometry"]["coordinates"]
         score = "none" if p["score"] is None else f"{p['score']:.1f}"
+        rank = f"rank {p['rank']}; " if p.get("rank") is not None else ""
         text = (
-            f"{html.escape(str(p['side']))} side, setback {p['setback_m']:.0f} m, offset {p['offset_m']:.0f} m; "
-            f"RDH {p['rdh_m']:.2f} m; score {score}; {html.escape(p['reasons'] or 'feasible')}"
+            f"{rank}{html.escape(str(p['side']))} side, setback {format_length(p['setback_m'], unit, 1)}, "
+            f"offset {format_length(p['offset_m'], unit, 1)}; RDH {format_length(p['rdh_m'], unit)}; "
+            f"score {score}; {html.escape(p['reasons'] or 'feasible')}"
         )
         folium.CircleMarker(
             [lat, lon],
@@ -331,3 +341,18 @@ def _rings(geometry: dict):
     if geometry["type"] == "Polygon":
         return geometry["coordinates"]
     return [ring for poly in geometry["coordinates"] for ring in poly]
+
+
+def _candidates_legend() -> str:
+    """The score ramp of the sweep's candidate dots, beside the map's legend."""
+    steps = "".join(
+        f"<span style='display:inline-block;width:14px;height:10px;background:{_score_colour(v)}'></span>"
+        for v in (0, 20, 40, 60, 80, 100)
+    )
+    return (
+        "<div class='mastplan-score-legend' style='position:fixed;bottom:48px;left:10px;z-index:1000;"
+        "background:#fff;padding:6px 8px;border:1px solid #999;border-radius:4px;font:12px sans-serif'>"
+        f"<b>Sweep candidates: score</b><br>0 {steps} 100<br>"
+        f"<span style='display:inline-block;width:10px;height:10px;border-radius:5px;background:{_score_colour(None)}'>"
+        "</span> infeasible; large dot: best</div>"
+    )
