@@ -171,9 +171,11 @@ def check_below_path(
     if above.size:
         i = int(above[0])
         if i == 0:
-            reach = top
+            reach = float(top)
         else:
-            reach = _refine(lambda x: float(ddm_of_elevation(np.array([x]))[0]) - BELOW_PATH_DDM, e[i - 1], e[i])
+            reach = _refine(
+                lambda x: float(ddm_of_elevation(np.array([x]))[0]) - BELOW_PATH_DDM, float(e[i - 1]), float(e[i])
+            )
         rising = d[: i + 1]
         smooth = bool(np.all(np.diff(rising) >= -tolerance_ddm))
     else:

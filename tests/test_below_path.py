@@ -122,3 +122,46 @@ def test_reached_only_below_0_30_theta_fails_and_between_passes():
 def test_lower_edge_outside_0_30_0_45_is_refused():
     with pytest.raises(ValueError, match="0.3-0.45"):
         check_below_path(lambda e: np.zeros_like(e), THETA, down_to_fraction=0.2)
+
+
+def _site_with(site_text, array, extra=""):
+    text = site_text.replace('array = "null-reference"', f'array = "{array}"')
+    assert f'array = "{array}"' in text
+    return text + extra
+
+
+@pytest.mark.parametrize("array", list(ARRAY_TYPES))
+def test_study_reports_a_below_path_finding_and_summary_block_per_array(write_site, site_text, array):
+    from geo.outputs.summary import summary_dict
+    from geo.site import load_site
+    from geo.study import run_study
+
+    result = run_study(load_site(write_site(_site_with(site_text, array))))
+    codes = {f.code: f for f in result.findings}
+    assert codes["below-path"].severity == "pass"  # flat ground: reached at 0.688 theta (closed form above)
+    block = summary_dict(result)["below_path"]
+    assert block["down_to_fraction"] == 0.45 and block["down_to_source"] == "default"
+    assert block["course"]["reach_fraction"] == pytest.approx(0.688, abs=0.002)
+    assert block["course"]["pass"] is True
+    if array == "capture-effect":
+        assert (
+            codes["below-path-course-only"].severity == "info" and "too weak" in codes["below-path-course-only"].message
+        )
+        assert block["clearance"]["combined"]["pass"] is True
+        assert block["clearance"]["offset_hz"] == 8000.0
+        assert "derived" in block["clearance"]["feeds"]["source"]
+    else:
+        assert block["clearance"] is None
+
+
+def test_site_file_lower_edge_and_its_bounds(write_site, site_text):
+    from geo.errors import SiteFileError
+    from geo.site import load_site
+    from geo.study import run_study
+
+    spec = load_site(write_site(site_text + "\n[prediction]\nbelow_path_down_to = 0.30\n"))
+    assert spec.prediction.below_path_down_to == 0.30
+    assert run_study(spec).below_path.down_to_fraction == 0.30
+    for bad in ("0.2", "0.5", '"low"'):
+        with pytest.raises(SiteFileError, match=r"prediction\.below_path_down_to.*(at least 0.3|at most 0.45|number)"):
+            load_site(write_site(site_text + f"\n[prediction]\nbelow_path_down_to = {bad}\n"))

@@ -118,3 +118,19 @@ def test_demo_families_measured():
     )
     assert 0.79 < ratio < 0.81  # 20 % stricter
     assert strictest_family(fam).grazing_deg == max(f.grazing_deg for f in fam if f.judged)
+
+
+def test_demo_summary_and_finding_name_the_strictest_family():
+    from geo.outputs.summary import summary_dict
+    from geo.site import load_site
+    from geo.study import run_study
+
+    result = run_study(load_site(DEMO_SITE))
+    rows = summary_dict(result)["terrain"]["roughness_by_family"]
+    assert [r["family"] for r in rows] == [f.name for f in result.roughness_families]
+    strictest = [r for r in rows if r["strictest"]]
+    assert len(strictest) == 1
+    assert strictest[0]["grazing_angle_deg"] == max(r["grazing_angle_deg"] for r in rows if r["judged"])
+    assert "limit_ft" in strictest[0]["criteria"]["rayleigh"]  # the _m -> _ft twin rule (geo/units.py)
+    finding = next(f for f in result.findings if f.code == "roughness-families")
+    assert f"{strictest[0]['grazing_angle_deg']:.2f} deg" in finding.message
