@@ -199,10 +199,12 @@ def check_below_path(
     carrier_db = weak_below = None
     if carrier_of_elevation is not None:
         ref = float(np.abs(carrier_of_elevation(np.array([top])))[0])
-        level = 20.0 * np.log10(np.abs(np.asarray(carrier_of_elevation(e))) / ref)
-        carrier_db = float(20.0 * np.log10(abs(float(np.abs(carrier_of_elevation(np.array([low_edge])))[0])) / ref))
+        with np.errstate(divide="ignore", invalid="ignore"):
+            level = 20.0 * np.log10(np.abs(np.asarray(carrier_of_elevation(e))) / ref)
+            edge_db = float(20.0 * np.log10(float(np.abs(carrier_of_elevation(np.array([low_edge])))[0]) / ref))
+        carrier_db = edge_db if math.isfinite(edge_db) else None
         weak = np.flatnonzero(level < -WEAK_CARRIER_DB)
-        weak_below = math.degrees(float(e[weak[0]])) if weak.size else None
+        weak_below = math.degrees(float(e[weak[0]])) if weak.size and math.isfinite(ref) and ref > 0 else None
 
     return BelowPathCheck(
         down_to_fraction,

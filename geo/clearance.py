@@ -263,6 +263,11 @@ def clearance_model(
     model : ArrayModel
         The clearance transmitter's fields (SBO level included: use an SBO scale of 1).
     design : ClearanceDesign
+
+    Raises
+    ------
+    ValueError
+        When a carrier vanishes where the levels are set (site-file feeds can do that).
     """
     frequency_hz = _SPEED_OF_LIGHT_M_S / course.wavelength_m
     lam = _SPEED_OF_LIGHT_M_S / (frequency_hz + offset_hz)
@@ -271,10 +276,14 @@ def clearance_model(
     unit = _with_feeds(course, csb_pattern, sbo_pattern, lam, angle_deg)
     course_c = np.abs(course.far_fields([low, near])[0])
     clear_c = np.abs(unit.far_fields([low, near])[0])
-    ratio = clear_c / course_c
+    with np.errstate(divide="ignore", invalid="ignore"):
+        ratio = clear_c / course_c
+        unit_ddm = float(far_field_ddm(unit, low, 1.0)[0])
+    if not (np.all(np.isfinite(ratio)) and np.all(ratio > 0.0) and math.isfinite(unit_ddm) and unit_ddm != 0.0):
+        raise ValueError("a carrier vanishes at 0.45 theta or at the half-sector: no clearance level can be set")
     level = 1.0 / math.sqrt(ratio[0] * ratio[1])  # balance: level * r_low = 1 / (level * r_near)
     margin_db = 20.0 * math.log10(level * ratio[0])
-    sbo_level = CLEARANCE_DDM_AT_LOW_EDGE / float(far_field_ddm(unit, low, 1.0)[0])
+    sbo_level = CLEARANCE_DDM_AT_LOW_EDGE / unit_ddm
     csb = tuple(complex(level * f) for f in csb_pattern)
     sbo = tuple(complex(level * sbo_level * f) for f in sbo_pattern)
     design = ClearanceDesign(offset_hz, lam, csb, sbo, margin_db, source)

@@ -344,7 +344,7 @@ def check_below_path(array: str, course, capture=None) -> list[Finding]:
         f"; its carrier is {-course.carrier_at_down_to_db:.1f} dB below its path level at "
         f"{course.down_to_fraction:.2f} theta and more than 10 dB below it from "
         f"{course.weak_carrier_below_deg:.3f} deg down, too weak to rely on without the clearance"
-        if course.weak_carrier_below_deg is not None
+        if course.weak_carrier_below_deg is not None and course.carrier_at_down_to_db is not None
         else ""
     )
     combined = capture.combined

@@ -518,18 +518,21 @@ def _below_path(spec, heights, shifts, feeds, lam, gu, gw, prediction):
     )
     kind = array_type(spec.array)
     if kind.clearance_csb_feed:
-        capture = assess_capture_effect(
-            model,
-            prediction.sbo_scale,
-            spec.angle_deg,
-            prediction.path_angle_deg,
-            kind.clearance_csb_feed,
-            kind.clearance_sbo_feed,
-            p.half_sector,
-            p.below_path_down_to,
-            kind.clearance_source,
-        )
-        return capture.course_only, capture
+        try:
+            capture = assess_capture_effect(
+                model,
+                prediction.sbo_scale,
+                spec.angle_deg,
+                prediction.path_angle_deg,
+                kind.clearance_csb_feed,
+                kind.clearance_sbo_feed,
+                p.half_sector,
+                p.below_path_down_to,
+                kind.clearance_source,
+            )
+            return capture.course_only, capture
+        except (ValueError, ZeroDivisionError, FloatingPointError):
+            pass  # site-file feeds without a carrier where the clearance is levelled: course alone
     course = check_below_path(
         lambda e: far_field_ddm(model, e, prediction.sbo_scale),
         spec.angle_deg,

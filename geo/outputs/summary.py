@@ -229,14 +229,18 @@ def prediction_dict(result: StudyResult) -> dict:
     }
 
 
+def _finite(value):
+    return value if value is None or math.isfinite(value) else None
+
+
 def _below_path_check(c) -> dict:
     return {
         "reach_deg": c.reach_deg,
         "reach_fraction": c.reach_fraction,
         "smooth": c.smooth,
-        "lowest_ddm": c.lowest_ddm,
+        "lowest_ddm": _finite(c.lowest_ddm),
         "lowest_at_deg": c.lowest_at_deg,
-        "ddm_at_down_to": c.ddm_at_down_to,
+        "ddm_at_down_to": _finite(c.ddm_at_down_to),
         "pass": c.passed,
     }
 
