@@ -28,6 +28,9 @@ Vol I 3.1.5.2.1, 4 to 32 kHz, from memory: confirm the edition in force); mastpl
 changes the clearance wavelength by 2.4e-5 (included) and makes the two carriers beat at 8 kHz,
 far above the tones, which the receiver's audio filter removes.
 
+The tones of the two carriers are phase-locked, 90 Hz to 90 Hz and 150 Hz to 150 Hz (Annex 10
+Vol I 3.1.5.5.3.1 [5]_, seen in a quotation of the 2006 text), so they are taken in phase here.
+
 The capture model
 -----------------
 With course ``A1(t)`` and clearance ``A2(t)`` (complex envelopes, each ``C (1 + m (a + b)) +
@@ -47,7 +50,8 @@ small modulation the tone depths combine with weights ``1 - g`` and ``g``::
 with ``g -> x^2 / 2`` for a weak second carrier, ``g(1) = 1/2`` and ``g(x) = 1 - g(1/x)``
 (:func:`capture_weight`): the weaker carrier's tones are suppressed by ``x^2 / 2``, the capture
 effect of envelope detection [2]_. A square-law detector would weight by power,
-``x^2 / (1 + x^2)``, twice as much for a weak carrier; ILS receivers detect the envelope.
+``x^2 / (1 + x^2)``, twice as much for a weak carrier; mastplan models the linear envelope
+detector of AM receivers [2]_ (an assumption about the airborne receiver, stated here).
 
 References
 ----------
@@ -60,6 +64,7 @@ References
 .. [4] Abramowitz, M. and Stegun, I. A., *Handbook of Mathematical Functions*, 1964, 17.3
        (complete elliptic integrals; ``scipy.special.ellipe`` and ``ellipk`` take the parameter).
 .. [5] ICAO Annex 10, Volume I, 3.1.5.2.1 (two-frequency glide path carriers 4-32 kHz apart),
+       3.1.5.5.3.1 (the tones of the two carriers phase-locked; seen in a quotation),
        3.1.5.3.1 (coverage down to 0.45 theta), 3.1.5.5.1 (40 % per tone), 3.1.5.6 (0.0875 DDM at
        the half-sector), 3.1.5.6.5 (0.22 DDM below the path); paragraph numbers and the offset
        range from memory.
