@@ -47,6 +47,11 @@ class ArrayType:
         displacement sensitivity.
     feeds_source : str
         Where the default feeds come from.
+    clearance_csb_feed, clearance_sbo_feed : tuple of complex
+        Relative feeds of a clearance transmitter on the same antennas (two-frequency
+        capture-effect arrays only; empty otherwise); levelled by :mod:`geo.clearance`.
+    clearance_source : str
+        Where the clearance feeds come from.
     """
 
     name: str
@@ -56,6 +61,9 @@ class ArrayType:
     csb_feed: tuple[complex, ...] = ()
     sbo_feed: tuple[complex, ...] = ()
     feeds_source: str = ""
+    clearance_csb_feed: tuple[complex, ...] = ()
+    clearance_sbo_feed: tuple[complex, ...] = ()
+    clearance_source: str = ""
 
 
 #: The array types mastplan knows, by name.
@@ -94,6 +102,13 @@ ARRAY_TYPES: dict[str, ArrayType] = {
             (1, -0.5, 0),
             (1, -2, 1),
             "derived in mastplan (not a published set): SBO 1:-2:1, CSB 1:-0.5:0",
+            # Clearance (derived, see geo.clearance): CSB on the middle antenna (sin 2x: null on the
+            # path, maximum at 0.5 theta where the course carrier is weak), SBO on lower and upper in
+            # phase (sin x + sin 3x = 2 sin 2x cos x: the course's DDM shape, 150 Hz below the path).
+            clearance_csb_feed=(0, 1, 0),
+            clearance_sbo_feed=(1, 0, 1),
+            clearance_source="derived in mastplan (not a published set): clearance CSB 0:1:0 (null on the "
+            "path, fills 0.5 theta), clearance SBO 1:0:1 (150 Hz below the path, zero on it)",
         ),
     )
 }

@@ -43,6 +43,8 @@ __all__ = [
     "check_zone_cover",
     "check_predicted_angle",
     "check_mast_clearance",
+    "check_below_path",
+    "check_roughness_families",
 ]
 
 SEVERITIES = ("pass", "info", "warning", "fail")
@@ -539,4 +541,76 @@ def check_dem_resolution(cells: int, cell_size_m: float, zone_half_width_m: floa
         f"The DEM is too coarse for the reflection zone: {' and '.join(why)}. The plane, the slopes and the "
         "roughness verdicts rest on too little data; a survey or lidar DEM with cells of 5 m (16 ft) or finer "
         "is needed.",
+    )
+
+
+_BELOW_PATH_RULE = "Annex 10 Vol I 3.1.5.6.5, from memory: confirm the edition in force"
+
+
+def _below_path_words(check) -> str:
+    band = f"{check.down_to_fraction:.2f} theta"
+    if check.reach_deg is None:
+        return f"the DDM never reaches 0.22 between the path and 0.30 theta (DDM {check.ddm_at_down_to:.3f} at {band})"
+    words = (
+        f"the DDM reaches 0.22 at {check.reach_deg:.3f} deg ({check.reach_fraction:.3f} theta), "
+        f"{'rising smoothly' if check.smooth else 'not rising smoothly'} from the path; lowest DDM "
+        f"{check.lowest_ddm:.3f} at {check.lowest_at_deg:.3f} deg in the band down to {band}"
+    )
+    return words
+
+
+def check_below_path(array: str, course, capture=None) -> list[Finding]:
+    """The DDM below the path (:mod:`geo.below_path`), per array; capture-effect with its clearance."""
+    if course is None:
+        return []
+    scope = "far field, image theory over the reflecting plane; confirmed only by flight inspection"
+    if capture is None:
+        severity = "pass" if course.passed else "fail"
+        return [
+            Finding(
+                "below-path",
+                severity,
+                f"Below the path ({array}): {_below_path_words(course)} ({_BELOW_PATH_RULE}; {scope}).",
+            )
+        ]
+    weak = (
+        f"; its carrier is {-course.carrier_at_down_to_db:.1f} dB below its path level at "
+        f"{course.down_to_fraction:.2f} theta and more than 10 dB below it from "
+        f"{course.weak_carrier_below_deg:.3f} deg down, too weak to rely on without the clearance"
+        if course.weak_carrier_below_deg is not None and course.carrier_at_down_to_db is not None
+        else ""
+    )
+    combined = capture.combined
+    d = capture.design
+    return [
+        Finding(
+            "below-path-course-only",
+            "info",
+            f"Below the path, capture-effect course signal alone: {_below_path_words(course)}{weak} ({scope}).",
+        ),
+        Finding(
+            "below-path",
+            "pass" if combined.passed else "fail",
+            f"Below the path, capture-effect course with its clearance ({d.offset_hz / 1000:g} kHz offset carrier, "
+            f"feeds derived in mastplan, capture margin {d.capture_margin_db:.1f} dB; envelope-detector capture): "
+            f"{_below_path_words(combined)} ({_BELOW_PATH_RULE}; {scope}).",
+        ),
+    ]
+
+
+def check_roughness_families(families) -> Finding | None:
+    """Rayleigh roughness for the strictest judged receiver family (see :mod:`geo.roughness`)."""
+    judged = [f for f in families if f.judged] if families else []
+    if not judged:
+        return None
+    worst = max(judged, key=lambda f: f.grazing_deg)
+    v = worst.verdicts[0]  # Rayleigh
+    others = ", ".join(f"{f.name} {f.grazing_deg:.2f} deg" for f in families)
+    return Finding(
+        "roughness-families",
+        "pass" if v.smooth else "warning",
+        f"Strictest receiver family for roughness: {worst.description}, grazing angle {worst.grazing_deg:.2f} deg, "
+        f"zone RMS {v.rms_m:.3f} m against the Rayleigh limit {v.limit_m:.3f} m: "
+        f"{'smooth' if v.smooth else 'rough'} (families: {others}; judged where at least half of the "
+        "family's first Fresnel zone lies in the fitted zone).",
     )

@@ -156,6 +156,11 @@ class PredictionSpec:
         3.1.5.6: 0.12, within 0.07-0.14).
     csb_feed, sbo_feed : tuple of complex or None
         Feeds per antenna, lowest first; ``None`` uses the array type's defaults.
+    below_path_down_to : float
+        Lower edge of the below-path band, fraction of theta: 0.45, or lower down to 0.30 where
+        the glide path intercept procedure needs it (Annex 10 Vol I 3.1.5.6.5, from memory).
+    below_path_down_to_set : bool
+        Whether the site file gave ``below_path_down_to``.
     """
 
     relative_permittivity: float | None = None
@@ -163,6 +168,8 @@ class PredictionSpec:
     half_sector: float = 0.12
     csb_feed: tuple[complex, ...] | None = None
     sbo_feed: tuple[complex, ...] | None = None
+    below_path_down_to: float = 0.45
+    below_path_down_to_set: bool = False
 
 
 @dataclass(frozen=True)
@@ -459,7 +466,11 @@ def _surfaces(table, scale: float, units: str, runway_code: int | None = None) -
 def _prediction(table, antennas: int) -> PredictionSpec:
     if not isinstance(table, dict):
         raise SiteFileError("prediction", f"must be a table [prediction] (got {_show(table)})")
-    _only(table, "prediction", ("relative_permittivity", "conductivity", "half_sector", "csb_feed", "sbo_feed"))
+    _only(
+        table,
+        "prediction",
+        ("relative_permittivity", "conductivity", "half_sector", "csb_feed", "sbo_feed", "below_path_down_to"),
+    )
     eps = _number(
         table,
         "prediction",
@@ -500,7 +511,25 @@ def _prediction(table, antennas: int) -> PredictionSpec:
         if not any(abs(v) > 0 for v in out):
             raise SiteFileError(f"prediction.{key}", "feeds every antenna with zero; give at least one amplitude")
         feeds[key] = tuple(out)
-    return PredictionSpec(eps, sigma, half if half is not None else 0.12, feeds["csb_feed"], feeds["sbo_feed"])
+    down_to = _number(
+        table,
+        "prediction",
+        "below_path_down_to",
+        1.0,
+        required=False,
+        at_least=0.30,
+        at_most=0.45,
+        unit="(fraction of theta)",
+    )
+    return PredictionSpec(
+        eps,
+        sigma,
+        half if half is not None else 0.12,
+        feeds["csb_feed"],
+        feeds["sbo_feed"],
+        below_path_down_to=down_to if down_to is not None else 0.45,
+        below_path_down_to_set=down_to is not None,
+    )
 
 
 def _protected_areas(items, scale: float, units: str) -> tuple[ProtectedArea, ...]:

@@ -12,7 +12,9 @@ from dataclasses import dataclass, field
 
 from geo import findings as checks
 from geo.arrays import antenna_heights_m, array_type, proximity_shifts_m
+from geo.below_path import BelowPathCheck, check_below_path
 from geo.channels import Channel, channel_for_glide_path, channel_for_localizer, wavelength_m
+from geo.clearance import CaptureEffectAssessment, assess_capture_effect
 from geo.dem_checks import check_dem_covers_site, dem_extent_in_errors
 from geo.errors import SiteFileError, TerrainError
 from geo.frame import RunwayFrame, geodesic_inverse
@@ -23,9 +25,10 @@ from geo.path import (
     runway_gradient,
     setback_for_rdh_m,
 )
-from geo.prediction import ArrayModel, PathPrediction, predict_path
+from geo.prediction import ArrayModel, PathPrediction, far_field_ddm, predict_path
 from geo.profile import ApproachProfile, approach_profile
 from geo.protected import ZoneCover, zone_cover
+from geo.roughness import ReceiverFamily, roughness_by_family
 from geo.site import SiteSpec
 from geo.site_errors import naming_site_file
 from geo.surfaces import MastClearance, mast_clearance
@@ -187,6 +190,12 @@ class StudyResult:
         (CSB feeds, SBO feeds, source) used for the prediction.
     mast_clearance : MastClearance
         Top of the mast against the Annex 14 surfaces.
+    below_path : BelowPathCheck or None
+        The course DDM below the path (Annex 10 Vol I 3.1.5.6.5, from memory; :mod:`geo.below_path`).
+    capture_effect : CaptureEffectAssessment or None
+        Capture-effect arrays: the course with its clearance transmitter (:mod:`geo.clearance`).
+    roughness_families : list of ReceiverFamily or None
+        Roughness per receiver family with its own grazing angle (with a DEM; :mod:`geo.roughness`).
     """
 
     spec: SiteSpec
@@ -209,6 +218,9 @@ class StudyResult:
     prediction_no_shift: PathPrediction | None = None
     feeds: tuple = ()
     mast_clearance: MastClearance | None = None
+    below_path: BelowPathCheck | None = None
+    capture_effect: CaptureEffectAssessment | None = None
+    roughness_families: list[ReceiverFamily] | None = None
 
 
 def channel_of(spec: SiteSpec) -> Channel:
@@ -468,12 +480,19 @@ def run_study(spec: SiteSpec) -> StudyResult:
         spec, heights, shifts, feeds, lam, gu, gw, setback, offset, intercept_m - plane_m
     )
     found.append(checks.check_predicted_angle(prediction.path_angle_deg, spec.angle_deg))
+    below, capture = _below_path(spec, heights, shifts, feeds, lam, gu, gw, prediction)
+    found += checks.check_below_path(spec.array, below, capture)
+    families = None
+    if terrain is not None:
+        families = _roughness_families(spec, terrain, lam, setback, offset)
+        found.append(checks.check_roughness_families(families))
     if dem_finding is not None:
         found.insert(0, dem_finding)  # the likely cause of every other odd height: shown first
     found = [f for f in found if f is not None]
     return StudyResult(
         spec, channel, lam, runway, mast, antennas, rdh, over_threshold, gpip, found,
         intercept_m, terrain, profile, source, zones, covers, prediction, unshifted, feeds, clearance,
+        below_path=below, capture_effect=capture, roughness_families=families,
     )  # fmt: skip
 
 
@@ -534,4 +553,61 @@ def _dem_source_details(source, dem, frame, side, setback, offset, terrain, dem_
         datum_shift_at_mast_m=dem.datum_shift_at(lat, lon),
         cells_in_zone=dem.cells_in_zone(frame, side, setback, offset, terrain.zone.polygon),
         dem_threshold_m=dem_threshold_m,
+    )
+
+
+def _below_path(spec, heights, shifts, feeds, lam, gu, gw, prediction):
+    """The course DDM below the path, and for capture-effect arrays the course with its clearance."""
+    p = spec.prediction
+    model = ArrayModel.build(
+        heights,
+        shifts,
+        feeds[0],
+        feeds[1],
+        lam,
+        forward_gradient=gu,
+        lateral_gradient=gw,
+        relative_permittivity=p.relative_permittivity,
+        conductivity_s_m=p.conductivity_s_m,
+        phase_for_angle_deg=spec.angle_deg,
+    )
+    kind = array_type(spec.array)
+    if kind.clearance_csb_feed:
+        try:
+            capture = assess_capture_effect(
+                model,
+                prediction.sbo_scale,
+                spec.angle_deg,
+                prediction.path_angle_deg,
+                kind.clearance_csb_feed,
+                kind.clearance_sbo_feed,
+                p.half_sector,
+                p.below_path_down_to,
+                kind.clearance_source,
+            )
+            return capture.course_only, capture
+        except (ValueError, ZeroDivisionError, FloatingPointError):
+            pass  # site-file feeds without a carrier where the clearance is levelled: course alone
+    course = check_below_path(
+        lambda e: far_field_ddm(model, e, prediction.sbo_scale),
+        spec.angle_deg,
+        prediction.path_angle_deg,
+        p.below_path_down_to,
+        carrier_of_elevation=lambda e: abs(model.far_fields(e)[0]),
+    )
+    return course, None
+
+
+def _roughness_families(spec, terrain, lam, setback, offset):
+    """Roughness per receiver family over the fitted plane, lowest antenna (:func:`roughness_by_family`)."""
+    return roughness_by_family(
+        terrain.plane.rms_residual_m,
+        lam,
+        spec.angle_deg,
+        terrain.heights_m[0],
+        setback,
+        offset,
+        terrain.plane.forward_gradient,
+        terrain.plane.lateral_gradient,
+        terrain.zone.polygon,
     )

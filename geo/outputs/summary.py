@@ -17,7 +17,7 @@ from geo.findings import CAUTIONS
 from geo.study import StudyResult
 from geo.units import with_foot_twins
 
-__all__ = ["summary_dict", "zone_figures"]
+__all__ = ["summary_dict", "zone_figures", "below_path_dict", "roughness_families_dict"]
 
 
 def zone_figures(zone) -> dict:
@@ -124,6 +124,10 @@ def summary_dict(result: StudyResult) -> dict:
         body["prediction"] = prediction_dict(result)
     if result.terrain is not None:
         body["terrain"] = terrain_dict(result)
+    if result.below_path is not None:
+        body["below_path"] = below_path_dict(result)
+    if result.roughness_families and "terrain" in body:
+        body["terrain"]["roughness_by_family"] = roughness_families_dict(result.roughness_families)
     return with_foot_twins(body)
 
 
@@ -256,3 +260,82 @@ def datum_conversion_dict(src) -> dict:
         "description": conversion.describe(),
         "shift_at_mast_m": src.datum_shift_at_mast_m,
     }
+
+
+def _finite(value):
+    return value if value is None or math.isfinite(value) else None
+
+
+def _below_path_check(c) -> dict:
+    return {
+        "reach_deg": c.reach_deg,
+        "reach_fraction": c.reach_fraction,
+        "smooth": c.smooth,
+        "lowest_ddm": _finite(c.lowest_ddm),
+        "lowest_at_deg": c.lowest_at_deg,
+        "ddm_at_down_to": _finite(c.ddm_at_down_to),
+        "pass": c.passed,
+    }
+
+
+def below_path_dict(result: StudyResult) -> dict:
+    """The below-path block: Annex 10 Vol I 3.1.5.6.5 (from memory) on the image model (metre keys)."""
+    c, cap, spec = result.below_path, result.capture_effect, result.spec.prediction
+    out = {
+        "rule": "DDM below the path rises smoothly to 0.22, reached not below 0.30 theta, and stays at or "
+        "above 0.22 down to 0.45 theta, or down to 0.30 theta where the intercept procedure needs it "
+        "(ICAO Annex 10 Vol I 3.1.5.6.5, from memory: confirm the edition in force)",
+        "down_to_fraction": c.down_to_fraction,
+        "down_to_source": "site file (prediction.below_path_down_to)" if spec.below_path_down_to_set else "default",
+        "course": {
+            **_below_path_check(c),
+            "carrier_at_down_to_db": c.carrier_at_down_to_db,
+            "weak_carrier_below_deg": c.weak_carrier_below_deg,
+            "weak_carrier_db": 10.0,
+        },
+        "clearance": None,
+        "scope": "far field on the course, image theory over the reflecting plane; a prediction, confirmed only "
+        "by flight inspection",
+    }
+    if cap is not None:
+        d = cap.design
+        out["clearance"] = {
+            "offset_hz": d.offset_hz,
+            "offset_source": "two-frequency carriers 4-32 kHz apart (Annex 10 Vol I 3.1.5.2.1, from memory); "
+            "8 kHz is mastplan's pick",
+            "wavelength_m": d.wavelength_m,
+            "feeds": {"csb": _feed_list(d.csb_feed), "sbo": _feed_list(d.sbo_feed), "source": d.source},
+            "capture_margin_db": d.capture_margin_db,
+            "detector": "linear envelope detector, the 8 kHz beat filtered out: the stronger carrier captures "
+            "the tones (weaker carrier's share about x^2/2 for amplitude ratio x)",
+            "combined": _below_path_check(cap.combined),
+            "combined_path_angle_deg": cap.combined_path_angle_deg,
+            "combined_ddm_at_half_sector": cap.combined_ddm_at_half_sector,
+            "course_ddm_at_down_to": cap.course_ddm_at_down_to,
+            "clearance_ddm_at_down_to": cap.clearance_ddm_at_down_to,
+        }
+    return out
+
+
+def roughness_families_dict(families) -> list[dict]:
+    """Roughness per receiver family, each with its own grazing angle (metre keys)."""
+    worst = max((f for f in families if f.judged), key=lambda f: f.grazing_deg, default=None)
+    return [
+        {
+            "family": f.name,
+            "description": f.description,
+            "grazing_angle_deg": f.grazing_deg,
+            "zone_share": f.zone_share,
+            "judged": f.judged,
+            "strictest": f is worst,
+            "criteria": {
+                v.criterion: {
+                    "limit_m": v.limit_m,
+                    "margin_m": v.margin_m,
+                    "verdict": "smooth" if v.smooth else "rough",
+                }
+                for v in f.verdicts
+            },
+        }
+        for f in families
+    ]
