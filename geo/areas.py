@@ -5,12 +5,12 @@ each position of a grid around the mast, the object's scattered field (:mod:`geo
 :mod:`geo.scatter_paths`) adds to the CSB and SBO of every antenna with its feeds. The
 disturbance at a receiver on the designed straight path is the bend amplitude
 
-    dDDM = 2 k |dS - (S / C) dC| / |C|
+    dDDM = 2 k |dS - (S / C) dC| / (|C| - |dC|)
 
 the largest change of ``DDM = 2 k Re(S / C)`` (module notes of :mod:`geo.prediction`) as the
-phase of the scattered wave against the direct one turns, to first order in the scattered
-field (it turns along the approach as the path lengths change; the change sampled at fixed
-receivers lies within it). Per approach segment (:mod:`geo.structure_limits`) the largest
+phase of the scattered wave against the direct one turns: an upper bound, reached to first order
+in ``dC / C`` (the phase turns along the approach as the path lengths change; the change at any
+one receiver lies within it). Per approach segment (:mod:`geo.structure_limits`) the largest
 disturbance is compared with the segment's structure limit at each receiver.
 
 A position is **critical** when the disturbance exceeds ``critical_share`` of the limit somewhere
@@ -218,7 +218,7 @@ def path_receivers(result, model: ArrayModel, segments: list[Segment], count: in
     intercept_z = result.intercept_elevation_m - mast.plane_elevation_m
     end = max(min(s.to_m for s in segments), 0.0)
     u = np.geomspace(mast.setback_m + end, mast.setback_m + COVERAGE_M, count)
-    before = u - mast.setback_m
+    before = np.clip(u - mast.setback_m, end, COVERAGE_M)  # the ends exactly on the segment ends
     points = np.column_stack([u, np.full(count, mast.offset_m), intercept_z + u * math.tan(theta)])
     csb, sbo = model.fields(points)
     limit = np.full(count, np.nan)
@@ -309,8 +309,16 @@ def object_fields(
 
 
 def bend_amplitude(csb, sbo, d_csb, d_sbo, sbo_scale: float) -> np.ndarray:
-    """``2 k |dS - (S / C) dC| / |C|``: the largest DDM change as the scattered phase turns (module notes)."""
-    return 2.0 * abs(sbo_scale) * np.abs(d_sbo - (sbo / csb) * d_csb) / np.abs(csb)
+    """``2 k |dS - (S / C) dC| / (|C| - |dC|)``: the largest DDM change as the scattered phase turns.
+
+    Exactly, ``DDM' - DDM = 2 k Re[(dS - (S / C) dC) / (C + dC)]``; with a common phase turning
+    ``dS`` and ``dC`` its magnitude never exceeds this value, which is reached to first order in
+    ``dC / C`` (module notes). Infinite when the object's carrier outweighs the array's.
+    """
+    csb_abs, d_abs = np.abs(csb), np.abs(d_csb)
+    margin = np.where(csb_abs > d_abs, csb_abs - d_abs, np.nan)
+    bend = 2.0 * abs(sbo_scale) * np.abs(d_sbo - (sbo / csb) * d_csb) / margin
+    return np.where(np.isnan(margin), np.inf, bend)
 
 
 def disturbance(

@@ -28,10 +28,10 @@ __all__ = [
 MODEL_TEXT = (
     "Each object is three plates through its middle (side, end, top) scattering by physical optics, "
     "with the four ground paths over the study's reflecting plane; its field adds to the CSB and SBO "
-    "of every antenna. Disturbance: the bend amplitude 2 k |dS - (S/C) dC| / |C| on the designed "
-    "straight path, the largest DDM change as the scattered phase turns. Areas: union of grid cells "
-    "where the disturbance exceeds the share of the structure limit somewhere on the path, over the "
-    "object's headings; positions against the mast count as both."
+    "of every antenna. Disturbance: the bend amplitude 2 k |dS - (S/C) dC| / (|C| - |dC|) on the "
+    "designed straight path, the largest DDM change as the scattered phase turns (an upper bound). "
+    "Areas: union of grid cells where the disturbance exceeds the share of the structure limit "
+    "somewhere on the path, over the object's headings; positions against the mast count as both."
 )
 _KIND_COLOURS = {"critical": "#c2255c", "sensitive": "#f08c00"}
 
