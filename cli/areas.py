@@ -52,6 +52,11 @@ def areas(site: Path, out_dir: str, overwrite: bool, plots: bool, quiet: bool) -
                 f"{a.object_name}, {a.kind} (> {a.share:g} of the limit): {a.area_m2:,.0f} m2, "
                 f"{reach['ahead_m']:.0f} m ahead, {reach['toward_runway_m']:.0f} m toward the runway, "
                 f"{reach['away_m']:.0f} m away from it"
+                + (
+                    " (reaches the edge of the grid: widen [areas] ahead, behind, away or beyond)"
+                    if a.reaches_grid_edge
+                    else ""
+                )
             )
         click.echo(AREAS_CAUTION)
         click.echo(f"Results written to {folder}")

@@ -142,12 +142,15 @@ class DerivedArea:
         In the mast frame (u toward the approach, w toward the runway). [m]
     share : float
         The share of the structure limit that defines it.
+    reaches_grid_edge : bool
+        The area touches the edge of the grid: it may go on beyond it (widen the grid).
     """
 
     object_name: str
     kind: str
     polygon: object
     share: float
+    reaches_grid_edge: bool = False
 
     @property
     def area_m2(self) -> float:
@@ -410,7 +413,10 @@ def derive_areas(result, progress=None, receivers_count: int = 300, workers: int
         )
         disturbances.append(d)
         worst = d.worst_share
+        edge = (u == u.min()) | (u == u.max()) | (w == w.min()) | (w == w.max())
         for kind, limit in (("critical", settings.critical_share), ("sensitive", settings.sensitive_share)):
-            areas.append(DerivedArea(obj.name, kind, cell_union(u, w, worst > limit, settings.grid_m), limit))
+            inside = worst > limit
+            polygon = cell_union(u, w, inside, settings.grid_m)
+            areas.append(DerivedArea(obj.name, kind, polygon, limit, bool((inside & edge).any())))
     source = "site file" if spec.objects else GENERIC_OBJECTS[0].source
     return AreasResult(result, settings, segments, receivers, disturbances, areas, source)

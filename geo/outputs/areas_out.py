@@ -53,6 +53,7 @@ def _area_properties(areas: AreasResult, area) -> dict:
         "reach_toward_runway_m": reach["toward_runway_m"],
         "reach_away_m": reach["away_m"],
         "grid_m": areas.settings.grid_m,
+        "reaches_grid_edge": area.reaches_grid_edge,
     }
 
 
