@@ -49,7 +49,7 @@ def plate_figures() -> None:
             e = scattered_field(point, facets, point[None, :], LAM, groups=groups)[0, 0]
             got = 4.0 * math.pi * 1e24 * abs(e) ** 2
             worst = max(worst, abs(10 * math.log10(got / closed)))
-        print(f"Plate RCS, {len(facets)} facet(s), main lobe: largest error {worst:.4f} dB (against the closed form)")
+        print(f"Plate RCS, {len(facets)} facet(s), main lobe: largest error {worst:.1e} dB (against the closed form)")
     tail = GENERIC_OBJECTS[0]
     feet = np.array([[150.0, -30.0, 0.0], [260.0, 40.0, 0.0]])
     facets, groups = object_facets(tail, "across", feet, np.array([60.0, 60.0]), LAM)

@@ -136,3 +136,33 @@ def test_positions_against_the_mast_count_in_both_areas(two_sizes):
 
     for area in two_sizes.areas:
         assert area.polygon.covers(shapely.Point(0.0, 0.0))
+
+
+def test_left_and_right_masts_give_mirrored_areas(flat):
+    # Mirror symmetry about the centre line (independent construction): the same site with the mast
+    # on the other side gives the same areas in the mast frame, and their WGS 84 outlines mirror
+    # about the centre line in the runway frame (geo.frame, pyproj's transverse Mercator).
+    from geo.outputs.areas_out import derived_areas_layer
+
+    result = flat[0]
+    grid = AreaSpec(grid_m=40.0, ahead_m=200.0, behind_m=40.0, away_m=40.0, beyond_m=40.0)
+    obj = ObjectSpec("van", 3.0, 8.0, 2.5, 0.0, ("across",))
+    runs = {}
+    for side in ("right", "left"):
+        mast = dataclasses.replace(result.spec.mast, side=side)
+        spec = dataclasses.replace(result.spec, mast=mast, objects=(obj,), areas=grid)
+        runs[side] = derive_areas(run_study(spec))
+    right, left = runs["right"], runs["left"]
+    for a, b in zip(right.areas, left.areas):
+        assert a.polygon.equals(b.polygon)
+    frame = result.runway.frame
+    for fa, fb in zip(derived_areas_layer(right)["features"], derived_areas_layer(left)["features"]):
+        ra = np.array(fa["geometry"]["coordinates"][0])
+        rb = np.array(fb["geometry"]["coordinates"][0])
+        along_a, cross_a = frame.to_plane(ra[:, 1], ra[:, 0])
+        along_b, cross_b = frame.to_plane(rb[:, 1], rb[:, 0])
+        pa = np.column_stack([along_a, cross_a])
+        pb = np.column_stack([along_b, -cross_b])
+        gap = np.linalg.norm(pa[:, None, :] - pb[None, :, :], axis=2)
+        # GeoJSON keeps 7 decimals of a degree: 1.1 cm in latitude, rounded on both outlines.
+        assert gap.min(axis=1).max() < 0.03 and gap.min(axis=0).max() < 0.03
