@@ -20,6 +20,9 @@ spacing centred on the positions) over the object's headings: a cell union, not 
 the outline shows the grid it came from. Ground: the reflecting plane of the study (flat ground,
 or the plane fitted to the DEM).
 
+The antenna elements are isotropic, as the predicted path takes them, unless ``[areas]`` gives
+their front-to-back ratio (:func:`element_pattern`, weighting the illumination of the objects).
+
 Derived areas are a planning aid beside the authority's rules and flight inspection, never in
 place of them.
 
@@ -41,6 +44,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from geo.objects import GENERIC_OBJECTS, object_facets, object_half_diagonal_m
+from geo.optics import Facets
 from geo.prediction import ArrayModel
 from geo.scatter_paths import four_path_field
 from geo.site import AreaSpec, ObjectSpec
@@ -56,6 +60,7 @@ __all__ = [
     "path_receivers",
     "position_grid",
     "object_fields",
+    "element_pattern",
     "bend_amplitude",
     "disturbance",
     "cell_union",
@@ -265,6 +270,7 @@ def object_fields(
     w: np.ndarray,
     receivers_m: np.ndarray,
     refine: float = 1.0,
+    front_to_back_db: float = 0.0,
 ) -> tuple[np.ndarray, np.ndarray]:
     """CSB and SBO fields the object scatters, per position and receiver.
 
@@ -278,6 +284,8 @@ def object_fields(
     receivers_m : numpy.ndarray, shape (R, 3)
     refine : float
         Finer facets than the phase criterion asks (for checks).
+    front_to_back_db : float
+        The elements' front-to-back ratio (:func:`element_pattern`; 0: isotropic). [dB]
 
     Returns
     -------
@@ -295,9 +303,13 @@ def object_fields(
     d_csb = np.zeros((feet.shape[0], rx.shape[0]), dtype=complex)
     d_sbo = np.zeros_like(d_csb)
     for position, c, s in zip(model.positions_m, model.csb, model.sbo):
+        lit = facets
+        if front_to_back_db > 0.0:
+            weights = element_pattern(facets.centres_m - position, front_to_back_db)
+            lit = Facets(facets.centres_m, facets.edge_a_m, facets.edge_b_m, True, weights)
         e = four_path_field(
             position,
-            facets,
+            lit,
             groups,
             centres,
             rx,
@@ -309,6 +321,31 @@ def object_fields(
         d_csb += c * e
         d_sbo += s * e
     return d_csb, d_sbo
+
+
+def element_pattern(direction_m: np.ndarray, front_to_back_db: float) -> np.ndarray:
+    """Field pattern of an element facing the approach (+u), in azimuth: ``b + (1 - b)(1 + cos phi) / 2``.
+
+    A cardioid [1]_ raised to the back level ``b = 10^(-F/B / 20)``: 1 toward the approach, ``b``
+    straight behind, smooth between; isotropic at 0 dB. It weights only the illumination of the
+    objects (the receivers on the approach are in front, where it is 1).
+
+    Parameters
+    ----------
+    direction_m : numpy.ndarray, shape (P, 3)
+        From the element toward each facet.
+    front_to_back_db : float
+        [dB]
+
+    References
+    ----------
+    .. [1] Balanis, C. A., *Antenna Theory*, 3rd ed., Wiley, 2005, sec. 6.2 (two-element array,
+           the cardioid ``(1 + cos phi) / 2``); IEEE Std 145-2013 (front-to-back ratio).
+    """
+    back = 10.0 ** (-front_to_back_db / 20.0)
+    horizontal = np.hypot(direction_m[:, 0], direction_m[:, 1])
+    cos_phi = np.divide(direction_m[:, 0], horizontal, out=np.ones_like(horizontal), where=horizontal > 0)
+    return back + (1.0 - back) * (1.0 + cos_phi) / 2.0
 
 
 def bend_amplitude(csb, sbo, d_csb, d_sbo, sbo_scale: float) -> np.ndarray:
@@ -325,10 +362,18 @@ def bend_amplitude(csb, sbo, d_csb, d_sbo, sbo_scale: float) -> np.ndarray:
 
 
 def disturbance(
-    model: ArrayModel, receivers: PathReceivers, segments, obj: ObjectSpec, heading: str, u, w, refine: float = 1.0
+    model: ArrayModel,
+    receivers: PathReceivers,
+    segments,
+    obj: ObjectSpec,
+    heading: str,
+    u,
+    w,
+    refine: float = 1.0,
+    front_to_back_db: float = 0.0,
 ) -> tuple[np.ndarray, np.ndarray]:
     """Largest disturbance per segment (G, S) and largest share of the limit (G,) at positions (u, w)."""
-    d_csb, d_sbo = object_fields(model, obj, heading, u, w, receivers.points_m, refine)
+    d_csb, d_sbo = object_fields(model, obj, heading, u, w, receivers.points_m, refine, front_to_back_db)
     bend = bend_amplitude(receivers.csb, receivers.sbo, d_csb, d_sbo, receivers.sbo_scale)
     per_segment = np.full((bend.shape[0], len(segments)), np.nan)
     for i in range(len(segments)):
@@ -387,7 +432,9 @@ def derive_areas(result, progress=None, receivers_count: int = 300, workers: int
 
     def run(job):
         k, heading, index = job
-        return job, disturbance(model, receivers, segments, objects[k], heading, u[index], w[index])
+        return job, disturbance(
+            model, receivers, segments, objects[k], heading, u[index], w[index], 1.0, settings.front_to_back_db
+        )
 
     done = 0
     threads = workers or min(os.cpu_count() or 1, 4)

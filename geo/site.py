@@ -206,6 +206,9 @@ class AreaSpec:
     beyond_m : float
         Extent past the centre line, on the far side of the runway. [m]
     shares_source : str
+    front_to_back_db : float
+        Front-to-back ratio of the antenna elements toward the objects (0: isotropic, as the
+        predicted path takes them). [dB]
     """
 
     critical_share: float = 0.5
@@ -216,6 +219,7 @@ class AreaSpec:
     away_m: float = 100.0
     beyond_m: float = 100.0
     shares_source: str = "common practice, no source"
+    front_to_back_db: float = 0.0
 
 
 @dataclass(frozen=True)
@@ -838,7 +842,8 @@ def _areas(table, scale: float, units: str) -> AreaSpec:
         return AreaSpec()
     if not isinstance(table, dict):
         raise SiteFileError("areas", f"must be a table [areas] (got {_show(table)})")
-    _only(table, "areas", ("critical_share", "sensitive_share", "grid", "ahead", "behind", "away", "beyond"))
+    keys = ("critical_share", "sensitive_share", "grid", "ahead", "behind", "away", "beyond", "front_to_back_db")
+    _only(table, "areas", keys)
     d = AreaSpec()
     share = {"required": False, "unit": "(fraction of the limit)", "above": 0.0, "at_most": 1.0}
     critical = _number(table, "areas", "critical_share", 1.0, **share)
@@ -860,4 +865,6 @@ def _areas(table, scale: float, units: str) -> AreaSpec:
         d.grid_m if grid is None else grid,
         *(getattr(d, f"{k}_m") if v is None else v for k, v in values.items()),
         shares_source=source,
-    )
+        front_to_back_db=_number(table, "areas", "front_to_back_db", 1.0, required=False, unit="dB", at_least=0.0,
+                                 at_most=60.0) or 0.0,
+    )  # fmt: skip

@@ -166,3 +166,21 @@ def test_left_and_right_masts_give_mirrored_areas(flat):
         gap = np.linalg.norm(pa[:, None, :] - pb[None, :, :], axis=2)
         # GeoJSON keeps 7 decimals of a degree: 1.1 cm in latitude, rounded on both outlines.
         assert gap.min(axis=1).max() < 0.03 and gap.min(axis=0).max() < 0.03
+
+
+def test_front_to_back_ratio_scales_objects_behind_the_mast(flat):
+    # Front-to-back ratio (IEEE Std 145-2013): 20 dB is a field ratio of 0.1 straight behind. Only
+    # the illumination of the object passes through the pattern (the path is in front), so an
+    # object far behind the mast scatters a tenth (within the pattern's spread over the object).
+    from geo.areas import element_pattern
+
+    assert element_pattern(np.array([[1.0, 0.0, 0.0], [-1.0, 0.0, 0.0], [0.0, 1.0, 2.0]]), 20.0) == pytest.approx(
+        [1.0, 0.1, 0.55]
+    )
+    result, segments, model, rc = flat
+    u, w = np.array([-600.0, -900.0]), np.array([0.0, 20.0])
+    for heading in ("along", "across"):
+        iso = object_fields(model, GENERIC_OBJECTS[0], heading, u, w, rc.points_m)
+        fb = object_fields(model, GENERIC_OBJECTS[0], heading, u, w, rc.points_m, front_to_back_db=20.0)
+        for a, b in zip(iso, fb):
+            assert np.abs(b - 0.1 * a).max() <= 0.01 * np.abs(a).max()

@@ -67,6 +67,7 @@ def test_defaults_without_the_tables(write_site, site_text):
         ("grid = 40", "grid = 0.1", "areas.grid"),
         ("beyond = 40", "beyond = 40\nrings = 3", "areas.rings"),
         ("height = 3.0", "height = 3.0\nbase = 4.0", "object[0].base"),
+        ("grid = 40", "grid = 40\nfront_to_back_db = -3", "areas.front_to_back_db"),
     ],
 )
 def test_bad_keys_give_one_line_naming_the_field(tmp_path, write_site, site_text, old, new, field):

@@ -205,6 +205,7 @@ def areas_summary(areas: AreasResult) -> dict:
             "away_m": s.away_m,
             "beyond_m": s.beyond_m,
             "receivers_on_path": int(areas.receivers.points_m.shape[0]),
+            "front_to_back_db": s.front_to_back_db,
         },
         "segments": [
             {
