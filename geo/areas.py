@@ -449,7 +449,7 @@ def derive_areas(result, progress=None, receivers_count: int = 300, workers: int
     for k, obj in enumerate(objects):
         at_mast = np.zeros(u.size, dtype=bool)
         for h in obj.headings:
-            at_mast |= ~np.isfinite(share[k, h])
+            at_mast |= _at_mast(obj, h, model, u, w)
         d = ObjectDisturbance(
             obj,
             u,

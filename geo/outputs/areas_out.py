@@ -92,11 +92,17 @@ def areas_rows(areas: AreasResult) -> list[dict]:
                     "at_mast": bool(d.at_mast[g]),
                 }
                 for i, name in enumerate(names):
-                    v = per_segment[g, i]
-                    row[f"ddm {name}"] = "" if not math.isfinite(v) else f"{v:.6f}"
-                row["share_of_limit"] = "" if not math.isfinite(share[g]) else f"{share[g]:.4f}"
+                    row[f"ddm {name}"] = _cell(per_segment[g, i], 6)
+                row["share_of_limit"] = _cell(share[g], 4)
                 rows.append(row)
     return rows
+
+
+def _cell(value: float, decimals: int) -> str:
+    """A table cell: empty when not computed (NaN), ``inf`` when the object outweighs the array's carrier."""
+    if math.isnan(value):
+        return ""
+    return "inf" if math.isinf(value) else f"{value:.{decimals}f}"
 
 
 def write_areas_csv(areas: AreasResult, path: Path) -> None:
