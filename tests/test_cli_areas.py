@@ -134,3 +134,6 @@ def test_no_plots_and_overwrite(written, tmp_path):
     res = _run("areas", str(site), "--out", str(tmp_path / "b"), "--no-plots", "-q")
     assert res.exit_code == 0 and res.output == ""
     assert not list((tmp_path / "b").glob("*.png"))
+    # Reproducible outputs (DEVELOPERS.md): the same site gives the same bytes.
+    for name in ("summary.json", "areas.csv", "layers/derived_areas.geojson", "map.html", "areas.kml"):
+        assert (tmp_path / "b" / name).read_bytes() == (out / name).read_bytes(), name

@@ -166,7 +166,7 @@ def plot_disturbance(areas: AreasResult, index: int, path: Path) -> None:
     )
     ax.legend(loc="upper right", fontsize=8)
     fig.text(0.01, 0.01, AREAS_CAUTION, fontsize=7, color="#555")
-    fig.savefig(path, dpi=110)
+    fig.savefig(path, dpi=110, bbox_inches="tight")
 
 
 def areas_summary(areas: AreasResult) -> dict:
