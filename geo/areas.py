@@ -438,13 +438,16 @@ def derive_areas(result, progress=None, receivers_count: int = 300, workers: int
 
     done = 0
     threads = workers or min(os.cpu_count() or 1, 4)
-    with ThreadPoolExecutor(max_workers=threads) as pool:
+    pool = ThreadPoolExecutor(max_workers=threads)
+    try:
         for (k, heading, index), (per_segment, worst) in pool.map(run, jobs):
             segment_ddm[k, heading][index] = per_segment
             share[k, heading][index] = worst
             done += 1
             if progress is not None:
                 progress(done, len(jobs))
+    finally:  # an interrupted run stops after the chunks in hand, not after every chunk
+        pool.shutdown(wait=True, cancel_futures=True)
     disturbances, areas = [], []
     for k, obj in enumerate(objects):
         at_mast = np.zeros(u.size, dtype=bool)

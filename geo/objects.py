@@ -12,7 +12,9 @@ of a square facet of side ``D`` seen from a distance ``r`` is at most ``k (D / s
 = pi D^2 / (2 lambda r)``; keeping it below ``pi / 8`` gives ``D <= sqrt(lambda r) / 2``. Near
 the antennas (``r`` small) the plates are cut finely; far from them a 12 m fin may be one facet
 per side. ``r`` is the distance from the antennas (and images) to the nearest point of the
-object, never taken below :data:`MIN_RANGE_M`.
+object (or from the nearest receiver, when closer), never taken below :data:`MIN_RANGE_M`.
+Checked in the tests against plates cut three times finer: fields within 12 % of the largest
+(about 10 % for a tail 30 m in front of the mast, facing it), disturbances within 10 %.
 
 Coordinates: the mast frame of :mod:`geo.prediction` (``u`` toward the approach, ``w`` toward
 the runway, ``Z`` up). [m]
