@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import click
 
+from cli.areas import areas
 from cli.batch import batch
 from cli.demo import demo
 from cli.run import run
@@ -24,6 +25,7 @@ main.add_command(run)
 main.add_command(demo)
 main.add_command(sweep)
 main.add_command(batch)
+main.add_command(areas)
 
 if __name__ == "__main__":  # pragma: no cover
     main()

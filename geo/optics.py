@@ -140,6 +140,7 @@ def scattered_field(
     relative_permittivity: float | None = None,
     conductivity_s_m: float | None = None,
     receiver_visible=None,
+    groups=None,
 ) -> np.ndarray:
     """Field scattered by ``facets`` from an isotropic horizontally polarised source (see module notes).
 
@@ -167,7 +168,9 @@ def scattered_field(
     k = 2.0 * math.pi / wavelength_m
     src = np.asarray(source_m, dtype=float)
     rx = np.atleast_2d(np.asarray(receivers_m, dtype=float))
-    out = np.zeros(rx.shape[0], dtype=complex)
+    group_of = None if groups is None else np.asarray(groups, dtype=np.int64)
+    count = 0 if group_of is None or group_of.size == 0 else int(group_of[-1]) + 1
+    out = np.zeros(rx.shape[0] if group_of is None else (count, rx.shape[0]), dtype=complex)
     if len(facets) == 0:
         return out
     # Source side: everything per facet.
@@ -191,28 +194,43 @@ def scattered_field(
     chunk = max(1, _PAIRS_PER_CHUNK // max(rx.shape[0], 1))
     for start in range(0, keep.size, chunk):
         sl = slice(start, start + chunk)
-        d2 = rx[None, :, :] - centres[sl, None, :]  # (p, R, 3)
-        r2 = np.linalg.norm(d2, axis=2)
-        r2_hat = d2 / r2[..., None]
-        nr2 = np.einsum("pj,prj->pr", n[sl], r2_hat)
-        e_rx = horizontal_polarisation(r2_hat)
+        # Component form of the vector products (the same formulas, without (p, R, 3) temporaries).
+        c, ns, es, s1s = centres[sl], n[sl], e_inc[sl], s1[sl]
+        dx, dy, dz = (rx[None, :, i] - c[:, i, None] for i in range(3))
+        r2 = np.sqrt(dx * dx + dy * dy + dz * dz)
+        inv = 1.0 / r2
+        ux, uy, uz = dx * inv, dy * inv, dz * inv  # r2_hat
+        inv_h = 1.0 / np.sqrt(ux * ux + uy * uy)  # e_rx = (-uy, ux, 0) / h
+        nr2 = ns[:, 0, None] * ux + ns[:, 1, None] * uy + ns[:, 2, None] * uz
+        s1_erx = (s1s[:, 1, None] * ux - s1s[:, 0, None] * uy) * inv_h
+        n_erx = (ns[:, 1, None] * ux - ns[:, 0, None] * uy) * inv_h
+        e_erx = (es[:, 1, None] * ux - es[:, 0, None] * uy) * inv_h
+        r2_e = es[:, 0, None] * ux + es[:, 1, None] * uy
         same_side = np.where(nr2 > 0.0, 1.0, -1.0)
-        coupling = (
-            np.einsum("pj,prj->pr", s1[sl], e_rx) * ne[sl, None]
-            - same_side * np.einsum("prj,pj->pr", r2_hat, e_inc[sl]) * np.einsum("pj,prj->pr", n[sl], e_rx)
-            + np.einsum("pj,prj->pr", e_inc[sl], e_rx) * (np.abs(nr2) - ns1[sl, None])
-        )
+        coupling = s1_erx * ne[sl, None] - same_side * r2_e * n_erx + e_erx * (np.abs(nr2) - ns1[sl, None])
         if relative_permittivity is not None:
             grazing = 0.5 * (np.arcsin(np.clip(-ns1[sl, None], 0.0, 1.0)) + np.arcsin(np.clip(np.abs(nr2), 0.0, 1.0)))
             coupling = coupling * -reflection_coefficient_h(
                 grazing, relative_permittivity, conductivity_s_m, wavelength_m
             )
-        g = k * (s1[sl, None, :] - r2_hat)
-        shape = _sinc_half(np.einsum("prj,pj->pr", g, a[sl])) * _sinc_half(np.einsum("prj,pj->pr", g, b[sl]))
-        term = coupling * shape * np.exp(-1j * k * r2) / r2 * amp_src[sl, None]
+        # g = k (s1 - r2_hat); its products with the edges a and b.
+        aa, bb = a[sl], b[sl]
+        ga = k * ((s1s * aa).sum(axis=1)[:, None] - (aa[:, 0, None] * ux + aa[:, 1, None] * uy + aa[:, 2, None] * uz))
+        gb = k * ((s1s * bb).sum(axis=1)[:, None] - (bb[:, 0, None] * ux + bb[:, 1, None] * uy + bb[:, 2, None] * uz))
+        # term = coupling S S exp(-j k r2) / r2 * amp_src, with the source's phase folded in.
+        real = coupling * _sinc_half(ga) * _sinc_half(gb) * inv * np.abs(amp_src[sl])[:, None]
+        phase = k * r2 - np.angle(amp_src[sl])[:, None]
+        term = np.empty(real.shape, dtype=complex)
+        term.real = real * np.cos(phase)
+        term.imag = -real * np.sin(phase)
         if not facets.two_sided:
             term = np.where(nr2 > 0.0, term, 0.0)  # a ground facet radiates only upward
         if receiver_visible is not None:
             term = np.where(receiver_visible(keep[sl], np.arange(rx.shape[0])), term, 0.0)
-        out += term.sum(axis=0)
+        if group_of is None:
+            out += term.sum(axis=0)
+        else:
+            g = group_of[keep[sl]]
+            starts = np.flatnonzero(np.r_[True, g[1:] != g[:-1]])
+            out[g[starts]] += np.add.reduceat(term, starts, axis=0)
     return -1j * k / (4.0 * math.pi) * out

@@ -31,6 +31,8 @@ __all__ = [
     "ProtectedArea",
     "PredictionSpec",
     "SiteSpec",
+    "ObjectSpec",
+    "AreaSpec",
     "load_site",
     "parse_site",
 ]
@@ -172,6 +174,74 @@ class PredictionSpec:
     below_path_down_to_set: bool = False
 
 
+#: Headings an object may take: parallel to the runway (holding, parked) or across it (taxiing).
+OBJECT_HEADINGS = ("along", "across")
+
+
+@dataclass(frozen=True)
+class ObjectSpec:
+    """A parked or moving object near the mast, scattering the glide path signal.
+
+    Attributes
+    ----------
+    name : str
+    height_m : float
+        Top of the object above the ground. [m]
+    length_m : float
+        Along its heading (a fin's chord, a vehicle's length). [m]
+    width_m : float
+        Across its heading (a fin's thickness, a vehicle's width). [m]
+    base_m : float
+        Lowest edge above the ground (a fin above its fuselage; 0 for a vehicle). [m]
+    headings : tuple of str
+        Among :data:`OBJECT_HEADINGS`.
+    source : str
+        Where the sizes come from.
+    """
+
+    name: str
+    height_m: float
+    length_m: float
+    width_m: float
+    base_m: float = 0.0
+    headings: tuple[str, ...] = OBJECT_HEADINGS
+    source: str = "site file"
+
+
+@dataclass(frozen=True)
+class AreaSpec:
+    """How the critical and sensitive areas are derived from the disturbance (``[areas]``).
+
+    Attributes
+    ----------
+    critical_share, sensitive_share : float
+        Share of the segment's structure limit an object may take before its position is
+        critical (sensitive). Defaults: common practice, no source.
+    grid_m : float
+        Spacing of the object positions. [m]
+    ahead_m, behind_m : float
+        Extent of the grid in front of the mast (toward the approach) and behind it. [m]
+    away_m : float
+        Extent beyond the mast, away from the runway. [m]
+    beyond_m : float
+        Extent past the centre line, on the far side of the runway. [m]
+    shares_source : str
+    front_to_back_db : float
+        Front-to-back ratio of the antenna elements toward the objects (0: isotropic, as the
+        predicted path takes them). [dB]
+    """
+
+    critical_share: float = 0.5
+    sensitive_share: float = 0.2
+    grid_m: float = 10.0
+    ahead_m: float = 600.0
+    behind_m: float = 50.0
+    away_m: float = 100.0
+    beyond_m: float = 100.0
+    shares_source: str = "common practice, no source"
+    front_to_back_db: float = 0.0
+
+
 @dataclass(frozen=True)
 class SiteSpec:
     """Validated inputs of one site study; every length in metres.
@@ -246,6 +316,8 @@ class SiteSpec:
     surfaces: SurfaceSpec = DEFAULT_SURFACES
     vertical_datum: str | None = None
     geoid_undulation_m: float | None = None
+    objects: tuple[ObjectSpec, ...] = ()
+    areas: AreaSpec = field(default_factory=AreaSpec)
 
 
 def load_site(path: str | Path) -> SiteSpec:
@@ -306,8 +378,11 @@ def parse_site(doc: dict[str, Any], source: str = "", sha256: str = "", base_dir
     _only(
         doc,
         "",
-        ("units", "site", "runway", "glide_path", "mast", "terrain", "protected_area", "prediction", "surfaces"),
-    )
+        (
+            "units", "site", "runway", "glide_path", "mast", "terrain", "protected_area", "prediction", "surfaces",
+            "object", "areas",
+        ),
+    )  # fmt: skip
     units = doc.get("units")
     if units is None:
         raise SiteFileError("units", 'missing; add units = "m" or units = "ft" at the top')
@@ -424,6 +499,8 @@ def parse_site(doc: dict[str, Any], source: str = "", sha256: str = "", base_dir
         surfaces=surfaces,
         vertical_datum=survey_datum,
         geoid_undulation_m=undulation_m,
+        objects=_objects(doc.get("object", []), scale, units),
+        areas=_areas(doc.get("areas"), scale, units),
     )
 
 
@@ -850,3 +927,69 @@ def _survey_datum(runway: dict, scale: float, units: str) -> tuple[str | None, f
             'needs runway.vertical_datum ("EGM96", "EGM2008" or "WGS84"), the datum of the elevations',
         )
     return datum, undulation
+
+
+def _objects(items, scale: float, units: str) -> tuple[ObjectSpec, ...]:
+    """``[[object]]``: the scatterers whose critical and sensitive areas ``mastplan areas`` derives."""
+    if not isinstance(items, list):
+        raise SiteFileError("object", "must be an array of tables: write each as [[object]]")
+    out = []
+    for i, item in enumerate(items):
+        prefix = f"object[{i}]"
+        if not isinstance(item, dict):
+            raise SiteFileError(prefix, f"must be a table [[object]] (got {_show(item)})")
+        _only(item, prefix, ("name", "height", "length", "width", "base", "headings"))
+        name = _text(item, prefix, "name", required=True)
+        size = {"required": True, "unit": units, "above": 0.0, "at_most": 100.0}
+        height = _number(item, prefix, "height", scale, **size)
+        length = _number(item, prefix, "length", scale, **size)
+        width = _number(item, prefix, "width", scale, **{**size, "above": None, "at_least": 0.0})
+        base = _number(item, prefix, "base", scale, required=False, unit=units, at_least=0.0, at_most=100.0) or 0.0
+        if base >= height:
+            raise SiteFileError(f"{prefix}.base", "must be below the object's height (the top of the object)")
+        headings = item.get("headings", list(OBJECT_HEADINGS))
+        if (
+            not isinstance(headings, list)
+            or not headings
+            or not all(_is_choice(h, OBJECT_HEADINGS) for h in headings)
+            or len(set(headings)) != len(headings)
+        ):
+            raise SiteFileError(
+                f"{prefix}.headings", f'must be a list of distinct "along" and "across" (got {_show(headings)})'
+            )
+        out.append(ObjectSpec(name, height, length, width, base, tuple(headings)))
+    return tuple(out)
+
+
+def _areas(table, scale: float, units: str) -> AreaSpec:
+    """``[areas]``: shares of the structure limit and the grid of object positions."""
+    if table is None:
+        return AreaSpec()
+    if not isinstance(table, dict):
+        raise SiteFileError("areas", f"must be a table [areas] (got {_show(table)})")
+    keys = ("critical_share", "sensitive_share", "grid", "ahead", "behind", "away", "beyond", "front_to_back_db")
+    _only(table, "areas", keys)
+    d = AreaSpec()
+    share = {"required": False, "unit": "(fraction of the limit)", "above": 0.0, "at_most": 1.0}
+    critical = _number(table, "areas", "critical_share", 1.0, **share)
+    sensitive = _number(table, "areas", "sensitive_share", 1.0, **share)
+    critical = d.critical_share if critical is None else critical
+    sensitive = d.sensitive_share if sensitive is None else sensitive
+    if sensitive >= critical:
+        raise SiteFileError(
+            "areas.sensitive_share",
+            f"must be below areas.critical_share ({critical:g}); the sensitive area holds the critical one",
+        )
+    grid = _number(table, "areas", "grid", scale, required=False, unit=units, at_least=1.0, at_most=200.0)
+    extent = {"required": False, "unit": units, "at_least": 0.0, "at_most": 5000.0}
+    values = {k: _number(table, "areas", k, scale, **extent) for k in ("ahead", "behind", "away", "beyond")}
+    source = "site file [areas]" if "critical_share" in table or "sensitive_share" in table else d.shares_source
+    return AreaSpec(
+        critical,
+        sensitive,
+        d.grid_m if grid is None else grid,
+        *(getattr(d, f"{k}_m") if v is None else v for k, v in values.items()),
+        shares_source=source,
+        front_to_back_db=_number(table, "areas", "front_to_back_db", 1.0, required=False, unit="dB", at_least=0.0,
+                                 at_most=60.0) or 0.0,
+    )  # fmt: skip

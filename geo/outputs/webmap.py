@@ -282,6 +282,10 @@ def write_map(result: StudyResult, layers: dict[str, dict], path: Path) -> None:
     if "candidates" in layers:
         _candidates(layers["candidates"], result.spec.units).add_to(fmap)
         fmap.get_root().html.add_child(folium.Element(_candidates_legend()))
+    if "derived_areas" in layers:
+        from geo.outputs.areas_out import derived_areas_group
+
+        derived_areas_group(layers["derived_areas"]).add_to(fmap)
     # Open on what is shown at first: the path zones, the mast and the threshold.
     shown = [f for f in zones["features"] if f["properties"]["kind"] == "path"]
     view_lons = [c[0] for f in shown for ring in _rings(f["geometry"]) for c in ring] + [thr.lon_deg]

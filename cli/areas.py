@@ -1,0 +1,62 @@
+"""``mastplan areas``: critical and sensitive areas derived from the disturbance of parked or moving objects."""
+
+from __future__ import annotations
+
+import sys
+from pathlib import Path
+
+import click
+
+from cli.common import out_option, overwrite_option, plots_option, quiet_option, reports_errors
+
+
+@click.command("areas")
+@click.argument("site", type=click.Path(dir_okay=False, path_type=Path))
+@out_option
+@overwrite_option
+@plots_option
+@quiet_option
+@reports_errors
+def areas(site: Path, out_dir: str, overwrite: bool, plots: bool, quiet: bool) -> None:
+    """Derive critical and sensitive areas around the mast of SITE from the path disturbance.
+
+    The objects are the site file's [[object]] tables (or three generic classes) and the grid and
+    shares come from [areas]. A planning aid beside the authority's rules and flight inspection,
+    never in place of them.
+
+    Example: mastplan areas site.toml --out areas/
+    """
+    from geo.areas import AREAS_CAUTION, derive_areas
+    from geo.outputs.areas_out import write_areas
+    from geo.site import load_site
+    from geo.study import run_study
+
+    result = run_study(load_site(site))
+    if sys.stderr.isatty() and not quiet:
+        with click.progressbar(length=1, label="Object positions", file=sys.stderr) as bar:
+            state = {"done": 0}
+
+            def progress(done: int, total: int) -> None:
+                bar.length = total
+                bar.update(done - state["done"])
+                state["done"] = done
+
+            derived = derive_areas(result, progress=progress)
+    else:
+        derived = derive_areas(result)
+    folder = write_areas(derived, out_dir, overwrite=overwrite, plots=plots)
+    if not quiet:
+        for a in derived.areas:
+            reach = a.reach_m()
+            click.echo(
+                f"{a.object_name}, {a.kind} (> {a.share:g} of the limit): {a.area_m2:,.0f} m2, "
+                f"{reach['ahead_m']:.0f} m ahead, {reach['toward_runway_m']:.0f} m toward the runway, "
+                f"{reach['away_m']:.0f} m away from it"
+                + (
+                    " (reaches the edge of the grid: widen [areas] ahead, behind, away or beyond)"
+                    if a.reaches_grid_edge
+                    else ""
+                )
+            )
+        click.echo(AREAS_CAUTION)
+        click.echo(f"Results written to {folder}")

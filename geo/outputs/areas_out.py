@@ -1,0 +1,300 @@
+"""Writers of ``mastplan areas``: the derived-area layer, ``areas.csv``, the disturbance maps, the summary.
+
+Every writer reads an :class:`geo.areas.AreasResult` and recomputes nothing.
+"""
+
+from __future__ import annotations
+
+import csv
+import math
+from pathlib import Path
+
+import numpy as np
+
+from geo import __version__
+from geo.areas import AREAS_CAUTION, AreasResult
+from geo.units import with_foot_twins
+
+__all__ = [
+    "derived_areas_layer",
+    "write_areas_csv",
+    "plot_disturbance",
+    "areas_summary",
+    "derived_areas_group",
+    "write_areas",
+    "MODEL_TEXT",
+]
+
+MODEL_TEXT = (
+    "Each object is three plates through its middle (side, end, top) scattering by physical optics, "
+    "with the four ground paths over the study's reflecting plane; its field adds to the CSB and SBO "
+    "of every antenna. Disturbance: the bend amplitude 2 k |dS - (S/C) dC| / (|C| - |dC|) on the "
+    "designed straight path, the largest DDM change as the scattered phase turns (an upper bound). "
+    "Areas: union of grid cells where the disturbance exceeds the share of the structure limit "
+    "somewhere on the path, over the object's headings; positions against the mast count as both."
+)
+_KIND_COLOURS = {"critical": "#c2255c", "sensitive": "#f08c00"}
+
+
+def _slug(text: str) -> str:
+    keep = "".join(c if c.isalnum() else "_" for c in text.lower())
+    return "_".join(part for part in keep.split("_") if part) or "object"
+
+
+def _area_properties(areas: AreasResult, area) -> dict:
+    reach = area.reach_m()
+    return {
+        "object": area.object_name,
+        "kind": area.kind,
+        "share_of_limit": area.share,
+        "area_m2": round(area.area_m2, 1),
+        "reach_ahead_m": reach["ahead_m"],
+        "reach_behind_m": reach["behind_m"],
+        "reach_toward_runway_m": reach["toward_runway_m"],
+        "reach_away_m": reach["away_m"],
+        "grid_m": areas.settings.grid_m,
+        "reaches_grid_edge": area.reaches_grid_edge,
+    }
+
+
+def derived_areas_layer(areas: AreasResult) -> dict:
+    """The derived areas as GeoJSON polygons in WGS 84 (empty areas left out), lengths with foot twins."""
+    from geo.outputs.geojson import _mast_plane_polygon, collection, feature
+
+    features = []
+    for area in areas.areas:
+        if area.polygon.is_empty:
+            continue
+        props = with_foot_twins(_area_properties(areas, area))
+        features.append(feature(_mast_plane_polygon(areas.study, area.polygon), props))
+    return collection(features)
+
+
+def areas_rows(areas: AreasResult) -> list[dict]:
+    """One row per object, position and heading: the disturbance per segment and the share of the limit."""
+    rows = []
+    names = [s.name for s in areas.segments]
+    frame, mast = areas.study.runway.frame, areas.study.mast
+    sign = 1.0 if mast.side == "right" else -1.0
+    for d in areas.disturbances:
+        lat, lon = frame.to_geographic(mast.setback_m - d.ahead_m, sign * (mast.offset_m - d.toward_runway_m))
+        lat, lon = np.atleast_1d(lat), np.atleast_1d(lon)
+        for heading in d.share:
+            per_segment, share = d.segment_ddm[heading], d.share[heading]
+            for g in range(d.ahead_m.size):
+                row = {
+                    "object": d.obj.name,
+                    "heading": heading,
+                    "ahead_m": round(float(d.ahead_m[g]), 2),
+                    "toward_runway_m": round(float(d.toward_runway_m[g]), 2),
+                    "lat": round(float(lat[g]), 8),
+                    "lon": round(float(lon[g]), 8),
+                    "at_mast": bool(d.at_mast[g]),
+                }
+                for i, name in enumerate(names):
+                    row[f"ddm {name}"] = _cell(per_segment[g, i], 6)
+                row["share_of_limit"] = _cell(share[g], 4)
+                rows.append(row)
+    return rows
+
+
+def _cell(value: float, decimals: int) -> str:
+    """A table cell: empty when not computed (NaN), ``inf`` when the object outweighs the array's carrier."""
+    if math.isnan(value):
+        return ""
+    return "inf" if math.isinf(value) else f"{value:.{decimals}f}"
+
+
+def write_areas_csv(areas: AreasResult, path: Path) -> None:
+    """``areas.csv``: one row per object, position and heading (lengths with foot twins)."""
+    rows = [with_foot_twins(r, digits=2) for r in areas_rows(areas)]
+    with path.open("w", newline="", encoding="utf-8") as fh:
+        writer = csv.DictWriter(fh, fieldnames=list(rows[0]), lineterminator="\n")
+        writer.writeheader()
+        writer.writerows(rows)
+
+
+def plot_disturbance(areas: AreasResult, index: int, path: Path) -> None:
+    """One object's worst share of the structure limit over the grid, with the derived outlines."""
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+    from matplotlib.colors import LogNorm
+    from matplotlib.figure import Figure
+
+    d = areas.disturbances[index]
+    s = areas.settings
+    u_values, w_values = np.unique(d.ahead_m), np.unique(d.toward_runway_m)
+    share = np.full((w_values.size, u_values.size), np.nan)
+    iu = np.searchsorted(u_values, d.ahead_m)
+    iw = np.searchsorted(w_values, d.toward_runway_m)
+    share[iw, iu] = np.where(d.at_mast, np.nan, d.worst_share)
+    fig = Figure(figsize=(11, 6.5))
+    FigureCanvasAgg(fig)
+    ax = fig.add_subplot(1, 1, 1)
+    step = s.grid_m
+    extent = (u_values[0] - step / 2, u_values[-1] + step / 2, w_values[0] - step / 2, w_values[-1] + step / 2)
+    finite = share[np.isfinite(share)]
+    low = max(float(finite.min()) if finite.size else 1e-3, 1e-3)
+    high = max(float(finite.max()) if finite.size else 1.0, low * 10)
+    image = ax.imshow(
+        share,
+        origin="lower",
+        extent=extent,
+        aspect="equal",
+        cmap="viridis",
+        norm=LogNorm(low, high),
+        interpolation="nearest",
+    )
+    fig.colorbar(image, ax=ax, label="largest disturbance / structure limit (worst heading)", shrink=0.8)
+    for area in areas.areas:
+        if area.object_name != d.obj.name or area.polygon.is_empty:
+            continue
+        parts = list(area.polygon.geoms) if hasattr(area.polygon, "geoms") else [area.polygon]
+        for k, part in enumerate(parts):
+            x, y = part.exterior.xy
+            label = f"{area.kind} (> {area.share:g} of the limit)" if k == 0 else None
+            ax.plot(x, y, color=_KIND_COLOURS[area.kind], lw=1.5, label=label)
+    mast = areas.study.mast
+    ax.plot([0.0], [0.0], "s", color="#1864ab", label="mast")
+    ax.axhline(mast.offset_m, color="k", ls="--", lw=0.8, label="runway centre line")
+    ax.set_xlabel("ahead of the mast, toward the approach [m]")
+    ax.set_ylabel("toward the runway [m]")
+    o = d.obj
+    ax.set_title(
+        f"{o.name}: height {o.height_m:g} m (from {o.base_m:g} m), length {o.length_m:g} m, width {o.width_m:g} m; "
+        f"headings {', '.join(o.headings)}",
+        fontsize=10,
+    )
+    ax.legend(loc="upper right", fontsize=8)
+    fig.text(0.01, 0.01, AREAS_CAUTION, fontsize=7, color="#555")
+    fig.savefig(path, dpi=110, bbox_inches="tight")
+
+
+def areas_summary(areas: AreasResult) -> dict:
+    """``summary.json`` of ``mastplan areas``: settings, segments, objects and their ``derived_areas``."""
+    from geo.structure_limits import LIMITS_SOURCE
+
+    s = areas.settings
+    study = areas.study
+    derived = []
+    for d in areas.disturbances:
+        o = d.obj
+        entry = {
+            "object": o.name,
+            "height_m": o.height_m,
+            "base_m": o.base_m,
+            "length_m": o.length_m,
+            "width_m": o.width_m,
+            "headings": list(o.headings),
+            "sizes_source": o.source,
+            "largest_share_of_limit": _finite(np.max(np.where(d.at_mast, -np.inf, d.worst_share))),
+            "positions_against_mast": int(d.at_mast.sum()),
+        }
+        for area in areas.areas:
+            if area.object_name == o.name:
+                props = _area_properties(areas, area)
+                entry[area.kind] = {k: v for k, v in props.items() if k not in ("object", "kind", "grid_m")}
+        derived.append(entry)
+    summary = {
+        "mastplan_version": __version__,
+        "site": study.spec.name,
+        "site_file_sha256": study.spec.sha256,
+        "category": study.spec.category,
+        "wavelength_m": study.wavelength_m,
+        "ground": "flat ground" if study.terrain is None else "plane fitted to the DEM",
+        "settings": {
+            "critical_share": s.critical_share,
+            "sensitive_share": s.sensitive_share,
+            "shares_source": s.shares_source,
+            "grid_m": s.grid_m,
+            "ahead_m": s.ahead_m,
+            "behind_m": s.behind_m,
+            "away_m": s.away_m,
+            "beyond_m": s.beyond_m,
+            "receivers_on_path": int(areas.receivers.points_m.shape[0]),
+            "front_to_back_db": s.front_to_back_db,
+        },
+        "segments": [
+            {
+                "name": g.name,
+                "from_m": g.from_m,
+                "to_m": g.to_m,
+                "limit_from_ddm": g.limit_from_ddm,
+                "limit_to_ddm": g.limit_to_ddm,
+            }
+            for g in areas.segments
+        ],  # fmt: skip
+        "limits_source": LIMITS_SOURCE,
+        "objects_source": areas.objects_source,
+        "model": MODEL_TEXT,
+        "derived_areas": derived,
+        "cautions": [AREAS_CAUTION],
+    }
+    return with_foot_twins(summary)
+
+
+def _finite(value) -> float | None:
+    value = float(value)
+    return value if math.isfinite(value) else None
+
+
+def derived_areas_group(fc: dict):
+    """A folium layer of the derived areas (called by :func:`geo.outputs.webmap.write_map`)."""
+    import folium
+
+    from geo.outputs.webmap import _escaped
+
+    group = folium.FeatureGroup(name="Derived areas (mastplan areas)")
+    for kind in ("sensitive", "critical"):
+        features = [f for f in fc["features"] if f["properties"]["kind"] == kind]
+        if not features:
+            continue
+        colour = _KIND_COLOURS[kind]
+        folium.GeoJson(
+            _escaped({"type": "FeatureCollection", "features": features}),
+            style_function=lambda _f, c=colour: {"color": c, "weight": 2, "fillOpacity": 0.12, "dashArray": "2 4"},
+            tooltip=folium.GeoJsonTooltip(
+                fields=["object", "kind", "area_m2", "reach_ahead_m", "reach_toward_runway_m", "reach_away_m"]
+            ),
+        ).add_to(group)
+    return group
+
+
+def write_areas(areas: AreasResult, out_dir, overwrite: bool = False, plots: bool = True) -> Path:
+    """Write every output of ``mastplan areas`` into ``out_dir``, atomically.
+
+    Parameters
+    ----------
+    areas : AreasResult
+    out_dir : str or Path
+    overwrite : bool
+        Replace a non-empty folder.
+    plots : bool
+        Draw the disturbance maps (PNG, one per object).
+
+    Returns
+    -------
+    Path
+    """
+    from geo.outputs.geojson import study_layers
+    from geo.outputs.gpkg import write_gpkg
+    from geo.outputs.kml import write_kml
+    from geo.outputs.webmap import write_map
+    from geo.outputs.write import atomic_folder, write_json
+
+    spec = areas.study.spec
+    inputs = [Path(spec.source)] if spec.source else []
+
+    def fill(folder: Path) -> None:
+        layers = {**study_layers(areas.study), "derived_areas": derived_areas_layer(areas)}
+        write_json(folder / "summary.json", areas_summary(areas))
+        (folder / "layers").mkdir()
+        write_json(folder / "layers" / "derived_areas.geojson", layers["derived_areas"], compact=True)
+        write_areas_csv(areas, folder / "areas.csv")
+        write_gpkg(layers, folder / "areas.gpkg")
+        write_kml(f"{spec.name}: derived areas", layers, folder / "areas.kml")
+        write_map(areas.study, layers, folder / "map.html")
+        if plots:
+            for k, d in enumerate(areas.disturbances):
+                plot_disturbance(areas, k, folder / f"disturbance_{k + 1}_{_slug(d.obj.name)}.png")
+
+    return atomic_folder(out_dir, overwrite, fill, inputs)
