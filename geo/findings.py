@@ -43,6 +43,7 @@ __all__ = [
     "check_zone_cover",
     "check_predicted_angle",
     "check_mast_clearance",
+    "check_plane_solve",
 ]
 
 SEVERITIES = ("pass", "info", "warning", "fail")
@@ -231,7 +232,7 @@ def check_roughness(verdicts) -> list[Finding]:
 
 def check_clearance(min_clearance_m: float, along_m: float, required_m: float) -> Finding:
     """Smallest height of the straight path above the approach terrain."""
-    where = f"{-along_m:,.0f} m before the threshold"
+    where = f"{_without_signed_zero(-along_m, 0):,.0f} m before the threshold"
     if min_clearance_m >= required_m:
         return Finding(
             "clearance",
@@ -306,4 +307,37 @@ def check_mast_clearance(clearance, spec) -> Finding:
         "mast-clearance",
         "info" if strip else "pass",
         f"The top of the mast ({_ft(top)} above the centre line) {clear}.{strip} Surfaces: {spec.source}.",
+    )
+
+
+def _without_signed_zero(value: float, digits: int) -> float:
+    """``value`` rounded to ``digits``, with a negative zero made 0 (so that it never prints as "-0")."""
+    return round(value, digits) + 0.0
+
+
+def check_plane_solve(
+    status: str, spread_mm: float, bracket_deg: tuple[float, float], plane_slopes_deg: tuple[float, float]
+) -> Finding | None:
+    """The reflecting plane's solve, when it stopped on a bracket instead of a fixed point.
+
+    DEM samples are fixed points, so the plane fitted in the zone jumps when a sample crosses the
+    zone's edge; the forward slope may then have no exact fixed point, and the solve stops on the
+    narrowest bracket of the jump (:mod:`geo.plane_solve`). The finding says how far the antenna
+    heights differ across it: an information below 10 mm, a warning from 10 mm (a threshold of
+    mastplan, common practice, no source: heights are set to the centimetre and confirmed by flight
+    inspection).
+    """
+    if status == "settled":
+        return None
+    low, high = sorted(bracket_deg)
+    severity = "info" if spread_mm < 10.0 else "warning"
+    return Finding(
+        "plane-bracket",
+        severity,
+        f"The ground's forward slope has no exact fixed point: DEM samples cross the reflection zone's edge "
+        f"between trial slopes {low:.4f} and {high:.4f} deg, where the fitted plane jumps from "
+        f"{plane_slopes_deg[0]:.4f} to {plane_slopes_deg[1]:.4f} deg; the antenna heights differ by "
+        f"{spread_mm:.1f} mm ({spread_mm / 25.4:.2f} in) across the jump. The end whose heights are nearer "
+        "its own plane is used"
+        + ("." if severity == "info" else "; a finer DEM or a survey of the zone would settle the heights."),
     )

@@ -409,6 +409,11 @@ def run_study(spec: SiteSpec) -> StudyResult:
         if file_base is not None:
             found.append(checks.check_base_elevation(file_base, terrain.ground_at_mast_m))
         found += checks.check_roughness(terrain.roughness)
+        plane_solve = checks.check_plane_solve(
+            terrain.solve_status, terrain.height_spread_mm, terrain.slope_bracket_deg, terrain.bracket_plane_slopes_deg
+        )
+        if plane_solve is not None:
+            found.append(plane_solve)
         found.append(
             checks.check_clearance(profile.min_clearance_m, profile.min_clearance_along_m, spec.terrain.min_clearance_m)
         )

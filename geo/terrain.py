@@ -107,6 +107,7 @@ def fit_zone(
     receivers = path_receivers(
         setback_m, offset_m, angle_deg, FIT_RECEIVERS, forward_gradient, lateral_gradient, fractions=(1.0,)
     )
+    receivers = receivers[receivers[:, 2] > 0.0]  # at or below the plane: no zone (as geo.zone_grid)
     return antenna_zone(height_m, 0.0, receivers, wavelength_m, rows=_FIT_ROWS)
 
 
@@ -157,6 +158,9 @@ class TerrainResult:
         Evaluations of the plane in the zone, all passes.
     lateral_passes : int
         Solves with the zone's lateral gradient updated.
+    zone_lateral_gradient : float
+        Lateral gradient the zone's receivers were measured from (the plane's, within 1e-5, unless
+        three passes did not settle it). [m/m]
     """
 
     plane: PlaneFit
@@ -182,6 +186,7 @@ class TerrainResult:
     height_spread_mm: float = 0.0
     evaluations: int = 0
     lateral_passes: int = 0
+    zone_lateral_gradient: float = 0.0
 
 
 def _missing_error(frame, sign, setback_m, offset_m, u, w, missing) -> TerrainError:
@@ -291,6 +296,7 @@ def analyse_terrain(
         height_spread_mm=1000.0 * float(solve.spread_m[0]),
         evaluations=int(solve.evaluations[0]),
         lateral_passes=int(solve.passes[0]),
+        zone_lateral_gradient=zone_gw,
     )
 
 

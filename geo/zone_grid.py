@@ -176,11 +176,18 @@ def zone_rows(
     ant[:, :, 2] = height[:, None]
     centres, q = exact_ellipses(ant.reshape(-1, 3), receivers.reshape(-1, 3), wavelength_m)
     centres, q = centres.reshape(c, n, 2), q.reshape(c, n, 2, 2)
-    # Rows whose w = offset - sign * cross lies within each candidate's ellipses.
     det = q[..., 0, 0] * q[..., 1, 1] - q[..., 0, 1] ** 2
+    # A receiver at or below the plane (a trial plane steeper than the path near the mast) has no zone.
+    real = (receivers[..., 2] > 0.0) & (det > 0.0) & (q[..., 0, 0] > 0.0) & np.isfinite(centres).all(axis=-1)
+    centres = np.where(real[..., None], centres, 0.0)
+    q = np.where(real[..., None, None], q, np.eye(2))
+    det = np.where(real, det, 1.0)
+    # Rows whose w = offset - sign * cross lies within each candidate's ellipses.
     reach = np.sqrt(q[..., 0, 0] / det)
-    w_lo = (centres[..., 1] - reach).min(axis=1)
-    w_hi = (centres[..., 1] + reach).max(axis=1)
+    w_lo = np.where(real, centres[..., 1] - reach, np.inf).min(axis=1)
+    w_hi = np.where(real, centres[..., 1] + reach, -np.inf).max(axis=1)
+    some = np.isfinite(w_lo)
+    w_lo, w_hi = np.where(some, w_lo, offset), np.where(some, w_hi, offset)
     cross_a, cross_b = sign * (offset - w_lo), sign * (offset - w_hi)
     j0 = np.floor(np.minimum(cross_a, cross_b) / sp).astype(np.int64)
     needed = int(math.ceil(np.max(w_hi - w_lo) / sp)) + 2
@@ -193,7 +200,7 @@ def zone_rows(
     f4 = np.float32
     alpha = (q[..., 0, 1] / q[..., 0, 0]).astype(f4)[:, None, :]
     beta = (det / q[..., 0, 0] ** 2).astype(f4)[:, None, :]
-    gamma = (1.0 / q[..., 0, 0]).astype(f4)[:, None, :]
+    gamma = np.where(real, 1.0 / q[..., 0, 0], -1.0).astype(f4)[:, None, :]  # -1: the row always misses
     dw = w_rows.astype(f4)[:, :, None] - centres[:, None, :, 1].astype(f4)  # (C, R, N)
     mid = centres[:, None, :, 0].astype(f4) - alpha * dw
     dw *= dw
