@@ -531,7 +531,12 @@ def _score(feasible, rdh, target, half_band, volume, margin, limit):
 
 
 def best_site(spec: SiteSpec, sweep: SweepResult) -> SiteSpec | None:
-    """The site file's inputs with the mast moved to the best candidate (for a full study)."""
+    """The site file's inputs with the mast moved to the best candidate (for a full study).
+
+    The study gets the candidate's setback as given, without the site file's target RDH: the sweep
+    has weighed the target in its score, and the study at the candidate's position finds the same
+    plane and RDH as its sweep row (the same grid, zone rule and solve).
+    """
     import dataclasses
 
     from geo.site import MastSpec
@@ -545,4 +550,4 @@ def best_site(spec: SiteSpec, sweep: SweepResult) -> SiteSpec | None:
         setback_m=float(c["setback_m"][k]),
         base_elevation_m=spec.mast.base_elevation_m if spec.terrain is None else None,
     )
-    return dataclasses.replace(spec, mast=mast)
+    return dataclasses.replace(spec, mast=mast, target_rdh_m=None)

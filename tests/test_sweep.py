@@ -99,3 +99,29 @@ def test_flat_ground_sweep_matches_the_closed_forms(write_site, site_text):
         # RDH = ground at the mast + s tan(theta) - threshold (Annex 10 3.1.1 geometry), flat ground 511.2 m.
         assert sweep.columns["rdh_m"][k] == pytest.approx(511.2 + s * math.tan(math.radians(3.0)) - 512.0, abs=1e-9)
         assert sweep.columns["cut_m3"][k] == 0.0
+
+
+def test_best_study_agrees_with_its_sweep_row(demo_sweep):
+    # The full study of the best candidate (best/) against its own sweep row: the same plane, samples and
+    # RDH (requirement of the issue: RDH within 1 cm), and no target-RDH warning for a setback the sweep chose.
+    spec, _, sweep = demo_sweep
+    c, k = sweep.columns, sweep.best
+    assert np.issubdtype(c["samples"].dtype, np.integer)
+    study = run_study(best_site(spec, sweep))
+    assert study.rdh_m == pytest.approx(c["rdh_m"][k], abs=0.01)
+    assert study.terrain.plane.samples == c["samples"][k]
+    assert study.terrain.forward_slope_deg == pytest.approx(c["forward_slope_deg"][k], abs=0.01)
+    assert "rdh-target" not in {f.code for f in study.findings}
+
+
+def test_sweep_rows_follow_the_shared_zone_receivers():
+    # The vectorised receivers of the fit zone against geo.zones.path_receivers (one elevation, theta).
+    from geo.zone_grid import FIT_RECEIVERS, fit_receivers
+    from geo.zones import path_receivers
+
+    setback, offset = np.array([250.0, 330.0]), np.array([100.0, 180.0])
+    gu, gw = np.array([0.01, -0.02]), np.array([0.005, 0.0])
+    ours = fit_receivers(setback, offset, 3.0, gu, gw)
+    for k in range(2):
+        ref = path_receivers(setback[k], offset[k], 3.0, FIT_RECEIVERS, gu[k], gw[k], fractions=(1.0,))
+        np.testing.assert_allclose(ours[k], ref, rtol=1e-12, atol=1e-9)
