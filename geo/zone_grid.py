@@ -33,7 +33,7 @@ from geo.zones import RANGE_M
 __all__ = ["FIT_RECEIVERS", "FrameGrid", "ZoneRows", "fit_receivers", "zone_rows"]
 
 #: Receivers on the path (at theta) whose zones make the fit zone, from the threshold to 10 NM.
-FIT_RECEIVERS = 96
+FIT_RECEIVERS = 64
 #: Candidates per block of the (candidates x rows x receivers) arrays.
 _CHUNK = 48
 

@@ -38,7 +38,8 @@ from geo.sweep import SweepOptions, run_sweep
 from geo.terrain import analyse_terrain, fit_zone
 
 SCALES = (0.02, 0.05, 0.1, 0.2)
-SITES = 120
+RUNWAYS = 40
+MASTS_PER_RUNWAY = 3
 ARRAYS = ("null-reference", "sideband-reference", "capture-effect")
 RUNWAY_M = 2500.0
 #: Errors that real ground may legitimately end in: ground that cannot serve an image array.
@@ -105,15 +106,15 @@ def jacksboro_dems(tmp_path_factory):
 
 
 def _site_texts(dems) -> list[dict]:
-    """Fictional runways at random (seeded) on the real DEM."""
+    """Fictional runways at random (seeded) on the real DEM, three random mast positions on each."""
     from pyproj import Geod, Transformer
 
     geod = Geod(ellps="WGS84")
     rng = np.random.default_rng(20261202)
     west, south, east, top = dems["box"]
     sites = []
-    for i in range(SITES):
-        crs = ("geographic", "projected")[i % 2]
+    for r in range(RUNWAYS):
+        crs = ("geographic", "projected")[r % 2]
         scale = SCALES[rng.integers(len(SCALES))]
         # At least ~6 km from the sheet's edges: the zones and the runway stay on the DEM.
         lon = rng.uniform(west + 0.07, east - 0.07)
@@ -126,35 +127,36 @@ def _site_texts(dems) -> list[dict]:
             z_thr, z_end = dem.sample_native(*to.transform([lon, end_lon], [lat, end_lat]))
         # A graded runway: at most 1.5 % (Annex 14 allows 1-2 %; from memory).
         z_end = z_thr + float(np.clip(z_end - z_thr, -0.015 * RUNWAY_M, 0.015 * RUNWAY_M))
-        site = {
-            "index": i,
-            "crs": crs,
-            "scale": scale,
-            "array": ARRAYS[rng.integers(len(ARRAYS))],
-            "side": ("left", "right")[rng.integers(2)],
-            "setback": round(float(rng.uniform(240.0, 390.0)), 1),
-            "offset": round(float(rng.uniform(100.0, 200.0)), 1),
-        }
-        site["text"] = textwrap.dedent(f"""
-            units = "m"
-            [site]
-            name = "Jacksboro fictional runway {i}"
-            [runway]
-            threshold = {{ lat = {lat:.7f}, lon = {lon:.7f}, elevation = {z_thr:.2f} }}
-            end = {{ lat = {end_lat:.7f}, lon = {end_lon:.7f}, elevation = {z_end:.2f} }}
-            width = 45
-            [glide_path]
-            angle_deg = 3.0
-            localizer_mhz = 110.30
-            array = "{site["array"]}"
-            [mast]
-            side = "{site["side"]}"
-            offset = {site["offset"]}
-            setback = {site["setback"]}
-            [terrain]
-            dem = "{path}"
-            """)
-        sites.append(site)
+        for _ in range(MASTS_PER_RUNWAY):
+            site = {
+                "index": len(sites),
+                "crs": crs,
+                "scale": scale,
+                "array": ARRAYS[rng.integers(len(ARRAYS))],
+                "side": ("left", "right")[rng.integers(2)],
+                "setback": round(float(rng.uniform(240.0, 390.0)), 1),
+                "offset": round(float(rng.uniform(100.0, 200.0)), 1),
+            }
+            site["text"] = textwrap.dedent(f"""
+                units = "m"
+                [site]
+                name = "Jacksboro fictional runway {r}"
+                [runway]
+                threshold = {{ lat = {lat:.7f}, lon = {lon:.7f}, elevation = {z_thr:.2f} }}
+                end = {{ lat = {end_lat:.7f}, lon = {end_lon:.7f}, elevation = {z_end:.2f} }}
+                width = 45
+                [glide_path]
+                angle_deg = 3.0
+                localizer_mhz = 110.30
+                array = "{site["array"]}"
+                [mast]
+                side = "{site["side"]}"
+                offset = {site["offset"]}
+                setback = {site["setback"]}
+                [terrain]
+                dem = "{path}"
+                """)
+            sites.append(site)
     return sites
 
 
