@@ -44,6 +44,7 @@ __all__ = [
     "check_predicted_angle",
     "check_mast_clearance",
     "check_plane_solve",
+    "check_solved_setback",
 ]
 
 SEVERITIES = ("pass", "info", "warning", "fail")
@@ -340,4 +341,22 @@ def check_plane_solve(
         f"{spread_mm:.1f} mm ({spread_mm / 25.4:.2f} in) across the jump. The end whose heights are nearer "
         "its own plane is used"
         + ("." if severity == "info" else "; a finer DEM or a survey of the zone would settle the heights."),
+    )
+
+
+def check_solved_setback(rdh_m: float, target_rdh_m: float, tolerance_m: float = 0.01) -> Finding | None:
+    """The RDH at the setback solved for the target, when the solve could not meet the target.
+
+    On a DEM the RDH jumps with the setback where the reflecting plane changes (samples crossing
+    the zone's edge, or the zone moving onto other ground); the solve then keeps the setback whose
+    RDH is nearest the target (:func:`geo.study.run_study`).
+    """
+    if abs(rdh_m - target_rdh_m) <= tolerance_m:
+        return None
+    return Finding(
+        "rdh-target",
+        "warning",
+        f"RDH {_ft(rdh_m)} differs from the target {_ft(target_rdh_m)} by {rdh_m - target_rdh_m:+.2f} m at the "
+        "solved setback: the RDH jumps with the setback here, as the reflecting plane changes with the zone; "
+        "compare nearby setbacks (mastplan sweep) and give mast.setback.",
     )

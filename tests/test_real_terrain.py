@@ -30,7 +30,7 @@ import pytest
 from geo.arrays import antenna_heights_m
 from geo.channels import wavelength_m
 from geo.dem import Dem
-from geo.errors import TerrainError
+from geo.errors import SiteFileError, TerrainError
 from geo.path import rdh_m
 from geo.site import load_site
 from geo.study import channel_of, run_study, runway_of
@@ -295,3 +295,36 @@ def test_sweep_candidate_equals_the_study_on_real_terrain(real_sites):
         checked += 1
     assert checked >= 20
     print(f"real terrain: sweep against study at {checked} sites, largest differences {worst}")
+
+
+def test_setback_solved_for_the_target_rdh_always_ends(real_sites):
+    # The setback for a target RDH (15.5 m) on real ground: it ends at the target within 5 mm, or says how far
+    # it is (the RDH jumps with the setback where the plane changes); never "did not settle".
+    import dataclasses
+
+    from geo.site import MastSpec
+
+    ended, refused, misses = 0, 0, []
+    for s in real_sites[2::15]:
+        spec = s["spec"]
+        solved = dataclasses.replace(
+            spec, target_rdh_m=15.5, mast=MastSpec(side=s["side"], offset_m=s["offset"], setback_m=None)
+        )
+        try:
+            result = run_study(solved)
+        except (TerrainError, SiteFileError) as exc:  # ground that cannot give the target beside the runway
+            assert any(key in str(exc) for key in (*LEGITIMATE, "must stand beside the runway")), str(exc)
+            refused += 1
+            continue
+        t = result.terrain
+        thr = spec.threshold.elevation_m
+        assert result.rdh_m == pytest.approx(rdh_m(t.rpi_elevation_m, result.mast.setback_m, 3.0, thr), abs=1e-9)
+        codes = {f.code for f in result.findings}
+        assert abs(result.rdh_m - 15.5) <= 0.005 or "rdh-target" in codes
+        misses.append(abs(result.rdh_m - 15.5))
+        ended += 1
+    assert ended >= 6
+    print(
+        f"real terrain: setback solved for RDH 15.5 m at {ended + refused} sites: {ended} ended "
+        f"({sum(m <= 0.005 for m in misses)} within 5 mm, largest miss {max(misses):.3f} m), {refused} refused"
+    )
