@@ -15,7 +15,8 @@ Checks against outside references: heights from :func:`geo.arrays.antenna_height
 reported slope (Annex 10 / FAA image-array formula), RDH from :func:`geo.path.rdh_m` at the reported
 RPI (Annex 10 3.1.1 geometry), the reported samples inside the zone drawn independently as a shapely
 union of the exact Fresnel ellipses (:func:`geo.terrain.fit_zone`), and the sweep (prefix sums over
-row intervals) against the single study (least squares on samples) at the same positions.
+row intervals) against the single study (least squares on samples) at the same positions. The
+setback solved for a target RDH ends too, at the target or with a finding saying how far.
 """
 
 from __future__ import annotations
@@ -107,6 +108,7 @@ def jacksboro_dems(tmp_path_factory):
 
 def _site_texts(dems) -> list[dict]:
     """Fictional runways at random (seeded) on the real DEM, three random mast positions on each."""
+    import rasterio
     from pyproj import Geod, Transformer
 
     geod = Geod(ellps="WGS84")
@@ -122,9 +124,9 @@ def _site_texts(dems) -> list[dict]:
         heading = rng.uniform(0.0, 360.0)
         end_lon, end_lat, _ = geod.fwd(lon, lat, heading, RUNWAY_M)
         path = dems["paths"][crs, scale]
-        with Dem.open(path) as dem:
-            to = Transformer.from_crs("EPSG:4326", dem.dataset.crs.to_wkt(), always_xy=True)
-            z_thr, z_end = dem.sample_native(*to.transform([lon, end_lon], [lat, end_lat]))
+        with rasterio.open(path) as ds:  # the surveyed elevations: the DEM's nearest cell
+            to = Transformer.from_crs("EPSG:4326", ds.crs.to_wkt(), always_xy=True)
+            z_thr, z_end = (float(v[0]) for v in ds.sample(zip(*to.transform([lon, end_lon], [lat, end_lat]))))
         # A graded runway: at most 1.5 % (Annex 14 allows 1-2 %; from memory).
         z_end = z_thr + float(np.clip(z_end - z_thr, -0.015 * RUNWAY_M, 0.015 * RUNWAY_M))
         for _ in range(MASTS_PER_RUNWAY):

@@ -20,8 +20,10 @@ def demo_sweep():
 
 
 def test_sweep_equals_single_site_studies_at_sampled_candidates(demo_sweep):
-    # Independent method: the full single-site pipeline (geo.study.run_study, its own zone polygon and
-    # sample grid) at the same positions. Tolerances: RDH 1 cm, slopes 0.01 deg, heights 2 mm, RMS 3 %.
+    # Independent method for the fit: the full single-site pipeline (geo.study.run_study: least squares on the
+    # zone's samples) against the sweep's prefix sums, at the same positions; both take the grid and zone rule
+    # of geo.zone_grid (checked against a shapely union of the ellipses in test_real_terrain). Tolerances: RDH
+    # 1 cm, slopes 0.01 deg, heights 2 mm, RMS 3 % (issue 10).
     spec, _, sweep = demo_sweep
     c = sweep.columns
     for k in range(len(sweep)):
