@@ -149,11 +149,20 @@ class _SideGrid:
         self.p_az = np.hstack([zero, np.cumsum(zf * rel, axis=1)])
 
     def local(self, zone: ZoneRows):
-        """The zone's rows and column intervals as indices into this grid (empty rows: 0, -1)."""
-        inside = zone.lengths > 0
-        rows = np.where(inside, zone.rows - self.grid.j0, 0)
-        i_lo = np.where(inside, zone.i_lo - self.grid.i0, 0)
-        i_hi = np.where(inside, zone.i_hi - self.grid.i0, -1)
+        """The zone's rows and column intervals as indices into this grid (empty rows: 0, -1).
+
+        Cells past the grid (see :data:`geo.zone_grid.MAX_CELLS`) are left out and counted in
+        :attr:`past`, per candidate.
+        """
+        nj, ni = self.z.shape
+        rows = zone.rows - self.grid.j0
+        i_lo = np.maximum(zone.i_lo - self.grid.i0, 0)
+        i_hi = np.minimum(zone.i_hi - self.grid.i0, ni - 1)
+        inside = (zone.lengths > 0) & (rows >= 0) & (rows < nj) & (i_hi >= i_lo)
+        self.past = (zone.lengths - np.where(inside, i_hi - i_lo + 1, 0)).sum(axis=1)
+        rows = np.where(inside, rows, 0)
+        i_lo = np.where(inside, i_lo, 0)
+        i_hi = np.where(inside, i_hi, -1)
         return rows, i_lo, i_hi, zone.w_m
 
 
@@ -236,7 +245,8 @@ class _SweepPlanes:
             )
             grid.cover(zone)
             rows = grid.local(zone)
-            out.append((pick, grid, rows, _fit(grid, *rows, self.setback[idx])))
+            a, b, c, rms, n, miss = _fit(grid, *rows, self.setback[idx])
+            out.append((pick, grid, rows, (a, b, c, rms, n, miss + grid.past)))
         return out
 
     def __call__(self, slope_deg, lateral_gradient, index):

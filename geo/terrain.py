@@ -332,7 +332,7 @@ class _ZonePlanes:
         zone = zone_rows(height, self.setback, self.offset, self.sign, self.angle, self.lam, gu, lateral_gradient, sp)
         self.grid.cover(*zone.bounds())
         rows, cols = self.grid.cells(zone)
-        z = self.grid.z[rows - self.grid.j0, cols - self.grid.i0]
+        z = self.grid.heights(rows, cols)
         u = self.setback - sp * cols
         w = np.repeat(zone.w_m[0], zone.lengths[0])
         self.last = (u, w, z)

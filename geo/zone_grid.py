@@ -30,7 +30,7 @@ import numpy as np
 from geo.fresnel import exact_ellipses
 from geo.zones import RANGE_M
 
-__all__ = ["FIT_RECEIVERS", "FrameGrid", "ZoneRows", "fit_receivers", "zone_rows"]
+__all__ = ["FIT_RECEIVERS", "MAX_CELLS", "FrameGrid", "ZoneRows", "fit_receivers", "zone_rows"]
 
 #: Receivers on the path (at theta) whose zones make the fit zone, from the threshold to 10 NM.
 FIT_RECEIVERS = 64
@@ -223,16 +223,22 @@ def zone_rows(
     return ZoneRows(rows, i_lo, i_hi, w_rows)
 
 
+#: Most grid points one grid holds (about 270 MB with a sweep's prefix sums); a zone reaching past
+#: them (a trial plane near the path angle on a fine DEM) counts the cells beyond as missing.
+MAX_CELLS = 4_000_000
+
+
 class FrameGrid:
     """DEM heights at the runway-frame grid points ``(along, cross) = (i sp, j sp)``, read on demand.
 
     :meth:`cover` reads a box of grid points (with a margin) and grows it when a zone reaches past
-    it; :attr:`z` holds the heights (NaN off the DEM or on nodata) of rows ``j0 ..`` and columns
-    ``i0 ..``.
+    it, up to :data:`MAX_CELLS`; :attr:`z` holds the heights (NaN off the DEM or on nodata) of rows
+    ``j0 ..`` and columns ``i0 ..``. Cells past the grid read as NaN (:meth:`heights`).
     """
 
-    def __init__(self, dem, frame, spacing_m: float, z_ref_m: float = 0.0):
+    def __init__(self, dem, frame, spacing_m: float, z_ref_m: float = 0.0, max_cells: int = MAX_CELLS):
         self.dem, self.frame, self.sp, self.z_ref = dem, frame, spacing_m, z_ref_m
+        self.max_cells = max_cells
         self.i0 = self.j0 = 0
         self.z = np.empty((0, 0))
         self.reads = 0
@@ -261,6 +267,10 @@ class FrameGrid:
             j_min, j_max = min(j_min, self.j0), max(j_max, self.j0 + self.z.shape[0] - 1)
         pad_i = max(8, (i_max - i_min) // 4)
         pad_j = max(8, (j_max - j_min) // 4)
+        if (i_max - i_min + 1 + 2 * pad_i) * (j_max - j_min + 1 + 2 * pad_j) > self.max_cells:
+            pad_i = pad_j = 0
+            if (i_max - i_min + 1) * (j_max - j_min + 1) > self.max_cells and self.z.size:
+                return False  # keep the grid: the cells beyond it count as missing
         self.i0, self.j0 = i_min - pad_i, j_min - pad_j
         ni, nj = i_max - i_min + 1 + 2 * pad_i, j_max - j_min + 1 + 2 * pad_j
         along = self.sp * np.arange(self.i0, self.i0 + ni)
@@ -269,6 +279,14 @@ class FrameGrid:
         self.z = self.dem.sample_frame(self.frame, ga.ravel(), gc.ravel()).reshape(nj, ni) - self.z_ref
         self.reads += 1
         return True
+
+    def heights(self, rows: np.ndarray, cols: np.ndarray) -> np.ndarray:
+        """Heights at grid (row, column) points; NaN past the grid. [m]"""
+        r, c = rows - self.j0, cols - self.i0
+        held = (r >= 0) & (r < self.z.shape[0]) & (c >= 0) & (c < self.z.shape[1])
+        out = np.full(rows.shape, np.nan)
+        out[held] = self.z[r[held], c[held]]
+        return out
 
     def cells(self, zone: ZoneRows, k: int = 0) -> tuple[np.ndarray, np.ndarray]:
         """Grid (row, column) of every cell inside candidate ``k``'s zone (the grid must hold them)."""

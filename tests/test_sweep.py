@@ -127,3 +127,27 @@ def test_sweep_rows_follow_the_shared_zone_receivers():
     for k in range(2):
         ref = path_receivers(setback[k], offset[k], 3.0, FIT_RECEIVERS, gu[k], gw[k], fractions=(1.0,))
         np.testing.assert_allclose(ours[k], ref, rtol=1e-12, atol=1e-9)
+
+
+def test_a_zone_past_the_largest_grid_counts_as_missing_in_study_and_sweep():
+    # The grid cap (geo.zone_grid.MAX_CELLS) leaves cells out the same way for the study's samples and the
+    # sweep's interval sums: both count them missing. A small grid on a level field stands in for a huge one.
+    from geo.sweep import _SideGrid
+    from geo.zone_grid import FrameGrid, zone_rows
+
+    class LevelDem:
+        def sample_frame(self, frame, along, cross):
+            return np.full(np.shape(along), 100.0)
+
+    grid = FrameGrid(LevelDem(), None, 1.0, max_cells=3000)
+    zone = zone_rows(4.3, 300.0, 120.0, 1.0, 3.0, 0.8965, 0.0, 0.0, 1.0)
+    total = int(zone.lengths.sum())
+    grid.cover(0, 40, 100, 139)  # 41 x 40 cells: the zone does not fit, and the cap stops it growing
+    assert not grid.cover(*zone.bounds())
+    rows, cols = grid.cells(zone)
+    held = np.isfinite(grid.heights(rows, cols))
+    side = _SideGrid(grid)
+    side.cover(zone)
+    side.local(zone)
+    assert 0 < held.sum() < total
+    assert side.past[0] == total - held.sum()
