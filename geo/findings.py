@@ -45,6 +45,8 @@ __all__ = [
     "check_mast_clearance",
     "check_below_path",
     "check_roughness_families",
+    "check_plane_solve",
+    "check_solved_setback",
 ]
 
 SEVERITIES = ("pass", "info", "warning", "fail")
@@ -613,4 +615,55 @@ def check_roughness_families(families) -> Finding | None:
         f"zone RMS {v.rms_m:.3f} m against the Rayleigh limit {v.limit_m:.3f} m: "
         f"{'smooth' if v.smooth else 'rough'} (families: {others}; judged where at least half of the "
         "family's first Fresnel zone lies in the fitted zone).",
+    )
+
+
+def _without_signed_zero(value: float, digits: int) -> float:
+    """``value`` rounded to ``digits``, with a negative zero made 0 (so that it never prints as "-0")."""
+    return round(value, digits) + 0.0
+
+
+def check_plane_solve(
+    status: str, spread_mm: float, bracket_deg: tuple[float, float], plane_slopes_deg: tuple[float, float]
+) -> Finding | None:
+    """The reflecting plane's solve, when it stopped on a bracket instead of a fixed point.
+
+    DEM samples are fixed points, so the plane fitted in the zone jumps when a sample crosses the
+    zone's edge; the forward slope may then have no exact fixed point, and the solve stops on the
+    narrowest bracket of the jump (:mod:`geo.plane_solve`). The finding says how far the antenna
+    heights differ across it: an information below 10 mm, a warning from 10 mm (a threshold of
+    mastplan, common practice, no source: heights are set to the centimetre and confirmed by flight
+    inspection).
+    """
+    if status == "settled":
+        return None
+    low, high = sorted(bracket_deg)
+    severity = "info" if spread_mm < 10.0 else "warning"
+    return Finding(
+        "plane-bracket",
+        severity,
+        f"The ground's forward slope has no exact fixed point: DEM samples cross the reflection zone's edge "
+        f"between trial slopes {low:.4f} and {high:.4f} deg, where the fitted plane jumps from "
+        f"{plane_slopes_deg[0]:.4f} to {plane_slopes_deg[1]:.4f} deg; the antenna heights differ by "
+        f"{spread_mm:.1f} mm ({spread_mm / 25.4:.2f} in) across the jump. The end whose heights are nearer "
+        "its own plane is used"
+        + ("." if severity == "info" else "; a finer DEM or a survey of the zone would settle the heights."),
+    )
+
+
+def check_solved_setback(rdh_m: float, target_rdh_m: float, tolerance_m: float = 0.01) -> Finding | None:
+    """The RDH at the setback solved for the target, when the solve could not meet the target.
+
+    On a DEM the RDH jumps with the setback where the reflecting plane changes (samples crossing
+    the zone's edge, or the zone moving onto other ground); the solve then keeps the setback whose
+    RDH is nearest the target (:func:`geo.study.run_study`).
+    """
+    if abs(rdh_m - target_rdh_m) <= tolerance_m:
+        return None
+    return Finding(
+        "rdh-target",
+        "warning",
+        f"RDH {_ft(rdh_m)} differs from the target {_ft(target_rdh_m)} by {rdh_m - target_rdh_m:+.2f} m at the "
+        "solved setback: the RDH jumps with the setback here, as the reflecting plane changes with the zone; "
+        "compare nearby setbacks (mastplan sweep) and give mast.setback.",
     )

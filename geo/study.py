@@ -8,6 +8,7 @@ the writers in :mod:`geo.outputs` read; nothing here writes a file.
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass, field
 
 from geo import findings as checks
@@ -16,7 +17,7 @@ from geo.below_path import BelowPathCheck, check_below_path
 from geo.channels import Channel, channel_for_glide_path, channel_for_localizer, wavelength_m
 from geo.clearance import CaptureEffectAssessment, assess_capture_effect
 from geo.dem_checks import check_dem_covers_site, dem_extent_in_errors
-from geo.errors import SiteFileError, TerrainError
+from geo.errors import SiteFileError
 from geo.frame import RunwayFrame, geodesic_inverse
 from geo.path import (
     gpip_along_m,
@@ -318,22 +319,60 @@ def _check_setback(setback_m: float, field_name: str, runway: Runway, unit: str 
 
 
 def _solve_on_terrain(spec, runway, dem, side, setback, offset, lam, field_name, solve):
-    """Terrain analysis at the mast; with ``solve``, move the setback until the RDH settles."""
+    """Terrain analysis at the mast; with ``solve``, the setback whose RDH meets the target.
+
+    The RDH rises with the setback (``tan(theta)`` per metre, plus the plane's change) but jumps
+    where DEM samples cross the zone's edge, so the setback is bracketed, then refined by regula
+    falsi with the Illinois modification and bisection (as :mod:`geo.plane_solve`). It stops when
+    the RDH is within 0.5 mm of the target, or on a bracket narrower than 1 mm (a jump: the end
+    whose RDH is nearer the target is kept), or after 40 analyses (the nearest seen).
+    """
     thr = spec.threshold.elevation_m
-    previous = None  # (setback, RDH error) of the last try, for a secant step
-    for _ in range(30):
-        _check_setback(setback, field_name, runway, spec.units)
-        ground = analyse_terrain(dem, runway.frame, side, setback, offset, spec.array, lam, spec.angle_deg)
+
+    def analyse(x):
+        _check_setback(x, field_name, runway, spec.units)
+        ground = analyse_terrain(dem, runway.frame, side, x, offset, spec.array, lam, spec.angle_deg)
         if not solve:
-            return setback, ground
-        error = rdh_m(ground.rpi_elevation_m, setback, spec.angle_deg, thr) - spec.target_rdh_m
-        new = setback_for_rdh_m(spec.target_rdh_m, ground.rpi_elevation_m, spec.angle_deg, thr)
-        if previous is not None and error != previous[1]:
-            new = setback - error * (setback - previous[0]) / (error - previous[1])
-        if abs(new - setback) < 1e-3:
-            return setback, ground
-        previous, setback = (setback, error), new
-    raise TerrainError("terrain: the setback for the target RDH did not settle; give mast.setback instead")
+            return [x, 0.0, ground]
+        return [x, rdh_m(ground.rpi_elevation_m, x, spec.angle_deg, thr) - spec.target_rdh_m, ground]
+
+    point = analyse(setback)
+    if not solve:
+        return setback, point[2]
+    nearest = point
+    below = above = None  # points with the RDH under and over the target
+    kept = 0  # end kept last time: -1 below, +1 above (Illinois)
+    width_before = math.inf
+    last = None
+    for _ in range(40):
+        if abs(point[1]) < abs(nearest[1]):
+            nearest = point
+        if abs(point[1]) <= 5e-4:
+            return point[0], point[2]
+        if point[1] < 0:
+            if kept == 1:
+                above = [above[0], 0.5 * above[1], above[2]]
+            below, kept = point, (1 if above is not None else 0)
+        else:
+            if kept == -1:
+                below = [below[0], 0.5 * below[1], below[2]]
+            above, kept = point, (-1 if below is not None else 0)
+        if below is None or above is None:  # not bracketed yet: a secant step, else the step for a level plane
+            x = setback_for_rdh_m(spec.target_rdh_m, point[2].rpi_elevation_m, spec.angle_deg, thr)
+            if last is not None and last[1] != point[1]:
+                secant = point[0] - point[1] * (point[0] - last[0]) / (point[1] - last[1])
+                if (secant - point[0]) * (x - point[0]) > 0:  # the same way as the level-plane step
+                    x = secant
+        else:
+            width = abs(above[0] - below[0])
+            if width < 1e-3:
+                return nearest[0], nearest[2]
+            x = above[0] - above[1] * (above[0] - below[0]) / (above[1] - below[1])
+            if width > 0.5 * width_before or not min(below[0], above[0]) < x < max(below[0], above[0]):
+                x = 0.5 * (below[0] + above[0])
+            width_before = width
+        last, point = point, analyse(x)
+    return nearest[0], nearest[2]
 
 
 @naming_site_file
@@ -443,11 +482,18 @@ def run_study(spec: SiteSpec) -> StudyResult:
     ]
     if spec.target_rdh_m is not None and not solve:
         found.append(checks.check_target_rdh(rdh, spec.target_rdh_m, unit=spec.units))
+    if solve and spec.target_rdh_m is not None:
+        found.append(checks.check_solved_setback(rdh, spec.target_rdh_m))
     found.append(checks.check_gpip(gpip_x, runway.length_m, unit=spec.units))
     if terrain is not None:
         if file_base is not None:
             found.append(checks.check_base_elevation(file_base, terrain.ground_at_mast_m, unit=spec.units))
         found += checks.check_roughness(terrain.roughness, unit=spec.units)
+        plane_solve = checks.check_plane_solve(
+            terrain.solve_status, terrain.height_spread_mm, terrain.slope_bracket_deg, terrain.bracket_plane_slopes_deg
+        )
+        if plane_solve is not None:
+            found.append(plane_solve)
         found.append(
             checks.check_dem_resolution(source.cells_in_zone, terrain.cell_size_m, terrain.zone.max_half_width_m)
         )

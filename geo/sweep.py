@@ -5,13 +5,17 @@ slope-corrected heights and shifts, RDH, GPIP, path over the threshold, roughnes
 smallest clearance on the approach, grading volumes and the mast's clearance below the Annex 14
 surfaces; then feasibility and a score.
 
-It is vectorised across candidates. The DEM is sampled once onto a grid aligned with the runway
-frame (one per side). A candidate's zone (the lowest antenna's exact first Fresnel zones for
-receivers on the path, as in :func:`geo.terrain.fit_zone`) is taken row by row: in every grid
-row of constant cross-runway distance it is one interval along the runway, found in closed form
-from the ellipses' quadratics (the union of one sweep of receivers along the course is one
-interval per row). The plane fit then needs only sums over intervals, which prefix sums along
-each row give at once for all candidates; grading volumes visit the cells.
+It is vectorised across candidates. The DEM is sampled onto the runway-frame grid of
+:mod:`geo.zone_grid` (one per side, grown when a zone reaches past it): the same points a single
+study samples. A candidate's zone is taken row by row there (:func:`geo.zone_grid.zone_rows`, the
+study's rule), so the plane fit needs only sums over intervals, which prefix sums along each row
+give at once for all candidates. The forward slope is solved with the heights by
+:func:`geo.plane_solve.solve_forward_slope`, the study's solve, so a candidate and the study at
+its position find the same plane. Grading volumes visit the cells.
+
+The steps of :func:`run_sweep`: check the candidates, solve every candidate's plane on the DEM
+grids (or take level ground), grade, clear the approach, work out the path figures, the reasons
+for infeasibility, the score and the columns.
 
 References
 ----------
@@ -29,19 +33,15 @@ import numpy as np
 from geo.arrays import antenna_heights_m, array_type
 from geo.channels import wavelength_m
 from geo.errors import SiteFileError
-from geo.fresnel import exact_ellipses
+from geo.plane_solve import heights_for_slopes, solve_forward_slope
 from geo.roughness import CRITERIA
 from geo.site import SiteSpec
 from geo.surfaces import SurfaceSpec, mast_clearance
 from geo.sweep_choice import CRITERION_NAMES, clearance_reasons
 from geo.units import format_length
-from geo.zones import RANGE_M, path_receivers
+from geo.zone_grid import FrameGrid, ZoneRows, zone_rows
 
 __all__ = ["SweepOptions", "SweepResult", "run_sweep", "candidate_grid", "best_site"]
-
-_RECEIVERS = 48
-_ITERATIONS = 12
-_CHUNK = 48
 
 
 @dataclass(frozen=True)
@@ -119,134 +119,60 @@ def candidate_grid(options: SweepOptions) -> tuple[np.ndarray, np.ndarray, np.nd
 
 
 class _SideGrid:
-    """DEM heights on a runway-frame grid for one side, with prefix sums along each row."""
+    """DEM heights on the runway-frame grid of one side, with prefix sums along each row.
 
-    def __init__(
-        self,
-        dem,
-        frame,
-        sign: float,
-        along0: float,
-        along1: float,
-        cross0: float,
-        cross1: float,
-        spacing: float,
-        z_ref: float,
-    ):
-        sp = spacing
-        self.sp, self.sign, self.z_ref = sp, sign, z_ref
-        self.a0 = math.floor(along0 / sp) * sp
-        self.c0 = math.floor(cross0 / sp) * sp
-        ni = int(math.ceil((along1 - self.a0) / sp)) + 1
-        nj = int(math.ceil((cross1 - self.c0) / sp)) + 1
-        self.along = self.a0 + sp * np.arange(ni)
-        self.cross = self.c0 + sp * np.arange(nj)
-        ga, gc = np.meshgrid(self.along, self.cross)
-        z = dem.sample_frame(frame, ga.ravel(), gc.ravel()).reshape(nj, ni) - z_ref
+    Heights are relative to ``z_ref`` (the threshold) so that float32 keeps well under a millimetre.
+    """
+
+    def __init__(self, grid: FrameGrid):
+        self.grid = grid
+        self.reads = -1
+
+    def cover(self, zone: ZoneRows) -> None:
+        """Make the grid hold every cell of the zones; rebuild the sums after a new read."""
+        self.grid.cover(*zone.bounds())
+        if self.grid.reads != self.reads:
+            self.reads = self.grid.reads
+            self._sums()
+
+    def _sums(self) -> None:
+        g = self.grid
+        self.sp = g.sp
+        self.along = g.along_m
+        self.a0 = float(self.along[0])
+        z = g.z
+        nj = z.shape[0]
         self.z = z
         self.z32 = z.astype(np.float32)
         valid = np.isfinite(z)
         zf = np.where(valid, z, 0.0)
-        a = (self.along - self.a0)[None, :] * valid
+        rel = (self.along - self.a0)[None, :]
+        a = rel * valid
         zero = np.zeros((nj, 1))
         self.p_n = np.hstack([zero, np.cumsum(valid, axis=1)])
         self.p_missing = np.hstack([zero, np.cumsum(~valid, axis=1)])
         self.p_a = np.hstack([zero, np.cumsum(a, axis=1)])
-        self.p_aa = np.hstack([zero, np.cumsum(a * (self.along - self.a0)[None, :], axis=1)])
+        self.p_aa = np.hstack([zero, np.cumsum(a * rel, axis=1)])
         self.p_z = np.hstack([zero, np.cumsum(zf, axis=1)])
         self.p_zz = np.hstack([zero, np.cumsum(zf * zf, axis=1)])
-        self.p_az = np.hstack([zero, np.cumsum(zf * (self.along - self.a0)[None, :], axis=1)])
+        self.p_az = np.hstack([zero, np.cumsum(zf * rel, axis=1)])
 
+    def local(self, zone: ZoneRows):
+        """The zone's rows and column intervals as indices into this grid (empty rows: 0, -1).
 
-def _receivers(setback, offset, angle_deg, gu, gw):
-    """Receivers on the path at theta for every candidate, as :func:`geo.zones.path_receivers` (C, N, 3)."""
-    before = np.geomspace(1.0, RANGE_M + 1.0, _RECEIVERS) - 1.0
-    u = setback[:, None] + before[None, :]
-    w = np.broadcast_to(offset[:, None], u.shape)
-    z = math.tan(math.radians(angle_deg)) * np.hypot(u, w) - gu[:, None] * u - gw[:, None] * w
-    return np.stack([u, w, z], axis=-1)
-
-
-def _zone_rows(heights_low, setback, offset, sign, angle_deg, lam, gu, gw, grid: _SideGrid, count: int | None = None):
-    """Per candidate and grid row near it: the along-index interval of the zone (lo > hi: empty).
-
-    Returns
-    -------
-    rows, i_lo, i_hi : numpy.ndarray of int, shape (C, R)
-    w_rows : numpy.ndarray, shape (C, R)
-        ``w`` of each row for its candidate. [m]
-    """
-    if setback.size > _CHUNK:  # keep the (candidates x rows x receivers) arrays small enough for the cache
-        parts = [
-            _zone_rows(
-                heights_low[k : k + _CHUNK],
-                setback[k : k + _CHUNK],
-                offset[k : k + _CHUNK],
-                sign,
-                angle_deg,
-                lam,
-                gu[k : k + _CHUNK],
-                gw[k : k + _CHUNK],
-                grid,
-                count,
-            )
-            for k in range(0, setback.size, _CHUNK)
-        ]
-        width = max(p[0].shape[1] for p in parts)
-        fills = (0, 1, 0, 0.0)
-        return tuple(
-            np.concatenate(
-                [np.pad(p[m], ((0, 0), (0, width - p[m].shape[1])), constant_values=fills[m]) for p in parts]
-            )
-            for m in range(4)
-        )
-    c = setback.size
-    receivers = _receivers(setback, offset, angle_deg, gu, gw)
-    n = receivers.shape[1]
-    ant = np.zeros((c, n, 3))
-    ant[:, :, 2] = heights_low[:, None]
-    centres, q = exact_ellipses(ant.reshape(-1, 3), receivers.reshape(-1, 3), lam)
-    centres, q = centres.reshape(c, n, 2), q.reshape(c, n, 2, 2)
-    # Rows whose w = offset - sign * cross lies within each candidate's ellipses.
-    det = q[..., 0, 0] * q[..., 1, 1] - q[..., 0, 1] ** 2
-    reach = np.sqrt(q[..., 0, 0] / det)
-    w_lo = (centres[..., 1] - reach).min(axis=1)
-    w_hi = (centres[..., 1] + reach).max(axis=1)
-    cross_a, cross_b = sign * (offset - w_lo), sign * (offset - w_hi)
-    j0 = np.floor((np.minimum(cross_a, cross_b) - grid.c0) / grid.sp).astype(np.int64)
-    needed = int(math.ceil(np.max(w_hi - w_lo) / grid.sp)) + 2
-    count = needed if count is None else max(count, needed)
-    rows = j0[:, None] + np.arange(count)[None, :]
-    outside = (rows < 0) | (rows >= grid.cross.size)
-    rows = np.clip(rows, 0, grid.cross.size - 1)
-    w_rows = offset[:, None] - sign * grid.cross[rows]
-    # On the row w, ellipse (p - c)^T Q (p - c) <= 1 spans u = c_u - (q_uw/q_uu) dw +/- sqrt(g - b dw^2)
-    # with g = 1/q_uu and b = det(Q)/q_uu^2 (dw = w - c_w); empty where g < b dw^2.
-    # float32 here: near a zone's tips the half-length loses a few centimetres, far below a cell.
-    f4 = np.float32
-    alpha = (q[..., 0, 1] / q[..., 0, 0]).astype(f4)[:, None, :]
-    beta = (det / q[..., 0, 0] ** 2).astype(f4)[:, None, :]
-    gamma = (1.0 / q[..., 0, 0]).astype(f4)[:, None, :]
-    dw = w_rows.astype(f4)[:, :, None] - centres[:, None, :, 1].astype(f4)  # (C, R, N)
-    mid = centres[:, None, :, 0].astype(f4) - alpha * dw
-    dw *= dw
-    dw *= beta
-    np.subtract(gamma, dw, out=dw)  # now the squared half-length, negative where the row misses
-    missing = dw < 0.0
-    np.sqrt(np.maximum(dw, f4(0.0), out=dw), out=dw)
-    lo = np.where(missing, np.inf, mid - dw).min(axis=2).astype(np.float64)
-    mid += dw
-    mid[missing] = -np.inf
-    hi = mid.max(axis=2).astype(np.float64)
-    # along = setback - u; grid index i = (along - a0) / sp, cells whose centres are inside.
-    i_lo = np.ceil((setback[:, None] - hi - grid.a0) / grid.sp - 1e-9)
-    i_hi = np.floor((setback[:, None] - lo - grid.a0) / grid.sp + 1e-9)
-    empty = ~np.isfinite(lo) | outside
-    if np.any(~empty & ((i_lo < 0) | (i_hi > grid.along.size - 1))) or np.any(outside & np.isfinite(lo)):
-        raise RuntimeError("a candidate's zone reaches beyond the sampled grid")  # a bug: the grid is sized for it
-    i_lo = np.where(empty, 1, np.clip(i_lo, 0, grid.along.size)).astype(np.int64)
-    i_hi = np.where(empty, 0, np.clip(i_hi, -1, grid.along.size - 1)).astype(np.int64)
-    return rows, i_lo, i_hi, w_rows
+        Cells past the grid (see :data:`geo.zone_grid.MAX_CELLS`) are left out and counted in
+        :attr:`past`, per candidate.
+        """
+        nj, ni = self.z.shape
+        rows = zone.rows - self.grid.j0
+        i_lo = np.maximum(zone.i_lo - self.grid.i0, 0)
+        i_hi = np.minimum(zone.i_hi - self.grid.i0, ni - 1)
+        inside = (zone.lengths > 0) & (rows >= 0) & (rows < nj) & (i_hi >= i_lo)
+        self.past = (zone.lengths - np.where(inside, i_hi - i_lo + 1, 0)).sum(axis=1)
+        rows = np.where(inside, rows, 0)
+        i_lo = np.where(inside, i_lo, 0)
+        i_hi = np.where(inside, i_hi, -1)
+        return rows, i_lo, i_hi, zone.w_m
 
 
 def _interval_sums(p, rows, i_lo, i_hi):
@@ -294,6 +220,155 @@ def _fit(grid: _SideGrid, rows, i_lo, i_hi, w_rows, setback):
     return a, b, c, rms, n, miss
 
 
+class _SweepPlanes:
+    """``g`` of every candidate for :func:`geo.plane_solve.solve_forward_slope`.
+
+    The plane fitted by prefix sums in the zone of the heights for a trial slope (cells off the DEM
+    left out, counted).
+    """
+
+    def __init__(self, grids: dict, sign, setback, offset, array: str, lam: float, theta: float):
+        self.grids, self.sign, self.setback, self.offset = grids, sign, setback, offset
+        self.array, self.lam, self.theta = array, lam, theta
+
+    def fit(self, slope_deg, lateral_gradient, index):
+        """Per side: (candidates, grid, local zone rows, (a, b, c, rms, n, missing))."""
+        low = heights_for_slopes(self.array, self.lam, self.theta, slope_deg)[:, 0]
+        gu = np.tan(np.radians(slope_deg))
+        out = []
+        for sg, grid in self.grids.items():
+            pick = self.sign[index] == sg
+            if not pick.any():
+                continue
+            idx = index[pick]
+            zone = zone_rows(
+                low[pick],
+                self.setback[idx],
+                self.offset[idx],
+                sg,
+                self.theta,
+                self.lam,
+                gu[pick],
+                lateral_gradient[pick],
+                grid.grid.sp,
+            )
+            grid.cover(zone)
+            rows = grid.local(zone)
+            a, b, c, rms, n, miss = _fit(grid, *rows, self.setback[idx])
+            out.append((pick, grid, rows, (a, b, c, rms, n, miss + grid.past)))
+        return out
+
+    def __call__(self, slope_deg, lateral_gradient, index):
+        forward = np.full(index.size, np.nan)
+        lateral = np.full(index.size, np.nan)
+        for pick, _grid, _rows, (_a, b, c, *_rest) in self.fit(slope_deg, lateral_gradient, index):
+            forward[pick], lateral[pick] = b, c
+        return forward, lateral
+
+
+@dataclass
+class _Ground:
+    """Each candidate's reflecting plane and what rests on it (arrays of shape (C,))."""
+
+    gu: np.ndarray
+    gw: np.ndarray
+    plane_at_mast: np.ndarray
+    rms: np.ndarray
+    samples: np.ndarray
+    missing: np.ndarray
+    ground: np.ndarray
+    heights: np.ndarray
+    cut: np.ndarray
+    fill: np.ndarray
+    area: np.ndarray
+    min_clearance: np.ndarray
+    rpi: np.ndarray
+    spacing: float | None = None
+
+
+def _checked_candidates(options: SweepOptions, runway, units: str) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """The candidates of the options, refused when one is on the runway or past its ends."""
+    sign, setback, offset = candidate_grid(options)
+    if np.any(offset <= runway.width_m / 2.0):
+        raise SiteFileError(
+            "--offset", f"offsets must exceed the runway half-width {format_length(runway.width_m / 2, units, 1)}"
+        )
+    if np.any((setback <= 0.0) | (setback >= runway.length_m)):
+        raise SiteFileError(
+            "--setback", f"setbacks must lie between 0 and the runway length {format_length(runway.length_m, units, 1)}"
+        )
+    return sign, setback, offset
+
+
+def _level_ground(spec: SiteSpec, setback, lam: float, theta: float) -> _Ground:
+    """Without a DEM: a level plane at the site file's mast ground (else the threshold)."""
+    c = setback.size
+    thr = spec.threshold.elevation_m
+    plane = np.full(c, spec.mast.base_elevation_m if spec.mast.base_elevation_m is not None else thr)
+    zeros = np.zeros(c)
+    heights = np.array([antenna_heights_m(spec.array, lam, theta)] * c)
+    return _Ground(
+        zeros.copy(), zeros.copy(), plane, zeros.copy(), np.zeros(c, dtype=np.int64), zeros.copy(), plane.copy(),
+        heights, zeros.copy(), zeros.copy(), zeros.copy(), np.full(c, np.nan), plane.copy(),
+    )  # fmt: skip
+
+
+def _solve_planes(planes: _SweepPlanes, spec: SiteSpec, lam: float, theta: float, c: int):
+    """Every candidate's plane by the study's solve, then the zone and fit at the end it chose."""
+    solve = solve_forward_slope(planes, spec.array, lam, theta, c)
+    slope = np.where(np.isfinite(solve.slope_deg), solve.slope_deg, 0.0)
+    lateral = np.where(np.isfinite(solve.lateral_gradient), solve.lateral_gradient, 0.0)
+    n_roles = len(array_type(spec.array).roles)
+    heights = np.full((c, n_roles), np.nan)
+    served = solve.served & np.isfinite(solve.plane_slope_deg) & (solve.plane_slope_deg < theta - 0.5)
+    heights[served] = heights_for_slopes(spec.array, lam, theta, solve.plane_slope_deg[served])
+    return solve, planes.fit(slope, lateral, np.arange(c)), heights
+
+
+def _ground_on_dem(
+    spec: SiteSpec, runway, sign, setback, offset, lam: float, theta: float, criterion: float
+) -> _Ground:
+    """Planes, heights, grading and approach clearance of every candidate on the site's DEM."""
+    from geo.dem import Dem
+    from geo.profile import approach_profile
+
+    frame = runway.frame
+    thr = spec.threshold.elevation_m
+    tan = math.tan(math.radians(theta))
+    c = setback.size
+    t = spec.terrain
+    with Dem.open(t) as dem:
+        spacing = min(dem.cell_size_m(frame), 5.0)
+        grids = {sg: _SideGrid(FrameGrid(dem, frame, spacing, thr)) for sg in np.unique(sign)}
+        planes = _SweepPlanes(grids, sign, setback, offset, spec.array, lam, theta)
+        _solve, fits, heights = _solve_planes(planes, spec, lam, theta, c)
+        ground = dem.sample_frame(frame, setback, sign * offset)
+        prof = approach_profile(dem, frame, runway.length_m, 0.0, 0.0, 0.0, theta, min(dem.cell_size_m(frame), 10.0))
+    gu, gw, plane_at_mast, rms = np.zeros(c), np.zeros(c), np.full(c, np.nan), np.full(c, np.nan)
+    samples, missing = np.zeros(c, dtype=np.int64), np.zeros(c)
+    cut, fill, area = np.zeros(c), np.zeros(c), np.zeros(c)
+    for pick, grid, rows, (a, b, cc, r, n, miss) in fits:
+        sel = np.flatnonzero(pick)
+        gu[sel], gw[sel] = np.nan_to_num(b), np.nan_to_num(cc)
+        plane_at_mast[sel], rms[sel], samples[sel], missing[sel] = a + thr, r, n, miss
+        cut[sel], fill[sel], area[sel] = _grade(grid, rows, setback[sel], a, gu[sel], gw[sel], theta, lam, criterion)
+    rpi = plane_at_mast + gw * offset
+    # Clearance at x: rpi + (s - x) tan(theta) - T(x); its minimum over the approach.
+    approach = prof.along_m <= 0.0
+    worst = np.nanmin(-prof.along_m[approach] * tan - prof.terrain_m[approach])
+    min_clearance = rpi + setback * tan + worst
+    return _Ground(
+        gu, gw, plane_at_mast, rms, samples, missing, ground, heights, cut, fill, area, min_clearance, rpi, spacing
+    )
+
+
+def _grade(grid: _SideGrid, rows, setback, a, gu, gw, theta: float, lam: float, criterion: float):
+    """Cut, fill and worked area of each candidate's zone against its plane, within the criterion's tolerance."""
+    psi = theta - np.degrees(np.arctan(gu))
+    tol = lam / (criterion * np.sin(np.radians(psi)))
+    return _grading(grid, *rows, setback, a, gu, gw, tol)
+
+
 def _grading(grid: _SideGrid, row_index, i_lo, i_hi, w_rows, setback, a, b, c, tol):
     """Cut and fill volumes and worked area to bring every zone cell within ``tol`` of its plane.
 
@@ -338,141 +413,73 @@ def run_sweep(spec: SiteSpec, options: SweepOptions) -> SweepResult:
     channel = channel_of(spec)
     lam = wavelength_m(channel.glide_path_mhz)
     runway = runway_of(spec)
-    frame = runway.frame
     theta = spec.angle_deg
-    tan = math.tan(math.radians(theta))
-    thr = spec.threshold.elevation_m
-    sign, setback, offset = candidate_grid(options)
-    if np.any(offset <= runway.width_m / 2.0):
-        raise SiteFileError(
-            "--offset",
-            f"offsets must exceed the runway half-width {format_length(runway.width_m / 2, spec.units, 1)}",
-        )
-    if np.any((setback <= 0.0) | (setback >= runway.length_m)):
-        raise SiteFileError(
-            "--setback",
-            f"setbacks must lie between 0 and the runway length {format_length(runway.length_m, spec.units, 1)}",
-        )
-    kind = array_type(spec.array)
+    sign, setback, offset = _checked_candidates(options, runway, spec.units)
     c = setback.size
-    gu = np.zeros(c)
-    gw = np.zeros(c)
-    plane_at_mast = np.full(c, spec.mast.base_elevation_m if spec.mast.base_elevation_m is not None else thr)
-    rms = np.zeros(c)
-    samples = np.zeros(c)
-    missing = np.zeros(c)
-    ground = plane_at_mast.copy()
-    cut, fill, area = np.zeros(c), np.zeros(c), np.zeros(c)
-    min_clearance = np.full(c, np.nan)
-    spacing = None
-    heights = np.array([antenna_heights_m(spec.array, lam, theta)] * c)
     criterion = dict((name, k) for name, k, _ in CRITERIA)[options.roughness_criterion]
     if spec.terrain is not None:
-        from geo.dem import Dem
-        from geo.profile import approach_profile
-        from geo.zones import antenna_zone
-
-        t = spec.terrain
-        with Dem.open(t) as dem:
-            spacing = min(dem.cell_size_m(frame), 5.0)
-            # Extent of the zones: exact zones of the extreme candidates on flat ground, with room for slopes.
-            u_max, w_lo, w_hi = 0.0, 0.0, 0.0
-            for s in (setback.min(), setback.max()):
-                for o in (offset.min(), offset.max()):
-                    z = antenna_zone(heights[0, 0], 0.0, path_receivers(s, o, theta, _RECEIVERS, fractions=(1.0,)), lam)
-                    u0, w0, u1, w1 = z.polygon.bounds
-                    u_max, w_lo, w_hi = max(u_max, u1), min(w_lo, w0), max(w_hi, w1)
-            w_lo0, w_hi0 = w_lo, w_hi
-            u_max, w_lo, w_hi = 1.6 * u_max, 1.6 * w_lo - 10.0, 1.6 * w_hi + 10.0
-            grids = {}
-            for sg in np.unique(sign):
-                sel = sign == sg
-                cross_a = sg * (offset[sel].min() - w_hi)
-                cross_b = sg * (offset[sel].max() - w_lo)
-                grids[sg] = _SideGrid(
-                    dem,
-                    frame,
-                    sg,
-                    setback[sel].min() - u_max,
-                    setback[sel].max() + spacing,
-                    min(cross_a, cross_b),
-                    max(cross_a, cross_b),
-                    spacing,
-                    thr,
-                )
-            ground = dem.sample_frame(frame, setback, sign * offset)
-            prof = approach_profile(
-                dem, frame, runway.length_m, 0.0, 0.0, 0.0, theta, min(dem.cell_size_m(frame), 10.0)
-            )
-        approach = prof.along_m <= 0.0
-        worst = np.nanmin(-prof.along_m[approach] * tan - prof.terrain_m[approach])
-        for sg, grid in grids.items():
-            sel = np.flatnonzero(sign == sg)
-            # Row slots per candidate: the widest flat-ground zone, with room for the slopes to widen it.
-            count = int(math.ceil(1.15 * (w_hi0 - w_lo0) / spacing)) + 2
-            rows = np.zeros((sel.size, count), dtype=np.int64)
-            i_lo = np.ones((sel.size, count), dtype=np.int64)
-            i_hi = np.zeros((sel.size, count), dtype=np.int64)
-            w_rows = np.zeros((sel.size, count))
-            active = np.arange(sel.size)
-            for _ in range(_ITERATIONS):  # heights -> zone -> plane, as geo.terrain.analyse_terrain
-                idx = sel[active]
-                low = np.nan_to_num(heights[idx, 0], nan=float(np.nanmean(heights[:, 0])))
-                zone = _zone_rows(low, setback[idx], offset[idx], sg, theta, lam, gu[idx], gw[idx], grid, count)
-                if zone[0].shape[1] > count:  # a zone outgrew the slots: widen them for everyone
-                    extra = zone[0].shape[1] - count
-                    rows, i_lo, i_hi, w_rows = (
-                        np.pad(a, ((0, 0), (0, extra)), constant_values=v)
-                        for a, v in ((rows, 0), (i_lo, 1), (i_hi, 0), (w_rows, 0.0))
-                    )
-                    count = zone[0].shape[1]
-                rows[active], i_lo[active], i_hi[active], w_rows[active] = zone
-                a, b, cc, r, n, miss = _fit(grid, *zone, setback[idx])
-                gu[idx], gw[idx] = np.nan_to_num(b), np.nan_to_num(cc)
-                plane_at_mast[idx], rms[idx], samples[idx], missing[idx] = a + thr, r, n, miss
-                slope = np.degrees(np.arctan(gu[idx]))
-                new = np.array(
-                    [
-                        antenna_heights_m(spec.array, lam, theta, sl)
-                        if sl < theta - 0.5
-                        else [np.nan] * len(kind.roles)
-                        for sl in slope
-                    ]
-                )
-                moved = np.nan_to_num(np.abs(new - heights[idx]).max(axis=1), nan=0.0)
-                heights[idx] = new
-                active = active[moved >= 1e-3]
-                if active.size == 0:
-                    break
-            # Grading in each candidate's last zone, against its fitted plane.
-            a, b, cc = plane_at_mast[sel] - thr, gu[sel], gw[sel]
-            psi = theta - np.degrees(np.arctan(gu[sel]))
-            tol = lam / (criterion * np.sin(np.radians(psi)))
-            cut[sel], fill[sel], area[sel] = _grading(grid, rows, i_lo, i_hi, w_rows, setback[sel], a, b, cc, tol)
-        rpi = plane_at_mast + gw * offset
-        # Clearance at x: rpi + (s - x) tan(theta) - T(x); its minimum over the approach.
-        min_clearance = rpi + setback * tan + worst
+        ground = _ground_on_dem(spec, runway, sign, setback, offset, lam, theta, criterion)
     else:
-        rpi = plane_at_mast.copy()
+        ground = _level_ground(spec, setback, lam, theta)
+    figures = _path_figures(spec, options, runway, ground, setback, offset, lam, theta)
+    reasons = _feasibility_reasons(
+        spec, options, runway, c, ground.missing, ground.heights, figures["rdh"], figures["margins"],
+        figures["clearance"], ground.min_clearance, figures["gpip"],
+    )  # fmt: skip
+    feasible = np.array([r == "" for r in reasons])
+    low, high = options.rdh_band_m
+    target = options.rdh_target_m if options.rdh_target_m is not None else (spec.target_rdh_m or 15.5)
+    score = _score(
+        feasible,
+        figures["rdh"],
+        target,
+        (high - low) / 2.0,
+        ground.cut + ground.fill,
+        figures["margins"][options.roughness_criterion],
+        lam / (criterion * np.sin(np.radians(figures["grazing"]))),
+    )
+    best = int(np.nanargmax(np.where(feasible, score, -np.inf))) if feasible.any() else None
+    columns = _columns(sign, setback, offset, ground, figures, feasible, score)
+    return SweepResult(columns, reasons, best, lam, ground.spacing)
+
+
+def _path_figures(spec: SiteSpec, options: SweepOptions, runway, ground: _Ground, setback, offset, lam, theta) -> dict:
+    """RDH, path over the threshold, GPIP, grazing angle, roughness margins and mast clearance."""
+    tan = math.tan(math.radians(theta))
+    thr = spec.threshold.elevation_m
+    heights, rpi = ground.heights, ground.rpi
     shifts_top = (heights[:, -1] ** 2 - heights[:, 0] ** 2) / (2.0 * offset)
     rdh = rpi + setback * tan - thr
-    over = rpi + tan * np.hypot(setback, offset) - thr
-    gpip = rdh / (tan + runway.gradient)
-    forward = np.degrees(np.arctan(gu))
+    forward = np.degrees(np.arctan(ground.gu))
     grazing = theta - forward
-    margins = {name: lam / (k * np.sin(np.radians(grazing))) - rms for name, k, _ in CRITERIA}
     surf = options.surfaces or spec.surfaces
-    clearance = mast_clearance(
-        offset - shifts_top,
-        plane_at_mast + heights[:, -1] + surf.mast_allowance_m,
-        thr + runway.gradient * setback,
-        surf,
-        setback_m=setback,
-        runway_length_m=runway.length_m,
-        runway_gradient=runway.gradient,
-    )
+    return {
+        "shifts_top": shifts_top,
+        "rdh": rdh,
+        "over": rpi + tan * np.hypot(setback, offset) - thr,
+        "gpip": rdh / (tan + runway.gradient),
+        "forward": forward,
+        "grazing": grazing,
+        "margins": {name: lam / (k * np.sin(np.radians(grazing))) - ground.rms for name, k, _ in CRITERIA},
+        "clearance": mast_clearance(
+            offset - shifts_top,
+            ground.plane_at_mast + heights[:, -1] + surf.mast_allowance_m,
+            thr + runway.gradient * setback,
+            surf,
+            setback_m=setback,
+            runway_length_m=runway.length_m,
+            runway_gradient=runway.gradient,
+        ),
+    }
+
+
+def _feasibility_reasons(
+    spec, options, runway, c, missing, heights, rdh, margins, clearance, min_clearance, gpip
+) -> list[str]:
+    """Why each candidate is infeasible ("" when it is feasible)."""
     required = spec.terrain.min_clearance_m if spec.terrain is not None else 0.0
     units = spec.units
+    surf = options.surfaces or spec.surfaces
     low, high = options.rdh_band_m
     reasons = []
     for k in range(c):
@@ -498,50 +505,44 @@ def run_sweep(spec: SiteSpec, options: SweepOptions) -> SweepResult:
         if not 0.0 <= gpip[k] <= runway.length_m:
             why.append(f"GPIP off the runway ({format_length(gpip[k], units, 1)} from the threshold)")
         reasons.append("; ".join(why))
-    feasible = np.array([r == "" for r in reasons])
-    target = options.rdh_target_m if options.rdh_target_m is not None else (spec.target_rdh_m or 15.5)
-    score = _score(
-        feasible,
-        rdh,
-        target,
-        (high - low) / 2.0,
-        cut + fill,
-        margins[options.roughness_criterion],
-        lam / (criterion * np.sin(np.radians(grazing))),
-    )
-    best = int(np.nanargmax(np.where(feasible, score, -np.inf))) if feasible.any() else None
-    columns = {
+    return reasons
+
+
+def _columns(sign, setback, offset, ground: _Ground, figures: dict, feasible, score) -> dict[str, np.ndarray]:
+    """The columns of ``sweep.csv``, in their order."""
+    clearance = figures["clearance"]
+    margins = figures["margins"]
+    return {
         "side": np.where(sign > 0, "right", "left"),
         "setback_m": setback,
         "offset_m": offset,
-        "rdh_m": rdh,
-        "path_height_over_threshold_m": over,
-        "gpip_along_m": gpip,
-        "forward_slope_deg": forward,
-        "lateral_slope_deg": np.degrees(np.arctan(gw)),
-        "plane_elevation_at_mast_m": plane_at_mast,
-        "ground_at_mast_m": ground,
-        "rpi_elevation_m": rpi,
-        "lower_height_m": heights[:, 0],
-        "upper_height_m": heights[:, -1],
-        "upper_shift_m": shifts_top,
-        "rms_residual_m": rms,
-        "samples": samples,
+        "rdh_m": figures["rdh"],
+        "path_height_over_threshold_m": figures["over"],
+        "gpip_along_m": figures["gpip"],
+        "forward_slope_deg": figures["forward"],
+        "lateral_slope_deg": np.degrees(np.arctan(ground.gw)),
+        "plane_elevation_at_mast_m": ground.plane_at_mast,
+        "ground_at_mast_m": ground.ground,
+        "rpi_elevation_m": ground.rpi,
+        "lower_height_m": ground.heights[:, 0],
+        "upper_height_m": ground.heights[:, -1],
+        "upper_shift_m": figures["shifts_top"],
+        "rms_residual_m": ground.rms,
+        "samples": ground.samples,
         "rayleigh_margin_m": margins["rayleigh"],
         "fraunhofer_margin_m": margins["fraunhofer"],
         "iev_margin_m": margins["iev"],
-        "cut_m3": cut,
-        "fill_m3": fill,
-        "graded_area_m2": area,
+        "cut_m3": ground.cut,
+        "fill_m3": ground.fill,
+        "graded_area_m2": ground.area,
         "mast_top_height_m": clearance.top_height_m,
         "inner_transitional_margin_m": clearance.inner_transitional_margin_m,
         "transitional_margin_m": clearance.transitional_margin_m,
         "in_strip": clearance.in_strip,
-        "min_clearance_m": min_clearance,
+        "min_clearance_m": ground.min_clearance,
         "feasible": feasible,
         "score": score,
     }
-    return SweepResult(columns, reasons, best, lam, spacing)
 
 
 def _score(feasible, rdh, target, half_band, volume, margin, limit):
@@ -564,7 +565,12 @@ def _score(feasible, rdh, target, half_band, volume, margin, limit):
 
 
 def best_site(spec: SiteSpec, sweep: SweepResult) -> SiteSpec | None:
-    """The site file's inputs with the mast moved to the best candidate (for a full study)."""
+    """The site file's inputs with the mast moved to the best candidate (for a full study).
+
+    The study gets the candidate's setback as given, without the site file's target RDH: the sweep
+    has weighed the target in its score, and the study at the candidate's position finds the same
+    plane and RDH as its sweep row (the same grid, zone rule and solve).
+    """
     import dataclasses
 
     from geo.site import MastSpec
@@ -578,4 +584,4 @@ def best_site(spec: SiteSpec, sweep: SweepResult) -> SiteSpec | None:
         setback_m=float(c["setback_m"][k]),
         base_elevation_m=spec.mast.base_elevation_m if spec.terrain is None else None,
     )
-    return dataclasses.replace(spec, mast=mast)
+    return dataclasses.replace(spec, mast=mast, target_rdh_m=None)

@@ -3,8 +3,10 @@
 The image array forms its path from the wave reflected by the ground in
 front of the mast, so the ground that matters is the reflection zone of the
 lowest antenna. The zone depends on the antenna height, which depends on the
-forward slope of the ground; :func:`analyse_terrain` iterates
-heights -> zone -> plane until the heights move less than 1 mm.
+forward slope of the ground: the slope is a fixed point, which
+:func:`analyse_terrain` finds by bracketing (:mod:`geo.plane_solve`) with the
+DEM sampled on the runway-frame grid of :mod:`geo.zone_grid`, the same grid
+and zone rule as the sweep's (:mod:`geo.sweep`).
 
 Local coordinates at the mast: ``u`` along the runway toward the approach
 (from the mast's foot), ``w`` across toward the runway. Forward slope is
@@ -23,23 +25,21 @@ References
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 
 from geo.arrays import antenna_heights_m
 from geo.errors import TerrainError
+from geo.plane_solve import LOWEST_SLOPE_DEG, STEEP_MARGIN_DEG, solve_forward_slope
 from geo.roughness import RoughnessVerdict, roughness_verdicts
+from geo.zone_grid import FIT_RECEIVERS, FrameGrid, zone_rows
 from geo.zones import ZoneShape, antenna_zone, path_receivers
 
 __all__ = ["PlaneFit", "TerrainResult", "fit_plane", "analyse_terrain", "fit_zone"]
 
-#: Receivers on the path (at theta) for the zone the plane is fitted in.
-_RECEIVERS = 200
 #: Rows of the fit zone's polygon: fine, so that its edge follows the ellipses closely.
 _FIT_ROWS = 480
-_MAX_ITERATIONS = 30
-_CONVERGED_M = 1e-3
 
 
 @dataclass(frozen=True)
@@ -105,8 +105,9 @@ def fit_zone(
     the course, from the threshold to 10 NM (:mod:`geo.zones`).
     """
     receivers = path_receivers(
-        setback_m, offset_m, angle_deg, _RECEIVERS, forward_gradient, lateral_gradient, fractions=(1.0,)
+        setback_m, offset_m, angle_deg, FIT_RECEIVERS, forward_gradient, lateral_gradient, fractions=(1.0,)
     )
+    receivers = receivers[receivers[:, 2] > 0.0]  # at or below the plane: no zone (as geo.zone_grid)
     return antenna_zone(height_m, 0.0, receivers, wavelength_m, rows=_FIT_ROWS)
 
 
@@ -131,12 +132,35 @@ class TerrainResult:
         The lowest antenna's zone used for the fit (:func:`fit_zone`).
     roughness : list of RoughnessVerdict
     iterations : int
+        Evaluations of the plane by the solve (the same as ``evaluations``).
     cell_size_m : float
         DEM cell near the site. [m]
     sample_spacing_m : float
         Spacing of the samples in the zone. [m]
     u_m, w_m, residual_m : numpy.ndarray
         The samples in local coordinates and their residuals. [m]
+    solve_status : str
+        ``"settled"`` (a fixed point: heights for the zone and for the plane agree within 0.1 mm),
+        ``"bracket"`` (no fixed point: the solve stopped on the narrowest bracket of a jump) or
+        ``"budget"`` (stopped on a bracket at the evaluation budget); see :mod:`geo.plane_solve`.
+    zone_slope_deg : float
+        Trial slope whose heights the zone was taken for (the plane's own slope when settled). [deg]
+    zone_heights_m : list of float
+        Heights for ``zone_slope_deg``. [m]
+    slope_bracket_deg : tuple of float
+        Trial slopes at the two ends of the last bracket (equal when settled). [deg]
+    bracket_plane_slopes_deg : tuple of float
+        Forward slopes of the planes fitted at those ends. [deg]
+    height_spread_mm : float
+        How far the antenna heights for the two ends' planes differ, largest over the antennas
+        (settled: between the zone's heights and the plane's). [mm]
+    evaluations : int
+        Evaluations of the plane in the zone, all passes.
+    lateral_passes : int
+        Solves with the zone's lateral gradient updated.
+    zone_lateral_gradient : float
+        Lateral gradient the zone's receivers were measured from (the plane's, within 1e-5, unless
+        three passes did not settle it). [m/m]
     """
 
     plane: PlaneFit
@@ -154,34 +178,15 @@ class TerrainResult:
     u_m: np.ndarray
     w_m: np.ndarray
     residual_m: np.ndarray
-
-
-class _GridSampler:
-    """DEM heights on a regular (u, w) grid around the mast, read once and grown on demand."""
-
-    def __init__(self, dem, frame, sign: float, setback_m: float, offset_m: float, spacing_m: float):
-        self.dem, self.frame, self.sign = dem, frame, sign
-        self.setback_m, self.offset_m, self.spacing = setback_m, offset_m, spacing_m
-        self.box = None
-
-    def heights(self, box):
-        u0, u1, w0, w1 = box
-        if self.box is None or u0 < self.box[0] or u1 > self.box[1] or w0 < self.box[2] or w1 > self.box[3]:
-            pad_u, pad_w = 0.25 * (u1 - u0), 0.25 * (w1 - w0)
-            sp = self.spacing
-            self.box = (
-                math.floor((u0 - pad_u) / sp) * sp,
-                math.ceil((u1 + pad_u) / sp) * sp,
-                math.floor((w0 - pad_w) / sp) * sp,
-                math.ceil((w1 + pad_w) / sp) * sp,
-            )
-            uu = np.arange(self.box[0], self.box[1] + sp / 2, sp)
-            ww = np.arange(self.box[2], self.box[3] + sp / 2, sp)
-            self.u, self.w = (a.ravel() for a in np.meshgrid(uu, ww))
-            along = self.setback_m - self.u
-            cross = self.sign * (self.offset_m - self.w)
-            self.z = self.dem.sample_frame(self.frame, along, cross)
-        return self.u, self.w, self.z
+    solve_status: str = "settled"
+    zone_slope_deg: float = 0.0
+    zone_heights_m: list[float] = field(default_factory=list)
+    slope_bracket_deg: tuple[float, float] = (0.0, 0.0)
+    bracket_plane_slopes_deg: tuple[float, float] = (0.0, 0.0)
+    height_spread_mm: float = 0.0
+    evaluations: int = 0
+    lateral_passes: int = 0
+    zone_lateral_gradient: float = 0.0
 
 
 def _missing_error(frame, sign, setback_m, offset_m, u, w, missing) -> TerrainError:
@@ -205,7 +210,7 @@ def analyse_terrain(
     wavelength_m: float,
     angle_deg: float,
 ) -> TerrainResult:
-    """Fit the reflecting plane in the lowest antenna's zone, iterating with the heights.
+    """Fit the reflecting plane in the lowest antenna's zone, its forward slope solved with the heights.
 
     Parameters
     ----------
@@ -228,7 +233,9 @@ def analyse_terrain(
     Raises
     ------
     TerrainError
-        When the mast or its zone is off the DEM or on nodata.
+        When the mast or its zone is off the DEM or on nodata, or the ground rises to within
+        0.5 deg of the path angle. Real ground never ends in an error of the solve: where no
+        fixed point exists the result reports the bracket and the heights' spread.
     """
     sign = 1.0 if side == "right" else -1.0
     cell = dem.cell_size_m(frame)
@@ -240,34 +247,27 @@ def analyse_terrain(
             f"terrain.dem: the mast at lat {lat:.6f}, lon {lon:.6f} is off the DEM or on "
             "nodata; give a DEM that covers the site"
         )
-    import shapely
-
-    sampler = _GridSampler(dem, frame, sign, setback_m, offset_m, spacing)
-    slope_deg, gu, gw = 0.0, 0.0, 0.0
+    planes = _ZonePlanes(FrameGrid(dem, frame, spacing), sign, setback_m, offset_m, array, wavelength_m, angle_deg)
+    solve = solve_forward_slope(planes, array, wavelength_m, angle_deg, 1)
+    status = str(solve.status[0])
+    if status in ("steep", "falls"):
+        raise _slope_error(status, float(solve.plane_slope_deg[0]), angle_deg)
+    if status == "no-plane":
+        planes.raise_for_samples(frame)
+    zone_slope, zone_gw = float(solve.slope_deg[0]), float(solve.lateral_gradient[0])
+    u, w, z, rows = planes.samples(zone_slope, zone_gw)
+    missing = ~np.isfinite(z)
+    if missing.any():
+        raise _missing_error(frame, sign, setback_m, offset_m, u, w, missing)
+    plane, residuals = fit_plane(u, w, z)
+    slope_deg = math.degrees(math.atan(plane.forward_gradient))
+    if slope_deg >= angle_deg - STEEP_MARGIN_DEG:
+        raise _slope_error("steep", slope_deg, angle_deg)
     heights = antenna_heights_m(array, wavelength_m, angle_deg, slope_deg)
-    for iteration in range(1, _MAX_ITERATIONS + 1):  # noqa: B007 (the count is reported)
-        zone = fit_zone(heights[0], wavelength_m, angle_deg, setback_m, offset_m, gu, gw)
-        u0, w0, u1, w1 = zone.polygon.bounds
-        u, w, z = sampler.heights((u0, u1, w0, w1))
-        inside = shapely.contains_xy(zone.polygon, u, w)
-        missing = inside & ~np.isfinite(z)
-        if missing.any():
-            raise _missing_error(frame, sign, setback_m, offset_m, u[inside], w[inside], missing[inside])
-        plane, residuals = fit_plane(u[inside], w[inside], z[inside])
-        gu, gw = plane.forward_gradient, plane.lateral_gradient
-        slope_deg = math.degrees(math.atan(gu))
-        if slope_deg >= angle_deg - 0.5:
-            raise TerrainError(
-                f"terrain: the ground in front of the mast rises at {slope_deg:.2f} deg, too "
-                f"close to the {angle_deg:g} deg path for an image array; choose another site"
-            )
-        new_heights = antenna_heights_m(array, wavelength_m, angle_deg, slope_deg)
-        moved = max(abs(a - b) for a, b in zip(new_heights, heights))
-        heights = new_heights
-        if moved < _CONVERGED_M:
-            break
-    else:
-        raise TerrainError("terrain: the reflecting plane did not settle in 30 iterations; check the DEM")
+    zone_heights = antenna_heights_m(array, wavelength_m, angle_deg, zone_slope)
+    zone = fit_zone(
+        zone_heights[0], wavelength_m, angle_deg, setback_m, offset_m, math.tan(math.radians(zone_slope)), zone_gw
+    )
     grazing_deg = angle_deg - slope_deg
     return TerrainResult(
         plane=plane,
@@ -279,10 +279,77 @@ def analyse_terrain(
         heights_m=heights,
         zone=zone,
         roughness=roughness_verdicts(plane.rms_residual_m, wavelength_m, grazing_deg),
-        iterations=iteration,
+        iterations=int(solve.evaluations[0]),
         cell_size_m=cell,
         sample_spacing_m=spacing,
-        u_m=u[inside],
-        w_m=w[inside],
+        u_m=u,
+        w_m=w,
         residual_m=residuals,
+        solve_status=status,
+        zone_slope_deg=zone_slope,
+        zone_heights_m=zone_heights,
+        slope_bracket_deg=(float(solve.bracket_deg[0, 0]), float(solve.bracket_deg[0, 1])),
+        bracket_plane_slopes_deg=(
+            float(solve.bracket_plane_slope_deg[0, 0]),
+            float(solve.bracket_plane_slope_deg[0, 1]),
+        ),
+        height_spread_mm=1000.0 * float(solve.spread_m[0]),
+        evaluations=int(solve.evaluations[0]),
+        lateral_passes=int(solve.passes[0]),
+        zone_lateral_gradient=zone_gw,
     )
+
+
+def _slope_error(status: str, slope_deg: float, angle_deg: float) -> TerrainError:
+    if status == "falls":
+        return TerrainError(
+            f"terrain: the ground in front of the mast falls more than {-LOWEST_SLOPE_DEG:g} deg toward the "
+            "approach, too steep for a reflecting plane; choose another site"
+        )
+    return TerrainError(
+        f"terrain: the ground in front of the mast rises at {slope_deg:.2f} deg, too "
+        f"close to the {angle_deg:g} deg path for an image array; choose another site"
+    )
+
+
+class _ZonePlanes:
+    """``g`` of one mast for :func:`geo.plane_solve.solve_forward_slope`.
+
+    The plane fitted to the grid samples in the zone of the heights for a trial slope (samples off
+    the DEM left out; the answer's zone must have none).
+    """
+
+    def __init__(self, grid: FrameGrid, sign, setback_m, offset_m, array, wavelength_m, angle_deg):
+        self.grid, self.sign, self.setback, self.offset = grid, sign, setback_m, offset_m
+        self.array, self.lam, self.angle = array, wavelength_m, angle_deg
+        self.last = None
+
+    def samples(self, slope_deg: float, lateral_gradient: float):
+        """(u, w, z, zone rows) of the grid samples in the zone for a trial slope. [m]"""
+        height = antenna_heights_m(self.array, self.lam, self.angle, slope_deg)[0]
+        gu = math.tan(math.radians(slope_deg))
+        sp = self.grid.sp
+        zone = zone_rows(height, self.setback, self.offset, self.sign, self.angle, self.lam, gu, lateral_gradient, sp)
+        self.grid.cover(*zone.bounds())
+        rows, cols = self.grid.cells(zone)
+        z = self.grid.heights(rows, cols)
+        u = self.setback - sp * cols
+        w = np.repeat(zone.w_m[0], zone.lengths[0])
+        self.last = (u, w, z)
+        return u, w, z, zone
+
+    def __call__(self, slope_deg, lateral_gradient, index):
+        u, w, z, _ = self.samples(float(slope_deg[0]), float(lateral_gradient[0]))
+        ok = np.isfinite(z)
+        if np.count_nonzero(ok) < 3:
+            return np.array([np.nan]), np.array([np.nan])
+        plane, _ = fit_plane(u[ok], w[ok], z[ok])
+        return np.array([plane.forward_gradient]), np.array([plane.lateral_gradient])
+
+    def raise_for_samples(self, frame):
+        """The error of a zone without a plane: samples off the DEM, or too few."""
+        u, w, z = self.last
+        missing = ~np.isfinite(z)
+        if missing.any():
+            raise _missing_error(frame, self.sign, self.setback, self.offset, u, w, missing)
+        raise TerrainError("terrain: fewer than 3 DEM samples in the reflection zone; use a finer DEM")

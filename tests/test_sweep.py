@@ -20,8 +20,10 @@ def demo_sweep():
 
 
 def test_sweep_equals_single_site_studies_at_sampled_candidates(demo_sweep):
-    # Independent method: the full single-site pipeline (geo.study.run_study, its own zone polygon and
-    # sample grid) at the same positions. Tolerances: RDH 1 cm, slopes 0.01 deg, heights 2 mm, RMS 3 %.
+    # Independent method for the fit: the full single-site pipeline (geo.study.run_study: least squares on the
+    # zone's samples) against the sweep's prefix sums, at the same positions; both take the grid and zone rule
+    # of geo.zone_grid (checked against a shapely union of the ellipses in test_real_terrain). Tolerances: RDH
+    # 1 cm, slopes 0.01 deg, heights 2 mm, RMS 3 % (issue 10).
     spec, _, sweep = demo_sweep
     c = sweep.columns
     for k in range(len(sweep)):
@@ -99,3 +101,53 @@ def test_flat_ground_sweep_matches_the_closed_forms(write_site, site_text):
         # RDH = ground at the mast + s tan(theta) - threshold (Annex 10 3.1.1 geometry), flat ground 511.2 m.
         assert sweep.columns["rdh_m"][k] == pytest.approx(511.2 + s * math.tan(math.radians(3.0)) - 512.0, abs=1e-9)
         assert sweep.columns["cut_m3"][k] == 0.0
+
+
+def test_best_study_agrees_with_its_sweep_row(demo_sweep):
+    # The full study of the best candidate (best/) against its own sweep row: the same plane, samples and
+    # RDH (requirement of the issue: RDH within 1 cm), and no target-RDH warning for a setback the sweep chose.
+    spec, _, sweep = demo_sweep
+    c, k = sweep.columns, sweep.best
+    assert np.issubdtype(c["samples"].dtype, np.integer)
+    study = run_study(best_site(spec, sweep))
+    assert study.rdh_m == pytest.approx(c["rdh_m"][k], abs=0.01)
+    assert study.terrain.plane.samples == c["samples"][k]
+    assert study.terrain.forward_slope_deg == pytest.approx(c["forward_slope_deg"][k], abs=0.01)
+    assert "rdh-target" not in {f.code for f in study.findings}
+
+
+def test_sweep_rows_follow_the_shared_zone_receivers():
+    # The vectorised receivers of the fit zone against geo.zones.path_receivers (one elevation, theta).
+    from geo.zone_grid import FIT_RECEIVERS, fit_receivers
+    from geo.zones import path_receivers
+
+    setback, offset = np.array([250.0, 330.0]), np.array([100.0, 180.0])
+    gu, gw = np.array([0.01, -0.02]), np.array([0.005, 0.0])
+    ours = fit_receivers(setback, offset, 3.0, gu, gw)
+    for k in range(2):
+        ref = path_receivers(setback[k], offset[k], 3.0, FIT_RECEIVERS, gu[k], gw[k], fractions=(1.0,))
+        np.testing.assert_allclose(ours[k], ref, rtol=1e-12, atol=1e-9)
+
+
+def test_a_zone_past_the_largest_grid_counts_as_missing_in_study_and_sweep():
+    # The grid cap (geo.zone_grid.MAX_CELLS) leaves cells out the same way for the study's samples and the
+    # sweep's interval sums: both count them missing. A small grid on a level field stands in for a huge one.
+    from geo.sweep import _SideGrid
+    from geo.zone_grid import FrameGrid, zone_rows
+
+    class LevelDem:
+        def sample_frame(self, frame, along, cross):
+            return np.full(np.shape(along), 100.0)
+
+    grid = FrameGrid(LevelDem(), None, 1.0, max_cells=3000)
+    zone = zone_rows(4.3, 300.0, 120.0, 1.0, 3.0, 0.8965, 0.0, 0.0, 1.0)
+    total = int(zone.lengths.sum())
+    grid.cover(0, 40, 100, 139)  # 41 x 40 cells: the zone does not fit, and the cap stops it growing
+    assert not grid.cover(*zone.bounds())
+    rows, cols = grid.cells(zone)
+    held = np.isfinite(grid.heights(rows, cols))
+    side = _SideGrid(grid)
+    side.cover(zone)
+    side.local(zone)
+    assert 0 < held.sum() < total
+    assert side.past[0] == total - held.sum()

@@ -9,6 +9,8 @@ from pyproj import CRS, Geod, Proj, Transformer
 
 from geo.arrays import antenna_heights_m
 from geo.errors import TerrainError
+from geo.findings import check_clearance
+from geo.outputs.summary import summary_dict
 from geo.roughness import roughness_limit_m, roughness_verdicts
 from geo.site import load_site
 from geo.study import run_study
@@ -86,6 +88,12 @@ def test_planar_dem_in_utm_gives_slopes_plane_and_rdh(tmp_path, write_site, site
     # Heights settled: they are the slope-corrected formula at the fitted slope, within 1 mm.
     lam = result.wavelength_m
     assert t.heights_m == pytest.approx(antenna_heights_m("null-reference", lam, 3.0, t.forward_slope_deg), abs=1e-3)
+    # A plane has an exact fixed point: the solve settles on it, and the summary says so.
+    assert t.solve_status == "settled" and t.height_spread_mm <= 0.1
+    assert t.zone_heights_m == pytest.approx(t.heights_m, abs=1e-4)
+    block = summary_dict(result)["terrain"]["plane_solve"]
+    assert block["status"] == "settled" and block["evaluations"] == t.evaluations >= 2
+    assert "plane-bracket" not in {f.code for f in result.findings}
 
 
 def test_planar_dem_in_us_survey_feet(tmp_path, write_site, site_text):
@@ -228,3 +236,10 @@ def test_profile_clearance_and_start(tmp_path, write_site, site_text):
     assert p.min_clearance_m == pytest.approx(290.0 * tan, abs=0.02)
     by_code = {f.code: f for f in result.findings}
     assert by_code["clearance"].severity == "fail"  # 15.2 m < 20 m required
+
+
+@pytest.mark.parametrize("along_m", [0.3, -0.4, 0.0, -0.0])
+def test_clearance_near_the_threshold_never_prints_a_signed_zero(along_m):
+    # A point a fraction of a metre from the threshold rounds to 0 m, never "-0 m".
+    message = check_clearance(20.0, along_m, 10.0).message
+    assert "(0 m before the threshold)" in message and "-0" not in message

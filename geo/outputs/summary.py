@@ -157,6 +157,17 @@ def terrain_dict(result: StudyResult) -> dict:
         "max_abs_residual_m": t.plane.max_abs_residual_m,
         "samples": t.plane.samples,
         "iterations": t.iterations,
+        "plane_solve": {
+            "status": t.solve_status,
+            "evaluations": t.evaluations,
+            "lateral_passes": t.lateral_passes,
+            "zone_slope_deg": t.zone_slope_deg,
+            "bracket_slopes_deg": list(t.slope_bracket_deg),
+            "bracket_plane_slopes_deg": list(t.bracket_plane_slopes_deg),
+            "height_spread_mm": t.height_spread_mm,
+            "method": "fixed point of the forward slope by bracketing (Illinois regula falsi with bisection); "
+            "on a jump, the bracket end whose heights are nearer its own plane",
+        },
         "zone": {
             "kind": "exact first Fresnel zones of the lowest antenna, receivers on the path to 10 NM",
             "near_m": t.zone.near_m,
