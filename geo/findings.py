@@ -246,7 +246,8 @@ def check_roughness(verdicts, unit: str = "m") -> list[Finding]:
 
 def check_clearance(min_clearance_m: float, along_m: float, required_m: float, unit: str = "m") -> Finding:
     """Smallest height of the straight path above the approach terrain."""
-    where = f"{_ft(-along_m, unit, 0)} before the threshold"
+    # Within half a metre of the threshold it is 0 in both units, never "-0" or "0 m (-1 ft)".
+    where = f"{_ft(-along_m if abs(along_m) >= 0.5 else 0.0, unit, 0)} before the threshold"
     if min_clearance_m >= required_m:
         return Finding(
             "clearance",

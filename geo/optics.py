@@ -220,9 +220,12 @@ def scattered_field(
         # term = coupling S S exp(-j k r2) / r2 * amp_src, with the source's phase folded in.
         real = coupling * _sinc_half(ga) * _sinc_half(gb) * inv * np.abs(amp_src[sl])[:, None]
         phase = k * r2 - np.angle(amp_src[sl])[:, None]
-        term = np.empty(real.shape, dtype=complex)
-        term.real = real * np.cos(phase)
-        term.imag = -real * np.sin(phase)
+        if np.iscomplexobj(real):  # lossy ground: a complex coupling
+            term = real * np.exp(-1j * phase)
+        else:
+            term = np.empty(real.shape, dtype=complex)
+            term.real = real * np.cos(phase)
+            term.imag = -real * np.sin(phase)
         if not facets.two_sided:
             term = np.where(nr2 > 0.0, term, 0.0)  # a ground facet radiates only upward
         if receiver_visible is not None:

@@ -242,4 +242,4 @@ def test_profile_clearance_and_start(tmp_path, write_site, site_text):
 def test_clearance_near_the_threshold_never_prints_a_signed_zero(along_m):
     # A point a fraction of a metre from the threshold rounds to 0 m, never "-0 m".
     message = check_clearance(20.0, along_m, 10.0).message
-    assert "(0 m before the threshold)" in message and "-0" not in message
+    assert "(0 m (0 ft) before the threshold)" in message and "-0" not in message and "-1" not in message
