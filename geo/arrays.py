@@ -24,7 +24,7 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
-__all__ = ["ArrayType", "ARRAY_TYPES", "array_type", "antenna_heights_m", "proximity_shifts_m"]
+__all__ = ["path_setting_antennas", "ArrayType", "ARRAY_TYPES", "array_type", "antenna_heights_m", "proximity_shifts_m"]
 
 
 @dataclass(frozen=True)
@@ -112,6 +112,18 @@ ARRAY_TYPES: dict[str, ArrayType] = {
         ),
     )
 }
+
+
+def path_setting_antennas(name: str) -> tuple[int, ...]:
+    """Indices (lowest first) of the antennas whose course feeds form the path.
+
+    The path is set where the CSB and SBO patterns meet: every antenna that carries either feeds it
+    (null-reference: the lower with the CSB and the upper whose SBO null lies on the path;
+    sideband-reference: both, SBO on each; capture-effect: all three). The reflecting plane is
+    fitted over the union of these antennas' zones (:mod:`geo.zone_grid`).
+    """
+    kind = array_type(name)
+    return tuple(i for i, (c, s) in enumerate(zip(kind.csb_feed, kind.sbo_feed)) if c != 0 or s != 0)
 
 
 def array_type(name: str) -> ArrayType:

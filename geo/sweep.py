@@ -30,7 +30,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from geo.arrays import antenna_heights_m, array_type
+from geo.arrays import antenna_heights_m, array_type, path_setting_antennas
 from geo.channels import wavelength_m
 from geo.errors import SiteFileError
 from geo.plane_solve import heights_for_slopes, solve_forward_slope
@@ -233,7 +233,9 @@ class _SweepPlanes:
 
     def fit(self, slope_deg, lateral_gradient, index):
         """Per side: (candidates, grid, local zone rows, (a, b, c, rms, n, missing))."""
-        low = heights_for_slopes(self.array, self.lam, self.theta, slope_deg)[:, 0]
+        low = heights_for_slopes(self.array, self.lam, self.theta, slope_deg)[
+            :, list(path_setting_antennas(self.array))
+        ]
         gu = np.tan(np.radians(slope_deg))
         out = []
         for sg, grid in self.grids.items():

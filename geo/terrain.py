@@ -2,7 +2,10 @@
 
 The image array forms its path from the wave reflected by the ground in
 front of the mast, so the ground that matters is the reflection zone of the
-lowest antenna. The zone depends on the antenna height, which depends on the
+antennas whose feeds set the path (the union of their zones; for every array
+type mastplan knows that is all its antennas: a null-reference path forms where
+the upper antenna's SBO null meets the lower's CSB, and that zone reaches
+further). The zone depends on the antenna heights, which depend on the
 forward slope of the ground: the slope is a fixed point, which
 :func:`analyse_terrain` finds by bracketing (:mod:`geo.plane_solve`) with the
 DEM sampled on the runway-frame grid of :mod:`geo.zone_grid`, the same grid
@@ -29,12 +32,13 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from geo.arrays import antenna_heights_m
+from geo.arrays import antenna_heights_m, path_setting_antennas
 from geo.errors import TerrainError
+from geo.fresnel import exact_ellipses
 from geo.plane_solve import LOWEST_SLOPE_DEG, STEEP_MARGIN_DEG, solve_forward_slope
 from geo.roughness import RoughnessVerdict, roughness_verdicts
 from geo.zone_grid import FIT_RECEIVERS, FrameGrid, zone_rows
-from geo.zones import ZoneShape, antenna_zone, path_receivers
+from geo.zones import ZoneShape, path_receivers, united_zone
 
 __all__ = ["PlaneFit", "TerrainResult", "fit_plane", "analyse_terrain", "fit_zone"]
 
@@ -91,7 +95,7 @@ def fit_plane(u_m: np.ndarray, w_m: np.ndarray, z_m: np.ndarray) -> tuple[PlaneF
 
 
 def fit_zone(
-    height_m: float,
+    height_m,
     wavelength_m: float,
     angle_deg: float,
     setback_m: float,
@@ -101,14 +105,18 @@ def fit_zone(
 ) -> ZoneShape:
     """The ground the plane is fitted in.
 
-    The lowest antenna's exact first Fresnel zones for receivers on the path (at theta) along
-    the course, from the threshold to 10 NM (:mod:`geo.zones`).
+    The exact first Fresnel zones for receivers on the path (at theta) along the course, from the
+    threshold to 10 NM (:mod:`geo.zones`), of an antenna at ``height_m`` or, for a sequence of
+    heights, the union of those antennas' zones (the antennas that set the path,
+    :func:`geo.arrays.path_setting_antennas`).
     """
     receivers = path_receivers(
         setback_m, offset_m, angle_deg, FIT_RECEIVERS, forward_gradient, lateral_gradient, fractions=(1.0,)
     )
     receivers = receivers[receivers[:, 2] > 0.0]  # at or below the plane: no zone (as geo.zone_grid)
-    return antenna_zone(height_m, 0.0, receivers, wavelength_m, rows=_FIT_ROWS)
+    heights = np.atleast_1d(np.asarray(height_m, dtype=float))
+    centres, quadratics = zip(*(exact_ellipses([0.0, 0.0, h], receivers, wavelength_m) for h in heights))
+    return united_zone(np.concatenate(centres), np.concatenate(quadratics), rows=_FIT_ROWS, blocks=heights.size)
 
 
 @dataclass(frozen=True)
@@ -129,7 +137,7 @@ class TerrainResult:
     heights_m : list of float
         Slope-corrected antenna heights above the plane. [m]
     zone : ZoneShape
-        The lowest antenna's zone used for the fit (:func:`fit_zone`).
+        The fit zone: the union of the zones of the antennas that set the path (:func:`fit_zone`).
     roughness : list of RoughnessVerdict
     iterations : int
         Evaluations of the plane by the solve (the same as ``evaluations``).
@@ -161,6 +169,12 @@ class TerrainResult:
     zone_lateral_gradient : float
         Lateral gradient the zone's receivers were measured from (the plane's, within 1e-5, unless
         three passes did not settle it). [m/m]
+    fit_antennas : tuple of int
+        Antennas (lowest first, by index) whose zones are united into the fit zone: those that set
+        the path (:func:`geo.arrays.path_setting_antennas`).
+    lowest_zone_forward_slope_deg : float
+        Forward slope of the plane fitted in the lowest antenna's zone alone (the former choice),
+        at the same zone slope, for comparison. [deg]
     """
 
     plane: PlaneFit
@@ -187,6 +201,8 @@ class TerrainResult:
     evaluations: int = 0
     lateral_passes: int = 0
     zone_lateral_gradient: float = 0.0
+    fit_antennas: tuple[int, ...] = (0,)
+    lowest_zone_forward_slope_deg: float = math.nan
 
 
 def _missing_error(frame, sign, setback_m, offset_m, u, w, missing) -> TerrainError:
@@ -210,7 +226,7 @@ def analyse_terrain(
     wavelength_m: float,
     angle_deg: float,
 ) -> TerrainResult:
-    """Fit the reflecting plane in the lowest antenna's zone, its forward slope solved with the heights.
+    """Fit the reflecting plane in the zone of the antennas that set the path, its slope solved with the heights.
 
     Parameters
     ----------
@@ -265,8 +281,21 @@ def analyse_terrain(
         raise _slope_error("steep", slope_deg, angle_deg)
     heights = antenna_heights_m(array, wavelength_m, angle_deg, slope_deg)
     zone_heights = antenna_heights_m(array, wavelength_m, angle_deg, zone_slope)
+    antennas = path_setting_antennas(array)
     zone = fit_zone(
-        zone_heights[0], wavelength_m, angle_deg, setback_m, offset_m, math.tan(math.radians(zone_slope)), zone_gw
+        np.take(zone_heights, antennas),
+        wavelength_m,
+        angle_deg,
+        setback_m,
+        offset_m,
+        math.tan(math.radians(zone_slope)),
+        zone_gw,
+    )
+    # The plane of the lowest antenna's zone alone (the former choice), for the report.
+    lu, lw, lz, _ = planes.samples(zone_slope, zone_gw, antennas=(0,))
+    ok = np.isfinite(lz)
+    lowest_slope_deg = (
+        math.degrees(math.atan(fit_plane(lu[ok], lw[ok], lz[ok])[0].forward_gradient)) if ok.sum() >= 3 else math.nan
     )
     grazing_deg = angle_deg - slope_deg
     return TerrainResult(
@@ -297,6 +326,8 @@ def analyse_terrain(
         evaluations=int(solve.evaluations[0]),
         lateral_passes=int(solve.passes[0]),
         zone_lateral_gradient=zone_gw,
+        fit_antennas=tuple(antennas),
+        lowest_zone_forward_slope_deg=lowest_slope_deg,
     )
 
 
@@ -324,9 +355,13 @@ class _ZonePlanes:
         self.array, self.lam, self.angle = array, wavelength_m, angle_deg
         self.last = None
 
-    def samples(self, slope_deg: float, lateral_gradient: float):
-        """(u, w, z, zone rows) of the grid samples in the zone for a trial slope. [m]"""
-        height = antenna_heights_m(self.array, self.lam, self.angle, slope_deg)[0]
+    def samples(self, slope_deg: float, lateral_gradient: float, antennas=None):
+        """(u, w, z, zone rows) of the grid samples in the zone for a trial slope. [m]
+
+        ``antennas``: indices of the antennas whose zones are united (default: those that set the path).
+        """
+        antennas = path_setting_antennas(self.array) if antennas is None else antennas
+        height = np.take(antenna_heights_m(self.array, self.lam, self.angle, slope_deg), antennas)
         gu = math.tan(math.radians(slope_deg))
         sp = self.grid.sp
         zone = zone_rows(height, self.setback, self.offset, self.sign, self.angle, self.lam, gu, lateral_gradient, sp)

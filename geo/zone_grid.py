@@ -5,12 +5,14 @@ points at whole multiples of the spacing along and across the runway (``along = 
 ``cross = j sp``). A single study and every candidate of a sweep use the same points, so that
 both fit the same samples and find the same plane.
 
-The fit zone is the lowest antenna's exact first Fresnel zones for receivers on the path at theta
-from the threshold to 10 NM (as :func:`geo.terrain.fit_zone` draws it). It is taken row by row: on
+The fit zone is the union of the exact first Fresnel zones, for receivers on the path at theta from
+the threshold to 10 NM, of the antennas whose feeds set the path
+(:func:`geo.arrays.path_setting_antennas`; as :func:`geo.terrain.fit_zone` draws it). It is taken row by row: on
 every grid row of constant ``cross`` (constant ``w``) each ellipse spans one interval along the
 runway, found in closed form from its quadratic, and the zone on the row is the interval from the
 lowest start to the highest end (the union of one sweep of receivers along the course is one
-interval per row). A sample is in the zone when its row's interval holds it.
+interval per row; the antennas' sweeps overlap, the higher one's reaching further out). A sample
+is in the zone when its row's interval holds it.
 
 Coordinates as in :mod:`geo.terrain`: ``u = setback - along`` toward the approach from the foot
 of the mast, ``w = offset - sign * cross`` toward the runway (sign +1 on the right, -1 on the left).
@@ -118,8 +120,8 @@ def zone_rows(
 
     Parameters
     ----------
-    height_m : array_like, shape (C,)
-        Lowest antenna's height above the plane. [m]
+    height_m : array_like, shape (C,) or (C, A)
+        Heights above the plane of the antennas whose zones make the fit zone. [m]
     setback_m, offset_m : array_like, shape (C,)
         Mast positions. [m]
     sign : float or array_like
@@ -139,10 +141,10 @@ def zone_rows(
     -------
     ZoneRows
     """
-    height, setback, offset, gu, gw = (
-        np.atleast_1d(np.asarray(v, dtype=float))
-        for v in (height_m, setback_m, offset_m, forward_gradient, lateral_gradient)
+    setback, offset, gu, gw = (
+        np.atleast_1d(np.asarray(v, dtype=float)) for v in (setback_m, offset_m, forward_gradient, lateral_gradient)
     )
+    height = np.asarray(height_m, dtype=float).reshape(setback.size, -1)
     sign = np.broadcast_to(np.asarray(sign, dtype=float), setback.shape)
     if setback.size > _CHUNK:  # keep the (candidates x rows x receivers) arrays small enough for the cache
         parts = [
@@ -170,10 +172,11 @@ def zone_rows(
         return ZoneRows(joined("rows", 0), joined("i_lo", 1), joined("i_hi", 0), joined("w_m", 0.0))
     sp = spacing_m
     c = setback.size
-    receivers = fit_receivers(setback, offset, angle_deg, gu, gw)
+    # Every antenna with every receiver: (C, A * N) pairs, antenna by antenna.
+    receivers = np.tile(fit_receivers(setback, offset, angle_deg, gu, gw), (1, height.shape[1], 1))
     n = receivers.shape[1]
     ant = np.zeros((c, n, 3))
-    ant[:, :, 2] = height[:, None]
+    ant[:, :, 2] = np.repeat(height, FIT_RECEIVERS, axis=1)
     centres, q = exact_ellipses(ant.reshape(-1, 3), receivers.reshape(-1, 3), wavelength_m)
     centres, q = centres.reshape(c, n, 2), q.reshape(c, n, 2, 2)
     det = q[..., 0, 0] * q[..., 1, 1] - q[..., 0, 1] ** 2

@@ -239,7 +239,8 @@ def test_heights_follow_from_the_reported_slope(real_sites):
 
 
 def test_reported_samples_lie_in_the_zone_drawn_independently(real_sites):
-    # The zone as a shapely union of the exact ellipses (geo.zones, 480 rows) at the zone's heights: the
+    # The zone as a shapely union of the exact ellipses (geo.zones, 480 rows) at the zone's heights of the
+    # antennas that set the path: the
     # samples of the fit, found row by row in closed form, lie in it (edge cells within a cell of it).
     import shapely
 
@@ -249,7 +250,8 @@ def test_reported_samples_lie_in_the_zone_drawn_independently(real_sites):
             continue
         gu = math.tan(math.radians(t.zone_slope_deg))
         gw = t.zone_lateral_gradient
-        zone = fit_zone(t.zone_heights_m[0], s["wavelength_m"], 3.0, s["setback"], s["offset"], gu, gw)
+        heights = [t.zone_heights_m[i] for i in t.fit_antennas]  # the antennas that set the path
+        zone = fit_zone(heights, s["wavelength_m"], 3.0, s["setback"], s["offset"], gu, gw)
         grown = zone.polygon.buffer(t.sample_spacing_m)
         assert shapely.contains_xy(grown, t.u_m, t.w_m).all()
         inside = shapely.contains_xy(zone.polygon, t.u_m, t.w_m).mean()

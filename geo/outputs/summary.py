@@ -13,6 +13,7 @@ from pathlib import Path
 import numpy as np
 
 from geo import __version__
+from geo.arrays import array_type
 from geo.findings import CAUTIONS
 from geo.study import StudyResult
 from geo.units import with_foot_twins
@@ -169,7 +170,11 @@ def terrain_dict(result: StudyResult) -> dict:
             "on a jump, the bracket end whose heights are nearer its own plane",
         },
         "zone": {
-            "kind": "exact first Fresnel zones of the lowest antenna, receivers on the path to 10 NM",
+            "kind": "union of the exact first Fresnel zones of the antennas that set the path, receivers on "
+            "the path to 10 NM",
+            "antennas": [array_type(result.spec.array).roles[i] for i in t.fit_antennas],
+            "lowest_antenna_zone_forward_slope_deg": _finite(t.lowest_zone_forward_slope_deg),
+            "slope_change_against_lowest_zone_deg": _finite(t.forward_slope_deg - t.lowest_zone_forward_slope_deg),
             "near_m": t.zone.near_m,
             "far_m": t.zone.far_m,
             "max_half_width_m": t.zone.max_half_width_m,
