@@ -245,6 +245,7 @@ def ground_fields(
     source_visible=None,
     horizon_tan=None,
     pair_weight=None,
+    far: bool = False,
 ) -> np.ndarray:
     """:func:`scattered_field` for one-sided ground facets and several sources at once, faster.
 
@@ -279,11 +280,17 @@ def ground_fields(
         chunk count for, and the real weights (p, len(receiver_index)) of each pair (e.g. a taper
         at the edge of each receiver's own integration area); the other receivers are skipped
         for that chunk, so facets ordered by position make it pay.
+    far : bool
+        ``receivers_m`` are unit directions toward distant receivers: the field is returned in
+        far-field units (``exp(-j k r) / r`` times ``r exp(j k r)``, ``r`` from the origin), where
+        the receiver's wave is ``exp(j k d . c)`` and its direction ``d`` the same for every facet
+        (the limit of large range, in which the spherical form loses nothing but time).
 
     Returns
     -------
     numpy.ndarray of complex, shape (S, R)
-        In the units of each source's direct field ``exp(-j k r) / r``.
+        In the units of each source's direct field ``exp(-j k r) / r`` (far-field units with
+        ``far``).
 
     References
     ----------
@@ -333,17 +340,24 @@ def ground_fields(
             if len(cols) == 0:
                 continue
             pair = np.asarray(pair, dtype=f32)
-        dx = rx[None, cols, 0] - c[:, 0, None]
-        dy = rx[None, cols, 1] - c[:, 1, None]
-        dz = rx[None, cols, 2] - c[:, 2, None]
-        r2 = np.sqrt(dx * dx + dy * dy + dz * dz)
-        # The phase k r2 reduced to [-pi, pi] in double precision (rounding by the 1.5 * 2**52
-        # trick, far faster than rint), then single precision for the rest of the pair's work.
-        turns = r2 * cycles_per_m
+        # The phase reduced to [-pi, pi] in double precision (rounding by the 1.5 * 2**52 trick,
+        # far faster than rint), then single precision for the rest of the pair's work.
+        if far:
+            d = rx[cols]
+            turns = -(c @ d.T) * cycles_per_m  # exp(-j k r2) -> exp(+j k d . c)
+            inv_r2 = np.ones(turns.shape, dtype=f32)
+            x, y, z = (np.broadcast_to(d[None, :, i].astype(f32), turns.shape) for i in range(3))
+        else:
+            dx = rx[None, cols, 0] - c[:, 0, None]
+            dy = rx[None, cols, 1] - c[:, 1, None]
+            dz = rx[None, cols, 2] - c[:, 2, None]
+            r2 = np.sqrt(dx * dx + dy * dy + dz * dz)
+            turns = r2 * cycles_per_m
+            inv = 1.0 / r2
+            inv_r2 = inv.astype(f32)
+            x, y, z = (dx * inv).astype(f32), (dy * inv).astype(f32), (dz * inv).astype(f32)
         turns -= (turns + _ROUND) - _ROUND
         phase = (2.0 * math.pi * turns).astype(f32)
-        inv_r2 = (1.0 / r2).astype(f32)
-        x, y, z = (dx * (1.0 / r2)).astype(f32), (dy * (1.0 / r2)).astype(f32), (dz * (1.0 / r2)).astype(f32)
         h2 = np.sqrt(x * x + y * y)
         nn = n32[sl]
         nr2 = nn[:, 0, None] * x + nn[:, 1, None] * y + nn[:, 2, None] * z

@@ -26,6 +26,7 @@ from geo.prediction import ArrayModel, PathPrediction, predict_path
 from geo.profile import ApproachProfile, approach_profile
 from geo.protected import ZoneCover, zone_cover
 from geo.site import SiteSpec
+from geo.surface_prediction import SurfacePrediction
 from geo.surfaces import MastClearance, mast_clearance
 from geo.terrain import TerrainResult, analyse_terrain
 from geo.zones import ReflectionZone, reflection_zones
@@ -184,6 +185,8 @@ class StudyResult:
         (CSB feeds, SBO feeds, source) used for the prediction.
     mast_clearance : MastClearance
         Top of the mast against the Annex 14 surfaces.
+    surface : SurfacePrediction or None
+        The path over the DEM surface by physical optics (None without a DEM).
     """
 
     spec: SiteSpec
@@ -206,6 +209,7 @@ class StudyResult:
     prediction_no_shift: PathPrediction | None = None
     feeds: tuple = ()
     mast_clearance: MastClearance | None = None
+    surface: SurfacePrediction | None = None
 
 
 def channel_of(spec: SiteSpec) -> Channel:
@@ -430,10 +434,18 @@ def run_study(spec: SiteSpec) -> StudyResult:
         spec, heights, shifts, feeds, lam, gu, gw, setback, offset, intercept_m - plane_m
     )
     found.append(checks.check_predicted_angle(prediction.path_angle_deg, spec.angle_deg))
+    surface = None
+    if terrain is not None:
+        from geo.surface_study import surface_findings, surface_for_study
+
+        surface = surface_for_study(
+            spec, runway, side, setback, offset, terrain, heights, shifts, feeds, lam, prediction, rdh
+        )
+        found += surface_findings(surface, spec.category)
     found = [f for f in found if f is not None]
     return StudyResult(
         spec, channel, lam, runway, mast, antennas, rdh, over_threshold, gpip, found,
-        intercept_m, terrain, profile, source, zones, covers, prediction, unshifted, feeds, clearance,
+        intercept_m, terrain, profile, source, zones, covers, prediction, unshifted, feeds, clearance, surface,
     )  # fmt: skip
 
 

@@ -20,10 +20,11 @@ image theory comes back exactly; the raw integral ``direct + PO(surface)`` is ke
 (``method="raw"``) and tested against image theory with its own, wider, stated tolerance.
 
 **Receivers.** The designed path at the points of ``path.csv`` (10 NM to the threshold; the
-integral is taken at points at least 10 m apart and the DDM difference to image theory is
-interpolated linearly between them), and far-field receivers at ``FAR_RANGE_M`` in elevation
-windows around the image theory's path and half-sectors, where the DDM is interpolated by a cubic
-spline to find the surface's path angle and half-sectors.
+integral is taken at points at least ``PATH_STEP_M`` apart and the DDM difference to image theory
+is interpolated linearly between them), and distant receivers (plane waves) in elevation windows
+around the image theory's path and half-sectors, where a cubic through the samples around each
+crossing gives the surface's path angle and half-sectors. Their areas are the zones of receivers
+at ``FAR_RANGE_M``.
 
 **Convergence.** The far-field windows and a few path points are computed again with the facet
 sides halved (sampling doubled) and with the zones scaled twice as far (area doubled); the
@@ -56,7 +57,7 @@ __all__ = ["FAR_RANGE_M", "SurfacePrediction", "predict_surface", "surface_field
 #: Range of the far-field receivers (from the foot of the mast). [m]
 FAR_RANGE_M = 200_000.0
 #: Smallest spacing of the path points the integral is taken at. [m]
-PATH_STEP_M = 10.0
+PATH_STEP_M = 20.0
 #: Half-width of the far-field windows, as a fraction of theta, and points per window.
 _WINDOW = 0.06
 _WINDOW_POINTS = 9
@@ -139,6 +140,7 @@ def surface_fields(
     method: str = "difference",
     visibility: bool = True,
     rx_index=None,
+    far: bool = False,
 ) -> tuple[np.ndarray, np.ndarray]:
     """CSB and SBO fields at receivers over the surface of ``grid`` (see the module notes).
 
@@ -156,11 +158,14 @@ def surface_fields(
     rx_index : array_like of int, optional
         Each receiver's index among the receivers ``grid.limits`` was made for: its own area
         (:meth:`AreaLimits.pair_weights`). None: the whole box for every receiver.
+    far : bool
+        ``receivers_m`` are unit directions of distant receivers; the fields are in the units of
+        :meth:`ArrayModel.far_fields`.
 
     Returns
     -------
     csb, sbo : numpy.ndarray of complex
-        In the units of :meth:`ArrayModel.fields`.
+        In the units of :meth:`ArrayModel.fields` (or ``far_fields``).
     """
     rx = np.atleast_2d(np.asarray(receivers_m, float))
     plane_nodes = _plane_z(model, *np.meshgrid(grid.u_m, grid.w_m))
@@ -170,8 +175,7 @@ def surface_fields(
     consts = (model.wavelength_m, model.relative_permittivity, model.conductivity_s_m)
     vis = horizon = None
     if visibility:
-        vis = surface.antenna_visibility(facets, model.positions_m)
-        horizon = surface.horizon_tangents(facets)
+        vis, horizon = _shading(grid, surface, facets, model.positions_m)
     pair_weight = None
     if rx_index is not None:
         limits, centres = grid.limits, facets.centres_m
@@ -187,40 +191,48 @@ def surface_fields(
                 cache[sl.start] = (local[used], weights[:, used].astype(np.float32))
             return cache[sl.start]
 
-    po = ground_fields(
-        model.positions_m, facets, rx, *consts, source_visible=vis, horizon_tan=horizon, pair_weight=pair_weight
-    )
+    options = dict(pair_weight=pair_weight, far=far)
+    po = ground_fields(model.positions_m, facets, rx, *consts, source_visible=vis, horizon_tan=horizon, **options)
+    k = 2.0 * math.pi / model.wavelength_m
     if method == "raw":
-        k = 2.0 * math.pi / model.wavelength_m
-        r = np.linalg.norm(rx[None, :, :] - model.positions_m[:, None, :], axis=2)
-        total = np.exp(-1j * k * r) / r + po
-        return model.csb @ total, model.sbo @ total
+        if far:
+            direct = np.exp(1j * k * model.positions_m @ rx.T)
+        else:
+            r = np.linalg.norm(rx[None, :, :] - model.positions_m[:, None, :], axis=2)
+            direct = np.exp(-1j * k * r) / r
+        return model.csb @ (direct + po), model.sbo @ (direct + po)
     if method != "difference":
         raise ValueError(f"method {method!r} is not one of 'difference', 'raw'")
     plane = SurfaceGrid(grid.u_m, grid.w_m, plane_nodes, grid.limits).facets()
-    po = po - ground_fields(model.positions_m, plane, rx, *consts, pair_weight=pair_weight)
-    csb, sbo = model.fields(rx)
+    po = po - ground_fields(model.positions_m, plane, rx, *consts, **options)
+    if far:
+        elevation = np.arcsin(np.clip(rx[:, 2], -1.0, 1.0))
+        csb, sbo = model.far_fields(elevation)
+    else:
+        csb, sbo = model.fields(rx)
     return csb + model.csb @ po, sbo + model.sbo @ po
+
+
+_SHADING_CACHE: list = []
+
+
+def _shading(grid: SurfaceGrid, surface: SurfaceGrid, facets, antennas_m):
+    """Antenna visibility and receiver horizons of the surface of ``grid``.
+
+    The last result is kept (with its grid, so it cannot be mistaken for another): the path and
+    the far-field receivers of one evaluation share it.
+    """
+    for held_grid, held_antennas, result in _SHADING_CACHE:
+        if held_grid is grid and np.array_equal(held_antennas, antennas_m):
+            return result
+    result = (surface.antenna_visibility(facets, antennas_m), surface.horizon_tangents(facets))
+    _SHADING_CACHE[:] = [(grid, np.array(antennas_m), result)]
+    return result
 
 
 def _far_receivers(elevation_rad):
     e = np.asarray(elevation_rad, float)
     return FAR_RANGE_M * np.column_stack([np.cos(e), np.zeros(e.size), np.sin(e)])
-
-
-def _far_ddm(model, elevation_rad, csb, sbo, sbo_scale, method):
-    """DDM toward distant receivers from the fields at FAR_RANGE_M.
-
-    The image far field plus the surface's difference brought to plane-wave units
-    (``exp(-j k r) / r -> r exp(j k r)``).
-    """
-    if method == "raw":
-        return ddm(csb, sbo, sbo_scale)
-    c_img, s_img = model.fields(_far_receivers(elevation_rad))
-    k = 2.0 * math.pi / model.wavelength_m
-    to_far = FAR_RANGE_M * np.exp(1j * k * FAR_RANGE_M)
-    c_far, s_far = model.far_fields(elevation_rad)
-    return ddm(c_far + (csb - c_img) * to_far, s_far + (sbo - s_img) * to_far, sbo_scale)
 
 
 def _roots(elevation_rad, values, target):
@@ -285,12 +297,14 @@ def _grid(model, heights, cell_m, receivers, refine=1.0, zone_factor=ZONE_FACTOR
 
 
 def _evaluate(model, grid, receivers, index, n_path, windows, scale, method, visibility):
-    """DDM at the path receivers and the sector, from one integral over receivers[index]."""
-    c, s = surface_fields(model, grid, receivers[index], method, visibility, rx_index=index)
+    """DDM at the path receivers and the sector (index: receivers among those of the grid's areas)."""
     path = index < n_path
-    far_elev = windows.ravel()[index[~path] - n_path]
-    far = _far_ddm(model, far_elev, c[~path], s[~path], scale, method)
-    return ddm(c[path], s[path], scale), _sector(far_elev.reshape(3, -1), far)
+    c, s = surface_fields(model, grid, receivers[index[path]], method, visibility, rx_index=index[path])
+    far_index = index[~path]
+    far_elev = windows.ravel()[far_index - n_path]
+    directions = receivers[far_index] / FAR_RANGE_M
+    c_far, s_far = surface_fields(model, grid, directions, method, visibility, rx_index=far_index, far=True)
+    return ddm(c, s, scale), _sector(far_elev.reshape(3, -1), ddm(c_far, s_far, scale))
 
 
 def predict_surface(

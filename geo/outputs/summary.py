@@ -122,6 +122,7 @@ def summary_dict(result: StudyResult) -> dict:
     }
     if result.prediction is not None:
         body["prediction"] = prediction_dict(result)
+        body["prediction"]["surface"] = surface_dict(result)
     if result.terrain is not None:
         body["terrain"] = terrain_dict(result)
     return with_foot_twins(body)
@@ -222,4 +223,44 @@ def prediction_dict(result: StudyResult) -> dict:
         "tone_modulation_percent": 40.0,
         "scope": "CSB/SBO course signals by image theory over the reflecting plane; clearance signals, "
         "multipath from objects and receiver effects are out of scope.",
+    }
+
+
+def surface_dict(result: StudyResult) -> dict:
+    """The path over the DEM surface (physical optics), or why it was skipped (metre keys)."""
+    from geo.structure_limits import LIMITS_SOURCE
+    from geo.surface_study import SKIPPED_WITHOUT_DEM
+
+    sp = result.surface
+    if sp is None:
+        return {"skipped": SKIPPED_WITHOUT_DEM}
+    base = result.mast.plane_elevation_m
+    thr = result.spec.threshold.elevation_m
+    u0, u1, w0, w1 = sp.area_m
+    return {
+        "path_angle_deg": sp.path_angle_deg,
+        "half_sector_below_deg": sp.half_sector_below_deg,
+        "half_sector_above_deg": sp.half_sector_above_deg,
+        "rdh_m": sp.straight_fit[0] + base - thr,
+        "converged": sp.converged,
+        "structure": [
+            {
+                "segment": s.segment,
+                "from_m": s.from_m,
+                "to_m": s.to_m,
+                "limit_ddm": s.limit_ddm,
+                "bend_95_ddm": s.bend_95_ddm,
+                "pass": s.passed,
+            }
+            for s in sp.structure
+        ],
+        "limits_source": LIMITS_SOURCE,
+        "method": "image over the plane + [PO(surface) - PO(plane)], same facets and tapers"
+        if sp.method == "difference"
+        else "direct + PO(surface)",
+        "facets": sp.facets,
+        "area": {"u_from_m": u0, "u_to_m": u1, "w_from_m": w0, "w_to_m": w1},
+        "off_dem_fraction": sp.off_dem_fraction,
+        "notes": list(sp.notes),
+        "caution": "A physical-optics prediction over the DEM as given; confirmed only by flight inspection.",
     }
