@@ -319,6 +319,7 @@ def predict_surface(
     method: str = "difference",
     visibility: bool = True,
     check: bool = True,
+    zone_factor: float = ZONE_FACTOR,
 ) -> SurfacePrediction:
     """Predict the path over the surface (see the module notes).
 
@@ -343,6 +344,8 @@ def predict_surface(
         Terrain shadowing.
     check : bool
         Run the convergence check (sampling doubled, area doubled).
+    zone_factor : float
+        Each receiver's area: its first Fresnel zones scaled by this (:func:`area_limits`).
 
     Returns
     -------
@@ -354,7 +357,7 @@ def predict_surface(
     windows = _windows(image, angle_deg)
     receivers = np.vstack([points[subset], _far_receivers(windows.ravel())])
     n_path = subset.size
-    grid = _grid(model, heights, cell_m, receivers)
+    grid = _grid(model, heights, cell_m, receivers, zone_factor=zone_factor)
     scale = image.sbo_scale
     everything = np.arange(receivers.shape[0])
     ddm_sub, sector = _evaluate(model, grid, receivers, everything, n_path, windows, scale, method, visibility)
@@ -378,7 +381,7 @@ def predict_surface(
     if check:
         converged = _convergence(
             model, heights, cell_m, receivers, subset, along, n_path, windows, scale, ddm_sub, sector, method,
-            visibility,
+            visibility, zone_factor,
         )  # fmt: skip
     u, w = grid.u_m, grid.w_m
     return SurfacePrediction(
@@ -402,8 +405,8 @@ def predict_surface(
 
 
 def _convergence(
-    model, heights, cell_m, receivers, subset, along, n_path, windows, scale, ddm_sub, sector, method, vis
-):  # noqa: E501
+    model, heights, cell_m, receivers, subset, along, n_path, windows, scale, ddm_sub, sector, method, vis, zone_factor
+):
     """Path angle, half-sectors and DDM beyond 1 NM again with the sampling doubled and the area doubled.
 
     Converged when every change is within the flat-plane tolerances of the checks: 0.002 deg
@@ -417,7 +420,7 @@ def _convergence(
     base_far_sector = sector
     out = {}
     ok = True
-    for name, refine, factor in (("sampling_doubled", 2.0, ZONE_FACTOR), ("area_doubled", 1.0, 2.0 * ZONE_FACTOR)):
+    for name, refine, factor in (("sampling_doubled", 2.0, zone_factor), ("area_doubled", 1.0, 2.0 * zone_factor)):
         grid = _grid(model, heights, cell_m, receivers, refine, factor)
         again, other = _evaluate(model, grid, receivers, index, n_path, windows, scale, method, vis)
         angle_change = max(abs(a - b) for a, b in zip(other, base_far_sector))

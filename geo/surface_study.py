@@ -26,8 +26,10 @@ __all__ = ["surface_for_study", "surface_findings", "SKIPPED_WITHOUT_DEM"]
 SKIPPED_WITHOUT_DEM = "surface prediction skipped: the site file gives no DEM (terrain.dem)"
 
 
-def surface_for_study(spec, runway, side: str, setback_m: float, offset_m: float, terrain, heights_m, shifts_m,
-                      feeds, wavelength_m: float, prediction, rdh_m: float) -> SurfacePrediction:  # fmt: skip
+def surface_for_study(
+    spec, runway, side, setback_m, offset_m, terrain, heights_m, shifts_m, feeds, wavelength_m, prediction, rdh_m,
+    check=True,
+) -> SurfacePrediction:  # fmt: skip
     """The path over the DEM surface for the study's mast, array and image prediction.
 
     Parameters
@@ -49,6 +51,8 @@ def surface_for_study(spec, runway, side: str, setback_m: float, offset_m: float
         The image prediction (shifted antennas).
     rdh_m : float
         The study's RDH (places ILS point C). [m]
+    check : bool
+        Run the convergence check (sampling doubled, area doubled).
 
     Returns
     -------
@@ -81,7 +85,7 @@ def surface_for_study(spec, runway, side: str, setback_m: float, offset_m: float
             return dem.sample_frame(runway.frame, along, cross) - plane.elevation_at_mast_m
 
         return predict_surface(
-            model, prediction, heights, terrain.cell_size_m, spec.angle_deg, setback_m, offset_m, segments
+            model, prediction, heights, terrain.cell_size_m, spec.angle_deg, setback_m, offset_m, segments, check=check
         )
 
 

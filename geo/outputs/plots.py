@@ -224,7 +224,7 @@ def plot_surface_structure(result: StudyResult, path: Path) -> None:
     ax.set_xscale("log")
     ax.invert_xaxis()
     ax.set_xlabel("distance before the threshold [NM]")
-    ax.set_ylabel(f"bend: DDM minus its {BEND_WINDOW_M:.0f} m running mean")
+    ax.set_ylabel(f"bend: DDM minus its {BEND_WINDOW_M:.0f} m quadratic fit")
     ax.set_title("path bends against the Annex 10 limits (dashed; values from memory, confirm the edition)")
     ax.legend(fontsize=8)
     ax.grid(alpha=0.3)
