@@ -296,14 +296,19 @@ def _grid(model, heights, cell_m, receivers, refine=1.0, zone_factor=ZONE_FACTOR
     return surface_grid(limits, heights, lam, cell_m, model.positions_m, receivers, refine)
 
 
-def _evaluate(model, grid, receivers, index, n_path, windows, scale, method, visibility):
-    """DDM at the path receivers and the sector (index: receivers among those of the grid's areas)."""
+def _evaluate(model, grid, receivers, index, n_path, windows, scale, method, visibility, zone_index=None):
+    """DDM at the path receivers and the sector, for ``receivers[index]``.
+
+    ``zone_index``: each one's place among the receivers ``grid`` was made for (``index`` when
+    the grid was made for all of them).
+    """
+    zone_index = index if zone_index is None else np.asarray(zone_index)
     path = index < n_path
-    c, s = surface_fields(model, grid, receivers[index[path]], method, visibility, rx_index=index[path])
+    c, s = surface_fields(model, grid, receivers[index[path]], method, visibility, rx_index=zone_index[path])
     far_index = index[~path]
     far_elev = windows.ravel()[far_index - n_path]
     directions = receivers[far_index] / FAR_RANGE_M
-    c_far, s_far = surface_fields(model, grid, directions, method, visibility, rx_index=far_index, far=True)
+    c_far, s_far = surface_fields(model, grid, directions, method, visibility, rx_index=zone_index[~path], far=True)
     return ddm(c, s, scale), _sector(far_elev.reshape(3, -1), ddm(c_far, s_far, scale))
 
 
@@ -411,7 +416,7 @@ def _convergence(
 
     Converged when every change is within the flat-plane tolerances of the checks: 0.002 deg
     for the angles, and 1 % of the half-sector DDM (0.000875) for the DDM. The far-field windows
-    are taken at every other elevation.
+    are taken at every other elevation; the grids cover the areas of the checked receivers only.
     """
     beyond = np.flatnonzero(along[subset] <= -1852.0)
     chosen = beyond[np.linspace(0, beyond.size - 1, min(_CHECK_PATH_POINTS, beyond.size)).astype(int)]
@@ -421,8 +426,9 @@ def _convergence(
     out = {}
     ok = True
     for name, refine, factor in (("sampling_doubled", 2.0, zone_factor), ("area_doubled", 1.0, 2.0 * zone_factor)):
-        grid = _grid(model, heights, cell_m, receivers, refine, factor)
-        again, other = _evaluate(model, grid, receivers, index, n_path, windows, scale, method, vis)
+        grid = _grid(model, heights, cell_m, receivers[index], refine, factor)  # the checked receivers' areas
+        local = np.arange(index.size)
+        again, other = _evaluate(model, grid, receivers, index, n_path, windows, scale, method, vis, local)
         angle_change = max(abs(a - b) for a, b in zip(other, base_far_sector))
         ddm_change = float(np.max(np.abs(again - ddm_sub[chosen]))) if chosen.size else 0.0
         out[name] = {
