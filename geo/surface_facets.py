@@ -16,7 +16,11 @@ antenna and receiver can see:
   :mod:`geo.optics`); what is left is the quadratic part, ``k d^2 / (8 r)`` at the facet's edge
   for a facet of side ``d`` at distance ``r`` from the antenna or the nearest receiver. Facets are
   sized so that it stays below pi/8 (``d <= sqrt(lambda r / 2)``), and never larger than a DEM
-  cell, so the bilinear surface is followed cell by cell. ``refine`` divides every side.
+  cell, so the bilinear surface is followed cell by cell; on DEMs finer than 2.5 m the facets stay
+  2.5 m (they sample the bilinear surface at their corners, so detail finer than that is not
+  followed: a bound on the cost). ``refine`` divides every side. The facet corners are not
+  aligned with the DEM's posts (the DEM is in its own CRS): at one facet per cell the surface is
+  resampled, which the doubled-sampling check measures.
 - **Visibility.** A facet adds nothing to an antenna that the ground hides from it: the segment
   from the facet to the antenna is marched in 16 steps (geometric, from 0.5 m off the facet to
   98 % of the way) over the bilinear surface of the area.
@@ -57,6 +61,8 @@ _MARCH_STEPS = 16
 _HORIZON_REACH_M = 600.0
 #: Smallest facet side. [m]
 _MIN_SIDE_M = 0.05
+#: Facets follow DEM cells down to this size, no finer (a bound on the cost for fine DEMs). [m]
+_FINEST_CELL_M = 2.5
 #: Facet side sqrt(lambda r / divisor): 2 keeps the quadratic phase at the edge below pi/8.
 _PHASE_DIVISOR = 2.0
 
@@ -338,7 +344,8 @@ def surface_grid(limits: AreaLimits, heights, wavelength_m: float, cell_m: float
         return max(abs(x), h_low)
 
     def side(axis):
-        return lambda x: min(math.sqrt(wavelength_m * nearest(x, axis) / _PHASE_DIVISOR), cell_m) / refine
+        largest = max(cell_m, _FINEST_CELL_M)
+        return lambda x: min(math.sqrt(wavelength_m * nearest(x, axis) / _PHASE_DIVISOR), largest) / refine
 
     u = graded_nodes(limits.u0_m, limits.u1_m, side(0))
     w_pos = graded_nodes(0.0, max(limits.w1_m, 0.0), side(1))

@@ -235,16 +235,18 @@ def _far_receivers(elevation_rad):
     return FAR_RANGE_M * np.column_stack([np.cos(e), np.zeros(e.size), np.sin(e)])
 
 
-def _roots(elevation_rad, values, target):
+def _roots(elevation_rad, values, target, near_rad=None):
     """Where the DDM crosses the target (NaN if it does not). [rad]
 
-    The cubic through the four samples around the sign change nearest the window's middle.
+    The cubic through the four samples around the sign change nearest ``near_rad`` (by default
+    the window's middle).
     """
     x, y = np.asarray(elevation_rad, float), np.asarray(values, float) - target
     change = np.flatnonzero(np.sign(y[:-1]) != np.sign(y[1:]))
     if change.size == 0:
         return math.nan
-    i = int(change[np.argmin(np.abs(change - x.size // 2))])
+    near = x[x.size // 2] if near_rad is None else near_rad
+    i = int(change[np.argmin(np.abs(x[change] - near))])
     lo = min(max(i - 1, 0), x.size - 4)
     xs, ys = x[lo : lo + 4], y[lo : lo + 4]
     scale = xs[-1] - xs[0]
@@ -275,6 +277,30 @@ def _sector(windows: np.ndarray, far_ddm: np.ndarray) -> tuple[float, float, flo
     below = _roots(windows[0], values[0], DDM_AT_HALF_SECTOR)
     path = _roots(windows[1], values[1], 0.0)
     above = _roots(windows[2], values[2], -DDM_AT_HALF_SECTOR)
+    return math.degrees(path), math.degrees(path - below), math.degrees(above - path)
+
+
+def _wide_sector(model, heights, cell_m, image, angle_deg, scale, method, visibility, zone_factor):
+    """Path angle and half-sectors from one window of 0.5 to 1.6 theta. [deg]
+
+    Used when the three narrow windows about image theory's roots miss a crossing (ground far
+    from the plane).
+    """
+    from geo.prediction import DDM_AT_HALF_SECTOR
+
+    theta = math.radians(angle_deg)
+    elevations = np.linspace(0.5 * theta, 1.6 * theta, 45)
+    receivers = _far_receivers(elevations)
+    grid = _grid(model, heights, cell_m, receivers, zone_factor=zone_factor)
+    index = np.arange(elevations.size)
+    c, s = surface_fields(model, grid, receivers / FAR_RANGE_M, method, visibility, rx_index=index, far=True)
+    values = ddm(c, s, scale)
+    reference = [image.path_angle_deg - image.half_sector_below_deg, image.path_angle_deg]
+    reference.append(image.path_angle_deg + image.half_sector_above_deg)
+    below, path, above = (
+        _roots(elevations, values, target, math.radians(ref))
+        for target, ref in zip((DDM_AT_HALF_SECTOR, 0.0, -DDM_AT_HALF_SECTOR), reference)
+    )
     return math.degrees(path), math.degrees(path - below), math.degrees(above - path)
 
 
@@ -366,6 +392,8 @@ def predict_surface(
     scale = image.sbo_scale
     everything = np.arange(receivers.shape[0])
     ddm_sub, sector = _evaluate(model, grid, receivers, everything, n_path, windows, scale, method, visibility)
+    if not all(math.isfinite(v) for v in sector):
+        sector = _wide_sector(model, heights, cell_m, image, angle_deg, scale, method, visibility, zone_factor)
     difference = np.interp(along, along[subset], ddm_sub - image.ddm_nominal[subset])
     ddm_surface = image.ddm_nominal + difference
 
@@ -431,14 +459,16 @@ def _convergence(
         again, other = _evaluate(model, grid, receivers, index, n_path, windows, scale, method, vis, local)
         angle_change = max(abs(a - b) for a, b in zip(other, base_far_sector))
         ddm_change = float(np.max(np.abs(again - ddm_sub[chosen]))) if chosen.size else 0.0
+        found = all(math.isfinite(v) for v in (*other, *base_far_sector))
         out[name] = {
             "facets": (grid.u_m.size - 1) * (grid.w_m.size - 1),
-            "path_angle_change_deg": abs(other[0] - sector[0]),
-            "half_sector_change_deg": max(abs(other[1] - sector[1]), abs(other[2] - sector[2])),
+            # None: a crossing fell outside the check's windows (the angles moved more than 0.06 theta)
+            "path_angle_change_deg": abs(other[0] - sector[0]) if found else None,
+            "half_sector_change_deg": max(abs(other[1] - sector[1]), abs(other[2] - sector[2])) if found else None,
             "ddm_change_max": ddm_change,
             "path_points_checked": int(chosen.size),
         }
-        ok &= bool(angle_change <= ANGLE_TOLERANCE_DEG and ddm_change <= DDM_TOLERANCE)
+        ok &= bool(found and angle_change <= ANGLE_TOLERANCE_DEG and ddm_change <= DDM_TOLERANCE)
     out["converged"] = ok
     out["tolerances"] = {"angle_deg": ANGLE_TOLERANCE_DEG, "ddm": DDM_TOLERANCE}
     return out

@@ -101,15 +101,17 @@ def surface_findings(surface: SurfacePrediction, category: str) -> list[Finding]
         out.append(Finding("surface-structure", "pass" if seg.passed else "warning", words))
     conv = surface.converged
     if conv and not conv.get("converged", False):
-        worst = max(v["path_angle_change_deg"] for k, v in conv.items() if isinstance(v, dict) and "facets" in v)
-        ddm = max(v["ddm_change_max"] for k, v in conv.items() if isinstance(v, dict) and "facets" in v)
+        checks = [v for v in conv.values() if isinstance(v, dict) and "facets" in v]
+        moves = [v["path_angle_change_deg"] for v in checks]
+        ddm = max(v["ddm_change_max"] for v in checks)
+        angle = f"by up to {max(moves):.4f} deg" if all(m is not None for m in moves) else "by more than 0.06 theta"
         out.append(
             Finding(
                 "surface-convergence",
                 "info",
-                f"Surface prediction: doubling the sampling or the area moves the path angle by up to "
-                f"{worst:.4f} deg and the DDM beyond 1 NM by up to {ddm:.4f}; read its angles to that "
-                "precision (the bends are less sensitive).",
+                f"Surface prediction: doubling the sampling or the area moves the path angle {angle} and the "
+                f"DDM beyond 1 NM by up to {ddm:.4f}; read its angles to that precision. Where doubling the "
+                "area moves it, the ground beyond the integration area departs from the plane and matters.",
             )
         )
     return out

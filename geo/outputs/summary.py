@@ -237,11 +237,15 @@ def surface_dict(result: StudyResult) -> dict:
     base = result.mast.plane_elevation_m
     thr = result.spec.threshold.elevation_m
     u0, u1, w0, w1 = sp.area_m
+
+    def finite(value):  # None where no crossing was found (JSON has no NaN)
+        return value if math.isfinite(value) else None
+
     return {
-        "path_angle_deg": sp.path_angle_deg,
-        "half_sector_below_deg": sp.half_sector_below_deg,
-        "half_sector_above_deg": sp.half_sector_above_deg,
-        "rdh_m": sp.straight_fit[0] + base - thr,
+        "path_angle_deg": finite(sp.path_angle_deg),
+        "half_sector_below_deg": finite(sp.half_sector_below_deg),
+        "half_sector_above_deg": finite(sp.half_sector_above_deg),
+        "rdh_m": finite(sp.straight_fit[0] + base - thr),
         "converged": sp.converged,
         "structure": [
             {
