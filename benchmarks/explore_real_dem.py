@@ -99,10 +99,15 @@ def main() -> None:
                 verdicts = {v.criterion: ("smooth" if v.smooth else "ROUGH") for v in r.terrain.roughness}
                 bends = ", ".join(f"{s.bend_95_ddm:.4f}" for s in r.surface.structure)
                 diff = r.surface.path_angle_deg - r.prediction.path_angle_deg
+                conv = r.surface.converged
+                moves = "/".join(
+                    "n/a" if conv[k]["path_angle_change_deg"] is None else f"{conv[k]['path_angle_change_deg']:.4f}"
+                    for k in ("sampling_doubled", "area_doubled")
+                )
                 print(
                     f"{i}     {scale:<6g} {r.terrain.plane.rms_residual_m:5.2f}  {verdicts['rayleigh']:8} "
                     f"{verdicts['fraunhofer']:10} {verdicts['iev']:6} | {bends} | {diff:+.4f} "
-                    f"(converged {r.surface.converged.get('converged')}, {time.process_time() - t0:.1f} s CPU)"
+                    f"(angle moves {moves} deg with sampling/area doubled, {time.process_time() - t0:.1f} s CPU)"
                 )
 
 

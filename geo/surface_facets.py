@@ -259,11 +259,12 @@ class SurfaceGrid:
         u0, w0, nu, nw = uu[0], ww[0], uu.size, ww.size
         # Corner heights of every lookup cell side by side, so one gather reads all four.
         corners = np.stack([z[:-1, :-1], z[:-1, 1:], z[1:, :-1], z[1:, 1:]], axis=-1).reshape(-1, 4)
+        corners = corners.astype(np.float32)  # centimetre heights need no more
         inv = 1.0 / step_m
 
         def at(u, w):
-            fu = np.clip((u - u0) * inv, 0.0, nu - 1.000001)
-            fw = np.clip((w - w0) * inv, 0.0, nw - 1.000001)
+            fu = np.clip(((u - u0) * inv).astype(np.float32), 0.0, nu - 1.001)
+            fw = np.clip(((w - w0) * inv).astype(np.float32), 0.0, nw - 1.001)
             i, j = fu.astype(np.int32), fw.astype(np.int32)
             tu, tw = fu - i, fw - j
             c = corners[j * (nu - 1) + i]
