@@ -4,7 +4,7 @@ The DEM is matplotlib's sample ``jacksboro_fault_dem.npz`` (a real 3-arc-second 
 344 x 403 cells; its ``ymin``/``ymax`` fields are swapped, so the sheet's top is taken from the
 larger). Its relief (236-1,076 m) is scaled down about the sheet's mean to airfield-like ground
 by a few factors; at three sites a runway of 2.5 km heading west gets a null-reference glide path
-(mast 120 m right of the centre line, setback solved for a 15 m RDH), and the study reports the
+(mast 120 m right of the centre line, 300 m past the threshold), and the study reports the
 roughness verdicts of the fitted zone (Rayleigh, Fraunhofer, IEV: geo.roughness) beside the
 95 % bends per segment of the surface prediction (geo.surface_prediction). Prints a table;
 never fails. A 3-arc-second DEM has ~90 m posts, so its bilinear surface holds no detail below
@@ -28,7 +28,7 @@ from geo.site import load_site  # noqa: E402
 from geo.study import run_study  # noqa: E402
 
 SITES = [(36.60, -84.25), (36.55, -84.18), (36.66, -84.32)]  # thresholds (lat, lon) inside the sheet
-SCALES = [0.005, 0.01, 0.02, 0.04]
+SCALES = [0.01, 0.04, 0.1, 0.2]
 
 SITE = """
 units = "m"
@@ -43,10 +43,11 @@ angle_deg = 3.0
 localizer_mhz = 110.30
 array = "null-reference"
 category = "I"
-target_rdh = 15.0
+
 [mast]
 side = "right"
 offset = 120
+setback = 300
 [terrain]
 dem = "{dem}"
 """
