@@ -4,16 +4,19 @@ The physical-optics integral of :mod:`geo.optics` runs over facets cut from the 
 surface. This module decides where the integral runs and how finely, and which facets each
 antenna and receiver can see:
 
-- **Area.** The exact first Fresnel zone of every antenna and receiver (:func:`geo.fresnel.
-  exact_ellipses`) is scaled by ``zone_factor`` about its centre; the area is the box around
-  all of them, cut at the mast's foot (``u >= 0``). The weight of each facet falls smoothly to 0
-  over the outer half of the margin between the first zones and the box (a Planck taper,
-  infinitely differentiable, so the cut edge radiates almost nothing [1]_), and rises from 0 at
-  the foot over half the distance to the nearest specular point: the ground right under the
+- **Area.** Each receiver has its own area: the exact first Fresnel zones of the antennas and
+  that receiver (:func:`geo.fresnel.exact_ellipses`) scaled by ``zone_factor`` (3: two zone
+  widths beyond the first zone) about their centres. A facet's weight toward the receiver is 1
+  out to half-way between the first zone and the scaled one and falls to 0 at the scaled one
+  (a Planck taper, infinitely differentiable, so the edge radiates almost nothing [1]_). The
+  facets fill the box around all the areas, cut at the mast's foot (``u >= 0``) and at the
+  DEM's edge (nodes off the DEM count as the plane). Every weight rises from 0 at the foot
+  over half the distance to the nearest specular point: the ground right under the
   antennas holds no specular point for any receiver of the approach, and there the amplitude
   ``1 / r1`` varies on the scale of the antenna height, which a coarse sum aliases.
 - **Sampling.** Each facet integrates the linear part of the phase exactly (its sinc factors,
-  :mod:`geo.optics`); what is left is the quadratic part, ``k d^2 / (8 r)`` at the facet's edge
+  :mod:`geo.optics`), so the rule that the phase move at most pi/8 between samples is applied to
+  what is left, the quadratic part, ``k d^2 / (8 r)`` at the facet's edge
   for a facet of side ``d`` at distance ``r`` from the antenna or the nearest receiver. Facets are
   sized so that it stays below pi/8 (``d <= sqrt(lambda r / 2)``), and never larger than a DEM
   cell, so the bilinear surface is followed cell by cell; on DEMs finer than 2.5 m the facets stay

@@ -17,7 +17,9 @@ with the same facets and tapers for both integrals (the plane's facets on the sa
 shadowing): truncation and discretisation errors cancel in the bracket, and the ground outside
 the integration area (or off the DEM) counts as the plane. Over a plane the bracket vanishes and
 image theory comes back exactly; the raw integral ``direct + PO(surface)`` is kept as an option
-(``method="raw"``) and tested against image theory with its own, wider, stated tolerance.
+(``method="raw"``) and tested against image theory with its own, wider, stated tolerance (over a
+flat plane it misses the path angle by 0.086 deg with the zones scaled 3 times, 0.030 deg with 6:
+the taper over a few Fresnel zones converges slowly).
 
 **Receivers.** The designed path at the points of ``path.csv`` (10 NM to the threshold; the
 integral is taken at points at least ``PATH_STEP_M`` apart and the DDM difference to image theory
@@ -28,7 +30,10 @@ at ``FAR_RANGE_M``.
 
 **Convergence.** The far-field windows and a few path points are computed again with the facet
 sides halved (sampling doubled) and with the zones scaled twice as far (area doubled); the
-changes of path angle, half-sectors and DDM are reported.
+changes of path angle, half-sectors and DDM are reported. With one facet per DEM cell the facets
+resample the DEM (their corners are not its posts), so a DEM with cell-scale roughness moves the
+path angle by about 0.01 deg when the sampling doubles (the demo); where doubling the area moves
+it, the ground beyond the zones departs from the plane and matters (the real-DEM exploration).
 
 A prediction, to be confirmed by flight inspection.
 
@@ -416,6 +421,7 @@ def predict_surface(
             model, heights, cell_m, receivers, subset, along, n_path, windows, scale, ddm_sub, sector, method,
             visibility, zone_factor,
         )  # fmt: skip
+    _SHADING_CACHE.clear()  # let the grids go
     u, w = grid.u_m, grid.w_m
     return SurfacePrediction(
         sector[0],
