@@ -54,7 +54,7 @@ import numpy as np
 
 from geo.ground import reflection_coefficient_h
 
-__all__ = ["Facets", "scattered_field", "direct_field", "horizontal_polarisation", "mirror_points"]
+__all__ = ["Facets", "scattered_field", "ground_fields", "direct_field", "horizontal_polarisation", "mirror_points"]
 
 #: Facet-receiver pairs handled at once (bounds the memory of one chunk: about 16 bytes x 12 arrays each).
 _PAIRS_PER_CHUNK = 400_000
@@ -236,4 +236,187 @@ def scattered_field(
             g = group_of[keep[sl]]
             starts = np.flatnonzero(np.r_[True, g[1:] != g[:-1]])
             out[g[starts]] += np.add.reduceat(term, starts, axis=0)
+    return -1j * k / (4.0 * math.pi) * out
+
+
+#: Facet-receiver pairs of one chunk in :func:`ground_fields` (about 30 arrays of this size live at once).
+_GROUND_PAIRS_PER_CHUNK = 100000
+#: Grazing angles of the table the lossy-ground Fresnel coefficient is interpolated from. [rad]
+_GAMMA_TABLE_RAD = np.linspace(0.0, math.pi / 2.0, 2049)
+
+
+#: Adding and subtracting 1.5 * 2**52 rounds a double to the nearest integer (IEEE 754 round-to-even).
+_ROUND = 1.5 * 2.0**52
+
+
+def _sin_over(x: np.ndarray) -> np.ndarray:
+    """``sin(x) / x`` (1 at 0), in the precision of ``x``.
+
+    Taken as ``sin(|x| + t) / (|x| + t)`` (even, like the function) with a tiny ``t`` (1e-30, far
+    below the precision of any argument that matters), which needs no test for 0.
+    """
+    ax = np.abs(x)
+    ax += ax.dtype.type(1e-30)
+    return np.sin(ax) / ax
+
+
+def ground_fields(
+    sources_m,
+    facets: Facets,
+    receivers_m,
+    wavelength_m: float,
+    relative_permittivity: float | None = None,
+    conductivity_s_m: float | None = None,
+    source_visible=None,
+    horizon_tan=None,
+    pair_weight=None,
+    far: bool = False,
+) -> np.ndarray:
+    """:func:`scattered_field` for one-sided ground facets and several sources at once, faster.
+
+    The same physics and the same coupling ``F_p`` (see the module notes), specialised to ground
+    facets (one-sided, lit and seen from above, so ``t = +1``) and written component by component:
+    with ``X = (s1 x r2)_z`` and ``D = s1_h . r2_h`` (horizontal parts) the coupling is
+    ``[D (n . r2 - n . s1) - X (h1 (n . e) + h2 (n . e_r))] / (h1 h2)``, ``h1, h2`` the horizontal
+    lengths of ``s1`` and ``r2``. Everything on the receiver side (distances, directions, the
+    spherical wave ``exp(-j k r2) / r2``) is computed once per facet-receiver pair and shared by
+    the sources; the sum over facets is a matrix product. For lossy ground the Fresnel
+    coefficient is interpolated from a table of 2,049 grazing angles (its error is below 1e-6).
+
+    Parameters
+    ----------
+    sources_m : array_like, shape (S, 3)
+        Antennas. [m]
+    facets : Facets
+        Ground facets (``two_sided`` must be False).
+    receivers_m : array_like, shape (R, 3)
+        [m]
+    wavelength_m : float
+        [m]
+    relative_permittivity, conductivity_s_m : float or None
+        Ground constants; ``None``: a perfect conductor.
+    source_visible : numpy.ndarray of bool, shape (S, P), optional
+        Whether each facet is lit by each source (terrain shadowing); all by default.
+    horizon_tan : numpy.ndarray, shape (P,), optional
+        Tangent of each facet's horizon toward the receivers: a receiver whose elevation seen from
+        the facet has a smaller tangent is hidden from it. None: every receiver is seen.
+    pair_weight : callable, optional
+        ``pair_weight(facet_slice) -> (receiver_index, weights)``: the receivers the facets of a
+        chunk count for, and the real weights (p, len(receiver_index)) of each pair (e.g. a taper
+        at the edge of each receiver's own integration area); the other receivers are skipped
+        for that chunk, so facets ordered by position make it pay.
+    far : bool
+        ``receivers_m`` are unit directions toward distant receivers: the field is returned in
+        far-field units (``exp(-j k r) / r`` times ``r exp(j k r)``, ``r`` from the origin), where
+        the receiver's wave is ``exp(j k d . c)`` and its direction ``d`` the same for every facet
+        (the limit of large range, in which the spherical form loses nothing but time).
+
+    Returns
+    -------
+    numpy.ndarray of complex, shape (S, R)
+        In the units of each source's direct field ``exp(-j k r) / r`` (far-field units with
+        ``far``).
+
+    References
+    ----------
+    See the module notes ([1]_ to [4]_).
+    """
+    if facets.two_sided:
+        raise ValueError("ground_fields takes one-sided ground facets; use scattered_field for plates")
+    k = 2.0 * math.pi / wavelength_m
+    src = np.atleast_2d(np.asarray(sources_m, dtype=float))
+    rx = np.atleast_2d(np.asarray(receivers_m, dtype=float))
+    out = np.zeros((src.shape[0], rx.shape[0]), dtype=complex)
+    if len(facets) == 0:
+        return out
+    lossy = relative_permittivity is not None
+    if lossy:
+        gamma_table = -reflection_coefficient_h(_GAMMA_TABLE_RAD, relative_permittivity, conductivity_s_m, wavelength_m)
+    n = facets.normals
+    a, b = facets.edge_a_m, facets.edge_b_m
+    weight = facets.areas_m2 * (1.0 if facets.weights is None else facets.weights)
+    # Source side, per source and facet.
+    d1 = facets.centres_m[None, :, :] - src[:, None, :]  # (S, P, 3)
+    r1 = np.linalg.norm(d1, axis=2)
+    s1 = d1 / r1[..., None]
+    ns1 = np.einsum("pj,spj->sp", n, s1)
+    h1 = np.hypot(s1[..., 0], s1[..., 1])
+    ne = (n[None, :, 1] * s1[..., 0] - n[None, :, 0] * s1[..., 1]) / h1  # n . e_inc
+    lit = ns1 < 0.0
+    if source_visible is not None:
+        lit &= np.asarray(source_visible, dtype=bool)
+    amp = np.where(lit, weight[None, :] * np.exp(-1j * k * r1) / r1, 0.0)  # (S, P)
+    s1a = np.einsum("spj,pj->sp", s1, a)
+    s1b = np.einsum("spj,pj->sp", s1, b)
+    f32 = np.float32
+    s1_32, ns1_32, h1_32, ne_32 = s1.astype(f32), ns1.astype(f32), h1.astype(f32), ne.astype(f32)
+    s1a_32, s1b_32 = (0.5 * k * s1a).astype(f32), (0.5 * k * s1b).astype(f32)
+    n32, a32, b32 = n.astype(f32), (0.5 * k * a).astype(f32), (0.5 * k * b).astype(f32)
+    cycles_per_m = 1.0 / wavelength_m
+    chunk = max(1, _GROUND_PAIRS_PER_CHUNK // max(rx.shape[0], 1))
+    for start in range(0, len(facets), chunk):
+        sl = slice(start, start + chunk)
+        if not np.any(amp[:, sl]):
+            continue
+        c = facets.centres_m[sl]
+        cols = slice(None)
+        if pair_weight is not None:
+            cols, pair = pair_weight(sl)
+            if len(cols) == 0:
+                continue
+            pair = np.asarray(pair, dtype=f32)
+        # The phase reduced to [-pi, pi] in double precision (rounding by the 1.5 * 2**52 trick,
+        # far faster than rint), then single precision for the rest of the pair's work.
+        if far:
+            d = rx[cols]
+            turns = -(c @ d.T) * cycles_per_m  # exp(-j k r2) -> exp(+j k d . c)
+            inv_r2 = np.ones(turns.shape, dtype=f32)
+            x, y, z = (np.broadcast_to(d[None, :, i].astype(f32), turns.shape) for i in range(3))
+        else:
+            dx = rx[None, cols, 0] - c[:, 0, None]
+            dy = rx[None, cols, 1] - c[:, 1, None]
+            dz = rx[None, cols, 2] - c[:, 2, None]
+            r2 = np.sqrt(dx * dx + dy * dy + dz * dz)
+            turns = r2 * cycles_per_m
+            inv = 1.0 / r2
+            inv_r2 = inv.astype(f32)
+            x, y, z = (dx * inv).astype(f32), (dy * inv).astype(f32), (dz * inv).astype(f32)
+        turns -= (turns + _ROUND) - _ROUND
+        phase = (2.0 * math.pi * turns).astype(f32)
+        h2 = np.sqrt(x * x + y * y)
+        nn = n32[sl]
+        nr2 = nn[:, 0, None] * x + nn[:, 1, None] * y + nn[:, 2, None] * z
+        seen = nr2 > 0.0  # a ground facet radiates only upward
+        if horizon_tan is not None:
+            seen &= z > horizon_tan[sl, None].astype(f32) * h2
+        ne_rx = nn[:, 1, None] * x - nn[:, 0, None] * y  # h2 (n . e_r)
+        ra = a32[sl, 0, None] * x + a32[sl, 1, None] * y + a32[sl, 2, None] * z
+        rb = b32[sl, 0, None] * x + b32[sl, 1, None] * y + b32[sl, 2, None] * z
+        inv_r2 = np.where(seen, inv_r2, f32(0.0))
+        if pair_weight is not None:
+            inv_r2 *= pair
+        wave_re = np.cos(phase) * inv_r2
+        wave_im = -np.sin(phase) * inv_r2
+        for s in range(src.shape[0]):
+            amp_s = amp[s, sl]
+            if not np.any(amp_s):
+                continue
+            sx, sy = s1_32[s, sl, 0, None], s1_32[s, sl, 1, None]
+            cross = sx * y - sy * x
+            dot = sx * x + sy * y
+            h1s = h1_32[s, sl, None]
+            coupling = (dot * (nr2 - ns1_32[s, sl, None]) - cross * (h1s * ne_32[s, sl, None] + ne_rx)) / (h1s * h2)
+            coupling *= _sin_over(s1a_32[s, sl, None] - ra) * _sin_over(s1b_32[s, sl, None] - rb)
+            if lossy:
+                grazing = 0.5 * (np.arcsin(np.clip(-ns1_32[s, sl, None], 0.0, 1.0)) + np.arcsin(np.clip(nr2, 0.0, 1.0)))
+                g_re = np.interp(grazing, _GAMMA_TABLE_RAD, gamma_table.real).astype(f32)
+                g_im = np.interp(grazing, _GAMMA_TABLE_RAD, gamma_table.imag).astype(f32)
+                m_re = coupling * (g_re * wave_re - g_im * wave_im)
+                m_im = coupling * (g_re * wave_im + g_im * wave_re)
+            else:
+                m_re = coupling * wave_re
+                m_im = coupling * wave_im
+            m_re, m_im = m_re.astype(float), m_im.astype(float)
+            ar, ai = amp_s.real, amp_s.imag
+            out[s, cols] += (ar @ m_re - ai @ m_im) + 1j * (ar @ m_im + ai @ m_re)
     return -1j * k / (4.0 * math.pi) * out

@@ -32,6 +32,7 @@ from geo.protected import ZoneCover, zone_cover
 from geo.roughness import ReceiverFamily, roughness_by_family
 from geo.site import SiteSpec
 from geo.site_errors import naming_site_file
+from geo.surface_prediction import SurfacePrediction
 from geo.surfaces import MastClearance, mast_clearance
 from geo.terrain import TerrainResult, analyse_terrain
 from geo.units import format_length
@@ -197,6 +198,8 @@ class StudyResult:
         Capture-effect arrays: the course with its clearance transmitter (:mod:`geo.clearance`).
     roughness_families : list of ReceiverFamily or None
         Roughness per receiver family with its own grazing angle (with a DEM; :mod:`geo.roughness`).
+    surface : SurfacePrediction or None
+        The path over the DEM surface by physical optics (None without a DEM).
     """
 
     spec: SiteSpec
@@ -222,6 +225,7 @@ class StudyResult:
     below_path: BelowPathCheck | None = None
     capture_effect: CaptureEffectAssessment | None = None
     roughness_families: list[ReceiverFamily] | None = None
+    surface: SurfacePrediction | None = None
 
 
 def channel_of(spec: SiteSpec) -> Channel:
@@ -528,17 +532,23 @@ def run_study(spec: SiteSpec) -> StudyResult:
     found.append(checks.check_predicted_angle(prediction.path_angle_deg, spec.angle_deg))
     below, capture = _below_path(spec, heights, shifts, feeds, lam, gu, gw, prediction)
     found += checks.check_below_path(spec.array, below, capture)
-    families = None
+    families = surface = None
     if terrain is not None:
+        from geo.surface_study import surface_findings, surface_for_study
+
         families = _roughness_families(spec, terrain, lam, setback, offset)
         found.append(checks.check_roughness_families(families))
+        surface = surface_for_study(
+            spec, runway, side, setback, offset, terrain, heights, shifts, feeds, lam, prediction, rdh
+        )
+        found += surface_findings(surface, spec.category)
     if dem_finding is not None:
         found.insert(0, dem_finding)  # the likely cause of every other odd height: shown first
     found = [f for f in found if f is not None]
     return StudyResult(
         spec, channel, lam, runway, mast, antennas, rdh, over_threshold, gpip, found,
         intercept_m, terrain, profile, source, zones, covers, prediction, unshifted, feeds, clearance,
-        below_path=below, capture_effect=capture, roughness_families=families,
+        below_path=below, capture_effect=capture, roughness_families=families, surface=surface,
     )  # fmt: skip
 
 

@@ -24,7 +24,7 @@ def path_columns(result: StudyResult) -> dict[str, np.ndarray]:
         - result.spec.threshold.elevation_m
         + tan * np.hypot(result.mast.setback_m - p.along_m, result.mast.offset_m)
     )
-    return {
+    cols = {
         "along_m": p.along_m,
         "nominal_height_m": p.nominal_z_m + offset,
         "geometric_actual_height_m": geometric,
@@ -33,6 +33,9 @@ def path_columns(result: StudyResult) -> dict[str, np.ndarray]:
         "ddm_on_nominal": p.ddm_nominal,
         "ddm_on_nominal_no_shift": q.ddm_nominal,
     }
+    if result.surface is not None:  # the surface (physical-optics) DDM beside the image-theory one
+        cols["ddm_on_nominal_surface"] = result.surface.ddm_nominal
+    return cols
 
 
 def write_path_csv(result: StudyResult, path: Path) -> None:

@@ -9,7 +9,7 @@ import numpy as np
 from geo.study import StudyResult
 from geo.units import M_PER_FT
 
-__all__ = ["plot_profile", "plot_residuals", "plot_ddm", "plot_path"]
+__all__ = ["plot_profile", "plot_residuals", "plot_ddm", "plot_path", "plot_surface_structure"]
 
 
 def _figure(width_in: float, height_in: float, rows: int = 1):
@@ -184,4 +184,48 @@ def plot_path(result: StudyResult, path: Path) -> None:
         ax.set_xlabel("distance from the threshold along the centre line [m]")
         ax.legend(fontsize=8)
         ax.grid(alpha=0.3)
+    fig.savefig(path, dpi=100)
+
+
+def plot_surface_structure(result: StudyResult, path: Path) -> None:
+    """DDM on the designed path over the DEM surface beside image theory, and the bends against the limits."""
+    from geo.structure import BEND_WINDOW_M
+
+    sp = result.surface
+    fig, axes = _figure(11, 8.5, rows=2)
+    fig.subplots_adjust(left=0.08, right=0.97, top=0.95, bottom=0.07, hspace=0.3)
+    before = sp.along_m < 0.0
+    nm = -sp.along_m[before] / 1852.0
+    ax = axes[0]
+    ax.plot(nm, sp.ddm_image[before], color="#1f5fa8", label="image theory over the plane")
+    ax.plot(nm, sp.ddm_nominal[before], color="#d9480f", lw=0.9, label="physical optics over the DEM surface")
+    ax.axhline(0.0, color="k", lw=0.8)
+    ax.set_xscale("log")
+    ax.invert_xaxis()
+    ax.set_xlabel("distance before the threshold [NM]")
+    ax.set_ylabel("DDM on the designed straight path (+: 150 Hz)")
+    ax.set_title(f"{result.spec.name}: DDM over the surface (a prediction; flight inspection decides)")
+    ax.legend(fontsize=8)
+    ax.grid(alpha=0.3)
+    ax = axes[1]
+    ax.plot(sp.bend_distance_m / 1852.0, sp.bend_ddm, color="#d9480f", lw=0.9, label="bends")
+    for seg in sp.structure:
+        x = np.array([seg.from_m, seg.to_m]) / 1852.0
+        for sign in (1.0, -1.0):
+            ax.plot(x, [sign * seg.limit_ddm] * 2, color="#c92a2a", ls="--", lw=1)
+        ax.annotate(
+            f"{seg.segment}: 95 % {seg.bend_95_ddm:.4f}",
+            (x.mean(), seg.limit_ddm),
+            xytext=(0, 4),
+            textcoords="offset points",
+            ha="center",
+            fontsize=7,
+        )
+    ax.set_xscale("log")
+    ax.invert_xaxis()
+    ax.set_xlabel("distance before the threshold [NM]")
+    ax.set_ylabel(f"bend: DDM minus its {BEND_WINDOW_M:.0f} m quadratic fit")
+    ax.set_title("path bends against the Annex 10 limits (dashed; values from memory, confirm the edition)")
+    ax.legend(fontsize=8)
+    ax.grid(alpha=0.3)
     fig.savefig(path, dpi=100)

@@ -56,6 +56,18 @@ def write_report(result: StudyResult, path: Path, plots: bool) -> None:
                 f"{p.half_sector_below_deg:.4f} / {p.half_sector_above_deg:.4f} deg",
             )
         )
+    if result.surface is not None:
+        sp = result.surface
+        figures.append(
+            (
+                "Path over the DEM surface (physical optics)",
+                f"{sp.path_angle_deg:.4f} deg; half-sectors {sp.half_sector_below_deg:.4f} / "
+                f"{sp.half_sector_above_deg:.4f} deg; 95 % bends "
+                + ", ".join(f"{s.segment} {s.bend_95_ddm:.4f} (limit {s.limit_ddm:.3f})" for s in sp.structure),
+            )
+        )
+    elif result.prediction is not None:
+        figures.append(("Path over the DEM surface", "skipped: no DEM in the site file"))
     if result.terrain is not None:
         t = result.terrain
         figures.append(
@@ -83,6 +95,7 @@ def write_report(result: StudyResult, path: Path, plots: bool) -> None:
     images = ""
     if plots:
         names = ["path.png", "ddm.png"] + (["profile.png", "residuals.png"] if result.profile is not None else [])
+        names += ["surface.png"] if result.surface is not None else []
         images = "".join(f"<p><img src='{n}' alt='{n}'></p>" for n in names)
     page = f"""<!DOCTYPE html>
 <html lang="en"><head><meta charset="utf-8"><title>mastplan study: {html.escape(spec.name)}</title>

@@ -123,6 +123,7 @@ def summary_dict(result: StudyResult) -> dict:
     }
     if result.prediction is not None:
         body["prediction"] = prediction_dict(result)
+        body["prediction"]["surface"] = surface_dict(result)
     if result.terrain is not None:
         body["terrain"] = terrain_dict(result)
     if result.below_path is not None:
@@ -355,3 +356,47 @@ def roughness_families_dict(families) -> list[dict]:
         }
         for f in families
     ]
+
+
+def surface_dict(result: StudyResult) -> dict:
+    """The path over the DEM surface (physical optics), or why it was skipped (metre keys)."""
+    from geo.structure_limits import LIMITS_SOURCE
+    from geo.surface_study import SKIPPED_WITHOUT_DEM
+
+    sp = result.surface
+    if sp is None:
+        return {"skipped": SKIPPED_WITHOUT_DEM}
+    base = result.mast.plane_elevation_m
+    thr = result.spec.threshold.elevation_m
+    u0, u1, w0, w1 = sp.area_m
+
+    def finite(value):  # None where no crossing was found (JSON has no NaN)
+        return value if math.isfinite(value) else None
+
+    return {
+        "path_angle_deg": finite(sp.path_angle_deg),
+        "half_sector_below_deg": finite(sp.half_sector_below_deg),
+        "half_sector_above_deg": finite(sp.half_sector_above_deg),
+        "rdh_m": finite(sp.straight_fit[0] + base - thr),
+        "converged": sp.converged,
+        "structure": [
+            {
+                "segment": s.segment,
+                "from_m": s.from_m,
+                "to_m": s.to_m,
+                "limit_ddm": s.limit_ddm,
+                "bend_95_ddm": s.bend_95_ddm,
+                "pass": s.passed,
+            }
+            for s in sp.structure
+        ],
+        "limits_source": LIMITS_SOURCE,
+        "method": "image over the plane + [PO(surface) - PO(plane)], same facets and tapers"
+        if sp.method == "difference"
+        else "direct + PO(surface)",
+        "facets": sp.facets,
+        "area": {"u_from_m": u0, "u_to_m": u1, "w_from_m": w0, "w_to_m": w1},
+        "off_dem_fraction": sp.off_dem_fraction,
+        "notes": list(sp.notes),
+        "caution": "A physical-optics prediction over the DEM as given; confirmed only by flight inspection.",
+    }

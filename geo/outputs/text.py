@@ -61,7 +61,31 @@ def summary_text(result: StudyResult) -> str:
             f"over the threshold {_len(float(p.path_z_m[-1]) + base - thr)}",
             f"  without proximity shifts: over the threshold {_len(float(q.path_z_m[-1]) + base - thr)}",
         ]
+    lines += surface_lines(result)
     lines += ["Findings:"]
     lines += [f"  [{f.severity}] {f.message}" for f in result.findings]
     lines += ["Caution:"] + [f"  {c}" for c in CAUTIONS]
     return "\n".join(lines)
+
+
+def surface_lines(result: StudyResult) -> list[str]:
+    """The physical-optics prediction over the DEM surface, in one or two lines."""
+    sp = result.surface
+    if result.prediction is None:
+        return []
+    if sp is None:
+        return ["Surface prediction: skipped (no DEM in the site file)"]
+    _len = _lengths(result.spec.units)
+    base = result.mast.plane_elevation_m - result.spec.threshold.elevation_m
+    worst = max(sp.structure, key=lambda s: s.bend_95_ddm / s.limit_ddm) if sp.structure else None
+    bends = (
+        f"largest 95 % bend {worst.bend_95_ddm:.4f} DDM ({worst.segment}, limit {worst.limit_ddm:.3f})"
+        if worst
+        else "no segment"
+    )
+    conv = "converged" if sp.converged.get("converged") else "not converged to 0.002 deg (see summary.json)"
+    return [
+        f"Predicted path over the DEM surface (physical optics): angle {sp.path_angle_deg:.4f} deg, half-sectors "
+        f"{sp.half_sector_below_deg:.4f} / {sp.half_sector_above_deg:.4f} deg, RDH {_len(sp.straight_fit[0] + base)}",
+        f"  {bends}; {conv}",
+    ]

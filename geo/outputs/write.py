@@ -102,6 +102,10 @@ def fill_study(
             plot_residuals(result, folder / "residuals.png")
         plot_ddm(result, folder / "ddm.png")
         plot_path(result, folder / "path.png")
+        if result.surface is not None:
+            from geo.outputs.plots import plot_surface_structure
+
+            plot_surface_structure(result, folder / "surface.png")
     if "report" in chosen:
         from geo.outputs.report import write_report
 

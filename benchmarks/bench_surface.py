@@ -1,0 +1,89 @@
+"""Speed of the surface prediction: receiver-facet pairs per second, and what it adds to the demo.
+
+1. ``geo.optics.ground_fields`` on 20,000 random ground facets and 400 receivers (two antennas),
+   spherical and far (plane-wave) receivers, against ``geo.optics.scattered_field`` (the general
+   kernel, one antenna at a time). A pair is one facet and one receiver for one antenna.
+2. The demo study (demo_airfield) with and without the surface prediction, wall and CPU time
+   of this process (the machine may be shared: CPU time is the steadier figure).
+
+Prints figures; never fails by timing. Requirement for reference (issue 11): the surface
+prediction adds at most 3 s to the demo on a 2-core machine.
+"""
+
+from __future__ import annotations
+
+import os
+import sys
+import time
+from pathlib import Path
+
+import numpy as np
+
+ROOT = Path(__file__).resolve().parents[1]
+sys.path.insert(0, str(ROOT))
+
+from geo.optics import Facets, ground_fields, scattered_field  # noqa: E402
+
+LAM = 0.895
+
+
+def _facets(n: int) -> Facets:
+    rng = np.random.default_rng(1)
+    c = np.column_stack([rng.random(n) * 1000, rng.random(n) * 100 - 50, rng.random(n) * 2])
+    a = np.column_stack([np.full(n, 3.0), np.zeros(n), rng.normal(0, 0.1, n)])
+    b = np.column_stack([np.zeros(n), np.full(n, 3.0), rng.normal(0, 0.1, n)])
+    return Facets(c, a, b, False, rng.random(n))
+
+
+def _timed(func):
+    t0, c0 = time.perf_counter(), time.process_time()
+    out = func()
+    return out, time.perf_counter() - t0, time.process_time() - c0
+
+
+def kernel_figures() -> None:
+    n, r = 20_000, 400
+    f = _facets(n)
+    rx = np.column_stack([np.linspace(300, 18000, r), np.full(r, 120.0), np.linspace(15, 1000, r)])
+    sources = np.array([[0.0, 0.0, 4.47], [0.0, 0.25, 8.95]])
+    pairs = n * r * len(sources)
+    _, wall, cpu = _timed(lambda: ground_fields(sources, f, rx, LAM))
+    print(f"ground_fields, spherical: {pairs / cpu / 1e6:.1f} M pairs/s (CPU), {pairs / wall / 1e6:.1f} (wall)")
+    e = np.radians(np.linspace(2.0, 4.0, r))
+    d = np.column_stack([np.cos(e), 0 * e, np.sin(e)])
+    _, wall, cpu = _timed(lambda: ground_fields(sources, f, d, LAM, far=True))
+    print(f"ground_fields, far:       {pairs / cpu / 1e6:.1f} M pairs/s (CPU), {pairs / wall / 1e6:.1f} (wall)")
+    small = f.subset(np.arange(4000))
+    _, wall, cpu = _timed(lambda: [scattered_field(s, small, rx, LAM) for s in sources])
+    pairs = 4000 * r * len(sources)
+    print(f"scattered_field (general): {pairs / cpu / 1e6:.1f} M pairs/s (CPU), {pairs / wall / 1e6:.1f} (wall)")
+
+
+def demo_figures() -> None:
+    import geo.study as study
+    import geo.surface_study as surface_study
+    from geo.site import load_site
+
+    spec = load_site(ROOT / "demo_airfield" / "site.toml")
+    study.run_study(spec)  # warm caches (transformers, imports)
+    result, wall, cpu = _timed(lambda: study.run_study(spec))
+    keep = surface_study.surface_for_study, surface_study.surface_findings
+    surface_study.surface_for_study = lambda *a, **k: None
+    surface_study.surface_findings = lambda *a, **k: []
+    try:
+        _, wall0, cpu0 = _timed(lambda: study.run_study(spec))
+    finally:
+        surface_study.surface_for_study, surface_study.surface_findings = keep
+    sp = result.surface
+    print(
+        f"demo study: {wall:.2f} s wall / {cpu:.2f} s CPU with the surface prediction, "
+        f"{wall0:.2f} / {cpu0:.2f} without: adds {wall - wall0:.2f} s wall, {cpu - cpu0:.2f} s CPU "
+        f"({sp.facets} facets; convergence check included)"
+    )
+    print(f"  surface path angle {sp.path_angle_deg:.4f} deg, converged: {sp.converged.get('converged')}")
+
+
+if __name__ == "__main__":
+    os.environ.setdefault("OMP_NUM_THREADS", "1")
+    kernel_figures()
+    demo_figures()

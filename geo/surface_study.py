@@ -1,0 +1,117 @@
+"""The surface prediction of one site study: DEM heights in the prediction's frame, and findings.
+
+:func:`surface_for_study` reopens the study's DEM, samples it in the coordinates of
+:mod:`geo.prediction` (``u`` toward the approach from the mast's foot, ``w`` toward the runway,
+``Z`` from the plane's elevation at the foot), runs :func:`geo.surface_prediction.predict_surface`
+with the array and SBO scale of the image prediction, and turns the bends per segment into
+findings against the Annex 10 limits (:mod:`geo.structure_limits`, from memory, labelled so).
+
+References
+----------
+.. [1] ICAO Annex 10, Volume I, 3.1.5.4 (glide path structure), from memory: confirm against
+       the edition in force.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from geo.findings import Finding
+from geo.prediction import ArrayModel
+from geo.structure_limits import LIMITS_SOURCE, structure_segments
+from geo.surface_prediction import SurfacePrediction, predict_surface
+
+__all__ = ["surface_for_study", "surface_findings", "SKIPPED_WITHOUT_DEM"]
+
+SKIPPED_WITHOUT_DEM = "surface prediction skipped: the site file gives no DEM (terrain.dem)"
+
+
+def surface_for_study(
+    spec, runway, side, setback_m, offset_m, terrain, heights_m, shifts_m, feeds, wavelength_m, prediction, rdh_m,
+    check=True,
+) -> SurfacePrediction:  # fmt: skip
+    """The path over the DEM surface for the study's mast, array and image prediction.
+
+    Parameters
+    ----------
+    spec : geo.site.SiteSpec
+    runway : geo.study.Runway
+    side : {"left", "right"}
+    setback_m, offset_m : float
+        Mast position. [m]
+    terrain : geo.terrain.TerrainResult
+        The plane and the DEM cell.
+    heights_m, shifts_m : list of float
+        Antenna heights above the plane and proximity shifts. [m]
+    feeds : tuple
+        (CSB feeds, SBO feeds, source) as the study uses them.
+    wavelength_m : float
+        [m]
+    prediction : geo.prediction.PathPrediction
+        The image prediction (shifted antennas).
+    rdh_m : float
+        The study's RDH (places ILS point C). [m]
+    check : bool
+        Run the convergence check (sampling doubled, area doubled).
+
+    Returns
+    -------
+    SurfacePrediction
+    """
+    from geo.dem import Dem
+
+    p = spec.prediction
+    plane = terrain.plane
+    model = ArrayModel.build(
+        heights_m,
+        shifts_m,
+        feeds[0],
+        feeds[1],
+        wavelength_m,
+        plane.forward_gradient,
+        plane.lateral_gradient,
+        p.relative_permittivity,
+        p.conductivity_s_m,
+        phase_for_angle_deg=spec.angle_deg,
+    )
+    sign = 1.0 if side == "right" else -1.0
+    segments = structure_segments(spec.category, rdh_m, spec.angle_deg)
+    t = spec.terrain
+    with Dem.open(t.dem_path, t.vertical_offset_m, t.vertical_unit) as dem:
+
+        def heights(u, w):
+            along = setback_m - np.asarray(u, float)
+            cross = sign * (offset_m - np.asarray(w, float))
+            return dem.sample_frame(runway.frame, along, cross) - plane.elevation_at_mast_m
+
+        return predict_surface(
+            model, prediction, heights, terrain.cell_size_m, spec.angle_deg, setback_m, offset_m, segments, check=check
+        )
+
+
+def surface_findings(surface: SurfacePrediction, category: str) -> list[Finding]:
+    """One finding per approach segment (bends against the limit) and one on convergence [1]_."""
+    out = []
+    for seg in surface.structure:
+        words = (
+            f"Path bends over the DEM surface, {seg.segment} ({seg.from_m:,.0f} to {seg.to_m:,.0f} m before the "
+            f"threshold): 95 % amplitude {seg.bend_95_ddm:.4f} DDM against {seg.limit_ddm:.3f} DDM for Category "
+            f"{category} ({LIMITS_SOURCE}; physical-optics prediction, confirmed only by flight inspection)."
+        )
+        out.append(Finding("surface-structure", "pass" if seg.passed else "warning", words))
+    conv = surface.converged
+    if conv and not conv.get("converged", False):
+        checks = [v for v in conv.values() if isinstance(v, dict) and "facets" in v]
+        moves = [v["path_angle_change_deg"] for v in checks]
+        ddm = max(v["ddm_change_max"] for v in checks)
+        angle = f"by up to {max(moves):.4f} deg" if all(m is not None for m in moves) else "by more than 0.06 theta"
+        out.append(
+            Finding(
+                "surface-convergence",
+                "info",
+                f"Surface prediction: doubling the sampling or the area moves the path angle {angle} and the "
+                f"DDM beyond 1 NM by up to {ddm:.4f}; read its angles to that precision. Where doubling the "
+                "area moves it, the ground beyond the integration area departs from the plane and matters.",
+            )
+        )
+    return out
