@@ -550,7 +550,7 @@ def check_dem_resolution(cells: int, cell_size_m: float, zone_half_width_m: floa
 _BELOW_PATH_RULE = "Annex 10 Vol I 3.1.5.6.5, from memory: confirm the edition in force"
 
 
-def _below_path_words(check) -> str:
+def below_path_words(check) -> str:
     band = f"{check.down_to_fraction:.2f} theta"
     if check.reach_deg is None:
         return f"the DDM never reaches 0.22 between the path and 0.30 theta (DDM {check.ddm_at_down_to:.3f} at {band})"
@@ -573,7 +573,7 @@ def check_below_path(array: str, course, capture=None) -> list[Finding]:
             Finding(
                 "below-path",
                 severity,
-                f"Below the path ({array}): {_below_path_words(course)} ({_BELOW_PATH_RULE}; {scope}).",
+                f"Below the path ({array}): {below_path_words(course)} ({_BELOW_PATH_RULE}; {scope}).",
             )
         ]
     weak = (
@@ -589,14 +589,14 @@ def check_below_path(array: str, course, capture=None) -> list[Finding]:
         Finding(
             "below-path-course-only",
             "info",
-            f"Below the path, capture-effect course signal alone: {_below_path_words(course)}{weak} ({scope}).",
+            f"Below the path, capture-effect course signal alone: {below_path_words(course)}{weak} ({scope}).",
         ),
         Finding(
             "below-path",
             "pass" if combined.passed else "fail",
             f"Below the path, capture-effect course with its clearance ({d.offset_hz / 1000:g} kHz offset carrier, "
             f"feeds derived in mastplan, capture margin {d.capture_margin_db:.1f} dB; envelope-detector capture): "
-            f"{_below_path_words(combined)} ({_BELOW_PATH_RULE}; {scope}).",
+            f"{below_path_words(combined)} ({_BELOW_PATH_RULE}; {scope}).",
         ),
     ]
 

@@ -57,7 +57,7 @@ from geo.prediction import ArrayModel, PathPrediction, ddm
 from geo.structure import BEND_FILTER, SegmentBends, bends, segment_bends
 from geo.surface_facets import SurfaceGrid, area_limits, surface_grid
 
-__all__ = ["FAR_RANGE_M", "SurfacePrediction", "predict_surface", "surface_fields"]
+__all__ = ["FAR_RANGE_M", "SurfacePrediction", "predict_surface", "surface_fields", "surface_far_ddm"]
 
 #: Range of the far-field receivers (from the foot of the mast). [m]
 FAR_RANGE_M = 200_000.0
@@ -107,6 +107,8 @@ class SurfacePrediction:
     off_dem_fraction : float
         Share of the area's nodes off the DEM (counted as the plane).
     method : str
+    below_path : geo.below_path.BelowPathCheck or None
+        The DDM below the path over the surface (far field; course signal).
     """
 
     path_angle_deg: float
@@ -126,6 +128,7 @@ class SurfacePrediction:
     off_dem_fraction: float = 0.0
     method: str = "difference"
     notes: tuple = (VISIBILITY_NOTE, BEND_FILTER)
+    below_path: object = None
 
 
 def _plane_z(model: ArrayModel, u, w):
@@ -307,6 +310,35 @@ def _wide_sector(model, heights, cell_m, image, angle_deg, scale, method, visibi
         for target, ref in zip((DDM_AT_HALF_SECTOR, 0.0, -DDM_AT_HALF_SECTOR), reference)
     )
     return math.degrees(path), math.degrees(path - below), math.degrees(above - path)
+
+
+def surface_far_ddm(model, heights, cell_m, elevation_rad, sbo_scale: float, zone_factor=ZONE_FACTOR) -> np.ndarray:
+    """Far-field DDM over the surface at elevations on the course (the contract of :mod:`geo.below_path`).
+
+    Parameters
+    ----------
+    model : ArrayModel
+    heights : callable
+        ``heights(u, w) -> Z`` of the ground (NaN off the DEM). [m]
+    cell_m : float
+        DEM cell. [m]
+    elevation_rad : array_like
+        [rad]
+    sbo_scale : float
+        The image prediction's SBO scale.
+
+    Returns
+    -------
+    numpy.ndarray
+        DDM, positive below the path.
+    """
+    e = np.atleast_1d(np.asarray(elevation_rad, dtype=float))
+    receivers = _far_receivers(e)
+    grid = _grid(model, heights, cell_m, receivers, zone_factor=zone_factor)
+    index = np.arange(e.size)
+    c, s = surface_fields(model, grid, receivers / FAR_RANGE_M, rx_index=index, far=True)
+    _SHADING_CACHE.clear()
+    return ddm(c, s, sbo_scale)
 
 
 def _path_subset(along_m):

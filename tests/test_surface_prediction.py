@@ -112,6 +112,11 @@ def test_plane_dem_reproduces_image_theory(tmp_path, write_site, site_text, bx, 
     assert errors[3] <= 0.01
     assert result.surface.converged["converged"]  # nothing to change over a plane
     assert result.surface.off_dem_fraction == 0.0
+    # The DDM below the path over the plane's surface is the image model's (geo.below_path on both).
+    below, image_below = result.surface.below_path, result.below_path
+    assert below.passed == image_below.passed
+    assert below.reach_deg == pytest.approx(image_below.reach_deg, abs=0.01)  # 121 vs 31 samples
+    assert below.ddm_at_down_to == pytest.approx(image_below.ddm_at_down_to, rel=1e-3)
 
 
 def _flat_setup(gu=0.0, gw=0.0, offset=120.0, setback=300.0):
@@ -213,7 +218,7 @@ def test_a_mound_in_the_zone_bends_the_path_and_out_of_it_does_not(tmp_path, wri
             return 510.0 + 2.0 * np.exp(-((x - xm) ** 2 + (y - ym) ** 2) / (2 * 15.0**2))
 
         path = _dem(tmp_path, name, heights)
-        moved = dataclasses.replace(spec, terrain=dataclasses.replace(spec.terrain, dem_path=path))
+        moved = dataclasses.replace(spec, terrain=dataclasses.replace(spec.terrain, dem_path=path, dem_paths=(path,)))
         return surface_for_study(
             moved, result.runway, "right", result.mast.setback_m, result.mast.offset_m, result.terrain,
             result.terrain.heights_m, [a.shift_toward_runway_m for a in result.antennas], result.feeds,
