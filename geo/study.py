@@ -559,20 +559,33 @@ def _feeds(spec: SiteSpec) -> tuple:
     return (p.csb_feed or kind.csb_feed, p.sbo_feed or kind.sbo_feed, source)
 
 
-def _predictions(spec, heights, shifts, feeds, lam, gu, gw, setback, offset, intercept_z):
-    """The predicted path with the proximity shifts and without them (same SBO level)."""
+def array_model(spec: SiteSpec, heights, shifts, feeds, lam: float, gu: float, gw: float) -> ArrayModel:
+    """The study's array over its plane: antennas, feeds, ground constants, slope phasing.
+
+    The one place the study's :class:`geo.prediction.ArrayModel` is built; the image prediction, the
+    check below the path and the surface prediction all use it.
+    """
     p = spec.prediction
-    build = dict(
-        wavelength_m=lam,
+    return ArrayModel.build(
+        heights,
+        shifts,
+        feeds[0],
+        feeds[1],
+        lam,
         forward_gradient=gu,
         lateral_gradient=gw,
         relative_permittivity=p.relative_permittivity,
         conductivity_s_m=p.conductivity_s_m,
         phase_for_angle_deg=spec.angle_deg,
     )
+
+
+def _predictions(spec, heights, shifts, feeds, lam, gu, gw, setback, offset, intercept_z):
+    """The predicted path with the proximity shifts and without them (same SBO level)."""
+    p = spec.prediction
     try:
         shifted = predict_path(
-            ArrayModel.build(heights, shifts, feeds[0], feeds[1], **build),
+            array_model(spec, heights, shifts, feeds, lam, gu, gw),
             spec.angle_deg,
             setback,
             offset,
@@ -580,7 +593,7 @@ def _predictions(spec, heights, shifts, feeds, lam, gu, gw, setback, offset, int
             p.half_sector,
         )
         unshifted = predict_path(
-            ArrayModel.build(heights, [0.0] * len(heights), feeds[0], feeds[1], **build),
+            array_model(spec, heights, [0.0] * len(heights), feeds, lam, gu, gw),
             spec.angle_deg,
             setback,
             offset,
@@ -615,18 +628,7 @@ def _dem_source_details(source, dem, frame, side, setback, offset, terrain, dem_
 def _below_path(spec, heights, shifts, feeds, lam, gu, gw, prediction):
     """The course DDM below the path, and for capture-effect arrays the course with its clearance."""
     p = spec.prediction
-    model = ArrayModel.build(
-        heights,
-        shifts,
-        feeds[0],
-        feeds[1],
-        lam,
-        forward_gradient=gu,
-        lateral_gradient=gw,
-        relative_permittivity=p.relative_permittivity,
-        conductivity_s_m=p.conductivity_s_m,
-        phase_for_angle_deg=spec.angle_deg,
-    )
+    model = array_model(spec, heights, shifts, feeds, lam, gu, gw)
     kind = array_type(spec.array)
     if kind.clearance_csb_feed:
         try:

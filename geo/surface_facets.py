@@ -268,7 +268,9 @@ class SurfaceGrid:
         def at(u, w):
             fu = np.clip(((u - u0) * inv).astype(np.float32), 0.0, nu - 1.001)
             fw = np.clip(((w - w0) * inv).astype(np.float32), 0.0, nw - 1.001)
-            i, j = fu.astype(np.int32), fw.astype(np.int32)
+            # Clipped again as integers: in single precision nu - 1.001 can round up to nu - 1.
+            i = np.minimum(fu.astype(np.int32), nu - 2)
+            j = np.minimum(fw.astype(np.int32), nw - 2)
             tu, tw = fu - i, fw - j
             c = corners[j * (nu - 1) + i]
             near = c[..., 0] + (c[..., 1] - c[..., 0]) * tu

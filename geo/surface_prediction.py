@@ -107,8 +107,9 @@ class SurfacePrediction:
     off_dem_fraction : float
         Share of the area's nodes off the DEM (counted as the plane).
     method : str
-    below_path : geo.below_path.BelowPathCheck or None
-        The DDM below the path over the surface (far field; course signal).
+    below_path : geo.below_path.BelowPathCheck, str or None
+        The DDM below the path over the surface (far field; course signal); a str says why it was
+        not computed.
     """
 
     path_angle_deg: float
@@ -312,7 +313,13 @@ def _wide_sector(model, heights, cell_m, image, angle_deg, scale, method, visibi
     return math.degrees(path), math.degrees(path - below), math.degrees(above - path)
 
 
-def surface_far_ddm(model, heights, cell_m, elevation_rad, sbo_scale: float, zone_factor=ZONE_FACTOR) -> np.ndarray:
+class AreaTooLarge(ValueError):
+    """The receivers' integration area needs more facets than allowed."""
+
+
+def surface_far_ddm(
+    model, heights, cell_m, elevation_rad, sbo_scale: float, zone_factor=ZONE_FACTOR, max_facets: int = 2_000_000
+) -> np.ndarray:
     """Far-field DDM over the surface at elevations on the course (the contract of :mod:`geo.below_path`).
 
     Parameters
@@ -326,15 +333,28 @@ def surface_far_ddm(model, heights, cell_m, elevation_rad, sbo_scale: float, zon
         [rad]
     sbo_scale : float
         The image prediction's SBO scale.
+    zone_factor : float
+        Each receiver's area: its first Fresnel zones scaled by this.
+    max_facets : int
+        Largest number of facets computed (low receivers over ground rising toward the approach
+        have very long zones).
 
     Returns
     -------
     numpy.ndarray
         DDM, positive below the path.
+
+    Raises
+    ------
+    AreaTooLarge
+        When the area needs more than ``max_facets`` facets.
     """
     e = np.atleast_1d(np.asarray(elevation_rad, dtype=float))
     receivers = _far_receivers(e)
     grid = _grid(model, heights, cell_m, receivers, zone_factor=zone_factor)
+    facets = (grid.u_m.size - 1) * (grid.w_m.size - 1)
+    if facets > max_facets:
+        raise AreaTooLarge(f"{facets:,} facets (more than {max_facets:,})")
     index = np.arange(e.size)
     c, s = surface_fields(model, grid, receivers / FAR_RANGE_M, rx_index=index, far=True)
     _SHADING_CACHE.clear()

@@ -20,9 +20,8 @@ import numpy as np
 
 from geo.below_path import check_below_path
 from geo.findings import Finding, below_path_words
-from geo.prediction import ArrayModel
 from geo.structure_limits import LIMITS_SOURCE, structure_segments
-from geo.surface_prediction import SurfacePrediction, predict_surface, surface_far_ddm
+from geo.surface_prediction import AreaTooLarge, SurfacePrediction, predict_surface, surface_far_ddm
 from geo.units import format_length
 
 __all__ = ["surface_for_study", "surface_findings", "SKIPPED_WITHOUT_DEM"]
@@ -70,21 +69,11 @@ def surface_for_study(
     SurfacePrediction
     """
     from geo.dem import Dem
+    from geo.study import array_model
 
     p = spec.prediction
     plane = terrain.plane
-    model = ArrayModel.build(
-        heights_m,
-        shifts_m,
-        feeds[0],
-        feeds[1],
-        wavelength_m,
-        plane.forward_gradient,
-        plane.lateral_gradient,
-        p.relative_permittivity,
-        p.conductivity_s_m,
-        phase_for_angle_deg=spec.angle_deg,
-    )
+    model = array_model(spec, heights_m, shifts_m, feeds, wavelength_m, plane.forward_gradient, plane.lateral_gradient)
     sign = 1.0 if side == "right" else -1.0
     segments = structure_segments(spec.category, rdh_m, spec.angle_deg)
     t = spec.terrain
@@ -99,15 +88,18 @@ def surface_for_study(
             model, prediction, heights, terrain.cell_size_m, spec.angle_deg, setback_m, offset_m, segments, check=check
         )
         # The DDM below the path over the surface too (Annex 10 Vol I 3.1.5.6.5, from memory).
-        below = check_below_path(
-            lambda e: surface_far_ddm(
-                model, heights, terrain.cell_size_m, e, prediction.sbo_scale, zone_factor=BELOW_PATH_ZONE_FACTOR
-            ),
-            spec.angle_deg,
-            surface.path_angle_deg if np.isfinite(surface.path_angle_deg) else prediction.path_angle_deg,
-            p.below_path_down_to,
-            samples=BELOW_PATH_SAMPLES,
-        )
+        try:
+            below = check_below_path(
+                lambda e: surface_far_ddm(
+                    model, heights, terrain.cell_size_m, e, prediction.sbo_scale, zone_factor=BELOW_PATH_ZONE_FACTOR
+                ),
+                spec.angle_deg,
+                surface.path_angle_deg if np.isfinite(surface.path_angle_deg) else prediction.path_angle_deg,
+                p.below_path_down_to,
+                samples=BELOW_PATH_SAMPLES,
+            )
+        except AreaTooLarge as exc:  # said in a finding (surface_findings)
+            below = str(exc)
     return replace(surface, below_path=below)
 
 
@@ -122,7 +114,17 @@ def surface_findings(surface: SurfacePrediction, category: str, unit: str = "m")
             f"{category} ({LIMITS_SOURCE}; physical-optics prediction, confirmed only by flight inspection)."
         )
         out.append(Finding("surface-structure", "pass" if seg.passed else "warning", words))
-    if surface.below_path is not None:
+    if isinstance(surface.below_path, str):
+        out.append(
+            Finding(
+                "surface-below-path",
+                "info",
+                f"Below the path over the DEM surface: not computed, the zones of the lowest receivers need "
+                f"{surface.below_path}; the image model's check stands (ground rising toward the approach makes "
+                "them long).",
+            )
+        )
+    elif surface.below_path is not None:
         out.append(
             Finding(
                 "surface-below-path",

@@ -8,29 +8,9 @@ import re
 import numpy as np
 import pytest
 from click.testing import CliRunner
-from tests_support import DEMO_SITE
+from tests_support import DEMO_SITE, FEET_SITE
 
 from cli.main import main
-
-#: A flat site in feet (invented values).
-FEET_SITE = """
-units = "ft"
-[site]
-name = "Flat strip in feet"
-[runway]
-threshold = { lat = -35.41, lon = 148.92, elevation = 1680 }
-end = { lat = -35.42, lon = 148.95, elevation = 1690 }
-width = 150
-code = 4
-[glide_path]
-angle_deg = 3.0
-localizer_mhz = 109.30
-array = "null-reference"
-[mast]
-side = "right"
-offset = 400
-setback = 1000
-"""
 
 
 def _run(*args):
@@ -118,7 +98,9 @@ def test_ties_are_broken_and_explained():
 
 
 def test_near_feasible_candidates_with_their_grading(tmp_path):
-    res = _run("sweep", DEMO_SITE, "--out", tmp_path / "iev", "--criterion", "iev", "--no-plots")
+    # A small grid, so that fewer than ten candidates are feasible and the near-feasible ones are listed.
+    grid = ("--setback", 330, 360, 10, "--offset", 100, 150, 25)
+    res = _run("sweep", DEMO_SITE, "--out", tmp_path / "iev", "--criterion", "iev", "--no-plots", *grid)
     assert res.exit_code == 0, res.output
     summary = json.loads((tmp_path / "iev" / "summary.json").read_text())
     near = summary["near_feasible"]

@@ -4,30 +4,10 @@ import re
 import textwrap
 
 import pytest
-from tests_support import BASE_SITE
+from tests_support import BASE_SITE, FEET_SITE
 
 from geo.errors import SiteFileError
 from geo.units import format_area, format_length, format_number, format_volume, from_unit, to_unit
-
-#: A flat site written in feet (invented values): BASE_SITE's runway, the mast 1,000 ft past the
-#: threshold and 400 ft from the centre line.
-FEET_SITE = """
-units = "ft"
-[site]
-name = "Test strip in feet"
-[runway]
-threshold = { lat = -35.41, lon = 148.92, elevation = 1680 }
-end = { lat = -35.42, lon = 148.95, elevation = 1690 }
-width = 150
-[glide_path]
-angle_deg = 3.0
-localizer_mhz = 109.30
-array = "null-reference"
-[mast]
-side = "right"
-offset = 400
-setback = 1000
-"""
 
 # Lengths in one unit followed by the other in brackets, e.g. "1,000.0 ft (304.8 m)".
 _METRES_FIRST = re.compile(r"\d m \(\S+ ft\)")

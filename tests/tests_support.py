@@ -23,3 +23,23 @@ offset = 130
 setback = 290
 base_elevation = 511.2
 """
+
+#: A flat site in feet (invented values): the mast 1,000 ft past the threshold, 400 ft from the centre line.
+FEET_SITE = """
+units = "ft"
+[site]
+name = "Flat strip in feet"
+[runway]
+threshold = { lat = -35.41, lon = 148.92, elevation = 1680 }
+end = { lat = -35.42, lon = 148.95, elevation = 1690 }
+width = 150
+code = 4
+[glide_path]
+angle_deg = 3.0
+localizer_mhz = 109.30
+array = "null-reference"
+[mast]
+side = "right"
+offset = 400
+setback = 1000
+"""

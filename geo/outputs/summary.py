@@ -397,6 +397,9 @@ def surface_dict(result: StudyResult) -> dict:
         "facets": sp.facets,
         "area": {"u_from_m": u0, "u_to_m": u1, "w_from_m": w0, "w_to_m": w1},
         "off_dem_fraction": sp.off_dem_fraction,
+        "below_path": {"computed": False, "reason": sp.below_path}
+        if isinstance(sp.below_path, str)
+        else ({"computed": True, **_below_path_check(sp.below_path)} if sp.below_path is not None else None),
         "notes": list(sp.notes),
         "caution": "A physical-optics prediction over the DEM as given; confirmed only by flight inspection.",
     }
