@@ -19,11 +19,26 @@ def run_site(
     from geo.study import run_study
 
     chosen = check_outputs(outputs.split(",")) if outputs else OUTPUTS
-    result = run_study(load_site(site_path))
-    folder = write_study(result, out_dir, overwrite=overwrite, plots=plots, outputs=chosen)
+    spec = load_site(site_path)
+    with _background(chosen, plots) as background:
+        result = run_study(spec)
+        folder = write_study(result, out_dir, overwrite=overwrite, plots=plots, outputs=chosen, background=background)
     if not quiet:
         click.echo(summary_text(result))
         click.echo(f"Results written to {folder}")
+
+
+def _background(chosen, plots: bool):
+    """A writer process for the plots and the GeoPackage, started before the study.
+
+    It imports their libraries while the study runs; a no-op context when neither is written.
+    """
+    import contextlib
+
+    from geo.outputs.background import BackgroundWriter
+
+    slow = [name for name in ("plots", "gpkg") if name in chosen and (plots or name != "plots")]
+    return BackgroundWriter(slow) if slow else contextlib.nullcontext()
 
 
 @click.command("run")

@@ -147,9 +147,9 @@ class Gpip:
     lon_deg: float
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, kw_only=True)
 class StudyResult:
-    """Everything one site study computes.
+    """Everything one site study computes (built by keyword: there are many fields).
 
     Attributes
     ----------
@@ -432,9 +432,27 @@ def run_study(spec: SiteSpec) -> StudyResult:
     found.append(checks.check_predicted_angle(prediction.path_angle_deg, spec.angle_deg))
     found = [f for f in found if f is not None]
     return StudyResult(
-        spec, channel, lam, runway, mast, antennas, rdh, over_threshold, gpip, found,
-        intercept_m, terrain, profile, source, zones, covers, prediction, unshifted, feeds, clearance,
-    )  # fmt: skip
+        spec=spec,
+        channel=channel,
+        wavelength_m=lam,
+        runway=runway,
+        mast=mast,
+        antennas=antennas,
+        rdh_m=rdh,
+        path_height_over_threshold_m=over_threshold,
+        gpip=gpip,
+        findings=found,
+        intercept_elevation_m=intercept_m,
+        terrain=terrain,
+        profile=profile,
+        terrain_source=source,
+        zones=zones,
+        zone_covers=covers,
+        prediction=prediction,
+        prediction_no_shift=unshifted,
+        feeds=feeds,
+        mast_clearance=clearance,
+    )
 
 
 def _feeds(spec: SiteSpec) -> tuple:
