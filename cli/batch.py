@@ -52,7 +52,7 @@ def batch(
     from geo.outputs.batch_out import write_batch
 
     job_list = jobs_from_paths(sites)  # every input checked before anything is written
-    with progress_bar(len(job_list), "Studying sites", quiet) as progress:
+    with progress_bar("Studying sites", quiet, total=len(job_list)) as progress:
         folder, records = write_batch(
             job_list, out_dir, overwrite, plots=plots, workers=jobs, inputs=list(sites), progress=progress
         )

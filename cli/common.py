@@ -85,22 +85,35 @@ def check_fail_on(severities, level: str | None, what: str = "") -> None:
 
 
 @contextlib.contextmanager
-def progress_bar(total: int, label: str, quiet: bool):
+def progress_bar(label: str, quiet: bool, total: int | None = None):
     """A progress bar with the time left, on stderr when it is a terminal and not ``--quiet``.
 
     Yields the callback the library takes, ``progress(done, total)``, or ``None`` when no bar is
-    shown.
+    shown. With ``total`` the bar shows at once; otherwise at the first call of the callback.
     """
-    if quiet or not sys.stderr.isatty() or total <= 0:
+    if quiet or not sys.stderr.isatty():
         yield None
         return
-    with click.progressbar(length=total, label=label, file=sys.stderr, show_eta=True, show_pos=True) as bar:
+    bars = []
 
-        def update(done: int, _total: int) -> None:
-            if done > bar.pos:
-                bar.update(done - bar.pos)
+    def start(length: int):
+        bar = click.progressbar(length=length, label=label, file=sys.stderr, show_eta=True, show_pos=True)
+        bar.__enter__()
+        bars.append(bar)
+        return bar
 
+    def update(done: int, length: int) -> None:
+        bar = bars[0] if bars else start(length)
+        if done > bar.pos:
+            bar.update(done - bar.pos)
+
+    if total:
+        start(total)
+    try:
         yield update
+    finally:
+        for bar in bars:
+            bar.__exit__(None, None, None)
 
 
 class _Terminated(BaseException):

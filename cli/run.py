@@ -6,11 +6,26 @@ from pathlib import Path
 
 import click
 
-from cli.common import out_option, outputs_option, overwrite_option, plots_option, quiet_option, reports_errors
+from cli.common import (
+    check_fail_on,
+    fail_on_option,
+    out_option,
+    outputs_option,
+    overwrite_option,
+    plots_option,
+    quiet_option,
+    reports_errors,
+)
 
 
 def run_site(
-    site_path: Path, out_dir: str, overwrite: bool, quiet: bool, plots: bool = True, outputs: str | None = None
+    site_path: Path,
+    out_dir: str,
+    overwrite: bool,
+    quiet: bool,
+    plots: bool = True,
+    outputs: str | None = None,
+    fail_on: str | None = None,
 ) -> None:
     """Load, study, write and report one site (shared by ``run`` and ``demo``)."""
     from geo.outputs.text import summary_text
@@ -26,6 +41,7 @@ def run_site(
     if not quiet:
         click.echo(summary_text(result))
         click.echo(f"Results written to {folder}")
+    check_fail_on([f.severity for f in result.findings], fail_on)
 
 
 def _background(chosen, plots: bool):
@@ -47,11 +63,12 @@ def _background(chosen, plots: bool):
 @overwrite_option
 @plots_option
 @outputs_option
+@fail_on_option
 @quiet_option
 @reports_errors
-def run(site: Path, out_dir: str, overwrite: bool, plots: bool, outputs: str, quiet: bool) -> None:
+def run(site: Path, out_dir: str, overwrite: bool, plots: bool, outputs: str, fail_on: str | None, quiet: bool) -> None:
     """Study one glide path site from a SITE file (TOML).
 
-    Example: mastplan run site.toml --out results/
+    Example: mastplan run site.toml --out results/ --fail-on fail
     """
-    run_site(site, out_dir, overwrite, quiet, plots, outputs)
+    run_site(site, out_dir, overwrite, quiet, plots, outputs, fail_on)

@@ -311,7 +311,7 @@ def _grading(grid: _SideGrid, row_index, i_lo, i_hi, w_rows, setback, a, b, c, t
     return cut, fill, area
 
 
-def run_sweep(spec: SiteSpec, options: SweepOptions) -> SweepResult:
+def run_sweep(spec: SiteSpec, options: SweepOptions, progress=None) -> SweepResult:
     """Evaluate every candidate of ``options`` for the runway of ``spec``.
 
     Parameters
@@ -319,6 +319,9 @@ def run_sweep(spec: SiteSpec, options: SweepOptions) -> SweepResult:
     spec : SiteSpec
         The site (its [mast] table is ignored; its terrain, channel, array and angle are used).
     options : SweepOptions
+    progress : callable, optional
+        Called as ``progress(done, total)`` after each step of the terrain work (the command line
+        draws a progress bar with it; the library prints nothing).
 
     Returns
     -------
@@ -391,6 +394,7 @@ def run_sweep(spec: SiteSpec, options: SweepOptions) -> SweepResult:
             )
         approach = prof.along_m <= 0.0
         worst = np.nanmin(-prof.along_m[approach] * tan - prof.terrain_m[approach])
+        steps, done = len(grids) * (_ITERATIONS + 1), 0
         for sg, grid in grids.items():
             sel = np.flatnonzero(sign == sg)
             # Row slots per candidate: the widest flat-ground zone, with room for the slopes to widen it.
@@ -427,6 +431,8 @@ def run_sweep(spec: SiteSpec, options: SweepOptions) -> SweepResult:
                 moved = np.nan_to_num(np.abs(new - heights[idx]).max(axis=1), nan=0.0)
                 heights[idx] = new
                 active = active[moved >= 1e-3]
+                done += 1
+                _report(progress, done, steps)
                 if active.size == 0:
                     break
             # Grading in each candidate's last zone, against its fitted plane.
@@ -434,6 +440,8 @@ def run_sweep(spec: SiteSpec, options: SweepOptions) -> SweepResult:
             psi = theta - np.degrees(np.arctan(gu[sel]))
             tol = lam / (criterion * np.sin(np.radians(psi)))
             cut[sel], fill[sel], area[sel] = _grading(grid, rows, i_lo, i_hi, w_rows, setback[sel], a, b, cc, tol)
+            done = (done // (_ITERATIONS + 1) + 1) * (_ITERATIONS + 1)  # this side's steps are all done
+            _report(progress, done, steps)
         rpi = plane_at_mast + gw * offset
         # Clearance at x: rpi + (s - x) tan(theta) - T(x); its minimum over the approach.
         min_clearance = rpi + setback * tan + worst
@@ -465,7 +473,7 @@ def run_sweep(spec: SiteSpec, options: SweepOptions) -> SweepResult:
         if not low <= rdh[k] <= high:
             why.append(f"RDH {rdh[k]:.2f} m outside {low:g}-{high:g} m")
         if margins[options.roughness_criterion][k] < 0:
-            why.append(f"rough by the {options.roughness_criterion} criterion")
+            why.append(f"rough by the {_CRITERION_NAMES[options.roughness_criterion]} criterion")
         if clearance.penetrates[k]:
             why.append("mast penetrates an Annex 14 surface")
         if np.isfinite(min_clearance[k]) and min_clearance[k] < required:
@@ -554,3 +562,12 @@ def best_site(spec: SiteSpec, sweep: SweepResult) -> SiteSpec | None:
         base_elevation_m=spec.mast.base_elevation_m if spec.terrain is None else None,
     )
     return dataclasses.replace(spec, mast=mast)
+
+
+#: The criteria as a reason names them.
+_CRITERION_NAMES = {"rayleigh": "Rayleigh", "fraunhofer": "Fraunhofer", "iev": "IEV"}
+
+
+def _report(progress, done: int, total: int) -> None:
+    if progress is not None:
+        progress(done, total)
