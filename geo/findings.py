@@ -43,6 +43,7 @@ __all__ = [
     "check_zone_cover",
     "check_predicted_angle",
     "check_mast_clearance",
+    "check_approach_clearance",
 ]
 
 SEVERITIES = ("pass", "info", "warning", "fail")
@@ -231,7 +232,7 @@ def check_roughness(verdicts) -> list[Finding]:
 
 def check_clearance(min_clearance_m: float, along_m: float, required_m: float) -> Finding:
     """Smallest height of the straight path above the approach terrain."""
-    where = f"{-along_m:,.0f} m before the threshold"
+    where = f"{abs(along_m):,.0f} m before the threshold"
     if min_clearance_m >= required_m:
         return Finding(
             "clearance",
@@ -306,4 +307,38 @@ def check_mast_clearance(clearance, spec) -> Finding:
         "mast-clearance",
         "info" if strip else "pass",
         f"The top of the mast ({_ft(top)} above the centre line) {clear}.{strip} Surfaces: {spec.source}.",
+    )
+
+
+def _long(value_m: float) -> str:
+    return f"{value_m:,.0f} m ({value_m / M_PER_FT:,.0f} ft)"
+
+
+def check_approach_clearance(
+    min_clearance_m: float, along_m: float, required_m: float, covered_m: float, range_m: float = 18_520.0
+) -> Finding:
+    """:func:`check_clearance`, saying how much of the approach the DEM covered.
+
+    The approach to check reaches the coverage limit, 10 NM (18,520 m) before the threshold
+    (Annex 10 Vol I 3.1.5.3.1). When the DEM stops short of it, the terrain farther out was not
+    checked: a clearance that passes becomes a warning.
+
+    Parameters
+    ----------
+    min_clearance_m, along_m, required_m : float
+        As :func:`check_clearance`. [m]
+    covered_m : float
+        How far before the threshold the DEM reaches. [m]
+    range_m : float
+        How far the approach should be checked. [m]
+    """
+    found = check_clearance(min_clearance_m, along_m, required_m)
+    if covered_m >= range_m - 1.0:
+        return Finding(found.code, found.severity, f"{found.message} Checked over the whole {_long(range_m)} to 10 NM.")
+    return Finding(
+        found.code,
+        "fail" if found.severity == "fail" else "warning",
+        f"{found.message} Checked over {_long(covered_m)} of the {_long(range_m)} to 10 NM only: the DEM "
+        "stops short, and the approach beyond it is unchecked; give a DEM that reaches 10 NM before "
+        "the threshold, or check the terrain farther out another way.",
     )

@@ -23,7 +23,7 @@ from geo.path import (
     setback_for_rdh_m,
 )
 from geo.prediction import ArrayModel, PathPrediction, predict_path
-from geo.profile import ApproachProfile, approach_profile
+from geo.profile import PROFILE_RANGE_M, ApproachProfile, approach_profile
 from geo.protected import ZoneCover, zone_cover
 from geo.site import SiteSpec
 from geo.surfaces import MastClearance, mast_clearance
@@ -410,7 +410,13 @@ def run_study(spec: SiteSpec) -> StudyResult:
             found.append(checks.check_base_elevation(file_base, terrain.ground_at_mast_m))
         found += checks.check_roughness(terrain.roughness)
         found.append(
-            checks.check_clearance(profile.min_clearance_m, profile.min_clearance_along_m, spec.terrain.min_clearance_m)
+            checks.check_approach_clearance(
+                profile.min_clearance_m,
+                profile.min_clearance_along_m,
+                spec.terrain.min_clearance_m,
+                profile.approach_covered_m,
+                PROFILE_RANGE_M,
+            )
         )
     gu, gw = (terrain.plane.forward_gradient, terrain.plane.lateral_gradient) if terrain else (0.0, 0.0)
     zones = reflection_zones(roles, heights, shifts, setback, offset, spec.angle_deg, lam, gu, gw)
