@@ -170,3 +170,59 @@ def test_protected_areas_layer_and_cover(tmp_path, write_site, site_text):
         )
     )
     assert small.zone_covers[0].outside_percent == pytest.approx(100.0)
+
+
+def _digest(folder):
+    import hashlib
+
+    return {
+        str(p.relative_to(folder)): hashlib.sha256(p.read_bytes()).hexdigest()
+        for p in sorted(folder.rglob("*"))
+        if p.is_file()
+    }
+
+
+def test_a_background_writer_writes_the_same_bytes(tmp_path):
+    # Independent method: the same outputs written in one process, against plots and GeoPackage
+    # written in the worker process.
+    from demo_airfield import SITE_FILE
+    from geo.outputs.background import BackgroundWriter
+
+    result = run_study(load_site(SITE_FILE))
+    alone = write_study(result, tmp_path / "alone")
+    with BackgroundWriter(["plots", "gpkg"]) as background:
+        beside = write_study(result, tmp_path / "beside", background=background)
+    assert _digest(alone) == _digest(beside) and "profile.png" in _digest(beside)
+
+
+def _broken_plots(result, folder):
+    (folder / "half.png").write_bytes(b"half")
+    raise OSError(28, "No space left on device")
+
+
+def test_an_error_in_the_background_writer_leaves_nothing_behind(tmp_path, written, monkeypatch):
+    import geo.outputs.plots as plots
+    from geo.outputs.background import BackgroundWriter
+
+    result, _ = written
+    monkeypatch.setattr(plots, "write_plots", _broken_plots)  # the forked worker runs this one
+    with BackgroundWriter(["plots"]) as background:
+        with pytest.raises(OSError, match="No space left"):
+            write_study(result, tmp_path / "fresh", background=background)
+    assert not (tmp_path / "fresh").exists()
+    assert not [p for p in tmp_path.iterdir() if p.name.startswith(".fresh.")]
+
+
+def test_a_background_writer_stopped_at_once_ends(tmp_path):
+    # A study that fails right after the writer starts stops it within microseconds of the fork:
+    # the stop must end the worker every time (a lost SIGTERM once left the caller waiting).
+    import time
+
+    from geo.outputs.background import BackgroundWriter
+
+    start = time.monotonic()
+    for _ in range(20):
+        writer = BackgroundWriter(["plots", "gpkg"])
+        writer.stop()
+        assert not writer._proc.is_alive()
+    assert time.monotonic() - start < 60
