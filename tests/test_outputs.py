@@ -226,3 +226,25 @@ def test_a_background_writer_stopped_at_once_ends(tmp_path):
         writer.stop()
         assert not writer._proc.is_alive()
     assert time.monotonic() - start < 60
+
+
+def test_writers_import_folium_and_pyogrio_without_pandas(tmp_path):
+    # In a fresh process: the map and the GeoPackage writer's libraries come without pandas, and
+    # pandas stays importable for anyone else afterwards.
+    import subprocess
+    import sys
+
+    code = (
+        "import sys\n"
+        "from geo.outputs.imports import import_without_dataframes\n"
+        "folium = import_without_dataframes('folium')\n"
+        "raw = import_without_dataframes('pyogrio.raw')\n"
+        "assert 'pandas' not in sys.modules and 'geopandas' not in sys.modules, sorted(sys.modules)\n"
+        "import folium.utilities\n"
+        "assert folium.utilities.pd is None and callable(raw.write)\n"
+        "import pandas\n"
+        "assert pandas.DataFrame({'a': [1]}).shape == (1, 1)\n"
+        "print('ok')\n"
+    )
+    proc = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=120)
+    assert proc.returncode == 0 and proc.stdout.strip() == "ok", proc.stderr

@@ -271,8 +271,9 @@ def write_map(result: StudyResult, layers: dict[str, dict], path: Path) -> None:
         The study's GeoJSON FeatureCollections (:func:`geo.outputs.geojson.study_layers`).
     path : Path
     """
-    import folium
+    from geo.outputs.imports import import_without_dataframes
 
+    folium = import_without_dataframes("folium")  # folium takes pandas only to accept data frames
     mast = result.mast
     fmap = folium.Map(location=[mast.lat_deg, mast.lon_deg], zoom_start=15, tiles=None, control_scale=True)
     fmap.default_js = []
