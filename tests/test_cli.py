@@ -223,3 +223,17 @@ def test_sweep_shows_progress_only_on_a_terminal(tmp_path):
     assert code == 0 and b"Sweeping candidates" not in shown
     res = CliRunner().invoke(main, [*map(str, args), "--out", str(tmp_path / "s3")])
     assert res.exit_code == 0 and "Sweeping candidates" not in res.output
+
+
+def test_sweep_reasons_name_the_iev_criterion_in_capitals(tmp_path):
+    import csv
+
+    from demo_airfield import SITE_FILE
+
+    # The demo's reflection zone is rough by the IEV criterion (IEC 60050-705, IEV 705-04-15: the
+    # demo study's finding shows RMS 0.188 m against a 0.179 m limit), so its neighbours are too.
+    args = ["sweep", str(SITE_FILE), "--setback", "300", "320", "20", "--offset", "110", "130", "20", "--no-plots"]
+    res = CliRunner().invoke(main, [*args, "--criterion", "iev", "--side", "right", "-q", "--out", str(tmp_path / "s")])
+    assert res.exit_code == 0, res.output
+    reasons = [r["reasons"] for r in csv.DictReader((tmp_path / "s" / "sweep.csv").open())]
+    assert any("rough by the IEV criterion" in r for r in reasons) and not any("iev criterion" in r for r in reasons)
