@@ -8,11 +8,14 @@ floor on 2 cores.
 
 Then variants: without plots, the study with only its summary and GeoJSON layers (the site-study
 core's outputs), and that on flat ground (the demo site with its [terrain] table removed).
-Prints figures; never fails by timing.
+Prints figures; never fails by timing. Other work on the machine slows every figure: the load
+average is printed with them.
 """
 
 from __future__ import annotations
 
+import os
+import resource
 import statistics
 import subprocess
 import sys
@@ -26,10 +29,16 @@ RUNS = 7
 FLOOR = "import numpy, pyproj, shapely, rasterio"
 
 
-def _once(args: list[str]) -> float:
+def _once(args: list[str], cpu: list[float] | None = None) -> float:
+    """Wall time of one run; its CPU time (every process it started) appended to ``cpu``."""
+    before = resource.getrusage(resource.RUSAGE_CHILDREN)
     start = time.perf_counter()
     subprocess.run([sys.executable, *args], check=True, cwd=ROOT)
-    return time.perf_counter() - start
+    wall = time.perf_counter() - start
+    after = resource.getrusage(resource.RUSAGE_CHILDREN)
+    if cpu is not None:
+        cpu.append(after.ru_utime + after.ru_stime - before.ru_utime - before.ru_stime)
+    return wall
 
 
 def _run_args(site: Path, tmp: str, *extra: str) -> list[str]:
@@ -43,13 +52,18 @@ def _line(label: str, t: list[float]) -> str:
 def main() -> None:
     with tempfile.TemporaryDirectory() as tmp:
         _once(_run_args(SITE, tmp))  # warm the file cache and the bytecode
-        floor, full = [], []
+        floor, full, cpu = [], [], []
         for _ in range(RUNS):
             floor.append(_once(["-c", FLOOR]))
-            full.append(_once(_run_args(SITE, tmp)))
+            full.append(_once(_run_args(SITE, tmp), cpu))
         print(_line(f'import floor (python -c "{FLOOR}")', floor))
         print(_line("mastplan run (demo site, every output)", full))
         print(f"full run / import floor (medians): {statistics.median(full) / statistics.median(floor):.2f}")
+        print(
+            f"full run CPU time, all processes: median {statistics.median(cpu):.3f} s "
+            f"(CPU / wall {statistics.median(cpu) / statistics.median(full):.2f}: above 1 where processes overlap)"
+        )
+        print(f"load average at the end (1 min): {os.getloadavg()[0]:.2f} on {os.cpu_count()} CPUs")
 
         flat = Path(tmp) / "flat.toml"
         flat.write_text(SITE.read_text().split("[terrain]")[0])
