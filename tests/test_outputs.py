@@ -248,3 +248,13 @@ def test_writers_import_folium_and_pyogrio_without_pandas(tmp_path):
     )
     proc = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=120)
     assert proc.returncode == 0 and proc.stdout.strip() == "ok", proc.stderr
+
+
+def test_what_does_not_pickle_runs_in_this_process(tmp_path):
+    from geo.outputs.background import BackgroundWriter
+
+    ran = []
+    with BackgroundWriter(["plots"]) as background:
+        background.submit(lambda x: ran.append(x), 7)  # a lambda does not pickle: it runs here
+        background.wait()
+    assert ran == [7]

@@ -18,8 +18,10 @@ from __future__ import annotations
 
 import importlib
 import multiprocessing
+import pickle
 import signal
 from collections.abc import Callable, Sequence
+from multiprocessing.reduction import ForkingPickler
 
 from geo.outputs.imports import import_without_dataframes
 
@@ -99,8 +101,16 @@ class BackgroundWriter:
         self._pending = 0
 
     def submit(self, func: Callable, *args) -> None:
-        """Run ``func(*args)`` in the worker (``func`` must be a module-level function)."""
-        self._conn.send((func, args))
+        """Run ``func(*args)`` in the worker (``func`` must be a module-level function).
+
+        What cannot be sent to the worker (an argument that does not pickle) runs here at once.
+        """
+        try:
+            data = ForkingPickler.dumps((func, args))
+        except (pickle.PicklingError, TypeError, AttributeError):
+            func(*args)
+            return
+        self._conn.send_bytes(data)
         self._pending += 1
 
     def wait(self) -> None:
