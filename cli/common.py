@@ -7,6 +7,7 @@ naming the field and the fix, and no traceback.
 
 from __future__ import annotations
 
+import contextlib
 import functools
 import os
 import sys
@@ -42,12 +43,77 @@ outputs_option = click.option(
     help="Comma-separated outputs to write: summary, layers, gpkg, kml, map, tables, plots, report.",
 )
 quiet_option = click.option("--quiet", "-q", is_flag=True, help="Print nothing on success.")
+fail_on_option = click.option(
+    "--fail-on",
+    type=click.Choice(["fail", "warning"]),
+    default=None,
+    help="Exit with code 1 when a finding at this level or worse exists "
+    "(fail: a standard not met; warning: also a recommendation not met). The results are written.",
+)
 
 
 def fail(message: str, code: int) -> None:
     """Print one line on stderr and exit."""
     click.echo(f"mastplan: {message}", err=True)
     sys.exit(code)
+
+
+def check_fail_on(severities, level: str | None, what: str = "") -> None:
+    """Exit with code 1 when ``--fail-on LEVEL`` was given and a finding at that level or worse exists.
+
+    Parameters
+    ----------
+    severities : iterable of str
+        The severities of the findings (``pass``, ``info``, ``warning``, ``fail``).
+    level : str or None
+        The ``--fail-on`` value; ``None`` checks nothing.
+    what : str
+        Where the findings are, for the message (e.g. ``" in 2 sites"``).
+    """
+    if level is None:
+        return
+    from geo.findings import SEVERITIES
+
+    worse = SEVERITIES[SEVERITIES.index(level) :]
+    counts = {s: 0 for s in worse}
+    for s in severities:
+        if s in counts:
+            counts[s] += 1
+    if sum(counts.values()):
+        found = ", ".join(f"{n} {s}" for s, n in reversed(counts.items()) if n)
+        fail(f"findings at level {level} or worse{what}: {found} (--fail-on {level})", EXIT_FAILED)
+
+
+@contextlib.contextmanager
+def progress_bar(label: str, quiet: bool, total: int | None = None):
+    """A progress bar with the time left, on stderr when it is a terminal and not ``--quiet``.
+
+    Yields the callback the library takes, ``progress(done, total)``, or ``None`` when no bar is
+    shown. With ``total`` the bar shows at once; otherwise at the first call of the callback.
+    """
+    if quiet or not sys.stderr.isatty():
+        yield None
+        return
+    bars = []
+
+    def start(length: int):
+        bar = click.progressbar(length=length, label=label, file=sys.stderr, show_eta=True, show_pos=True)
+        bar.__enter__()
+        bars.append(bar)
+        return bar
+
+    def update(done: int, length: int) -> None:
+        bar = bars[0] if bars else start(length)
+        if done > bar.pos:
+            bar.update(done - bar.pos)
+
+    if total:
+        start(total)
+    try:
+        yield update
+    finally:
+        for bar in bars:
+            bar.__exit__(None, None, None)
 
 
 class _Terminated(BaseException):

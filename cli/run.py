@@ -6,11 +6,26 @@ from pathlib import Path
 
 import click
 
-from cli.common import out_option, outputs_option, overwrite_option, plots_option, quiet_option, reports_errors
+from cli.common import (
+    check_fail_on,
+    fail_on_option,
+    out_option,
+    outputs_option,
+    overwrite_option,
+    plots_option,
+    quiet_option,
+    reports_errors,
+)
 
 
 def run_site(
-    site_path: Path, out_dir: str, overwrite: bool, quiet: bool, plots: bool = True, outputs: str | None = None
+    site_path: Path,
+    out_dir: str,
+    overwrite: bool,
+    quiet: bool,
+    plots: bool = True,
+    outputs: str | None = None,
+    fail_on: str | None = None,
 ) -> None:
     """Load, study, write and report one site (shared by ``run`` and ``demo``)."""
     from geo.outputs.text import summary_text
@@ -19,11 +34,27 @@ def run_site(
     from geo.study import run_study
 
     chosen = check_outputs(outputs.split(",")) if outputs else OUTPUTS
-    result = run_study(load_site(site_path))
-    folder = write_study(result, out_dir, overwrite=overwrite, plots=plots, outputs=chosen)
+    spec = load_site(site_path)
+    with _background(chosen, plots) as background:
+        result = run_study(spec)
+        folder = write_study(result, out_dir, overwrite=overwrite, plots=plots, outputs=chosen, background=background)
     if not quiet:
         click.echo(summary_text(result))
         click.echo(f"Results written to {folder}")
+    check_fail_on([f.severity for f in result.findings], fail_on)
+
+
+def _background(chosen, plots: bool):
+    """A writer process for the plots and the GeoPackage, started before the study.
+
+    It imports their libraries while the study runs; a no-op context when neither is written.
+    """
+    import contextlib
+
+    from geo.outputs.background import BackgroundWriter
+
+    slow = [name for name in ("plots", "gpkg") if name in chosen and (plots or name != "plots")]
+    return BackgroundWriter(slow) if slow else contextlib.nullcontext()
 
 
 @click.command("run")
@@ -32,11 +63,12 @@ def run_site(
 @overwrite_option
 @plots_option
 @outputs_option
+@fail_on_option
 @quiet_option
 @reports_errors
-def run(site: Path, out_dir: str, overwrite: bool, plots: bool, outputs: str, quiet: bool) -> None:
+def run(site: Path, out_dir: str, overwrite: bool, plots: bool, outputs: str, fail_on: str | None, quiet: bool) -> None:
     """Study one glide path site from a SITE file (TOML).
 
-    Example: mastplan run site.toml --out results/
+    Example: mastplan run site.toml --out results/ --fail-on fail
     """
-    run_site(site, out_dir, overwrite, quiet, plots, outputs)
+    run_site(site, out_dir, overwrite, quiet, plots, outputs, fail_on)

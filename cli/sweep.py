@@ -6,7 +6,18 @@ from pathlib import Path
 
 import click
 
-from cli.common import out_option, overwrite_option, plots_option, quiet_option, reports_errors
+from cli.common import (
+    EXIT_FAILED,
+    check_fail_on,
+    fail,
+    fail_on_option,
+    out_option,
+    overwrite_option,
+    plots_option,
+    progress_bar,
+    quiet_option,
+    reports_errors,
+)
 
 #: Default grids in the site file's unit: FROM, TO, STEP (the FAA AIM 1-1-9 typical ranges,
 #: 750-1,250 ft down the runway and 250-650 ft from the centre line, in round steps of each unit).
@@ -88,6 +99,7 @@ def _surveyed_side(spec) -> str:
 )
 @overwrite_option
 @plots_option
+@fail_on_option
 @quiet_option
 @reports_errors
 def sweep(
@@ -101,9 +113,13 @@ def sweep(
     rdh_band,
     overwrite: bool,
     plots: bool,
+    fail_on: str | None,
     quiet: bool,
 ) -> None:
     """Try every mast position of a grid beside the runway of SITE and rank the feasible ones.
+
+    With --fail-on, the exit code is 1 when the best candidate's study has a finding at that
+    level or worse, or when no candidate is feasible.
 
     Example: mastplan sweep site.toml --out sweep/ --setback 230 380 5 --offset 80 200 20
     """
@@ -130,10 +146,11 @@ def sweep(
     options = SweepOptions(
         setbacks, offsets, ("left", "right") if side == "both" else (side,), band, roughness_criterion=criterion
     )
-    if solve_setback:
-        result, options, _ = solve_setbacks(spec, options)
-    else:
-        result = run_sweep(spec, options)
+    with progress_bar("Sweeping candidates", quiet) as progress:
+        if solve_setback:
+            result, options, _ = solve_setbacks(spec, options)
+        else:
+            result = run_sweep(spec, options, progress=progress)
     add_ranks(result, options, spec)
     best_spec = best_site(spec, result)
     best = run_study(best_spec) if best_spec is not None else None
@@ -143,3 +160,7 @@ def sweep(
         click.echo(f"Score: {SCORE_TEXT}")
         click.echo(f"Ranking: {RANK_TEXT}")
         click.echo(f"Results written to {folder}")
+    if fail_on is not None:
+        if best is None:
+            fail(f"no feasible candidate (--fail-on {fail_on})", EXIT_FAILED)
+        check_fail_on([f.severity for f in best.findings], fail_on, " in the best candidate's study")

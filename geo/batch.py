@@ -1,40 +1,23 @@
-"""Batch studies: many site files, or one CSV of runways, on a local process pool.
+"""Batch inputs: the sites of a batch, from site files and CSV files of runways.
 
-Each site is studied and written to its own folder; a failing site is recorded with its one-line
-error and does not stop the others. The caller gets one record per site (status, key figures,
-the layers for a combined GeoPackage).
+This module reads and checks what a batch is given (one :class:`Job` per site) and never writes;
+:mod:`geo.outputs.batch_out` runs the jobs and writes their results. A problem with the inputs as
+a whole (a missing file, a file given twice, a CSV without rows or with a column a CSV cannot
+carry) raises :class:`~geo.errors.SiteFileError` before anything is written; a problem with one
+site is that site's own failure when it runs.
 """
 
 from __future__ import annotations
 
 import csv
+import hashlib
 import re
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Any
 
-from geo.errors import MastplanError, SiteFileError
+from geo.errors import SiteFileError
 
-__all__ = ["Job", "SiteRecord", "jobs_from_paths", "run_job", "INDEX_FIELDS"]
-
-#: Columns of the index CSV (lengths get foot twins).
-INDEX_FIELDS = (
-    "site",
-    "folder",
-    "status",
-    "error",
-    "rdh_m",
-    "path_height_over_threshold_m",
-    "gpip_along_m",
-    "setback_m",
-    "offset_m",
-    "lower_height_m",
-    "upper_height_m",
-    "upper_shift_m",
-    "findings_fail",
-    "findings_warning",
-)
-_COMBINED_LAYERS = ("runway", "mast", "antennas", "gpip", "reflection_zones")
+__all__ = ["Job", "jobs_from_csv", "jobs_from_paths", "slug", "site_spec"]
 
 
 @dataclass(frozen=True)
@@ -51,24 +34,16 @@ class Job:
         Parsed site document (a CSV row).
     base_dir : Path
         Folder for relative paths in ``doc``.
+    sha256 : str
+        For a CSV row: SHA-256 of the CSV's header line and the row's line(s), each ending in a
+        newline, as UTF-8 (a site file's hash is taken when it is read).
     """
 
     label: str
     path: Path | None = None
     doc: dict | None = None
     base_dir: Path = field(default_factory=Path)
-
-
-@dataclass
-class SiteRecord:
-    """What came of one job."""
-
-    label: str
-    folder: str
-    status: str
-    error: str = ""
-    figures: dict[str, Any] = field(default_factory=dict)
-    layers: dict[str, dict] = field(default_factory=dict)
+    sha256: str = ""
 
 
 def _convert(text: str):
@@ -80,36 +55,135 @@ def _convert(text: str):
     return text
 
 
+#: Keys whose values are lists or arrays of tables in a site file; a CSV cell cannot hold them.
+_NOT_IN_CSV = {
+    "protected_area": "protected areas are an array of tables ([[protected_area]])",
+    "csb_feed": "feeds are a list of numbers, one per antenna",
+    "sbo_feed": "feeds are a list of numbers, one per antenna",
+    "outline": "an outline is a list of points",
+}
+
+
+def _check_column(key: str, source: str) -> None:
+    parts = key.split(".")
+    for part in parts:
+        reason = _NOT_IN_CSV.get(part)
+        if reason is None and part.isdigit():
+            reason = "a numbered column stands for a list item"
+        if reason is not None:
+            raise SiteFileError(
+                key,
+                f"cannot be given in a CSV: {reason}; write this runway as a site file (.toml) "
+                "and give it to mastplan batch beside the CSV",
+                source,
+            )
+
+
+def _records(text: str):
+    """``(header line, [(row line(s), fields), ...])`` of a CSV text (a quoted cell may span lines)."""
+    lines = text.splitlines(keepends=True)
+    reader = csv.reader(lines)
+    out, used = [], 0
+    for fields in reader:
+        raw = "".join(lines[used : reader.line_num])
+        used = reader.line_num
+        out.append((raw, fields))
+    if not out:
+        return "", []
+    return out[0][0], out[1:]
+
+
+def _row_sha256(header: str, raw: str) -> str:
+    text = header.rstrip("\r\n") + "\n" + raw.rstrip("\r\n") + "\n"
+    return hashlib.sha256(text.encode("utf-8")).hexdigest()
+
+
 def jobs_from_csv(path: Path) -> list[Job]:
-    """One job per CSV row; columns are dotted site-file keys (``runway.threshold.lat``)."""
+    """One job per CSV row; columns are dotted site-file keys (``runway.threshold.lat``).
+
+    Raises
+    ------
+    SiteFileError
+        When the file cannot be read, has no rows under its header, or has a column that a CSV
+        cannot carry (a list or an array of tables of the site file).
+    """
+    try:
+        text = path.read_text(encoding="utf-8-sig")
+    except UnicodeDecodeError:
+        raise SiteFileError("", "the CSV is not UTF-8 text; save it as UTF-8", str(path)) from None
+    except OSError as exc:
+        raise SiteFileError("", f"cannot read the CSV ({exc.strerror or exc})", str(path)) from None
+    header_raw, rows = _records(text)
+    header = next(csv.reader([header_raw]), []) if header_raw else []
+    keys = [k.strip() for k in header]
+    for key in keys:
+        if key:
+            _check_column(key, str(path))
+    rows = [(raw, fields) for raw, fields in rows if any(f.strip() for f in fields)]
+    if not rows:
+        raise SiteFileError(
+            "", "no runway rows under the header; add one row per runway (site file keys as columns)", str(path)
+        )
     jobs = []
-    with path.open(newline="", encoding="utf-8") as fh:
-        for i, row in enumerate(csv.DictReader(fh), start=2):
-            doc: dict = {}
-            for key, value in row.items():
-                if key is None or value is None or value.strip() == "":
-                    continue
-                parts = key.strip().split(".")
-                node = doc
-                for part in parts[:-1]:
-                    node = node.setdefault(part, {})
-                    if not isinstance(node, dict):
-                        raise SiteFileError(key, f"column clashes with another column in {path.name}")
-                node[parts[-1]] = _convert(value.strip())
-            label = str(doc.get("site", {}).get("name", f"{path.stem} row {i}"))
-            jobs.append(Job(label=f"{label} ({path.name} row {i})", doc=doc, base_dir=path.parent))
+    for i, (raw, fields) in enumerate(rows, start=2):
+        doc: dict = {}
+        for key, value in zip(keys, fields):
+            if not key or value.strip() == "":
+                continue
+            parts = key.split(".")
+            node = doc
+            for part in parts[:-1]:
+                node = node.setdefault(part, {})
+                if not isinstance(node, dict):
+                    raise SiteFileError(key, "column clashes with another column", str(path))
+            node[parts[-1]] = _convert(value.strip())
+        site = doc.get("site")
+        name = site.get("name") if isinstance(site, dict) else None
+        label = str(name if name is not None else f"{path.stem} row {i}")
+        jobs.append(
+            Job(
+                label=f"{label} ({path.name} row {i})",
+                doc=doc,
+                base_dir=path.parent,
+                sha256=_row_sha256(header_raw, raw),
+            )
+        )
     return jobs
 
 
 def jobs_from_paths(paths) -> list[Job]:
-    """Jobs for site files (``.toml``) and CSV files of runways (``.csv``)."""
-    jobs = []
+    """Jobs for site files (``.toml``) and CSV files of runways (``.csv``).
+
+    Raises
+    ------
+    SiteFileError
+        When no file is given, a file does not exist, or the same file is given twice.
+    """
+    jobs, seen = [], {}
     for p in map(Path, paths):
+        if not p.is_file():
+            what = "is a folder; give site files (.toml) or CSV files" if p.is_dir() else "no such file"
+            raise SiteFileError("", f"{what}; check the path", str(p))
+        key = p.resolve()
+        if key in seen:
+            raise SiteFileError("", f"given twice (also as {seen[key]}); give each file once", str(p))
+        seen[key] = str(p)
         if p.suffix.lower() == ".csv":
             jobs += jobs_from_csv(p)
         else:
             jobs.append(Job(label=p.name, path=p))
+    if not jobs:
+        raise SiteFileError("", "no sites given; name site files (.toml) or CSV files of runways")
     return jobs
+
+
+def site_spec(job: Job):
+    """The validated :class:`~geo.site.SiteSpec` of a job (raises SiteFileError)."""
+    from geo.site import load_site, parse_site
+
+    if job.path is not None:
+        return load_site(job.path)
+    return parse_site(job.doc, source=job.label, sha256=job.sha256, base_dir=job.base_dir)
 
 
 def slug(text: str, taken: set[str]) -> str:
@@ -120,51 +194,3 @@ def slug(text: str, taken: set[str]) -> str:
         name, n = f"{base}-{n}", n + 1
     taken.add(name.lower())
     return name
-
-
-def run_job(job: Job, folder: str, plots: bool) -> SiteRecord:
-    """Study one site and write it into ``folder`` (which must not exist); never raises."""
-    from geo.outputs.geojson import study_layers
-    from geo.outputs.write import fill_study
-    from geo.site import load_site, parse_site
-    from geo.study import run_study
-
-    try:
-        spec = (
-            load_site(job.path)
-            if job.path is not None
-            else parse_site(job.doc, source=job.label, base_dir=job.base_dir)
-        )
-        result = run_study(spec)
-        Path(folder).mkdir()
-        fill_study(result, Path(folder), plots)
-    except MastplanError as exc:
-        return SiteRecord(job.label, Path(folder).name, "failed", str(exc))
-    except Exception as exc:  # one site's bug must not stop the batch
-        return SiteRecord(job.label, Path(folder).name, "failed", f"internal error: {type(exc).__name__}: {exc}")
-    severities = [f.severity for f in result.findings]
-    figures = {
-        "rdh_m": result.rdh_m,
-        "path_height_over_threshold_m": result.path_height_over_threshold_m,
-        "gpip_along_m": result.gpip.along_m,
-        "setback_m": result.mast.setback_m,
-        "offset_m": result.mast.offset_m,
-        "lower_height_m": result.antennas[0].height_m,
-        "upper_height_m": result.antennas[-1].height_m,
-        "upper_shift_m": result.antennas[-1].shift_toward_runway_m,
-        "findings_fail": severities.count("fail"),
-        "findings_warning": severities.count("warning"),
-    }
-    layers = {k: v for k, v in study_layers(result).items() if k in _COMBINED_LAYERS}
-    return SiteRecord(job.label, Path(folder).name, "done", "", figures, layers)
-
-
-def combined_layers(records: list[SiteRecord]) -> dict[str, dict]:
-    """The layers of every done site in one collection per layer, each feature tagged with its site."""
-    out: dict[str, dict] = {}
-    for rec in records:
-        for name, fc in rec.layers.items():
-            features = out.setdefault(name, {"type": "FeatureCollection", "features": []})["features"]
-            for f in fc["features"]:
-                features.append({**f, "properties": {"site": rec.label, "folder": rec.folder, **f["properties"]}})
-    return out

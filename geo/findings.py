@@ -47,6 +47,7 @@ __all__ = [
     "check_roughness_families",
     "check_plane_solve",
     "check_solved_setback",
+    "check_approach_clearance",
 ]
 
 SEVERITIES = ("pass", "info", "warning", "fail")
@@ -667,4 +668,43 @@ def check_solved_setback(rdh_m: float, target_rdh_m: float, tolerance_m: float =
         f"RDH {_ft(rdh_m)} differs from the target {_ft(target_rdh_m)} by {rdh_m - target_rdh_m:+.2f} m at the "
         "solved setback: the RDH jumps with the setback here, as the reflecting plane changes with the zone; "
         "compare nearby setbacks (mastplan sweep) and give mast.setback.",
+    )
+
+
+def check_approach_clearance(
+    min_clearance_m: float,
+    along_m: float,
+    required_m: float,
+    covered_m: float,
+    range_m: float = 18_520.0,
+    unit: str = "m",
+) -> Finding:
+    """:func:`check_clearance`, saying how much of the approach the DEM covered.
+
+    The approach to check reaches the coverage limit, 10 NM (18,520 m) before the threshold
+    (Annex 10 Vol I 3.1.5.3.1). When the DEM stops short of it, the terrain farther out was not
+    checked: a clearance that passes becomes a warning.
+
+    Parameters
+    ----------
+    min_clearance_m, along_m, required_m : float
+        As :func:`check_clearance`. [m]
+    covered_m : float
+        How far before the threshold the DEM reaches. [m]
+    range_m : float
+        How far the approach should be checked. [m]
+    unit : {"m", "ft"}
+        The site file's unit, shown first.
+    """
+    found = check_clearance(min_clearance_m, along_m, required_m, unit=unit)
+    if covered_m >= range_m - 1.0:
+        return Finding(
+            found.code, found.severity, f"{found.message} Checked over the whole {_ft(range_m, unit, 0)} to 10 NM."
+        )
+    return Finding(
+        found.code,
+        "fail" if found.severity == "fail" else "warning",
+        f"{found.message} Checked over {_ft(covered_m, unit, 0)} of the {_ft(range_m, unit, 0)} to 10 NM only: the DEM "
+        "stops short, and the approach beyond it is unchecked; give a DEM that reaches 10 NM before "
+        "the threshold, or check the terrain farther out another way.",
     )

@@ -46,6 +46,9 @@ class ApproachProfile:
     min_clearance_along_m : float
         Where that is. [m]
     spacing_m : float
+    approach_covered_m : float
+        How far before the threshold the DEM reaches without a gap: the approach the clearance
+        check covered, at most :data:`PROFILE_RANGE_M`. [m]
     """
 
     along_m: np.ndarray
@@ -57,6 +60,7 @@ class ApproachProfile:
     min_clearance_m: float
     min_clearance_along_m: float
     spacing_m: float
+    approach_covered_m: float = 0.0
 
     @property
     def clearance_m(self) -> np.ndarray:
@@ -124,4 +128,5 @@ def approach_profile(
         float(clearance[i]),
         float(along[approach][i]),
         float(spacing_m),
+        approach_covered_m=float(max(0.0, -along[0])),
     )

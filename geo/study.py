@@ -27,7 +27,7 @@ from geo.path import (
     setback_for_rdh_m,
 )
 from geo.prediction import ArrayModel, PathPrediction, far_field_ddm, predict_path
-from geo.profile import ApproachProfile, approach_profile
+from geo.profile import PROFILE_RANGE_M, ApproachProfile, approach_profile
 from geo.protected import ZoneCover, zone_cover
 from geo.roughness import ReceiverFamily, roughness_by_family
 from geo.site import SiteSpec
@@ -155,9 +155,9 @@ class Gpip:
     lon_deg: float
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, kw_only=True)
 class StudyResult:
-    """Everything one site study computes.
+    """Everything one site study computes (built by keyword: there are many fields).
 
     Attributes
     ----------
@@ -502,10 +502,12 @@ def run_study(spec: SiteSpec) -> StudyResult:
             checks.check_dem_resolution(source.cells_in_zone, terrain.cell_size_m, terrain.zone.max_half_width_m)
         )
         found.append(
-            checks.check_clearance(
+            checks.check_approach_clearance(
                 profile.min_clearance_m,
                 profile.min_clearance_along_m,
                 spec.terrain.min_clearance_m,
+                profile.approach_covered_m,
+                PROFILE_RANGE_M,
                 unit=spec.units,
             )
         )
@@ -546,10 +548,31 @@ def run_study(spec: SiteSpec) -> StudyResult:
         found.insert(0, dem_finding)  # the likely cause of every other odd height: shown first
     found = [f for f in found if f is not None]
     return StudyResult(
-        spec, channel, lam, runway, mast, antennas, rdh, over_threshold, gpip, found,
-        intercept_m, terrain, profile, source, zones, covers, prediction, unshifted, feeds, clearance,
-        below_path=below, capture_effect=capture, roughness_families=families, surface=surface,
-    )  # fmt: skip
+        spec=spec,
+        channel=channel,
+        wavelength_m=lam,
+        runway=runway,
+        mast=mast,
+        antennas=antennas,
+        rdh_m=rdh,
+        path_height_over_threshold_m=over_threshold,
+        gpip=gpip,
+        findings=found,
+        intercept_elevation_m=intercept_m,
+        terrain=terrain,
+        profile=profile,
+        terrain_source=source,
+        zones=zones,
+        zone_covers=covers,
+        prediction=prediction,
+        prediction_no_shift=unshifted,
+        feeds=feeds,
+        mast_clearance=clearance,
+        below_path=below,
+        capture_effect=capture,
+        roughness_families=families,
+        surface=surface,
+    )
 
 
 def _feeds(spec: SiteSpec) -> tuple:

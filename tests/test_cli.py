@@ -1,6 +1,7 @@
 """The command line: exit codes, one-line messages, no tracebacks."""
 
 import json
+import re
 import subprocess
 import sys
 
@@ -152,3 +153,89 @@ def test_sweep_command_refuses_a_bad_range(tmp_path):
 
     res = _run("sweep", str(SITE_FILE), "--out", str(tmp_path / "s"), "--setback", "300", "200", "10")
     assert res.exit_code == 2 and "--setback" in res.output and len(res.output.strip().splitlines()) == 1
+
+
+@pytest.mark.parametrize(
+    "level, category, code, message",
+    [
+        # The test site's RDH is 14.40 m, below 15-18 m: a warning for Category I, where that band is
+        # recommended (Annex 10 Vol I 3.1.5.1.5), a fail for Category II, where it is the standard
+        # (3.1.5.1.4). Its other findings are passes and infos.
+        ("fail", "I", 0, None),
+        ("warning", "I", 1, "1 warning (--fail-on warning)"),
+        ("fail", "II", 1, "1 fail (--fail-on fail)"),
+        ("warning", "II", 1, "1 fail (--fail-on warning)"),
+    ],
+)
+def test_run_fail_on_exits_1_when_a_finding_is_that_bad(
+    tmp_path, write_site, site_text, level, category, code, message
+):
+    site = write_site(site_text.replace("[glide_path]\n", f'[glide_path]\ncategory = "{category}"\n'))
+    res = CliRunner().invoke(main, ["run", str(site), "--out", str(tmp_path / "r"), "-q", "--fail-on", level])
+    assert res.exit_code == code, res.output
+    assert (tmp_path / "r" / "summary.json").exists()  # written all the same
+    if message:
+        assert message in res.stderr and len(res.stderr.strip().splitlines()) == 1
+
+
+def test_sweep_fail_on_when_no_candidate_is_feasible(tmp_path):
+    from demo_airfield import SITE_FILE
+
+    args = ["sweep", str(SITE_FILE), "--setback", "280", "340", "30", "--offset", "100", "150", "50", "--no-plots"]
+    # An RDH band of 40-41 m: no candidate of this grid reaches it (the demo's RDH is near 15.5 m).
+    args += ["--rdh-band", "40", "41", "-q"]
+    res = CliRunner().invoke(main, [*args, "--out", str(tmp_path / "s1")])
+    assert res.exit_code == 0, res.output
+    res = CliRunner().invoke(main, [*args, "--out", str(tmp_path / "s2"), "--fail-on", "fail"])
+    assert res.exit_code == 1 and "no feasible candidate" in res.stderr
+    assert (tmp_path / "s2" / "sweep.csv").exists()
+
+
+def _on_a_terminal(*args):
+    """Run mastplan with stderr on a pseudo-terminal; return (exit code, what the terminal showed)."""
+    import os
+    import pty
+
+    master, slave = pty.openpty()
+    proc = subprocess.run(
+        [sys.executable, "-m", "cli.main", *map(str, args)], stdout=subprocess.PIPE, stderr=slave, timeout=300
+    )
+    os.close(slave)
+    data = b""
+    while True:
+        try:
+            chunk = os.read(master, 4096)
+        except OSError:
+            break
+        if not chunk:
+            break
+        data += chunk
+    os.close(master)
+    return proc.returncode, data
+
+
+def test_sweep_shows_progress_only_on_a_terminal(tmp_path):
+    from demo_airfield import SITE_FILE
+
+    args = ["sweep", SITE_FILE, "--setback", "280", "340", "30", "--offset", "100", "150", "50", "--no-plots"]
+    code, shown = _on_a_terminal(*args, "--out", tmp_path / "s1")
+    # click's bar, full at the end: "[#####]  26/26" (steps of the terrain work on both sides).
+    assert code == 0 and b"Sweeping candidates" in shown and re.search(rb"\[#+\]\s+(\d+)/\1", shown)
+    code, shown = _on_a_terminal(*args, "--out", tmp_path / "s2", "-q")
+    assert code == 0 and b"Sweeping candidates" not in shown
+    res = CliRunner().invoke(main, [*map(str, args), "--out", str(tmp_path / "s3")])
+    assert res.exit_code == 0 and "Sweeping candidates" not in res.output
+
+
+def test_sweep_reasons_name_the_iev_criterion_in_capitals(tmp_path):
+    import csv
+
+    from demo_airfield import SITE_FILE
+
+    # The demo's reflection zone is rough by the IEV criterion (IEC 60050-705, IEV 705-04-15: the
+    # demo study's finding shows RMS 0.188 m against a 0.179 m limit), so its neighbours are too.
+    args = ["sweep", str(SITE_FILE), "--setback", "300", "320", "20", "--offset", "110", "130", "20", "--no-plots"]
+    res = CliRunner().invoke(main, [*args, "--criterion", "iev", "--side", "right", "-q", "--out", str(tmp_path / "s")])
+    assert res.exit_code == 0, res.output
+    reasons = [r["reasons"] for r in csv.DictReader((tmp_path / "s" / "sweep.csv").open())]
+    assert any("rough by the IEV criterion" in r for r in reasons) and not any("iev criterion" in r for r in reasons)

@@ -170,3 +170,91 @@ def test_protected_areas_layer_and_cover(tmp_path, write_site, site_text):
         )
     )
     assert small.zone_covers[0].outside_percent == pytest.approx(100.0)
+
+
+def _digest(folder):
+    import hashlib
+
+    return {
+        str(p.relative_to(folder)): hashlib.sha256(p.read_bytes()).hexdigest()
+        for p in sorted(folder.rglob("*"))
+        if p.is_file()
+    }
+
+
+def test_a_background_writer_writes_the_same_bytes(tmp_path):
+    # Independent method: the same outputs written in one process, against plots and GeoPackage
+    # written in the worker process.
+    from demo_airfield import SITE_FILE
+    from geo.outputs.background import BackgroundWriter
+
+    result = run_study(load_site(SITE_FILE))
+    alone = write_study(result, tmp_path / "alone")
+    with BackgroundWriter(["plots", "gpkg"]) as background:
+        beside = write_study(result, tmp_path / "beside", background=background)
+    assert _digest(alone) == _digest(beside) and "profile.png" in _digest(beside)
+
+
+def _broken_plots(result, folder):
+    (folder / "half.png").write_bytes(b"half")
+    raise OSError(28, "No space left on device")
+
+
+def test_an_error_in_the_background_writer_leaves_nothing_behind(tmp_path, written, monkeypatch):
+    import geo.outputs.plots as plots
+    from geo.outputs.background import BackgroundWriter
+
+    result, _ = written
+    monkeypatch.setattr(plots, "write_plots", _broken_plots)  # the forked worker runs this one
+    with BackgroundWriter(["plots"]) as background:
+        with pytest.raises(OSError, match="No space left"):
+            write_study(result, tmp_path / "fresh", background=background)
+    assert not (tmp_path / "fresh").exists()
+    assert not [p for p in tmp_path.iterdir() if p.name.startswith(".fresh.")]
+
+
+def test_a_background_writer_stopped_at_once_ends(tmp_path):
+    # A study that fails right after the writer starts stops it within microseconds of the fork:
+    # the stop must end the worker every time (a lost SIGTERM once left the caller waiting).
+    import time
+
+    from geo.outputs.background import BackgroundWriter
+
+    start = time.monotonic()
+    for _ in range(20):
+        writer = BackgroundWriter(["plots", "gpkg"])
+        writer.stop()
+        assert not writer._proc.is_alive()
+    assert time.monotonic() - start < 60
+
+
+def test_writers_import_folium_and_pyogrio_without_pandas(tmp_path):
+    # In a fresh process: the map and the GeoPackage writer's libraries come without pandas, and
+    # pandas stays importable for anyone else afterwards.
+    import subprocess
+    import sys
+
+    code = (
+        "import sys\n"
+        "from geo.outputs.imports import import_without_dataframes\n"
+        "folium = import_without_dataframes('folium')\n"
+        "raw = import_without_dataframes('pyogrio.raw')\n"
+        "assert 'pandas' not in sys.modules and 'geopandas' not in sys.modules, sorted(sys.modules)\n"
+        "import folium.utilities\n"
+        "assert folium.utilities.pd is None and callable(raw.write)\n"
+        "import pandas\n"
+        "assert pandas.DataFrame({'a': [1]}).shape == (1, 1)\n"
+        "print('ok')\n"
+    )
+    proc = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=120)
+    assert proc.returncode == 0 and proc.stdout.strip() == "ok", proc.stderr
+
+
+def test_what_does_not_pickle_runs_in_this_process(tmp_path):
+    from geo.outputs.background import BackgroundWriter
+
+    ran = []
+    with BackgroundWriter(["plots"]) as background:
+        background.submit(lambda x: ran.append(x), 7)  # a lambda does not pickle: it runs here
+        background.wait()
+    assert ran == [7]

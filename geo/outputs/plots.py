@@ -9,7 +9,7 @@ import numpy as np
 from geo.study import StudyResult
 from geo.units import M_PER_FT
 
-__all__ = ["plot_profile", "plot_residuals", "plot_ddm", "plot_path", "plot_surface_structure"]
+__all__ = ["plot_profile", "plot_residuals", "plot_ddm", "plot_path", "plot_surface_structure", "write_plots"]
 
 
 def _figure(width_in: float, height_in: float, rows: int = 1):
@@ -229,3 +229,14 @@ def plot_surface_structure(result: StudyResult, path: Path) -> None:
     ax.legend(fontsize=8)
     ax.grid(alpha=0.3)
     fig.savefig(path, dpi=100)
+
+
+def write_plots(result: StudyResult, folder: Path) -> None:
+    """Draw every plot of a study into ``folder``: the profile, residuals and surface (with a DEM), DDM, path."""
+    if result.profile is not None:
+        plot_profile(result, folder / "profile.png")
+        plot_residuals(result, folder / "residuals.png")
+    plot_ddm(result, folder / "ddm.png")
+    plot_path(result, folder / "path.png")
+    if result.surface is not None:
+        plot_surface_structure(result, folder / "surface.png")

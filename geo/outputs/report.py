@@ -9,6 +9,7 @@ import html
 from pathlib import Path
 
 from geo.findings import CAUTIONS
+from geo.outputs.text import past_or_before
 from geo.study import StudyResult
 from geo.units import format_area, format_length
 
@@ -41,11 +42,15 @@ def write_report(result: StudyResult, path: Path, plots: bool) -> None:
     figures = [
         ("Glide path", f"{ch.glide_path_mhz:.2f} MHz{loc}, {spec.array}, {spec.angle_deg:g} deg"),
         ("Runway", f"true bearing {result.runway.true_bearing_deg:.4f} deg, length {_len(result.runway.length_m, 1)}"),
-        ("Mast", f"{mast.side} side, setback {_len(mast.setback_m, 1)}, offset {_len(mast.offset_m, 1)}"),
+        (
+            "Mast",
+            f"{mast.side} side, setback {_len(mast.setback_m, 1)} ({mast.setback_source}), "
+            f"offset {_len(mast.offset_m, 1)}",
+        ),
         ("Mast position (WGS 84)", f"{mast.lat_deg:.7f}, {mast.lon_deg:.7f}"),
         ("RDH", _len(result.rdh_m)),
         ("Actual path over the threshold", _len(result.path_height_over_threshold_m)),
-        ("GPIP", f"{_len(result.gpip.along_m, 1)} past the threshold"),
+        ("GPIP", f"{_len(abs(result.gpip.along_m), 1)} {past_or_before(result.gpip.along_m)} the threshold"),
     ]
     if result.prediction is not None:
         p = result.prediction

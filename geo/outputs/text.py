@@ -6,7 +6,7 @@ from geo.findings import CAUTIONS
 from geo.study import StudyResult
 from geo.units import format_length
 
-__all__ = ["summary_text"]
+__all__ = ["summary_text", "past_or_before"]
 
 
 def _lengths(unit: str):
@@ -38,7 +38,7 @@ def summary_text(result: StudyResult) -> str:
         lines.append(f"  {a.role:<7} height {_len(a.height_m, 3)}, shift {_len(a.shift_toward_runway_m, 3)}")
     lines += [
         f"RDH: {_len(result.rdh_m)}; actual path over the threshold: {_len(result.path_height_over_threshold_m)}",
-        f"GPIP: {_len(result.gpip.along_m, 1)} past the threshold "
+        f"GPIP: {_len(abs(result.gpip.along_m), 1)} {past_or_before(result.gpip.along_m)} the threshold "
         f"(lat {result.gpip.lat_deg:.7f}, lon {result.gpip.lon_deg:.7f})",
     ]
     t = result.terrain
@@ -89,3 +89,8 @@ def surface_lines(result: StudyResult) -> list[str]:
         f"{sp.half_sector_below_deg:.4f} / {sp.half_sector_above_deg:.4f} deg, RDH {_len(sp.straight_fit[0] + base)}",
         f"  {bends}; {conv}",
     ]
+
+
+def past_or_before(along_m: float) -> str:
+    """Which side of the threshold a distance along the centre line lies: ``past`` or ``before``."""
+    return "before" if along_m < 0.0 else "past"

@@ -13,8 +13,9 @@ import html
 import re
 from pathlib import Path
 
+from geo.outputs.text import past_or_before
 from geo.study import StudyResult
-from geo.units import format_length
+from geo.units import format_area, format_length
 
 __all__ = ["write_map", "ZONE_COLOURS"]
 
@@ -78,6 +79,51 @@ def _lengths(unit: str):
     return _len
 
 
+#: The label of each value a tooltip shows.
+TOOLTIP_LABELS = {
+    "antenna": "Antenna",
+    "kind": "Kind",
+    "near_m": "Near edge (from the mast, along the course)",
+    "far_m": "Far edge (from the mast, along the course)",
+    "max_half_width_m": "Largest half-width",
+    "area_m2": "Area",
+    "name": "Name",
+    "length_m": "Length",
+    "width_m": "Width",
+    "true_bearing_deg": "True bearing",
+}
+
+
+def _tooltip_value(key: str, value, unit: str = "m") -> str:
+    """One tooltip value as text: rounded, the site file's unit first (one formatting call per value)."""
+    if value is None or isinstance(value, str):
+        return "" if value is None else value
+    if key == "area_m2":
+        return format_area(value, unit)
+    if key == "true_bearing_deg":
+        return f"{value:.2f} deg"
+    if key in ("length_m", "width_m"):
+        return format_length(value, unit, 1)
+    return format_length(value, unit, 0)
+
+
+def _tooltip_values(fc: dict, fields, unit: str = "m") -> dict:
+    """A copy of a FeatureCollection whose tooltip fields hold their text (the other properties stay)."""
+    return {
+        "type": "FeatureCollection",
+        "features": [
+            {
+                **f,
+                "properties": {
+                    **f["properties"],
+                    **{k: _tooltip_value(k, f["properties"].get(k), unit) for k in fields},
+                },
+            }
+            for f in fc["features"]
+        ],
+    }
+
+
 def _mast_popup(result: StudyResult) -> str:
     _len = _lengths(result.spec.units)
     mast = result.mast
@@ -92,25 +138,75 @@ def _mast_popup(result: StudyResult) -> str:
         f"ground {_len(mast.base_elevation_m)}<br>"
         "<table class='mastplan-antennas'><tr><th>antenna</th><th>height</th><th>shift toward runway</th>"
         f"<th>lat, lon</th></tr>{rows}</table>"
-        f"RDH {_len(result.rdh_m)}; GPIP {_len(result.gpip.along_m, 1)} past the threshold"
+        f"RDH {_len(result.rdh_m)}; GPIP {_len(abs(result.gpip.along_m), 1)} {past_or_before(result.gpip.along_m)} "
+        "the threshold"
     )
 
 
+#: Names of the map's layers, as the layer control and the legend show them.
+RUNWAY_LAYER = "Runway"
+CENTRELINE_LAYER = "Centre line"
+EXTENDED_LAYER = "Extended centre line (10 NM)"
+POINTS_LAYER = "Threshold and GPIP"
+MAST_LAYER = "Mast and antennas"
+HILLSHADE_LAYER = "DEM hillshade"
+THRESHOLD_COLOUR = "#000000"
+GPIP_COLOUR = "#1864ab"
+
+
+def zone_layer_name(kind: str, antenna: str) -> str:
+    """The layer (and legend) name of one antenna's zone of one kind (``path``, ``coverage``)."""
+    return f"{kind.capitalize()} zone, {antenna} antenna"
+
+
+def protected_layer_name(kind: str) -> str:
+    """The layer (and legend) name of the protected areas of one kind."""
+    return f"Protected areas ({kind})"
+
+
+def _swatch(colour: str, shape: str = "box") -> str:
+    style = "display:inline-block;width:12px;height:12px;margin-right:6px;vertical-align:middle;"
+    if shape == "dot":
+        style += f"border-radius:50%;background:{colour}"
+    elif shape == "dashed":
+        style += f"border:2px dashed {colour};width:8px;height:8px"
+    elif shape == "line":
+        style += f"height:0;border-top:2px dashed {colour}"
+    else:
+        style += f"background:{colour}"
+    return f"<span style='{style}'></span>"
+
+
+def legend_items(result: StudyResult) -> list[tuple[str, str, str]]:
+    """``(swatch HTML, layer name, note)`` for every layer of the map but the online base map."""
+    items = [(_swatch("#868e96"), RUNWAY_LAYER, "")]
+    items += [(_swatch("#495057", "line"), CENTRELINE_LAYER, ""), (_swatch("#343a40", "line"), EXTENDED_LAYER, "")]
+    points = _swatch(THRESHOLD_COLOUR, "dot") + _swatch(GPIP_COLOUR, "dot")
+    items.append((points, POINTS_LAYER, "black: threshold, blue: GPIP"))
+    items.append((_swatch(MAST_COLOUR, "dot"), MAST_LAYER, ""))
+    for kind, shape in (("path", "box"), ("coverage", "dashed")):
+        items += [(_swatch(ZONE_COLOURS[a.role], shape), zone_layer_name(kind, a.role), "") for a in result.antennas]
+    items += [
+        (_swatch(AREA_COLOURS[k]), protected_layer_name(k), "")
+        for k in sorted({a.kind for a in result.spec.protected_areas})
+    ]
+    if result.spec.terrain is not None:
+        items.append((_swatch("#adb5bd"), HILLSHADE_LAYER, f"exaggerated {_EXAGGERATION:g} times"))
+    return items
+
+
 def _legend(result: StudyResult) -> str:
-    items = [("#868e96", "runway"), (MAST_COLOUR, "glide path mast")]
-    items += [(ZONE_COLOURS[a.role], f"reflection zone, {a.role} antenna") for a in result.antennas]
-    items += [(AREA_COLOURS[k], f"protected area ({k})") for k in sorted({a.kind for a in result.spec.protected_areas})]
-    swatches = "".join(
-        f"<div><span style='display:inline-block;width:12px;height:12px;background:{c};margin-right:6px'></span>"
-        f"{html.escape(t)}</div>"
-        for c, t in items
+    rows = "".join(
+        f"<div class='mastplan-legend-item'>{swatch}<span class='mastplan-legend-name'>{html.escape(name)}</span>"
+        + (f"<span style='color:#555'> ({html.escape(note)})</span>" if note else "")
+        + "</div>"
+        for swatch, name, note in legend_items(result)
     )
     return (
         "<div class='mastplan-legend' style='position:fixed;bottom:28px;right:10px;z-index:1000;background:#fff;"
         "padding:8px 10px;border:1px solid #999;border-radius:4px;font:12px sans-serif'>"
-        f"<b>{html.escape(result.spec.name)}</b><br>{swatches}"
+        f"<b>{html.escape(result.spec.name)}</b><br>{rows}"
         "<div style='margin-top:4px;color:#555'>Path zones solid, coverage zones dashed.<br>"
-        f"Hillshade exaggerated {_EXAGGERATION:g} times.<br>"
         "A planning aid: flight inspection and the local authority decide.</div></div>"
     )
 
@@ -166,7 +262,7 @@ def _hillshade_overlay(result: StudyResult, path_bounds):
     return folium.raster_layers.ImageOverlay(
         _png_data_uri(rgba),
         bounds=[[lat0, lon0], [lat1, lon1]],
-        name="DEM hillshade",
+        name=HILLSHADE_LAYER,
         mercator_project=False,
         overlay=True,
         show=True,
@@ -183,9 +279,10 @@ def write_map(result: StudyResult, layers: dict[str, dict], path: Path) -> None:
         The study's GeoJSON FeatureCollections (:func:`geo.outputs.geojson.study_layers`).
     path : Path
     """
-    import folium
+    from geo.outputs.imports import import_without_dataframes
 
     _len = _lengths(result.spec.units)
+    folium = import_without_dataframes("folium")  # folium takes pandas only to accept data frames
     mast = result.mast
     fmap = folium.Map(location=[mast.lat_deg, mast.lon_deg], zoom_start=15, tiles=None, control_scale=True)
     fmap.default_js = []
@@ -206,7 +303,10 @@ def write_map(result: StudyResult, layers: dict[str, dict], path: Path) -> None:
 
     def add(name: str, fc: dict, style: dict, fields=(), show: bool = True) -> None:
         group = folium.FeatureGroup(name=name, show=show)
-        tooltip = folium.GeoJsonTooltip(fields=list(fields)) if fields else None
+        tooltip = None
+        if fields:
+            fc = _tooltip_values(fc, fields, result.spec.units)
+            tooltip = folium.GeoJsonTooltip(fields=list(fields), aliases=[TOOLTIP_LABELS[k] for k in fields])
         folium.GeoJson(_escaped(fc), style_function=lambda _f, s=style: s, tooltip=tooltip).add_to(group)
         group.add_to(fmap)
 
@@ -221,10 +321,10 @@ def write_map(result: StudyResult, layers: dict[str, dict], path: Path) -> None:
                 ],
             }
             add(
-                f"{kind.capitalize()} zone, {antenna} antenna",
+                zone_layer_name(kind, antenna),
                 fc,
                 {"color": ZONE_COLOURS[antenna], "weight": 1.5, "fillOpacity": fill, "dashArray": dash},
-                ("antenna", "kind", "near_m", "far_m", "max_half_width_m", "area_m2"),
+                ("kind", "antenna", "near_m", "far_m", "max_half_width_m", "area_m2"),
                 show=kind == "path",
             )
     if "protected_areas" in layers:
@@ -235,38 +335,44 @@ def write_map(result: StudyResult, layers: dict[str, dict], path: Path) -> None:
             }
             if fc["features"]:
                 add(
-                    f"Protected areas ({kind})",
+                    protected_layer_name(kind),
                     fc,
                     {"color": AREA_COLOURS[kind], "weight": 2, "fillOpacity": 0.05},
                     ("name", "kind", "area_m2"),
                 )
     add(
-        "Runway",
+        RUNWAY_LAYER,
         layers["runway"],
         {"color": "#495057", "fillColor": "#868e96", "weight": 1, "fillOpacity": 0.6},
         ("name", "length_m", "width_m", "true_bearing_deg"),
     )
-    add("Centre line", layers["centreline"], {"color": "#ffffff", "weight": 1.5, "dashArray": "8 6"})
+    add(CENTRELINE_LAYER, layers["centreline"], {"color": "#ffffff", "weight": 1.5, "dashArray": "8 6"})
     add(
-        "Extended centre line (10 NM)",
+        EXTENDED_LAYER,
         layers["extended_centreline"],
         {"color": "#343a40", "weight": 1, "dashArray": "4 6"},
     )
 
-    points = folium.FeatureGroup(name="Threshold and GPIP")
+    points = folium.FeatureGroup(name=POINTS_LAYER)
     thr = result.spec.threshold
     marker = folium.CircleMarker(
-        [thr.lat_deg, thr.lon_deg], radius=5, color="#000", fill=True, fill_opacity=1, class_name="mastplan-threshold"
+        [thr.lat_deg, thr.lon_deg],
+        radius=5,
+        color=THRESHOLD_COLOUR,
+        fill=True,
+        fill_opacity=1,
+        class_name="mastplan-threshold",
     )
     marker.add_child(_popup(f"<b>Threshold</b><br>elevation {_len(thr.elevation_m)}<br>RDH {_len(result.rdh_m)}"))
     marker.add_to(points)
     marker = folium.CircleMarker(
-        [result.gpip.lat_deg, result.gpip.lon_deg], radius=5, color="#1864ab", fill=True, class_name="mastplan-gpip"
+        [result.gpip.lat_deg, result.gpip.lon_deg], radius=5, color=GPIP_COLOUR, fill=True, class_name="mastplan-gpip"
     )
-    marker.add_child(_popup(f"<b>GPIP</b><br>{_len(result.gpip.along_m, 1)} past the threshold"))
+    gpip = result.gpip.along_m
+    marker.add_child(_popup(f"<b>GPIP</b><br>{_len(abs(gpip), 1)} {past_or_before(gpip)} the threshold"))
     marker.add_to(points)
     points.add_to(fmap)
-    mast_group = folium.FeatureGroup(name="Mast and antennas")
+    mast_group = folium.FeatureGroup(name=MAST_LAYER)
     marker = folium.CircleMarker(
         [mast.lat_deg, mast.lon_deg],
         radius=8,

@@ -46,7 +46,12 @@ def check_outputs(names) -> tuple[str, ...]:
 
 
 def fill_study(
-    result: StudyResult, folder: Path, plots: bool = True, outputs=OUTPUTS, extra_layers: dict | None = None
+    result: StudyResult,
+    folder: Path,
+    plots: bool = True,
+    outputs=OUTPUTS,
+    extra_layers: dict | None = None,
+    background=None,
 ) -> None:
     """Write the chosen outputs of a study into an existing, empty folder (not atomic by itself).
 
@@ -60,6 +65,10 @@ def fill_study(
         Names from :data:`OUTPUTS`.
     extra_layers : dict, optional
         More FeatureCollections for the layers, GeoPackage, KML and map (a sweep's candidates).
+    background : geo.outputs.background.BackgroundWriter, optional
+        A worker process that draws the plots and writes the GeoPackage (those it was started
+        for) while this process writes the rest; the files are the same. It is stopped when
+        writing fails or is interrupted, before the caller removes the folder.
     """
     chosen = set(outputs) - (set() if plots else {"plots"})
     layers = None
@@ -67,6 +76,27 @@ def fill_study(
         from geo.outputs.geojson import study_layers
 
         layers = {**study_layers(result), **(extra_layers or {})}
+    elsewhere = set(background.outputs) & chosen if background is not None else set()
+    try:
+        if "plots" in elsewhere:
+            from geo.outputs.plots import write_plots
+
+            background.submit(write_plots, result, folder)
+        if "gpkg" in elsewhere:
+            from geo.outputs.gpkg import write_gpkg
+
+            background.submit(write_gpkg, layers, folder / "site.gpkg")
+        _fill_here(result, folder, chosen - elsewhere, layers, "plots" in chosen)
+        if elsewhere:
+            background.wait()
+    except BaseException:
+        if elsewhere:
+            background.stop()
+        raise
+
+
+def _fill_here(result: StudyResult, folder: Path, chosen: set, layers: dict | None, with_plots: bool) -> None:
+    """Write the chosen outputs in this process (``with_plots``: the report links the plots)."""
     if "summary" in chosen:
         from geo.outputs.summary import summary_dict
 
@@ -95,21 +125,13 @@ def fill_study(
             write_profile_csv(result.profile, folder / "profile.csv")
         write_path_csv(result, folder / "path.csv")
     if "plots" in chosen:
-        from geo.outputs.plots import plot_ddm, plot_path, plot_profile, plot_residuals
+        from geo.outputs.plots import write_plots
 
-        if result.profile is not None:
-            plot_profile(result, folder / "profile.png")
-            plot_residuals(result, folder / "residuals.png")
-        plot_ddm(result, folder / "ddm.png")
-        plot_path(result, folder / "path.png")
-        if result.surface is not None:
-            from geo.outputs.plots import plot_surface_structure
-
-            plot_surface_structure(result, folder / "surface.png")
+        write_plots(result, folder)
     if "report" in chosen:
         from geo.outputs.report import write_report
 
-        write_report(result, folder / "report.html", "plots" in chosen)
+        write_report(result, folder / "report.html", with_plots)
 
 
 def _clean_stale(parent: Path, name: str) -> None:
@@ -190,7 +212,12 @@ def atomic_folder(
 
 
 def write_study(
-    result: StudyResult, out_dir: str | Path, overwrite: bool = False, plots: bool = True, outputs=OUTPUTS
+    result: StudyResult,
+    out_dir: str | Path,
+    overwrite: bool = False,
+    plots: bool = True,
+    outputs=OUTPUTS,
+    background=None,
 ) -> Path:
     """Write every output of a study into ``out_dir``, atomically.
 
@@ -202,6 +229,10 @@ def write_study(
         Replace an existing non-empty folder.
     plots : bool
         Also draw the PNG plots (matplotlib; the slowest part of writing).
+    outputs : sequence of str
+        Names from :data:`OUTPUTS`.
+    background : geo.outputs.background.BackgroundWriter, optional
+        See :func:`fill_study`.
 
     Returns
     -------
@@ -216,7 +247,9 @@ def write_study(
     """
     inputs = [Path(result.spec.source)] if result.spec.source else []
 
-    return atomic_folder(out_dir, overwrite, lambda folder: fill_study(result, folder, plots, outputs), inputs)
+    return atomic_folder(
+        out_dir, overwrite, lambda folder: fill_study(result, folder, plots, outputs, background=background), inputs
+    )
 
 
 def write_sweep(
