@@ -11,7 +11,7 @@ import sys
 import pyogrio
 import pytest
 from pyproj import Geod
-from tests_support import DEMO_SITE
+from tests_support import DEMO_SITE, on_a_terminal
 
 GOOD = DEMO_SITE.read_text().split("[terrain]")[0].split("# The invented local rules")[0]
 
@@ -94,34 +94,11 @@ def test_one_bad_site_does_not_stop_the_others(sites):
     assert "\r[" not in proc.stderr and "sites" not in proc.stderr
 
 
-def _batch_on_a_terminal(*args):
-    """Run a batch with stderr on a pseudo-terminal; return (exit code, what the terminal showed)."""
-    import os
-    import pty
-
-    master, slave = pty.openpty()
-    proc = subprocess.run(
-        [sys.executable, "-m", "cli.main", "batch", *map(str, args)], stdout=subprocess.PIPE, stderr=slave, timeout=300
-    )
-    os.close(slave)
-    data = b""
-    while True:
-        try:
-            chunk = os.read(master, 4096)
-        except OSError:
-            break
-        if not chunk:
-            break
-        data += chunk
-    os.close(master)
-    return proc.returncode, data
-
-
 def test_progress_bar_on_a_terminal(sites):
     (sites / "good2.toml").write_text(GOOD)
-    code, shown = _batch_on_a_terminal(sites / "good.toml", "--out", sites / "out2", "-q")
+    code, shown = on_a_terminal("batch", sites / "good.toml", "--out", sites / "out2", "-q")
     assert code == 0 and b"Studying sites" not in shown  # --quiet hides it
-    code, shown = _batch_on_a_terminal(sites / "good.toml", sites / "good2.toml", "--out", sites / "out3", "-j", "1")
+    code, shown = on_a_terminal("batch", sites / "good.toml", sites / "good2.toml", "--out", sites / "out3", "-j", "1")
     assert code == 0 and b"Studying sites" in shown and b"2/2" in shown
     # click's bar: position and, while sites remain, the estimated time left (hh:mm:ss).
     assert b"1/2" in shown and re.search(rb"1/2\s+\d\d:\d\d:\d\d", shown)

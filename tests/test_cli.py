@@ -7,6 +7,7 @@ import sys
 
 import pytest
 from click.testing import CliRunner
+from tests_support import on_a_terminal
 
 from cli.main import main
 
@@ -191,37 +192,14 @@ def test_sweep_fail_on_when_no_candidate_is_feasible(tmp_path):
     assert (tmp_path / "s2" / "sweep.csv").exists()
 
 
-def _on_a_terminal(*args):
-    """Run mastplan with stderr on a pseudo-terminal; return (exit code, what the terminal showed)."""
-    import os
-    import pty
-
-    master, slave = pty.openpty()
-    proc = subprocess.run(
-        [sys.executable, "-m", "cli.main", *map(str, args)], stdout=subprocess.PIPE, stderr=slave, timeout=300
-    )
-    os.close(slave)
-    data = b""
-    while True:
-        try:
-            chunk = os.read(master, 4096)
-        except OSError:
-            break
-        if not chunk:
-            break
-        data += chunk
-    os.close(master)
-    return proc.returncode, data
-
-
 def test_sweep_shows_progress_only_on_a_terminal(tmp_path):
     from demo_airfield import SITE_FILE
 
     args = ["sweep", SITE_FILE, "--setback", "280", "340", "30", "--offset", "100", "150", "50", "--no-plots"]
-    code, shown = _on_a_terminal(*args, "--out", tmp_path / "s1")
+    code, shown = on_a_terminal(*args, "--out", tmp_path / "s1")
     # click's bar, full at the end: "[#####]  26/26" (steps of the terrain work on both sides).
     assert code == 0 and b"Sweeping candidates" in shown and re.search(rb"\[#+\]\s+(\d+)/\1", shown)
-    code, shown = _on_a_terminal(*args, "--out", tmp_path / "s2", "-q")
+    code, shown = on_a_terminal(*args, "--out", tmp_path / "s2", "-q")
     assert code == 0 and b"Sweeping candidates" not in shown
     res = CliRunner().invoke(main, [*map(str, args), "--out", str(tmp_path / "s3")])
     assert res.exit_code == 0 and "Sweeping candidates" not in res.output

@@ -1,5 +1,7 @@
 """Paths and texts shared by tests (invented test values)."""
 
+import subprocess
+import sys
 from pathlib import Path
 
 DEMO_SITE = Path(__file__).resolve().parents[1] / "demo_airfield" / "site.toml"
@@ -43,3 +45,26 @@ side = "right"
 offset = 400
 setback = 1000
 """
+
+
+def on_a_terminal(*args):
+    """Run mastplan with stderr on a pseudo-terminal; return (exit code, what the terminal showed)."""
+    import os
+    import pty
+
+    master, slave = pty.openpty()
+    proc = subprocess.run(
+        [sys.executable, "-m", "cli.main", *map(str, args)], stdout=subprocess.PIPE, stderr=slave, timeout=300
+    )
+    os.close(slave)
+    data = b""
+    while True:
+        try:
+            chunk = os.read(master, 4096)
+        except OSError:
+            break
+        if not chunk:
+            break
+        data += chunk
+    os.close(master)
+    return proc.returncode, data
