@@ -126,12 +126,19 @@ def test_seam_points_sample_like_the_single_file(tmp_path):
     # Points on a fine lattice straddling a four-corner seam: each one needs cells of up to four tiles.
     with rasterio.open(DEMO_DEM) as ds:
         row, col = ds.height // 2, ds.width // 2
+    _assert_corner_lattice_samples_alike(DEMO_DEM, tmp_path, row, col)
+
+
+def _assert_corner_lattice_samples_alike(path, tmp_path, row, col):
+    """A lattice of 81 x 81 points within two cells of the corner of cell (row, col), where the file is
+    cut in four: the tiles sample it as the single file does (bilinear, to 1e-9 m)."""
+    with rasterio.open(path) as ds:
         x0, y0 = ds.xy(row, col, offset="ul")
         cell = ds.res[0]
-    tiles = _cut(DEMO_DEM, tmp_path, (row,), (col,))
+    tiles = _cut(path, tmp_path, (row,), (col,))
     g = np.linspace(-2.0 * cell, 2.0 * cell, 81)
     x, y = (a.ravel() for a in np.meshgrid(x0 + g, y0 + g))
-    with Dem.open(DEMO_DEM) as one, Dem.open(tiles) as four:
+    with Dem.open(path) as one, Dem.open(tiles) as four:
         reference, got = one.sample_native(x, y), four.sample_native(x, y)
     assert np.isfinite(reference).all()
     np.testing.assert_allclose(got, reference, rtol=0, atol=1e-9)
@@ -269,16 +276,7 @@ def real_dem(tmp_path_factory):
 def test_real_geographic_tiles_sample_like_the_single_file_at_a_four_corner_seam(tmp_path, real_dem, row, col):
     # Geographic cell sizes (1/1200 deg) are not exact binary fractions: a neighbour's cell centre comes back
     # through another tile's geotransform a rounding error away, and must still count as that cell centre.
-    with rasterio.open(real_dem) as ds:
-        x0, y0 = ds.xy(row, col, offset="ul")
-        cell = ds.res[0]
-    tiles = _cut(real_dem, tmp_path, (row,), (col,))
-    g = np.linspace(-2.0 * cell, 2.0 * cell, 81)
-    x, y = (a.ravel() for a in np.meshgrid(x0 + g, y0 + g))
-    with Dem.open(real_dem) as one, Dem.open(tiles) as four:
-        reference, got = one.sample_native(x, y), four.sample_native(x, y)
-    assert np.isfinite(reference).all()
-    np.testing.assert_allclose(got, reference, rtol=0, atol=1e-9)
+    _assert_corner_lattice_samples_alike(real_dem, tmp_path, row, col)
 
 
 def test_real_terrain_studies_on_four_tiles_equal_the_single_file(tmp_path, real_dem):
