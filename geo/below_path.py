@@ -45,6 +45,7 @@ __all__ = [
     "WEAK_CARRIER_DB",
     "BelowPathCheck",
     "check_below_path",
+    "sampled_ddm",
 ]
 
 #: DDM the signal below the path must reach [1]_ (from memory).
@@ -220,3 +221,48 @@ def check_below_path(
         passed,
         samples,
     )
+
+
+def sampled_ddm(elevation_rad, ddm_values):
+    """A DDM callable of the module's contract from samples: cubic through the four nearest [3]_.
+
+    For a DDM that costs much per elevation (the surface prediction): computed once at a few
+    tens of elevations, read anywhere between them. Each value comes from the Lagrange cubic
+    through the two samples on either side (the end intervals use the four end samples), exact
+    for cubics, with an error of order ``h^4`` for a smooth DDM (``h`` the sample spacing).
+
+    Parameters
+    ----------
+    elevation_rad : array_like
+        Increasing elevations, at least 4. [rad]
+    ddm_values : array_like
+        DDM there.
+
+    Returns
+    -------
+    callable
+        ``ddm_of_elevation(elevation_rad) -> ddm``; clamped at the end samples outside them.
+
+    References
+    ----------
+    .. [3] Press, W. H. et al., *Numerical Recipes*, 3rd ed., 2007, sec. 3.2 (polynomial
+           interpolation through neighbouring points).
+    """
+    xs = np.asarray(elevation_rad, dtype=float)
+    ys = np.asarray(ddm_values, dtype=float)
+    if xs.ndim != 1 or xs.size < 4 or xs.shape != ys.shape or np.any(np.diff(xs) <= 0.0):
+        raise ValueError("sampled_ddm needs at least 4 increasing elevations and one DDM each")
+
+    def ddm_of_elevation(e):
+        x = np.clip(np.asarray(e, dtype=float), xs[0], xs[-1])
+        first = np.clip(np.searchsorted(xs, x) - 2, 0, xs.size - 4)
+        out = np.zeros(x.shape)
+        for j in range(4):
+            term = ys[first + j]
+            for m in range(4):
+                if m != j:
+                    term = term * (x - xs[first + m]) / (xs[first + j] - xs[first + m])
+            out += term
+        return out
+
+    return ddm_of_elevation

@@ -26,7 +26,8 @@ antenna and receiver can see:
   resampled, which the doubled-sampling check measures.
 - **Visibility.** A facet adds nothing to an antenna that the ground hides from it: the segment
   from the facet to the antenna is marched in 16 steps (geometric, from 0.5 m off the facet to
-  98 % of the way) over the bilinear surface of the area.
+  98 % of the way) over the bilinear surface of the area, resampled on a uniform grid of the DEM
+  cell and at most 2 m (the prediction's choice, :mod:`geo.surface_prediction`).
   Toward the receivers, each facet's horizon is taken along the course (toward +u, over up to
   600 m); a receiver whose elevation seen from the facet is below that horizon is hidden. The
   receivers on the approach lie within about 20 deg of the course seen from the zone, so the
@@ -50,16 +51,20 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from functools import cached_property
 
 import numpy as np
 
 from geo.fresnel import exact_ellipses
 from geo.optics import Facets
+from geo.parallel import map_chunks
 
 __all__ = ["AreaLimits", "SurfaceGrid", "area_limits", "graded_nodes", "planck_taper", "surface_grid"]
 
 #: Steps of the march from a facet to an antenna.
 _MARCH_STEPS = 16
+#: Facets per chunk of the shading marches (each chunk holds about 20 arrays of 16 values a facet).
+_SHADING_CHUNK = 10_000
 #: Reach of a facet's horizon along the course. [m]
 _HORIZON_REACH_M = 600.0
 #: Smallest facet side. [m]
@@ -215,7 +220,7 @@ class SurfaceGrid:
         Ground at the nodes (``Z``). [m]
     limits : AreaLimits
     lookup_step_m : float
-        Step of the uniform resampling the visibility marches read (the DEM cell). [m]
+        Step of the uniform resampling the visibility marches read. [m]
     """
 
     u_m: np.ndarray
@@ -278,42 +283,52 @@ class SurfaceGrid:
 
         return at
 
+    @cached_property
+    def _height_lookup(self):
+        """:meth:`_lookup` at the grid's ``lookup_step_m``, made once per grid."""
+        return self._lookup(self.lookup_step_m)
+
     def antenna_visibility(self, facets: Facets, antennas_m) -> np.ndarray:
         """Whether each antenna sees each facet over the ground between them. (S, P) bool"""
         ants = np.atleast_2d(np.asarray(antennas_m, float))
-        height_at = self._lookup(self.lookup_step_m)
-        out = np.empty((ants.shape[0], len(facets)), dtype=bool)
+        height_at = self._height_lookup
         c = facets.centres_m
-        for s, ant in enumerate(ants):
-            blocked = np.zeros(len(facets), dtype=bool)
-            for start in range(0, len(facets), 20_000):
-                sl = slice(start, start + 20_000)
-                length = np.maximum(np.linalg.norm(ant[None, :2] - c[sl, :2], axis=1), 1.0)[:, None]
-                # Steps from 0.5 m to 98 % of the way, geometric: fine close to the facet, where its
-                # own neighbourhood can hide it; sparse near the antenna, where the line is high.
-                first = np.log(0.5 / length)
-                t = np.exp(first + (math.log(0.98) - first) * np.linspace(0.0, 1.0, _MARCH_STEPS)[None, :])
-                u = c[sl, 0, None] + t * (ant[0] - c[sl, 0, None])
-                w = c[sl, 1, None] + t * (ant[1] - c[sl, 1, None])
-                line = c[sl, 2, None] + t * (ant[2] - c[sl, 2, None])
-                blocked[sl] = np.any(height_at(u, w) > line + 1e-3, axis=1)
-            out[s] = ~blocked
+        ramp = np.linspace(0.0, 1.0, _MARCH_STEPS)[None, :]
+
+        def blocked(sl, ant):
+            length = np.maximum(np.linalg.norm(ant[None, :2] - c[sl, :2], axis=1), 1.0)[:, None]
+            # Steps from 0.5 m to 98 % of the way, geometric: fine close to the facet, where its
+            # own neighbourhood can hide it; sparse near the antenna, where the line is high.
+            first = np.log(0.5 / length)
+            t = np.exp(first + (math.log(0.98) - first) * ramp)
+            u = c[sl, 0, None] + t * (ant[0] - c[sl, 0, None])
+            w = c[sl, 1, None] + t * (ant[1] - c[sl, 1, None])
+            line = c[sl, 2, None] + t * (ant[2] - c[sl, 2, None])
+            return np.any(height_at(u, w) > line + 1e-3, axis=1)
+
+        def chunk(sl):
+            return [~blocked(sl, ant) for ant in ants]
+
+        parts = map_chunks(chunk, len(facets), _SHADING_CHUNK)
+        out = np.empty((ants.shape[0], len(facets)), dtype=bool)
+        for s in range(ants.shape[0]):
+            out[s] = np.concatenate([p[s] for p in parts]) if parts else np.zeros(0, bool)
         return out
 
     def horizon_tangents(self, facets: Facets) -> np.ndarray:
         """Tangent of each facet's horizon along the course (toward +u). (P,)"""
         c = facets.centres_m
         steps = np.geomspace(1.0, _HORIZON_REACH_M, 16)[None, :]
-        height_at = self._lookup(self.lookup_step_m)
-        out = np.empty(len(facets))
-        for start in range(0, len(facets), 20_000):
-            sl = slice(start, start + 20_000)
+        height_at = self._height_lookup
+
+        def chunk(sl):
             u = c[sl, 0, None] + steps
             inside = u <= self.u_m[-1]
             z = height_at(u, np.broadcast_to(c[sl, 1, None], u.shape))
-            tangent = np.where(inside, (z - c[sl, 2, None]) / steps, -np.inf)
-            out[sl] = np.max(tangent, axis=1)
-        return out
+            return np.max(np.where(inside, (z - c[sl, 2, None]) / steps, -np.inf), axis=1)
+
+        parts = map_chunks(chunk, len(facets), _SHADING_CHUNK)
+        return np.concatenate(parts) if parts else np.zeros(0)
 
 
 def surface_grid(limits: AreaLimits, heights, wavelength_m: float, cell_m: float, antennas_m, receivers_m, refine=1.0):

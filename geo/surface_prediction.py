@@ -71,6 +71,8 @@ _CHECK_PATH_POINTS = 6
 #: Convergence tolerances: those of the flat-plane check of issue 11 (0.002 deg; 1 % of 0.0875 DDM).
 ANGLE_TOLERANCE_DEG = 0.002
 DDM_TOLERANCE = 0.01 * 0.0875
+#: Largest step of the surface resampling the shading marches read. [m]
+_LOOKUP_STEP_M = 2.0
 #: The zones are scaled by this to make the integration area (see geo.surface_facets).
 ZONE_FACTOR = 3.0
 VISIBILITY_NOTE = (
@@ -179,28 +181,19 @@ def surface_fields(
     rx = np.atleast_2d(np.asarray(receivers_m, float))
     plane_nodes = _plane_z(model, *np.meshgrid(grid.u_m, grid.w_m))
     z = np.where(np.isfinite(grid.z_m), grid.z_m, plane_nodes)
-    surface = SurfaceGrid(grid.u_m, grid.w_m, z, grid.limits)
+    # The shading marches read the surface resampled at the DEM cell, and at most 2 m.
+    surface = SurfaceGrid(grid.u_m, grid.w_m, z, grid.limits, min(grid.lookup_step_m, _LOOKUP_STEP_M))
     facets = surface.facets()
     consts = (model.wavelength_m, model.relative_permittivity, model.conductivity_s_m)
     vis = horizon = None
     if visibility:
         vis, horizon = _shading(grid, surface, facets, model.positions_m)
-    pair_weight = None
+        # Facets that no antenna lights add nothing: left out of the surface's sum.
+        lit = np.flatnonzero(np.any(vis, axis=0))
+        facets, vis, horizon = facets.subset(lit), vis[:, lit], horizon[lit]
+    options = dict(far=far)
     if rx_index is not None:
-        limits, centres = grid.limits, facets.centres_m
-        lo, hi = (v[rx_index] for v in limits.receiver_spans())
-        cache = {}
-
-        def pair_weight(sl):
-            if sl.start not in cache:
-                u = centres[sl, 0]
-                local = np.flatnonzero((lo <= u.max()) & (hi >= u.min()))
-                weights = limits.pair_weights(u, centres[sl, 1], np.asarray(rx_index)[local])
-                used = np.any(weights > 0.0, axis=0)
-                cache[sl.start] = (local[used], weights[:, used].astype(np.float32))
-            return cache[sl.start]
-
-    options = dict(pair_weight=pair_weight, far=far)
+        options["pair_weight"] = _receiver_weights(grid.limits, facets.centres_m, rx_index)
     po = ground_fields(model.positions_m, facets, rx, *consts, source_visible=vis, horizon_tan=horizon, **options)
     k = 2.0 * math.pi / model.wavelength_m
     if method == "raw":
@@ -213,6 +206,8 @@ def surface_fields(
     if method != "difference":
         raise ValueError(f"method {method!r} is not one of 'difference', 'raw'")
     plane = SurfaceGrid(grid.u_m, grid.w_m, plane_nodes, grid.limits).facets()
+    if rx_index is not None:
+        options["pair_weight"] = _receiver_weights(grid.limits, plane.centres_m, rx_index)
     po = po - ground_fields(model.positions_m, plane, rx, *consts, **options)
     if far:
         elevation = np.arcsin(np.clip(rx[:, 2], -1.0, 1.0))
@@ -220,6 +215,25 @@ def surface_fields(
     else:
         csb, sbo = model.fields(rx)
     return csb + model.csb @ po, sbo + model.sbo @ po
+
+
+def _receiver_weights(limits, centres_m, rx_index):
+    """The ``pair_weight`` of :func:`geo.optics.ground_fields`: each receiver's own area (its taper)."""
+    lo, hi = (v[rx_index] for v in limits.receiver_spans())
+    index = np.asarray(rx_index)
+    cache = {}
+
+    def pair_weight(sl):
+        key = (sl.start, sl.stop)
+        if key not in cache:
+            u = centres_m[sl, 0]
+            local = np.flatnonzero((lo <= u.max()) & (hi >= u.min()))
+            weights = limits.pair_weights(u, centres_m[sl, 1], index[local])
+            used = np.any(weights > 0.0, axis=0)
+            cache[key] = (local[used], weights[:, used].astype(np.float32))
+        return cache[key]
+
+    return pair_weight
 
 
 _SHADING_CACHE: list = []

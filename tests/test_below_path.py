@@ -6,7 +6,7 @@ import numpy as np
 import pytest
 
 from geo.arrays import ARRAY_TYPES, antenna_heights_m, proximity_shifts_m
-from geo.below_path import BELOW_PATH_DDM, check_below_path
+from geo.below_path import BELOW_PATH_DDM, check_below_path, sampled_ddm
 from geo.channels import wavelength_m
 from geo.prediction import ArrayModel, far_field_ddm, predict_path
 
@@ -165,3 +165,34 @@ def test_site_file_lower_edge_and_its_bounds(write_site, site_text):
     for bad in ("0.2", "0.5", '"low"'):
         with pytest.raises(SiteFileError, match=r"prediction\.below_path_down_to.*(at least 0.3|at most 0.45|number)"):
             load_site(write_site(site_text + f"\n[prediction]\nbelow_path_down_to = {bad}\n"))
+
+
+def test_sampled_ddm_is_exact_for_cubics_and_converges_as_h4():
+    # Lagrange interpolation through 4 points reproduces any cubic exactly, and its error for a
+    # smooth function falls as h^4 (Press et al., Numerical Recipes, 3rd ed., 2007, sec. 3.2).
+    xs = np.sort(np.r_[np.linspace(0.02, 0.06, 20), 0.0411])  # uneven, as with the band's edge added
+    cubic = lambda x: 3.0 - 2.0 * x + 40.0 * x**2 - 900.0 * x**3  # noqa: E731
+    x = np.linspace(0.02, 0.06, 997)
+    assert np.max(np.abs(sampled_ddm(xs, cubic(xs))(x) - cubic(x))) < 1e-12
+    errors = []
+    for n in (11, 21, 41):
+        xs = np.linspace(0.02, 0.06, n)
+        errors.append(np.max(np.abs(sampled_ddm(xs, np.sin(200.0 * xs))(x) - np.sin(200.0 * x))))
+    assert errors[0] / errors[1] > 10.0 and errors[1] / errors[2] > 12.0  # 2^4 = 16 in the limit
+    with pytest.raises(ValueError, match="at least 4"):
+        sampled_ddm([0.1, 0.2, 0.3], [0.0, 0.1, 0.2])
+
+
+@pytest.mark.parametrize("array", list(ARRAY_TYPES))
+def test_sampled_ddm_at_the_surface_checks_elevations_keeps_the_closed_form_reach(array):
+    # The image DDM sampled only at the surface check's elevations (31 from 0.30 theta to the path)
+    # and read through the cubic still reaches 0.22 where the closed form says (Kraus, as above).
+    from geo.surface_study import BELOW_PATH_SAMPLES
+
+    model = _model(array)
+    p = predict_path(model, THETA, 300.0, 120.0)
+    e = np.linspace(0.30 * math.radians(THETA), math.radians(p.path_angle_deg), BELOW_PATH_SAMPLES)
+    sampled = sampled_ddm(e, far_field_ddm(model, e, p.sbo_scale))
+    check = check_below_path(sampled, THETA, p.path_angle_deg)
+    assert check.reach_deg == pytest.approx(_closed_form_reach_deg(), abs=1e-4)
+    assert check.ddm_at_down_to == pytest.approx(_closed_form_ddm(math.radians(0.45 * THETA)), abs=2e-4)
