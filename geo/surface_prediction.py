@@ -71,12 +71,10 @@ _CHECK_PATH_POINTS = 6
 #: Convergence tolerances: those of the flat-plane check of issue 11 (0.002 deg; 1 % of 0.0875 DDM).
 ANGLE_TOLERANCE_DEG = 0.002
 DDM_TOLERANCE = 0.01 * 0.0875
-#: Largest step of the surface resampling the shading marches read. [m]
-_LOOKUP_STEP_M = 2.0
 #: The zones are scaled by this to make the integration area (see geo.surface_facets).
 ZONE_FACTOR = 3.0
 VISIBILITY_NOTE = (
-    "shadowing: facet to antenna by a march over the surface; facet to receiver by the facet's "
+    "shadowing: facet to antenna by a horizon sweep outward from the antenna; facet to receiver by the facet's "
     "horizon along the course (receivers lie within about 20 deg of it)"
 )
 
@@ -181,13 +179,12 @@ def surface_fields(
     rx = np.atleast_2d(np.asarray(receivers_m, float))
     plane_nodes = _plane_z(model, *np.meshgrid(grid.u_m, grid.w_m))
     z = np.where(np.isfinite(grid.z_m), grid.z_m, plane_nodes)
-    # The shading marches read the surface resampled at the DEM cell, and at most 2 m.
-    surface = SurfaceGrid(grid.u_m, grid.w_m, z, grid.limits, min(grid.lookup_step_m, _LOOKUP_STEP_M))
+    surface = SurfaceGrid(grid.u_m, grid.w_m, z, grid.limits)
     facets = surface.facets()
     consts = (model.wavelength_m, model.relative_permittivity, model.conductivity_s_m)
     vis = horizon = None
     if visibility:
-        vis, horizon = _shading(grid, surface, facets, model.positions_m)
+        vis, horizon = _shading(grid, surface, model.positions_m)
         # Facets that no antenna lights add nothing: left out of the surface's sum.
         lit = np.flatnonzero(np.any(vis, axis=0))
         facets, vis, horizon = facets.subset(lit), vis[:, lit], horizon[lit]
@@ -239,7 +236,7 @@ def _receiver_weights(limits, centres_m, rx_index):
 _SHADING_CACHE: list = []
 
 
-def _shading(grid: SurfaceGrid, surface: SurfaceGrid, facets, antennas_m):
+def _shading(grid: SurfaceGrid, surface: SurfaceGrid, antennas_m):
     """Antenna visibility and receiver horizons of the surface of ``grid``.
 
     The last result is kept (with its grid, so it cannot be mistaken for another): the path and
@@ -248,7 +245,7 @@ def _shading(grid: SurfaceGrid, surface: SurfaceGrid, facets, antennas_m):
     for held_grid, held_antennas, result in _SHADING_CACHE:
         if held_grid is grid and np.array_equal(held_antennas, antennas_m):
             return result
-    result = (surface.antenna_visibility(facets, antennas_m), surface.horizon_tangents(facets))
+    result = (surface.antenna_visibility(antennas_m), surface.horizon_tangents())
     _SHADING_CACHE[:] = [(grid, np.array(antennas_m), result)]
     return result
 
