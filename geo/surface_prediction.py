@@ -185,11 +185,8 @@ def surface_fields(
     vis = horizon = None
     if visibility:
         vis, horizon = _shading(grid, surface, model.positions_m)
-        # Facets that no antenna lights add nothing: left out of the surface's sum.
-        lit = np.flatnonzero(np.any(vis, axis=0))
-        facets, vis, horizon = facets.subset(lit), vis[:, lit], horizon[lit]
     options = dict(far=far)
-    if rx_index is not None:
+    if rx_index is not None:  # the same weights for the surface and the plane: their facets share (u, w)
         options["pair_weight"] = _receiver_weights(grid.limits, facets.centres_m, rx_index)
     po = ground_fields(model.positions_m, facets, rx, *consts, source_visible=vis, horizon_tan=horizon, **options)
     k = 2.0 * math.pi / model.wavelength_m
@@ -203,8 +200,6 @@ def surface_fields(
     if method != "difference":
         raise ValueError(f"method {method!r} is not one of 'difference', 'raw'")
     plane = SurfaceGrid(grid.u_m, grid.w_m, plane_nodes, grid.limits).facets()
-    if rx_index is not None:
-        options["pair_weight"] = _receiver_weights(grid.limits, plane.centres_m, rx_index)
     po = po - ground_fields(model.positions_m, plane, rx, *consts, **options)
     if far:
         elevation = np.arcsin(np.clip(rx[:, 2], -1.0, 1.0))
