@@ -16,6 +16,8 @@ import click
 
 EXIT_FAILED = 1
 EXIT_BAD_INPUT = 2
+#: The reader of standard output went away (128 + SIGPIPE, as shells report it).
+EXIT_BROKEN_PIPE = 141
 
 out_option = click.option(
     "--out",
@@ -142,6 +144,10 @@ def reports_errors(func):
             fail(f"error: {exc}", EXIT_BAD_INPUT)
         except MastplanError as exc:
             fail(f"error: {exc}", EXIT_FAILED)
+        except BrokenPipeError:  # the reader went away (`| head`): stop quietly, as a shell tool does
+            devnull = os.open(os.devnull, os.O_WRONLY)
+            os.dup2(devnull, sys.stdout.fileno())  # so that the final flush at exit does not fail again
+            sys.exit(EXIT_BROKEN_PIPE)
         except KeyboardInterrupt:
             fail("interrupted; earlier results are untouched", 130)
         except _Terminated:

@@ -217,3 +217,27 @@ def test_sweep_reasons_name_the_iev_criterion_in_capitals(tmp_path):
     assert res.exit_code == 0, res.output
     reasons = [r["reasons"] for r in csv.DictReader((tmp_path / "s" / "sweep.csv").open())]
     assert any("rough by the IEV criterion" in r for r in reasons) and not any("iev criterion" in r for r in reasons)
+
+
+def test_a_reader_that_goes_away_ends_the_run_quietly(tmp_path, write_site, site_text):
+    # `mastplan sweep ... | head -1`: standard output closed by its reader. The POSIX convention of
+    # shell tools (exit status 128 + SIGPIPE = 141, no message) instead of an internal error.
+    import os
+
+    site = write_site(site_text)
+    read_end, write_end = os.pipe()
+    os.close(read_end)  # the reader is gone before the first line
+    try:
+        proc = subprocess.run(
+            [sys.executable, "-m", "cli.main", "sweep", str(site), "--out", str(tmp_path / "s")]
+            + ["--setback", "250", "270", "10", "--offset", "120", "140", "20"],
+            stdout=write_end,
+            stderr=subprocess.PIPE,
+            text=True,
+            timeout=120,
+        )
+    finally:
+        os.close(write_end)
+    assert proc.returncode == 141, proc.stderr
+    assert "Traceback" not in proc.stderr and "internal error" not in proc.stderr
+    assert "BrokenPipeError" not in proc.stderr
