@@ -50,6 +50,9 @@ from geo.optics import _GAMMA_TABLE_RAD, _GROUND_PAIRS_PER_CHUNK, Facets, ground
 HAVE_NUMBA = importlib.util.find_spec("numba") is not None
 #: fastmath of the kernels, set per process by the driver (the cache does not key on it).
 FASTMATH = os.environ.get("MASTPLAN_BENCH_FASTMATH", "0") == "1"
+#: Sines, cosines and arc sines in float32 (as ground_fields) instead of float64; set like FASTMATH.
+TRIG32 = os.environ.get("MASTPLAN_BENCH_TRIG32", "0") == "1"
+_trig = np.float32 if TRIG32 else np.float64
 LAM = 0.895
 EPS, SIGMA_S_M = 15.0, 0.005  # lossy ground of the brief: eps_r 15, sigma 0.005 S/m
 
@@ -58,7 +61,7 @@ if HAVE_NUMBA:
 
     @numba.njit(cache=True, fastmath=FASTMATH)
     def _sin_over(x):
-        ax = abs(x) + 1e-30  # as geo.optics._sin_over: sin(x) / x, 1 at 0, no test for 0
+        ax = _trig(abs(x) + 1e-30)  # as geo.optics._sin_over: sin(x) / x, 1 at 0, no test for 0
         return math.sin(ax) / ax
 
     @numba.njit(cache=True, fastmath=FASTMATH)
@@ -98,12 +101,12 @@ if HAVE_NUMBA:
             if use_horizon and not z > horizon[p] * h2:
                 continue
             phase = 2.0 * math.pi * (turns - math.floor(turns + 0.5))
-            wave_re = math.cos(phase) * inv_r2 * w
-            wave_im = -math.sin(phase) * inv_r2 * w
+            wave_re = math.cos(_trig(phase)) * inv_r2 * w
+            wave_im = -math.sin(_trig(phase)) * inv_r2 * w
             ne_rx = normals[p, 1] * x - normals[p, 0] * y  # h2 (n . e_r)
             ra = a_k[p, 0] * x + a_k[p, 1] * y + a_k[p, 2] * z
             rb = b_k[p, 0] * x + b_k[p, 1] * y + b_k[p, 2] * z
-            graze_rx = math.asin(min(nr2, 1.0)) if lossy else 0.0
+            graze_rx = math.asin(_trig(min(nr2, 1.0))) if lossy else 0.0
             for s in range(n_src):
                 ar, ai = amp_re[s, p], amp_im[s, p]
                 if ar == 0.0 and ai == 0.0:
@@ -398,21 +401,26 @@ def demo() -> None:
 
 def _worker(part: str) -> None:
     if part == "speed":
-        print(f"fastmath={FASTMATH}, numba {numba.__version__}, numpy {np.__version__}, load {os.getloadavg()}")
+        print(f"{_variant()}, numba {numba.__version__}, numpy {np.__version__}, load {os.getloadavg()}")
         speed()
         print(f"  threading layer {numba.threading_layer()}, {numba.config.NUMBA_NUM_THREADS} threads")
     elif part == "agreement":
-        print(f"fastmath={FASTMATH}:")
+        print(f"{_variant()}:")
         agreement()
     elif part == "first":
         first_calls()
     elif part == "demo":
-        print(f"fastmath={FASTMATH}, load {os.getloadavg()}")
+        print(f"{_variant()}, load {os.getloadavg()}")
         demo()
 
 
-def _run(part: str, cache_dir: str, fastmath: bool) -> None:
-    env = dict(os.environ, NUMBA_CACHE_DIR=cache_dir, MASTPLAN_BENCH_FASTMATH="1" if fastmath else "0")
+def _variant(fastmath: bool = FASTMATH, trig32: bool = TRIG32) -> str:
+    return f"fastmath={fastmath}, trig in {'float32' if trig32 else 'float64'}"
+
+
+def _run(part: str, cache_dir: str, fastmath: bool, trig32: bool) -> None:
+    env = dict(os.environ, NUMBA_CACHE_DIR=cache_dir)
+    env.update(MASTPLAN_BENCH_FASTMATH="1" if fastmath else "0", MASTPLAN_BENCH_TRIG32="1" if trig32 else "0")
     env.setdefault("OMP_NUM_THREADS", "1")
     sys.stdout.flush()
     subprocess.run([sys.executable, __file__, "--worker", part], env=env, check=True)
@@ -437,16 +445,16 @@ def main() -> None:
     numpy_s, numba_s = _import_seconds("numpy"), _import_seconds("numba")
     print(f"import in a fresh process (best of 3): numpy {numpy_s:.3f} s, numba {numba_s:.3f} s (numpy included)")
     parts = sys.argv[1:] or ["first", "agreement", "speed", "demo"]
-    for fastmath in (False, True):
-        with tempfile.TemporaryDirectory() as cache:
+    for fastmath, trig32 in ((False, False), (True, False), (False, True), (True, True)):
+        with tempfile.TemporaryDirectory() as cache:  # a cache per variant: numba's does not key on globals
             if "first" in parts:
-                print(f"fastmath={fastmath}, empty cache (JIT compile), fresh process:")
-                _run("first", cache, fastmath)
-                print(f"fastmath={fastmath}, warm on-disk cache, fresh process:")
-                _run("first", cache, fastmath)
+                print(f"{_variant(fastmath, trig32)}, empty cache (JIT compile), fresh process:")
+                _run("first", cache, fastmath, trig32)
+                print(f"{_variant(fastmath, trig32)}, warm on-disk cache, fresh process:")
+                _run("first", cache, fastmath, trig32)
             for part in ("agreement", "speed", "demo"):
                 if part in parts:
-                    _run(part, cache, fastmath)
+                    _run(part, cache, fastmath, trig32)
 
 
 if __name__ == "__main__":
