@@ -55,6 +55,7 @@ TRIG32 = os.environ.get("MASTPLAN_BENCH_TRIG32", "0") == "1"
 _trig = np.float32 if TRIG32 else np.float64
 LAM = 0.895
 EPS, SIGMA_S_M = 15.0, 0.005  # lossy ground of the brief: eps_r 15, sigma 0.005 S/m
+PARALLEL = (None, "receivers", "facets")
 
 if HAVE_NUMBA:
     import numba
@@ -65,10 +66,10 @@ if HAVE_NUMBA:
         return math.sin(ax) / ax
 
     @numba.njit(cache=True, fastmath=FASTMATH)
-    def _receiver_sum(j, cols, weights, lo, hi, centres, normals, a_k, b_k, rx, far, cycles_per_m, horizon,
+    def _receiver_sum(j, cols, weights, first, lo, hi, centres, normals, a_k, b_k, rx, far, cycles_per_m, horizon,
                       sx, sy, ns1, h1, ne, s1a, s1b, graze_src, amp_re, amp_im, lit_any,
                       table_re, table_im, lossy, out_re, out_im):  # fmt: skip
-        """Field sums of receiver ``cols[j]`` over facets ``lo:hi`` (the pair of ground_fields)."""
+        """Field sums of receiver ``cols[j]`` over facets ``lo:hi`` (``weights`` row 0 is facet ``first``)."""
         r = cols[j]
         n_src = sx.shape[0]
         weighted = weights.shape[0] > 0
@@ -81,7 +82,7 @@ if HAVE_NUMBA:
         for p in range(lo, hi):
             if not lit_any[p]:
                 continue
-            w = weights[p - lo, j] if weighted else 1.0
+            w = weights[p - first, j] if weighted else 1.0
             if w == 0.0:
                 continue
             if far:
@@ -138,18 +139,38 @@ if HAVE_NUMBA:
                      sx, sy, ns1, h1, ne, s1a, s1b, graze_src, amp_re, amp_im, lit_any,
                      table_re, table_im, lossy, out_re, out_im):  # fmt: skip
         for j in range(cols.shape[0]):
-            _receiver_sum(j, cols, weights, lo, hi, centres, normals, a_k, b_k, rx, far, cycles_per_m, horizon,
+            _receiver_sum(j, cols, weights, lo, lo, hi, centres, normals, a_k, b_k, rx, far, cycles_per_m, horizon,
                           sx, sy, ns1, h1, ne, s1a, s1b, graze_src, amp_re, amp_im, lit_any,
                           table_re, table_im, lossy, out_re, out_im)  # fmt: skip
 
     @numba.njit(cache=True, fastmath=FASTMATH, parallel=True)
-    def _sums_parallel(cols, weights, lo, hi, centres, normals, a_k, b_k, rx, far, cycles_per_m, horizon,
+    def _sums_parallel_receivers(cols, weights, lo, hi, centres, normals, a_k, b_k, rx, far, cycles_per_m, horizon,
                        sx, sy, ns1, h1, ne, s1a, s1b, graze_src, amp_re, amp_im, lit_any,
                        table_re, table_im, lossy, out_re, out_im):  # fmt: skip
         for j in numba.prange(cols.shape[0]):
-            _receiver_sum(j, cols, weights, lo, hi, centres, normals, a_k, b_k, rx, far, cycles_per_m, horizon,
+            _receiver_sum(j, cols, weights, lo, lo, hi, centres, normals, a_k, b_k, rx, far, cycles_per_m, horizon,
                           sx, sy, ns1, h1, ne, s1a, s1b, graze_src, amp_re, amp_im, lit_any,
                           table_re, table_im, lossy, out_re, out_im)  # fmt: skip
+
+    @numba.njit(cache=True, fastmath=FASTMATH, parallel=True)
+    def _sums_parallel_facets(blocks, cols, weights, lo, hi, centres, normals, a_k, b_k, rx, far, cycles_per_m, horizon,
+                              sx, sy, ns1, h1, ne, s1a, s1b, graze_src, amp_re, amp_im, lit_any,
+                              table_re, table_im, lossy, out_re, out_im):  # fmt: skip
+        # One block of facets per thread, each with its own sums, added at the end (``blocks`` is
+        # given: numba.get_num_threads() inside makes the function uncachable, a ctypes global).
+        size = (hi - lo + blocks - 1) // blocks
+        part_re = np.zeros((blocks, out_re.shape[0], out_re.shape[1]))
+        part_im = np.zeros((blocks, out_re.shape[0], out_re.shape[1]))
+        for t in numba.prange(blocks):
+            b_lo = lo + t * size
+            b_hi = min(hi, b_lo + size)
+            for j in range(cols.shape[0]):
+                _receiver_sum(j, cols, weights, lo, b_lo, b_hi, centres, normals, a_k, b_k, rx, far, cycles_per_m,
+                              horizon, sx, sy, ns1, h1, ne, s1a, s1b, graze_src, amp_re, amp_im, lit_any,
+                              table_re, table_im, lossy, part_re[t], part_im[t])  # fmt: skip
+        for t in range(blocks):
+            out_re += part_re[t]
+            out_im += part_im[t]
 
 
 def numba_ground_fields(
@@ -163,9 +184,13 @@ def numba_ground_fields(
     horizon_tan=None,
     pair_weight=None,
     far: bool = False,
-    parallel: bool = False,
+    parallel: str | None = None,
 ) -> np.ndarray:
-    """``geo.optics.ground_fields`` with the pair loop compiled by numba (same arguments, same result)."""
+    """``geo.optics.ground_fields`` with the pair loop compiled by numba (same arguments, same result).
+
+    ``parallel``: None (serial), "receivers" (prange over receivers) or "facets" (prange over one
+    block of facets per thread).
+    """
     if facets.two_sided:
         raise ValueError("ground_fields takes one-sided ground facets")
     k = 2.0 * math.pi / wavelength_m
@@ -205,7 +230,13 @@ def numba_ground_fields(
     ]
     out_re = np.zeros((src.shape[0], n_rx))
     out_im = np.zeros((src.shape[0], n_rx))
-    sums = _sums_parallel if parallel else _sums_serial
+    sums = {None: _sums_serial, "receivers": _sums_parallel_receivers}.get(parallel)
+    if parallel == "facets":
+        blocks = numba.get_num_threads()
+
+        def sums(*args):
+            return _sums_parallel_facets(blocks, *args)
+
     tail = (c, n, a_k, b_k, rx, bool(far), 1.0 / wavelength_m, horizon, *per_source, lit_any)
     tail = (*tail, np.ascontiguousarray(table.real), np.ascontiguousarray(table.imag), lossy, out_re, out_im)
     if pair_weight is None:
@@ -290,7 +321,7 @@ def agreement() -> None:
                 ref = ground_fields(sources, f, points, LAM, *consts, far=far, **extra)
                 case = max(
                     _rel(numba_ground_fields(sources, f, points, LAM, *consts, far=far, parallel=p, **extra), ref)
-                    for p in (False, True)
+                    for p in PARALLEL
                 )
                 worst[extra is masks and far] = max(worst.get(extra is masks and far, 0.0), case)
                 print(
@@ -308,7 +339,7 @@ def agreement() -> None:
     ref = ground_fields(sources, sub, rx, LAM, EPS, SIGMA_S_M, pair_weight=replay)
     case = max(
         _rel(numba_ground_fields(sources, sub, rx, LAM, EPS, SIGMA_S_M, pair_weight=replay, parallel=p), ref)
-        for p in (False, True)
+        for p in PARALLEL
     )
     worst[False] = max(worst[False], case)
     print(
@@ -329,7 +360,8 @@ def speed() -> None:
             for name, run in (
                 ("numpy", lambda a=args, far=far: ground_fields(*a, far=far)),
                 ("serial", lambda a=args, far=far: numba_ground_fields(*a, far=far)),
-                ("parallel", lambda a=args, far=far: numba_ground_fields(*a, far=far, parallel=True)),
+                ("par. rx", lambda a=args, far=far: numba_ground_fields(*a, far=far, parallel="receivers")),
+                ("par. facets", lambda a=args, far=far: numba_ground_fields(*a, far=far, parallel="facets")),
             ):
                 _, wall, cpu = _timed(run)
                 line.append(f"{name} {pairs / cpu / 1e6:5.1f} CPU / {pairs / wall / 1e6:5.1f} wall")
@@ -339,16 +371,13 @@ def speed() -> None:
 def first_calls() -> None:
     """First calls of this process (the cache folder's state is the caller's)."""
     f, rx, _, sources = _case(200, 20)
-    for parallel in (False, True):
+    for parallel in PARALLEL:
         t0 = time.perf_counter()
         numba_ground_fields(sources, f, rx, LAM, EPS, SIGMA_S_M, parallel=parallel)
         first = time.perf_counter() - t0
         t0 = time.perf_counter()
         numba_ground_fields(sources, f, rx, LAM, EPS, SIGMA_S_M, parallel=parallel)
-        print(
-            f"    first call {'parallel' if parallel else 'serial  '}: {first:.3f} s "
-            f"(second call {time.perf_counter() - t0:.4f} s)"
-        )
+        print(f"    first call {parallel or 'serial'}: {first:.3f} s (second call {time.perf_counter() - t0:.4f} s)")
 
 
 def demo() -> None:
@@ -373,7 +402,8 @@ def demo() -> None:
     kernels = (
         ("numpy", original),
         ("numba serial", numba_ground_fields),
-        ("numba parallel", lambda *a, **k: numba_ground_fields(*a, parallel=True, **k)),
+        ("numba par. rx", lambda *a, **k: numba_ground_fields(*a, parallel="receivers", **k)),
+        ("numba par. facets", lambda *a, **k: numba_ground_fields(*a, parallel="facets", **k)),
     )
     angles = {}
     try:
@@ -386,7 +416,7 @@ def demo() -> None:
             calls_wall = sum(r[0] for r in record)
             calls_cpu = sum(r[1] for r in record)
             print(
-                f"  demo, {name:14s}: {len(record)} calls of ground_fields, {calls_wall:.2f} s wall / "
+                f"  demo, {name:17s}: {len(record)} calls of ground_fields, {calls_wall:.2f} s wall / "
                 f"{calls_cpu:.2f} s CPU in them; study {wall:.2f} s wall / {cpu:.2f} s CPU; "
                 f"surface path angle {result.surface.path_angle_deg:.5f} deg"
             )
