@@ -153,14 +153,14 @@ if HAVE_NUMBA:
                           table_re, table_im, lossy, out_re, out_im)  # fmt: skip
 
     @numba.njit(cache=True, fastmath=FASTMATH, parallel=True)
-    def _sums_parallel_facets(blocks, cols, weights, lo, hi, centres, normals, a_k, b_k, rx, far, cycles_per_m, horizon,
+    def _sums_parallel_facets(cols, weights, lo, hi, centres, normals, a_k, b_k, rx, far, cycles_per_m, horizon,
                               sx, sy, ns1, h1, ne, s1a, s1b, graze_src, amp_re, amp_im, lit_any,
-                              table_re, table_im, lossy, out_re, out_im):  # fmt: skip
-        # One block of facets per thread, each with its own sums, added at the end (``blocks`` is
-        # given: numba.get_num_threads() inside makes the function uncachable, a ctypes global).
+                              table_re, table_im, lossy, part_re, part_im):  # fmt: skip
+        # One block of facets per thread, each adding into its own sums ``part[t]`` (summed by the
+        # caller after the last chunk). No allocation and no array expression here: with
+        # parallel=True each would be one more parallel region (a first version lost 5x by it).
+        blocks = part_re.shape[0]
         size = (hi - lo + blocks - 1) // blocks
-        part_re = np.zeros((blocks, out_re.shape[0], out_re.shape[1]))
-        part_im = np.zeros((blocks, out_re.shape[0], out_re.shape[1]))
         for t in numba.prange(blocks):
             b_lo = lo + t * size
             b_hi = min(hi, b_lo + size)
@@ -168,9 +168,6 @@ if HAVE_NUMBA:
                 _receiver_sum(j, cols, weights, lo, b_lo, b_hi, centres, normals, a_k, b_k, rx, far, cycles_per_m,
                               horizon, sx, sy, ns1, h1, ne, s1a, s1b, graze_src, amp_re, amp_im, lit_any,
                               table_re, table_im, lossy, part_re[t], part_im[t])  # fmt: skip
-        for t in range(blocks):
-            out_re += part_re[t]
-            out_im += part_im[t]
 
 
 def numba_ground_fields(
@@ -230,12 +227,10 @@ def numba_ground_fields(
     ]
     out_re = np.zeros((src.shape[0], n_rx))
     out_im = np.zeros((src.shape[0], n_rx))
-    sums = {None: _sums_serial, "receivers": _sums_parallel_receivers}.get(parallel)
-    if parallel == "facets":
-        blocks = numba.get_num_threads()
-
-        def sums(*args):
-            return _sums_parallel_facets(blocks, *args)
+    sums = {None: _sums_serial, "receivers": _sums_parallel_receivers, "facets": _sums_parallel_facets}[parallel]
+    if parallel == "facets":  # sums per thread, added at the end
+        out_re = np.zeros((numba.get_num_threads(), *out_re.shape))
+        out_im = np.zeros(out_re.shape)
 
     tail = (c, n, a_k, b_k, rx, bool(far), 1.0 / wavelength_m, horizon, *per_source, lit_any)
     tail = (*tail, np.ascontiguousarray(table.real), np.ascontiguousarray(table.imag), lossy, out_re, out_im)
@@ -253,6 +248,8 @@ def numba_ground_fields(
             cols = np.ascontiguousarray(cols, dtype=np.int64)
             pair = np.ascontiguousarray(pair, dtype=float)
             sums(cols, pair, start, min(start + chunk, len(facets)), *tail)
+    if parallel == "facets":
+        out_re, out_im = out_re.sum(axis=0), out_im.sum(axis=0)
     return -1j * k / (4.0 * math.pi) * (out_re + 1j * out_im)
 
 
@@ -475,7 +472,10 @@ def main() -> None:
     numpy_s, numba_s = _import_seconds("numpy"), _import_seconds("numba")
     print(f"import in a fresh process (best of 3): numpy {numpy_s:.3f} s, numba {numba_s:.3f} s (numpy included)")
     parts = sys.argv[1:] or ["first", "agreement", "speed", "demo"]
-    for fastmath, trig32 in ((False, False), (True, False), (False, True), (True, True)):
+    variants = ((False, False), (True, False), (False, True), (True, True))
+    if "quick" in parts:  # the first and the last variant only
+        variants = variants[::3]
+    for fastmath, trig32 in variants:
         with tempfile.TemporaryDirectory() as cache:  # a cache per variant: numba's does not key on globals
             if "first" in parts:
                 print(f"{_variant(fastmath, trig32)}, empty cache (JIT compile), fresh process:")
