@@ -26,25 +26,26 @@ Prints:
 4. the demo study: the calls of ``ground_fields`` made by the surface prediction and their time,
    with numpy and with the numba kernels swapped in.
 
-Measured on 2 Dec 2026 (2 cores shared with other work, load average 5 to 6, so wall times
+Measured on 2 Dec 2026 (2 cores shared with other work, load average 4 to 6, so wall times
 wander; CPU time is the steadier figure), numba 0.68.1, llvmlite 0.50.0, numpy 2.4.6:
 
-- install weight: wheels 3.8 MB (numba) + 59.7 MB (llvmlite); on disk 35.5 MB + 176.3 MB
-  (1,629 files; ``libllvmlite.so`` alone 179 MB), +24 % on the project's 895 MB of packages;
+- install weight: wheels 3.7 MiB (numba) + 56.9 MiB (llvmlite); on disk 34.8 MiB + 172.2 MiB
+  (1,629 files; ``libllvmlite.so`` alone 170 MiB), +24 % on the project's 874 MiB of packages;
 - agreement with ``ground_fields`` 1.5e-7 to 5.2e-7 of the largest field in every case, except
   far receivers whose elevation lies within float32 rounding of a facet's horizon (one facet's
   field, 3.9e-4), which agree to 2.4e-7 once those horizons are moved 3e-5 off them;
-- pairs/s (CPU): numpy 17 to 29 M (conductor), 10 to 14 M (lossy); numba serial 8 to 23 M and
-  9 to 14 M: never clearly faster than the float32 numpy kernel, whose sines and cosines are
-  SIMD; float32 trigonometry helps numba a little, fastmath changes nothing measurable;
+- pairs/s (CPU): numpy 17 to 29 M (conductor), 9 to 14 M (lossy); numba serial 8 to 23 M and
+  5 to 14 M: never clearly faster than the float32 numpy kernel, whose sines and cosines are
+  SIMD; float32 trigonometry helps numba a little, fastmath changes nothing measurable; the
+  parallel kernels gain no wall time on this loaded machine;
 - ``import numba`` 0.5 to 1.2 s in a fresh process (numpy 0.2 to 0.4 s); first call with an
   empty cache 6 to 27 s (JIT compile, per kernel); first call with a warm on-disk cache 0.8 to
   1.5 s (the first kernel of a process; later kernels 0.02 to 0.2 s);
-- demo study: 14 calls of ``ground_fields``, 2.3 to 2.75 s CPU with numpy, 2.0 to 2.5 s with
-  the serial kernel (saves at most 0.75 s CPU), while numba costs 1.5 to 2.5 s per process
-  (import and cache load) and 6 to 27 s after each install or change (compile); the kernel
-  parallel over receivers spent 3.9 to 4.3 s CPU and 7.6 to 8.8 s wall (the demo's calls have
-  6 to 160 receivers, chunked by their pair weights: many short parallel regions).
+- demo study: 14 calls of ``ground_fields``, 2.3 to 2.8 s CPU with numpy, 2.0 to 3.0 s with
+  the serial kernel (saves at most 0.75 s CPU, in one run of six), while numba costs 1.5 to
+  2.5 s per process (import and cache load) and 6 to 27 s after each install or change
+  (compile); the parallel kernels spent 3.6 to 4.4 s CPU and 5.4 to 8.8 s wall (the demo's
+  calls have 6 to 160 receivers, chunked by their pair weights: many short parallel regions).
 
 So numba does not pay for its weight here: keep the numpy kernel, and no numba dependency.
 
@@ -448,7 +449,7 @@ def demo() -> None:
     finally:
         sp.ground_fields = original
     spread = max(angles.values()) - min(angles.values())
-    print(f"  surface path angle spread over the three kernels: {spread:.2e} deg")
+    print(f"  surface path angle spread over the kernels: {spread:.2e} deg")
 
 
 def _worker(part: str) -> None:
