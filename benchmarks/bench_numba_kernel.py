@@ -35,15 +35,16 @@ wander; CPU time is the steadier figure), numba 0.68.1, llvmlite 0.50.0, numpy 2
   far receivers whose elevation lies within float32 rounding of a facet's horizon (one facet's
   field, 3.9e-4), which agree to 2.4e-7 once those horizons are moved 3e-5 off them;
 - pairs/s (CPU): numpy 17 to 29 M (conductor), 9 to 14 M (lossy); numba serial 8 to 23 M and
-  5 to 14 M: never clearly faster than the float32 numpy kernel, whose sines and cosines are
+  5 to 12 M: never clearly faster than the float32 numpy kernel, whose sines and cosines are
   SIMD; float32 trigonometry helps numba a little, fastmath changes nothing measurable; the
   parallel kernels gain no wall time on this loaded machine;
 - ``import numba`` 0.5 to 1.2 s in a fresh process (numpy 0.2 to 0.4 s); first call with an
-  empty cache 6 to 27 s (JIT compile, per kernel); first call with a warm on-disk cache 0.8 to
-  1.5 s (the first kernel of a process; later kernels 0.02 to 0.2 s);
+  empty cache 5.6 to 27 s (JIT compile, per kernel); first call with a warm on-disk cache 0.8 to
+  2.0 s (the first kernel of a process; later kernels 0.02 to 0.2 s);
 - demo study: 14 calls of ``ground_fields``, 2.3 to 2.8 s CPU with numpy, 2.0 to 3.0 s with
-  the serial kernel (saves at most 0.75 s CPU, in one run of six), while numba costs 1.5 to
-  2.5 s per process (import and cache load) and 6 to 27 s after each install or change
+  the serial kernel (from 0.19 s lost to 0.76 s saved, same process, six runs), while numba
+  costs 1.1 to 2.8 s per process (import beyond numpy's, and the first call from the cache;
+  a batch pays it in every worker) and 5.6 to 27 s after each install or change
   (compile); the parallel kernels spent 3.6 to 4.4 s CPU and 5.4 to 8.8 s wall (the demo's
   calls have 6 to 160 receivers, chunked by their pair weights: many short parallel regions).
 
