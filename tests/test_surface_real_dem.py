@@ -322,3 +322,49 @@ def test_below_path_ddm_on_real_ground(studies):
         assert slope > 0.0
         assert abs(at_path) <= slope * stated
         assert below > 0.0 > above
+
+
+@pytest.mark.parametrize("far", [False, True], ids=["path points", "far field"])
+def test_fields_add_over_disjoint_facet_sets_of_the_real_surface(studies, far):
+    # Superposition (the field is a linear integral over the surface: Beckmann and Spizzichino 1963,
+    # ch. 3): the facets of the real surface split into two disjoint sets (every third facet, and the
+    # rest, so that no chunk of the kernel matches a chunk of the whole) scatter fields that add up
+    # to the field of all of them, with the terrain shadowing of the whole surface and lossy ground
+    # (relative permittivity 15, 5 mS/m: medium ground, ITU-R P.527, from memory). Requirement: the
+    # kernel's single precision after the phase, 1e-5 of the largest field.
+    from geo.optics import ground_fields
+    from geo.surface_facets import area_limits, surface_grid
+
+    r = studies["rough"]
+    model, _ = _pieces(r)
+    plane = _plane_heights(model)
+    theta = math.radians(r.spec.angle_deg)
+    e = np.array([0.8, 1.0, 1.2]) * theta
+    if far:
+        receivers = np.column_stack([np.cos(e), np.zeros(3), np.sin(e)])
+        at_range = 200_000.0 * receivers  # where the areas are taken (geo.surface_prediction.FAR_RANGE_M)
+    else:
+        u = np.array([800.0, 2000.0, 5000.0])
+        receivers = np.column_stack([u, np.full(3, r.mast.offset_m), u * np.tan(e)])
+        at_range = receivers
+    ants = model.positions_m
+
+    def above_plane(p):
+        return np.column_stack([p[:, 0], p[:, 1], p[:, 2] - plane(p[:, 0], p[:, 1])])
+
+    limits = area_limits(above_plane(ants), above_plane(at_range), model.wavelength_m)
+    with Dem.open(r.spec.terrain) as dem:
+        grid = surface_grid(limits, _dem_heights(r, dem), model.wavelength_m, r.terrain.cell_size_m, ants, at_range)
+    assert np.isfinite(grid.z_m).all()
+    facets = grid.facets()
+    visible, horizon = grid.antenna_visibility(facets, ants), grid.horizon_tangents(facets)
+    assert 0.0 < visible.mean() < 1.0  # rough ground: some facets shadowed, most lit
+    ground = (model.wavelength_m, 15.0, 0.005)
+    whole = ground_fields(ants, facets, receivers, *ground, visible, horizon, far=far)
+    third = np.arange(len(facets)) % 3 == 0
+    parts = [
+        ground_fields(ants, facets.subset(m), receivers, *ground, visible[:, m], horizon[m], far=far)
+        for m in (third, ~third)
+    ]
+    assert np.abs(parts[0] + parts[1] - whole).max() <= 1e-5 * np.abs(whole).max()
+    assert np.abs(parts[0]).max() > 0.1 * np.abs(whole).max()  # both sets matter
