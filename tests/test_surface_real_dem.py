@@ -95,9 +95,8 @@ def _dem_heights(result, dem):
     mast, elevation = result.mast, result.terrain.plane.elevation_at_mast_m
 
     def heights(u, w):
-        return dem.sample_frame(result.runway.frame, mast.setback_m - np.asarray(u), mast.offset_m - np.asarray(w)) - (
-            elevation
-        )
+        ground = dem.sample_frame(result.runway.frame, mast.setback_m - np.asarray(u), mast.offset_m - np.asarray(w))
+        return ground - elevation
 
     return heights
 
@@ -126,8 +125,6 @@ def test_prediction_completes_on_real_ground(studies):
         s = r.surface
         assert all(math.isfinite(v) for v in (s.path_angle_deg, s.half_sector_below_deg, s.half_sector_above_deg))
         assert s.half_sector_below_deg > 0.0 and s.half_sector_above_deg > 0.0, name
-        # The path lies in the prediction's own widest far-field window (0.5 to 1.6 theta).
-        assert 0.5 * 3.0 < s.path_angle_deg < 1.6 * 3.0
         assert np.isfinite(s.ddm_nominal).all() and np.isfinite(s.path_z_m).all()
         assert len(s.structure) == 3
         assert all(math.isfinite(b.bend_95_ddm) and b.bend_95_ddm >= 0.0 for b in s.structure)
