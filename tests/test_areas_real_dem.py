@@ -191,3 +191,28 @@ def test_four_path_field_is_reciprocal_over_the_real_plane(real, ground):
             backward = four_path_field(receiver, facets, groups, centres, antenna[None, :], model.wavelength_m,
                                        model.normal, *ground)[:, 0]  # fmt: skip
             assert np.abs(forward - backward).max() <= 1e-9 * np.abs(forward).max()
+
+
+def test_areas_see_the_studys_array_and_path_over_the_real_plane(real):
+    # Two builders of the array over the fitted plane must agree: geo.areas.array_model (the areas)
+    # and geo.study.array_model (the image prediction, the below-path check and the surface). Their
+    # fields at the areas' receivers agree to rounding, the receivers lie on the study's designed
+    # path (a straight line: linear interpolation is exact), and the undisturbed DDM there is the
+    # image prediction's on that path (within the linear interpolation between its samples, 1e-5).
+    from geo.study import array_model as study_array_model
+
+    result = real["right"].study
+    t = result.terrain
+    shifts = [a.shift_toward_runway_m for a in result.antennas]
+    gradients = (t.plane.forward_gradient, t.plane.lateral_gradient)
+    study_model = study_array_model(result.spec, t.heights_m, shifts, result.feeds, result.wavelength_m, *gradients)
+    rc = real["right"].receivers
+    csb, sbo = study_model.fields(rc.points_m)
+    assert np.abs(csb - rc.csb).max() <= 1e-12 * np.abs(rc.csb).max()
+    assert np.abs(sbo - rc.sbo).max() <= 1e-12 * np.abs(rc.csb).max()
+    p = result.prediction
+    u = result.mast.setback_m - p.along_m
+    order = np.argsort(u)
+    assert rc.points_m[:, 2] == pytest.approx(np.interp(rc.points_m[:, 0], u[order], p.nominal_z_m[order]), abs=1e-6)
+    expected = np.interp(rc.points_m[:, 0], u[order], p.ddm_nominal[order])
+    assert np.abs(ddm(rc.csb, rc.sbo, rc.sbo_scale) - expected).max() <= 1e-5
