@@ -38,6 +38,24 @@ GRID = AreaSpec(grid_m=40.0, ahead_m=800.0, behind_m=400.0, away_m=200.0, beyond
 WIDER = AreaSpec(grid_m=40.0, ahead_m=1000.0, behind_m=600.0, away_m=320.0, beyond_m=320.0)
 
 
+#: The same object and grid as site-file tables, for the command line.
+TABLES = """
+[[object]]
+name = "van"
+height = 3.0
+length = 8.0
+width = 2.5
+headings = ["across"]
+
+[areas]
+grid = 40
+ahead = 800
+behind = 400
+away = 200
+beyond = 200
+"""
+
+
 @pytest.fixture(scope="module")
 def real(tmp_path_factory):
     folder = tmp_path_factory.mktemp("jacksboro_areas")
@@ -53,6 +71,7 @@ def real(tmp_path_factory):
         result = run_study(load_site(path))
         spec = dataclasses.replace(result.spec, objects=(VAN,), areas=GRID)
         out[side] = derive_areas(dataclasses.replace(result, spec=spec))
+        out[side, "site"] = path
     print(f"\nareas on real ground: two studies and their areas in {time.perf_counter() - start:.1f} s")
     return out
 
@@ -216,3 +235,29 @@ def test_areas_see_the_studys_array_and_path_over_the_real_plane(real):
     assert rc.points_m[:, 2] == pytest.approx(np.interp(rc.points_m[:, 0], u[order], p.nominal_z_m[order]), abs=1e-6)
     expected = np.interp(rc.points_m[:, 0], u[order], p.ddm_nominal[order])
     assert np.abs(ddm(rc.csb, rc.sbo, rc.sbo_scale) - expected).max() <= 1e-5
+
+
+def test_command_line_areas_on_real_ground(real, tmp_path):
+    # The command on the real-DEM site with the same object and grid as site-file tables: exit code
+    # 0, and its layer holds the areas derived above (the library's, an independent call), in WGS 84,
+    # with the mast's antennas inside the critical outline (positions against the mast count in both).
+    import json
+
+    import shapely
+    from click.testing import CliRunner
+
+    from cli.main import main
+
+    site = tmp_path / "site.toml"
+    site.write_text(real["right", "site"].read_text(encoding="utf-8") + TABLES, encoding="utf-8")
+    res = CliRunner().invoke(main, ["areas", str(site), "--out", str(tmp_path / "out"), "--no-plots", "-q"])
+    assert res.exit_code == 0, res.output
+    layer = json.loads((tmp_path / "out" / "layers" / "derived_areas.geojson").read_text(encoding="utf-8"))
+    found = {f["properties"]["kind"]: f for f in layer["features"] if f["properties"]["object"] == "van"}
+    expected = _by_kind(real["right"])
+    assert set(found) == set(expected)
+    for kind, feature in found.items():
+        assert feature["properties"]["area_m2"] == pytest.approx(expected[kind].area_m2, rel=1e-6)
+    outline = shapely.geometry.shape(found["critical"]["geometry"])
+    for antenna in real["right"].study.antennas:
+        assert outline.covers(shapely.Point(antenna.lon_deg, antenna.lat_deg))
