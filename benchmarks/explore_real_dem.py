@@ -18,10 +18,11 @@ import tempfile
 import time
 from pathlib import Path
 
-import numpy as np
-
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
+sys.path.insert(0, str(ROOT / "tests"))  # the sample DEM's reader, shared with the real-DEM tests
+
+from jacksboro import jacksboro_sheet, site_text, write_raster  # noqa: E402
 
 from geo.frame import geodesic_forward  # noqa: E402
 from geo.site import load_site  # noqa: E402
@@ -30,65 +31,19 @@ from geo.study import run_study  # noqa: E402
 SITES = [(36.60, -84.25), (36.55, -84.18), (36.66, -84.32)]  # thresholds (lat, lon) inside the sheet
 SCALES = [0.01, 0.04, 0.1, 0.2]
 
-SITE = """
-units = "m"
-[site]
-name = "Jacksboro sheet, scaled {scale}"
-[runway]
-threshold = {{ lat = {lat}, lon = {lon}, elevation = {thr:.2f} }}
-end = {{ lat = {lat_e}, lon = {lon_e}, elevation = {end:.2f} }}
-width = 45
-[glide_path]
-angle_deg = 3.0
-localizer_mhz = 110.30
-array = "null-reference"
-category = "I"
-
-[mast]
-side = "right"
-offset = 120
-setback = 300
-[terrain]
-dem = "{dem}"
-"""
-
-
-def write_scaled_dem(folder: Path, scale: float) -> tuple[Path, object]:
-    """The sample DEM with its relief scaled about its mean, as a GeoTIFF in WGS 84."""
-    import rasterio
-    from matplotlib import cbook
-    from rasterio.transform import from_origin
-
-    data = cbook.get_sample_data("jacksboro_fault_dem.npz")
-    z = data["elevation"].astype(np.float64)
-    z = z.mean() + scale * (z - z.mean())
-    top = float(max(data["ymin"], data["ymax"]))  # the fields are swapped: the top is the larger
-    transform = from_origin(float(data["xmin"]), top, float(data["dx"]), float(data["dy"]))
-    path = folder / f"jacksboro_{scale:g}.tif"
-    profile = dict(driver="GTiff", width=z.shape[1], height=z.shape[0], count=1, dtype="float64")
-    with rasterio.open(path, "w", crs="EPSG:4326", transform=transform, **profile) as dst:
-        dst.write(z, 1)
-    return path, (z, transform)
-
-
-def height_at(grid, lat: float, lon: float) -> float:
-    z, transform = grid
-    col, row = ~transform * (lon, lat)
-    return float(z[int(row), int(col)])
-
 
 def main() -> None:
     print("site  scale  rms_m  rayleigh fraunhofer iev | bends 95 % (cov-A, A-B, B-C) DDM | surface-image angle deg")
+    sheet = jacksboro_sheet()
     with tempfile.TemporaryDirectory() as tmp:
         folder = Path(tmp)
         for scale in SCALES:
-            dem, grid = write_scaled_dem(folder, scale)
+            z = sheet.scaled(scale)
+            dem = write_raster(folder / f"jacksboro_{scale:g}.tif", z, "EPSG:4326", sheet.transform())
             for i, (lat, lon) in enumerate(SITES):
                 lat_e, lon_e, _ = geodesic_forward(lat, lon, 270.0, 2500.0)
-                text = SITE.format(
-                    scale=scale, lat=lat, lon=lon, lat_e=lat_e, lon_e=lon_e, dem=dem.name,
-                    thr=height_at(grid, lat, lon), end=height_at(grid, lat_e, lon_e),
-                )  # fmt: skip
+                ends = (lat, lon, sheet.height_at(lat, lon, z)), (lat_e, lon_e, sheet.height_at(lat_e, lon_e, z))
+                text = site_text(dem, f"Jacksboro sheet, scaled {scale}", *ends)  # category I by default
                 site = folder / f"site_{i}.toml"
                 site.write_text(text)
                 t0 = time.process_time()

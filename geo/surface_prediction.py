@@ -48,7 +48,7 @@ References
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 
@@ -455,7 +455,8 @@ def predict_surface(
     scale = image.sbo_scale
     everything = np.arange(receivers.shape[0])
     ddm_sub, sector = _evaluate(model, grid, receivers, everything, n_path, windows, scale, method, visibility)
-    if not all(math.isfinite(v) for v in sector):
+    wide = not all(math.isfinite(v) for v in sector)
+    if wide:
         sector = _wide_sector(model, heights, cell_m, image, angle_deg, scale, method, visibility, zone_factor)
     difference = np.interp(along, along[subset], ddm_sub - image.ddm_nominal[subset])
     ddm_surface = image.ddm_nominal + difference
@@ -475,6 +476,11 @@ def predict_surface(
 
     converged = {}
     if check:
+        if wide and all(math.isfinite(v) for v in sector):  # the check's windows about the surface's own roots
+            path, below, above = sector
+            found = replace(image, path_angle_deg=path, half_sector_below_deg=below, half_sector_above_deg=above)
+            windows = _windows(found, angle_deg)
+            receivers = np.vstack([points[subset], _far_receivers(windows.ravel())])
         converged = _convergence(
             model, heights, cell_m, receivers, subset, along, n_path, windows, scale, ddm_sub, sector, method,
             visibility, zone_factor,

@@ -1,10 +1,8 @@
 """Terrain studies on a real DEM: the plane solve always ends, at the answer.
 
-The DEM is matplotlib's sample data file ``jacksboro_fault_dem.npz`` (shipped in the matplotlib
-package on PyPI and Debian; ``matplotlib.cbook.get_sample_data``): 3-arc-second elevations of the
-Jacksboro fault area, Tennessee, derived from USGS data, 344 x 403 cells. Its ``ymin`` and ``ymax``
-fields are swapped (ymin 36.733 > ymax 36.446), so the sheet's top (north edge) is taken from the
-larger of the two; row 0 is taken as the north row.
+The DEM is matplotlib's sample data file ``jacksboro_fault_dem.npz`` (read by tests/jacksboro.py,
+which says where it comes from): 3-arc-second elevations of the Jacksboro fault area, Tennessee,
+derived from USGS data, 344 x 403 cells.
 
 The relief is scaled down about its mean (x 0.02 to x 0.2) to make airfield-like ground, and
 written as GeoTIFFs in two CRSs: WGS 84 geographic (EPSG:4326, the file's own grid) and UTM 16N
@@ -22,11 +20,11 @@ setback solved for a target RDH ends too, at the target or with a finding saying
 from __future__ import annotations
 
 import math
-import textwrap
 import time
 
 import numpy as np
 import pytest
+from jacksboro import NODATA, jacksboro_sheet, site_text, write_raster
 
 from geo.arrays import antenna_heights_m
 from geo.channels import wavelength_m
@@ -50,60 +48,37 @@ LEGITIMATE = ("too close to the", "off the DEM or on nodata", "falls more than")
 @pytest.fixture(scope="session")
 def jacksboro_dems(tmp_path_factory):
     """The sample DEM at every relief scale, as (crs, scale) -> GeoTIFF path, written once."""
-    import rasterio
-    from matplotlib import cbook
-    from rasterio.transform import from_origin
     from rasterio.warp import Resampling, calculate_default_transform, reproject
 
     folder = tmp_path_factory.mktemp("jacksboro")
-    with cbook.get_sample_data("jacksboro_fault_dem.npz") as data:
-        z = data["elevation"].astype(np.float64)
-        dx, dy = float(data["dx"]), float(data["dy"])
-        west = float(data["xmin"])
-        top = max(float(data["ymin"]), float(data["ymax"]))  # the fields are swapped in the file
-    rows, cols = z.shape
+    sheet = jacksboro_sheet()
+    rows, cols = sheet.z.shape
     assert (rows, cols) == (344, 403)
-    south, east = top - rows * dy, west + cols * dx
-    src_transform = from_origin(west, top, dx, dy)
+    west, south, east, top = sheet.box
     utm = "EPSG:32616"
     dst_transform, width, height = calculate_default_transform(
         "EPSG:4326", utm, cols, rows, west, south, east, top, resolution=80.0
     )
-    mean = float(z.mean())
     paths = {}
     for scale in SCALES:
-        scaled = mean + scale * (z - mean)
-        profile = {
-            "driver": "GTiff",
-            "count": 1,
-            "dtype": "float64",
-            "nodata": -9999.0,
-        }
-        geo_path = folder / f"jacksboro_geographic_{scale}.tif"
-        with rasterio.open(
-            geo_path, "w", width=cols, height=rows, crs="EPSG:4326", transform=src_transform, **profile
-        ) as dst:
-            dst.write(scaled, 1)
-        projected = np.full((height, width), -9999.0)
+        scaled = sheet.scaled(scale)
+        geo_path = write_raster(folder / f"jacksboro_geographic_{scale}.tif", scaled, "EPSG:4326", sheet.transform())
+        projected = np.full((height, width), NODATA)
         reproject(
             scaled,
             projected,
-            src_transform=src_transform,
+            src_transform=sheet.transform(),
             src_crs="EPSG:4326",
             dst_transform=dst_transform,
             dst_crs=utm,
             resampling=Resampling.bilinear,
-            src_nodata=-9999.0,
-            dst_nodata=-9999.0,
+            src_nodata=NODATA,
+            dst_nodata=NODATA,
         )
-        utm_path = folder / f"jacksboro_utm16n_{scale}.tif"
-        with rasterio.open(
-            utm_path, "w", width=width, height=height, crs=utm, transform=dst_transform, **profile
-        ) as dst:
-            dst.write(projected, 1)
+        utm_path = write_raster(folder / f"jacksboro_utm16n_{scale}.tif", projected, utm, dst_transform)
         paths["geographic", scale] = geo_path
         paths["projected", scale] = utm_path
-    return {"paths": paths, "box": (west, south, east, top), "folder": folder}
+    return {"paths": paths, "box": sheet.box, "folder": folder}
 
 
 def _site_texts(dems) -> list[dict]:
@@ -139,25 +114,11 @@ def _site_texts(dems) -> list[dict]:
                 "setback": round(float(rng.uniform(240.0, 390.0)), 1),
                 "offset": round(float(rng.uniform(100.0, 200.0)), 1),
             }
-            site["text"] = textwrap.dedent(f"""
-                units = "m"
-                [site]
-                name = "Jacksboro fictional runway {r}"
-                [runway]
-                threshold = {{ lat = {lat:.7f}, lon = {lon:.7f}, elevation = {z_thr:.2f} }}
-                end = {{ lat = {end_lat:.7f}, lon = {end_lon:.7f}, elevation = {z_end:.2f} }}
-                width = 45
-                [glide_path]
-                angle_deg = 3.0
-                localizer_mhz = 110.30
-                array = "{site["array"]}"
-                [mast]
-                side = "{site["side"]}"
-                offset = {site["offset"]}
-                setback = {site["setback"]}
-                [terrain]
-                dem = "{path}"
-                """)
+            threshold, end = (lat, lon, z_thr), (end_lat, end_lon, z_end)
+            site["text"] = site_text(
+                path, f"Jacksboro fictional runway {r}", threshold, end, site["array"], site["side"],
+                site["offset"], site["setback"],
+            )  # fmt: skip
             sites.append(site)
     return sites
 
