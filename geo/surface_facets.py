@@ -10,10 +10,11 @@ antenna and receiver can see:
   out to half-way between the first zone and the scaled one and falls to 0 at the scaled one
   (a Planck taper, infinitely differentiable, so the edge radiates almost nothing [1]_). The
   facets fill the box around all the areas, cut at the mast's foot (``u >= 0``) and at the
-  DEM's edge (nodes off the DEM count as the plane). Every weight rises from 0 at the foot
-  over half the distance to the nearest specular point: the ground right under the
-  antennas holds no specular point for any receiver of the approach, and there the amplitude
-  ``1 / r1`` varies on the scale of the antenna height, which a coarse sum aliases.
+  DEM's edge (nodes off the DEM count as the plane). Each receiver's weight rises from 0 at the
+  foot over half the distance to its own nearest specular point (so that no receiver's result
+  depends on the receivers computed with it): the ground right under the antennas holds no
+  specular point for any receiver of the approach, and there the amplitude ``1 / r1`` varies
+  on the scale of the antenna height, which a coarse sum aliases.
 - **Sampling.** Each facet integrates the linear part of the phase exactly (its sinc factors,
   :mod:`geo.optics`), so the rule that the phase move at most pi/8 between samples is applied to
   what is left, the quadratic part, ``k d^2 / (8 r)`` at the facet's edge
@@ -97,7 +98,8 @@ class AreaLimits:
     u0_m, u1_m, w0_m, w1_m : float
         The box: every scaled zone, cut at the foot of the mast. [m]
     foot_ramp_m : float
-        The weight rises from 0 at ``u0_m`` to 1 at ``u0_m + foot_ramp_m``. [m]
+        The facet weight of :meth:`weights` rises from 0 at ``u0_m`` to 1 at ``u0_m + foot_ramp_m``:
+        the smallest of ``foot_ramps_m``, for an integral over the whole box for every receiver. [m]
     centres_m : numpy.ndarray, shape (S, R, 2)
         Centres of the first Fresnel zones of each antenna and receiver. [m]
     quadratic : numpy.ndarray, shape (S, R, 2, 2)
@@ -105,6 +107,10 @@ class AreaLimits:
     zone_factor : float
         A facet counts fully for a receiver inside ``(1 + f) / 2`` times any antenna's zone
         (``rho`` below that), tapers to 0 at ``f`` times.
+    foot_ramps_m : numpy.ndarray, shape (R,), optional
+        Each receiver's own foot ramp (half the distance to its nearest specular point), applied
+        by :meth:`pair_weights`, so that a receiver's result does not depend on the receivers
+        computed with it. [m]
     """
 
     u0_m: float
@@ -115,6 +121,7 @@ class AreaLimits:
     centres_m: np.ndarray
     quadratic: np.ndarray
     zone_factor: float
+    foot_ramps_m: np.ndarray | None = None
 
     def weights(self, u_m, w_m) -> np.ndarray:
         """Weight of the facets centred at (u, w) common to all receivers (the foot ramp)."""
@@ -131,7 +138,8 @@ class AreaLimits:
 
         ``rho = sqrt((p - p0)^T Q (p - p0))`` is the distance in units of the first zone; the
         weight is a Planck taper from 1 at ``rho = (1 + f) / 2`` to 0 at ``rho = f``, the
-        largest over the antennas. ``receivers`` selects receivers (all by default).
+        largest over the antennas, times the receiver's own foot ramp (``foot_ramps_m``).
+        ``receivers`` selects receivers (all by default).
         """
         f = self.zone_factor
         sel = slice(None) if receivers is None else receivers
@@ -147,6 +155,8 @@ class AreaLimits:
         weight[inner] = 1.0
         edge = (best > (1.0 + f) / 2.0) & (best < f)
         weight[edge] = planck_taper((f - best[edge]) / ((f - 1.0) / 2.0))
+        if self.foot_ramps_m is not None:
+            weight *= planck_taper((u - self.u0_m) / self.foot_ramps_m[sel][None, :])
         return weight
 
 
@@ -185,16 +195,17 @@ def area_limits(antennas_m, receivers_m, wavelength_m: float, zone_factor: float
         hi_w.append(centre[:, 1] + f * half_w)
         spec.append(ant[2] / (ant[2] + rx[:, 2]) * (rx[:, 0] - ant[0]) + ant[0])  # specular point (u)
     u0 = 0.0
-    foot = max(0.5 * float(np.min(np.concatenate(spec))) - u0, 1.0)
+    ramps = np.maximum(0.5 * np.min(np.asarray(spec), axis=0) - u0, 1.0)  # each receiver's own
     return AreaLimits(
         u0,
         float(np.max(np.concatenate(hi_u))),
         float(np.min(np.concatenate(lo_w))),
         float(np.max(np.concatenate(hi_w))),
-        foot,
+        float(np.min(ramps)),
         np.asarray(centres),
         np.asarray(quads),
         f,
+        ramps,
     )
 
 
@@ -229,8 +240,11 @@ class SurfaceGrid:
     z_m: np.ndarray
     limits: AreaLimits
 
-    def facets(self) -> Facets:
+    def facets(self, foot: bool = True) -> Facets:
         """One facet per grid cell: the tangent parallelogram of the bilinear patch at its centre.
+
+        ``foot``: the facets carry the common foot ramp (:meth:`AreaLimits.weights`); False when
+        the pair weights carry each receiver's own (:meth:`AreaLimits.pair_weights`).
 
         Facets come in slabs of increasing ``u`` (so that a chunk of them is compact along the
         course and skips the receivers whose areas it misses).
@@ -245,7 +259,8 @@ class SurfaceGrid:
         centres = ((p00 + p10 + p01 + p11) / 4.0).reshape(-1, 3)
         a = ((p10 + p11 - p00 - p01) / 2.0).reshape(-1, 3)
         b = ((p01 + p11 - p00 - p10) / 2.0).reshape(-1, 3)
-        return Facets(centres, a, b, False, self.limits.weights(centres[:, 0], centres[:, 1]))
+        weights = self.limits.weights(centres[:, 0], centres[:, 1]) if foot else None
+        return Facets(centres, a, b, False, weights)
 
     def _centres(self):
         """Facet centres on the lattice: ``u`` per slab (nu - 1), ``w`` per column (nw - 1), ``Z`` (nu - 1, nw - 1)."""

@@ -180,7 +180,8 @@ def surface_fields(
     plane_nodes = _plane_z(model, *np.meshgrid(grid.u_m, grid.w_m))
     z = np.where(np.isfinite(grid.z_m), grid.z_m, plane_nodes)
     surface = SurfaceGrid(grid.u_m, grid.w_m, z, grid.limits)
-    facets = surface.facets()
+    own_areas = rx_index is not None  # each receiver's own area and foot ramp, in the pair weights
+    facets = surface.facets(foot=not own_areas)
     consts = (model.wavelength_m, model.relative_permittivity, model.conductivity_s_m)
     vis = horizon = None
     if visibility:
@@ -199,7 +200,7 @@ def surface_fields(
         return model.csb @ (direct + po), model.sbo @ (direct + po)
     if method != "difference":
         raise ValueError(f"method {method!r} is not one of 'difference', 'raw'")
-    plane = SurfaceGrid(grid.u_m, grid.w_m, plane_nodes, grid.limits).facets()
+    plane = SurfaceGrid(grid.u_m, grid.w_m, plane_nodes, grid.limits).facets(foot=not own_areas)
     po = po - ground_fields(model.positions_m, plane, rx, *consts, **options)
     if far:
         elevation = np.arcsin(np.clip(rx[:, 2], -1.0, 1.0))
