@@ -77,8 +77,9 @@ def _save(fig, path: Path) -> None:
         if ax.get_xscale() == "log":
             _minor_ticks_as_marks(ax)
     fig.canvas.draw()
-    rgb = np.asarray(fig.canvas.buffer_rgba())[..., :3]
-    Image.fromarray(rgb).save(path, format="png", compress_level=3, dpi=(_DPI, _DPI))
+    width, height = fig.canvas.get_width_height()
+    rgba = Image.frombuffer("RGBA", (width, height), fig.canvas.buffer_rgba(), "raw", "RGBA", 0, 1)
+    rgba.convert("RGB").save(path, format="png", compress_level=3, dpi=(_DPI, _DPI))
 
 
 def _minor_ticks_as_marks(ax) -> None:
