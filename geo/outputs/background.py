@@ -100,8 +100,7 @@ class BackgroundWriter:
     ----------
     outputs : sequence of str
         The outputs the workers will write (``"plots"``, ``"map"``, ``"gpkg"``); they import their
-        libraries at once. The plots get a worker; the map and the GeoPackage share another, which
-        also draws some of the plots.
+        libraries at once. The plots get a worker; the map and the GeoPackage share another.
 
     Notes
     -----
@@ -118,39 +117,33 @@ class BackgroundWriter:
         groups = [tuple(o for o in group if o in self.outputs) for group in _GROUPS]
         known = {o for group in _GROUPS for o in group}
         groups.append(tuple(o for o in self.outputs if o not in known))
-        groups = [group for group in groups if group]
-        if "plots" in self.outputs:  # the other workers draw some of the plots too
-            groups = [group if "plots" in group else (*group, "plots") for group in groups]
         self._workers: list[_Worker] = []
         for group in groups:
-            self._workers.append(_Worker(ctx, group, self._workers))
+            if group:
+                self._workers.append(_Worker(ctx, group, self._workers))
 
     @property
     def _proc(self):
         """The first worker process (every worker ends with it)."""
         return self._workers[0].proc
 
-    def shares(self, output: str) -> int:
-        """How many workers write ``output`` (its tasks may be shared among them)."""
-        return sum(output in worker.outputs for worker in self._workers)
+    def _worker_for(self, output: str | None) -> _Worker:
+        for worker in self._workers:
+            if output in worker.outputs:
+                return worker
+        return self._workers[0]
 
-    def _worker_for(self, output: str | None, share: int) -> _Worker:
-        workers = [worker for worker in self._workers if output in worker.outputs] or self._workers
-        return workers[min(share, len(workers) - 1)]
+    def submit(self, func: Callable, *args, output: str | None = None) -> None:
+        """Run ``func(*args)`` in the worker of ``output`` (``func`` must be a module-level function).
 
-    def submit(self, func: Callable, *args, output: str | None = None, share: int = 0) -> None:
-        """Run ``func(*args)`` in a worker of ``output`` (``func`` must be a module-level function).
-
-        ``share`` picks among the workers that write ``output`` (:meth:`shares`); the first by
-        default. What cannot be sent to a worker (an argument that does not pickle) runs here at
-        once.
+        What cannot be sent to a worker (an argument that does not pickle) runs here at once.
         """
         try:
             data = ForkingPickler.dumps((func, args))
         except (pickle.PicklingError, TypeError, AttributeError):
             func(*args)
             return
-        worker = self._worker_for(output, share)
+        worker = self._worker_for(output)
         worker.conn.send_bytes(data)
         worker.pending += 1
 

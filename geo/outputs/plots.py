@@ -11,15 +11,7 @@ import numpy as np
 from geo.study import StudyResult
 from geo.units import M_PER_FT
 
-__all__ = [
-    "plot_profile",
-    "plot_residuals",
-    "plot_ddm",
-    "plot_path",
-    "plot_surface_structure",
-    "plot_files",
-    "write_plots",
-]
+__all__ = ["plot_profile", "plot_residuals", "plot_ddm", "plot_path", "plot_surface_structure", "write_plots"]
 
 
 #: Pixels per inch of the PNG files.
@@ -332,38 +324,12 @@ def plot_surface_structure(result: StudyResult, path: Path) -> None:
     _save(fig, path)
 
 
-#: The plots by file name, in the order they are drawn.
-PLOT_FILES = ("profile.png", "residuals.png", "ddm.png", "path.png", "surface.png")
-
-
-def plot_files(result: StudyResult) -> tuple[str, ...]:
-    """The plots a study has: the profile and residuals and surface need a DEM."""
-    skip = set()
-    if result.profile is None:
-        skip |= {"profile.png", "residuals.png"}
-    if result.surface is None:
-        skip.add("surface.png")
-    return tuple(name for name in PLOT_FILES if name not in skip)
-
-
-def write_plots(result: StudyResult, folder: Path, names=None) -> None:
-    """Draw the plots of a study into ``folder``: the profile, residuals and surface (with a DEM), DDM, path.
-
-    Parameters
-    ----------
-    result : StudyResult
-    folder : Path
-    names : sequence of str, optional
-        Only these of :func:`plot_files` (two writer processes share the plots); every one when
-        not given.
-    """
-    draw = {
-        "profile.png": plot_profile,
-        "residuals.png": plot_residuals,
-        "ddm.png": plot_ddm,
-        "path.png": plot_path,
-        "surface.png": plot_surface_structure,
-    }
-    for name in plot_files(result):
-        if names is None or name in names:
-            draw[name](result, folder / name)
+def write_plots(result: StudyResult, folder: Path) -> None:
+    """Draw every plot of a study into ``folder``: the profile, residuals and surface (with a DEM), DDM, path."""
+    if result.profile is not None:
+        plot_profile(result, folder / "profile.png")
+        plot_residuals(result, folder / "residuals.png")
+    plot_ddm(result, folder / "ddm.png")
+    plot_path(result, folder / "path.png")
+    if result.surface is not None:
+        plot_surface_structure(result, folder / "surface.png")

@@ -45,11 +45,6 @@ def check_outputs(names) -> tuple[str, ...]:
     return names
 
 
-#: The plots that the worker of the map and the GeoPackage draws when the plots' worker has the
-#: rest: about as long to draw as the map and the GeoPackage are shorter than the other plots.
-_PLOTS_BESIDE_THE_MAP = ("path.png",)
-
-
 def fill_study(
     result: StudyResult,
     folder: Path,
@@ -84,14 +79,9 @@ def fill_study(
     elsewhere = set(background.outputs) & chosen if background is not None else set()
     try:
         if "plots" in elsewhere:
-            from geo.outputs.plots import plot_files, write_plots
+            from geo.outputs.plots import write_plots
 
-            if background.shares("plots") > 1:  # the map's worker draws the path plot
-                rest = tuple(n for n in plot_files(result) if n not in _PLOTS_BESIDE_THE_MAP)
-                background.submit(write_plots, result, folder, rest, output="plots")
-                background.submit(write_plots, result, folder, _PLOTS_BESIDE_THE_MAP, output="plots", share=1)
-            else:
-                background.submit(write_plots, result, folder, output="plots")
+            background.submit(write_plots, result, folder, output="plots")
         if "map" in elsewhere:
             from geo.outputs.webmap import write_map
 
