@@ -6,6 +6,10 @@ run (every output, as `mastplan demo` writes them) so that both see the same mac
 figure is the ratio of the medians. Goal for reference (issue 13): the full run within 7 times the
 floor on 2 cores.
 
+Then the writing phase alone: in a new process, the study as `mastplan run` runs it (its writer
+processes started first), then the wall time from the end of the study to the output folder in
+place, every output.
+
 Then variants: without plots, the study with only its summary and GeoJSON layers (the site-study
 core's outputs), and that on flat ground (the demo site with its [terrain] table removed).
 Prints figures; never fails by timing. Other work on the machine slows every figure: the load
@@ -45,6 +49,30 @@ def _run_args(site: Path, tmp: str, *extra: str) -> list[str]:
     return ["-m", "cli.main", "run", str(site), "--out", f"{tmp}/r", "--overwrite", "--quiet", *extra]
 
 
+#: One run whose last line is the wall time of its writing phase (from the end of the study).
+WRITING = """
+import sys, time
+from cli.run import _background
+from geo.outputs.write import OUTPUTS, write_study
+from geo.site import load_site
+from geo.study import run_study
+
+with _background(OUTPUTS, True) as background:
+    result = run_study(load_site(sys.argv[1]))
+    start = time.perf_counter()
+    write_study(result, sys.argv[2], overwrite=True, background=background)
+print(time.perf_counter() - start)
+"""
+
+
+def _writing_phase(site: Path, tmp: str) -> float:
+    """Wall time of the writing phase of one run in a new process (every output)."""
+    done = subprocess.run(
+        [sys.executable, "-c", WRITING, str(site), f"{tmp}/w"], check=True, cwd=ROOT, capture_output=True, text=True
+    )
+    return float(done.stdout.split()[-1])
+
+
 def _line(label: str, t: list[float]) -> str:
     return f"{label}, {len(t)} runs: median {statistics.median(t):.3f} s, min {min(t):.3f} s, max {max(t):.3f} s"
 
@@ -64,6 +92,8 @@ def main() -> None:
             f"(CPU / wall {statistics.median(cpu) / statistics.median(full):.2f}: above 1 where processes overlap)"
         )
         print(f"load average at the end (1 min): {os.getloadavg()[0]:.2f} on {os.cpu_count()} CPUs")
+        writing = [_writing_phase(SITE, tmp) for _ in range(RUNS)]
+        print(_line("writing phase alone (demo site, every output, from the end of the study)", writing))
 
         flat = Path(tmp) / "flat.toml"
         flat.write_text(SITE.read_text().split("[terrain]")[0])

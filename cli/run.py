@@ -45,15 +45,15 @@ def run_site(
 
 
 def _background(chosen, plots: bool):
-    """A writer process for the plots and the GeoPackage, started before the study.
+    """Writer processes for the plots, the map and the GeoPackage, started before the study.
 
-    It imports their libraries while the study runs; a no-op context when neither is written.
+    They import their libraries while the study runs; a no-op context when none is written.
     """
     import contextlib
 
     from geo.outputs.background import BackgroundWriter
 
-    slow = [name for name in ("plots", "gpkg") if name in chosen and (plots or name != "plots")]
+    slow = [name for name in ("plots", "map", "gpkg") if name in chosen and (plots or name != "plots")]
     return BackgroundWriter(slow) if slow else contextlib.nullcontext()
 
 

@@ -1,17 +1,18 @@
-"""A writer process beside the main one: the PNG plots and the GeoPackage while the rest is written.
+"""Writer processes beside the main one: the PNG plots, the map and the GeoPackage while the rest is written.
 
-Most of a full run's time goes to importing matplotlib and pyogrio and drawing the plots. A
-:class:`BackgroundWriter` starts one worker process as soon as it is made; the worker imports
-those libraries while the main process computes the study, then draws the plots and writes the
-GeoPackage while the main process writes the summary, layers, KML, map, tables and report. The
-files are the same bytes as when one process writes them all: the same functions run on the same
-results, only in another process.
+Most of a full run's writing time goes to importing matplotlib, folium and pyogrio, drawing the
+plots and rendering the map. A :class:`BackgroundWriter` starts its worker processes as soon as it
+is made: one for the plots, one for the map and the GeoPackage. They import those libraries while
+the main process computes the study, then draw the plots, render the map and write the GeoPackage
+while the main process writes the summary, layers, KML, tables and report. The files are the same
+bytes as when one process writes them all: the same functions run on the same results, only in
+other processes.
 
-The worker imports pyogrio without geopandas and pandas (:mod:`geo.outputs.imports`): its
-low-level writer does not use them.
+The workers import folium and pyogrio without geopandas and pandas
+(:mod:`geo.outputs.imports`): the map and the low-level GeoPackage writer do not use them.
 
 Stopping: when the main process is interrupted or fails, :meth:`BackgroundWriter.stop` ends the
-worker before the temporary folder is removed, so that nothing is written into it afterwards.
+workers before the temporary folder is removed, so that nothing is written into it afterwards.
 """
 
 from __future__ import annotations
@@ -27,25 +28,33 @@ from geo.outputs.imports import import_without_dataframes
 
 __all__ = ["BackgroundWriter"]
 
-#: What the worker imports ahead, by output name.
+#: What a worker imports ahead, by output name.
 _WARM_MODULES = {
     "plots": ("matplotlib.figure", "matplotlib.backends.backend_agg", "geo.outputs.plots"),
     "gpkg": ("geo.outputs.gpkg",),
+    "map": ("branca.element", "geo.outputs.webmap", "geo.dem", "geo.hillshade", "pyproj"),
 }
+#: What a worker imports ahead with the data-frame libraries hidden, by output name.
+_WARM_WITHOUT_DATAFRAMES = {"gpkg": "pyogrio.raw", "map": "folium"}
+#: The outputs that share a worker process; each group that has an output chosen gets its own.
+_GROUPS = (("plots",), ("map", "gpkg"))
 
 
-def _serve(conn, outputs: Sequence[str], main_end) -> None:
+def _serve(conn, outputs: Sequence[str], main_ends) -> None:
     """The worker's loop: import ahead, then run each ``(function, args)`` sent until ``None``.
 
-    The worker closes its copy of the main process's end of the pipe, so that it sees the end of
-    the pipe and stops when the main process dies without a word (SIGKILL).
+    The worker closes its copies of the main process's ends of the pipes (its own and those of the
+    workers started before it), so that it sees the end of its pipe and stops when the main
+    process dies without a word (SIGKILL).
     """
     signal.signal(signal.SIGINT, signal.SIG_IGN)  # the main process decides what an interrupt stops
     signal.signal(signal.SIGTERM, signal.SIG_DFL)
-    main_end.close()
+    for main_end in main_ends:
+        main_end.close()
     try:
-        if "gpkg" in outputs:
-            import_without_dataframes("pyogrio.raw")
+        for name in outputs:
+            if name in _WARM_WITHOUT_DATAFRAMES:
+                import_without_dataframes(_WARM_WITHOUT_DATAFRAMES[name])
         for name in outputs:
             for module in _WARM_MODULES.get(name, ()):
                 importlib.import_module(module)
@@ -71,84 +80,115 @@ def _serve(conn, outputs: Sequence[str], main_end) -> None:
     conn.close()
 
 
+class _Worker:
+    """One worker process and the main process's end of its pipe."""
+
+    def __init__(self, ctx, outputs: tuple[str, ...], before: Sequence[_Worker]) -> None:
+        self.outputs = outputs
+        self.conn, child = ctx.Pipe()
+        main_ends = [self.conn, *(worker.conn for worker in before)]
+        self.proc = ctx.Process(target=_serve, args=(child, outputs, main_ends), daemon=True, name="mastplan-writer")
+        self.proc.start()
+        child.close()
+        self.pending = 0
+
+
 class BackgroundWriter:
-    """One worker process that imports the slow writers' libraries ahead and runs writers on request.
+    """Worker processes that import the slow writers' libraries ahead and run writers on request.
 
     Parameters
     ----------
     outputs : sequence of str
-        The outputs the worker will write (``"plots"``, ``"gpkg"``); it imports their libraries
-        at once.
+        The outputs the workers will write (``"plots"``, ``"map"``, ``"gpkg"``); they import their
+        libraries at once. The plots get a worker; the map and the GeoPackage share another.
 
     Notes
     -----
-    Use as a context manager around the study and the writing. Tasks run in the order given;
-    :meth:`wait` returns when all have run and raises the first error one of them raised. On
-    Linux the worker is a fork of the main process (it starts without importing anything again);
-    elsewhere it is a fresh interpreter.
+    Use as a context manager around the study and the writing. Tasks for one output run in the
+    order given; :meth:`wait` returns when all have run and raises the first error one of them
+    raised. On Linux a worker is a fork of the main process (it starts without importing anything
+    again); elsewhere it is a fresh interpreter.
     """
 
     def __init__(self, outputs: Sequence[str]) -> None:
         methods = multiprocessing.get_all_start_methods()
         ctx = multiprocessing.get_context("fork" if "fork" in methods else None)
         self.outputs = tuple(outputs)
-        self._conn, child = ctx.Pipe()
-        self._proc = ctx.Process(
-            target=_serve, args=(child, self.outputs, self._conn), daemon=True, name="mastplan-writer"
-        )
-        self._proc.start()
-        child.close()
-        self._pending = 0
+        groups = [tuple(o for o in group if o in self.outputs) for group in _GROUPS]
+        known = {o for group in _GROUPS for o in group}
+        groups.append(tuple(o for o in self.outputs if o not in known))
+        self._workers: list[_Worker] = []
+        for group in groups:
+            if group:
+                self._workers.append(_Worker(ctx, group, self._workers))
 
-    def submit(self, func: Callable, *args) -> None:
-        """Run ``func(*args)`` in the worker (``func`` must be a module-level function).
+    @property
+    def _proc(self):
+        """The first worker process (every worker ends with it)."""
+        return self._workers[0].proc
 
-        What cannot be sent to the worker (an argument that does not pickle) runs here at once.
+    def _worker_for(self, output: str | None) -> _Worker:
+        for worker in self._workers:
+            if output in worker.outputs:
+                return worker
+        return self._workers[0]
+
+    def submit(self, func: Callable, *args, output: str | None = None) -> None:
+        """Run ``func(*args)`` in the worker of ``output`` (``func`` must be a module-level function).
+
+        What cannot be sent to a worker (an argument that does not pickle) runs here at once.
         """
         try:
             data = ForkingPickler.dumps((func, args))
         except (pickle.PicklingError, TypeError, AttributeError):
             func(*args)
             return
-        self._conn.send_bytes(data)
-        self._pending += 1
+        worker = self._worker_for(output)
+        worker.conn.send_bytes(data)
+        worker.pending += 1
 
     def wait(self) -> None:
         """Wait for every submitted task; raise the first error any of them raised."""
         error = None
-        while self._pending:
-            try:
-                status, exc = self._conn.recv()
-            except EOFError:
-                self._pending = 0
-                raise RuntimeError("the background writer process ended unexpectedly") from None
-            self._pending -= 1
-            if status == "error" and error is None:
-                error = exc
+        for worker in self._workers:
+            while worker.pending:
+                try:
+                    status, exc = worker.conn.recv()
+                except EOFError:
+                    for other in self._workers:
+                        other.pending = 0
+                    raise RuntimeError("a background writer process ended unexpectedly") from None
+                worker.pending -= 1
+                if status == "error" and error is None:
+                    error = exc
         if error is not None:
             raise error
 
     def stop(self) -> None:
-        """End the worker now, whatever it is doing (after an error or an interrupt).
+        """End the workers now, whatever they are doing (after an error or an interrupt).
 
         SIGKILL, not SIGTERM: a SIGTERM that reaches a just-forked worker before its Python signal
-        handling is set up is lost, and the worker has nothing to clean up (the main process
-        removes the temporary folder after this returns).
+        handling is set up is lost, and a worker has nothing to clean up (the main process removes
+        the temporary folder after this returns).
         """
-        if self._proc.is_alive():
-            self._proc.kill()
-        self._proc.join()
-        self._pending = 0
-        self._conn.close()
+        for worker in self._workers:
+            if worker.proc.is_alive():
+                worker.proc.kill()
+        for worker in self._workers:
+            worker.proc.join()
+            worker.pending = 0
+            worker.conn.close()
 
     def close(self) -> None:
-        """Let the worker finish and end."""
-        if self._proc.is_alive():
-            try:
-                self._conn.send(None)
-            except OSError:
-                pass
-            self._proc.join(timeout=10)
+        """Let the workers finish and end."""
+        for worker in self._workers:
+            if worker.proc.is_alive():
+                try:
+                    worker.conn.send(None)
+                except OSError:
+                    pass
+        for worker in self._workers:
+            worker.proc.join(timeout=10)
         self.stop()
 
     def __enter__(self) -> BackgroundWriter:

@@ -66,8 +66,8 @@ def fill_study(
     extra_layers : dict, optional
         More FeatureCollections for the layers, GeoPackage, KML and map (a sweep's candidates).
     background : geo.outputs.background.BackgroundWriter, optional
-        A worker process that draws the plots and writes the GeoPackage (those it was started
-        for) while this process writes the rest; the files are the same. It is stopped when
+        Worker processes that draw the plots, render the map and write the GeoPackage (those they
+        were started for) while this process writes the rest; the files are the same. It is stopped when
         writing fails or is interrupted, before the caller removes the folder.
     """
     chosen = set(outputs) - (set() if plots else {"plots"})
@@ -81,11 +81,15 @@ def fill_study(
         if "plots" in elsewhere:
             from geo.outputs.plots import write_plots
 
-            background.submit(write_plots, result, folder)
+            background.submit(write_plots, result, folder, output="plots")
+        if "map" in elsewhere:
+            from geo.outputs.webmap import write_map
+
+            background.submit(write_map, result, layers, folder / "map.html", output="map")
         if "gpkg" in elsewhere:
             from geo.outputs.gpkg import write_gpkg
 
-            background.submit(write_gpkg, layers, folder / "site.gpkg")
+            background.submit(write_gpkg, layers, folder / "site.gpkg", output="gpkg")
         _fill_here(result, folder, chosen - elsewhere, layers, "plots" in chosen)
         if elsewhere:
             background.wait()
