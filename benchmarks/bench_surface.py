@@ -59,6 +59,36 @@ def kernel_figures() -> None:
     print(f"scattered_field (general): {pairs / cpu / 1e6:.1f} M pairs/s (CPU), {pairs / wall / 1e6:.1f} (wall)")
 
 
+def demo_kernel_figures() -> None:
+    """Time spent in ``ground_fields`` during the demo study (every call the surface prediction makes)."""
+    import geo.study as study
+    import geo.surface_prediction as surface_prediction
+    from geo.site import load_site
+
+    spec = load_site(ROOT / "demo_airfield" / "site.toml")
+    study.run_study(spec)  # warm caches (transformers, imports)
+    inner = surface_prediction.ground_fields
+    spent = {"calls": 0, "pairs": 0, "wall": 0.0, "cpu": 0.0}
+
+    def timed(sources, facets, receivers, *args, **kwargs):
+        out, wall, cpu = _timed(lambda: inner(sources, facets, receivers, *args, **kwargs))
+        spent["calls"] += 1
+        spent["pairs"] += len(np.atleast_2d(sources)) * len(facets) * len(np.atleast_2d(receivers))
+        spent["wall"] += wall
+        spent["cpu"] += cpu
+        return out
+
+    surface_prediction.ground_fields = timed
+    try:
+        study.run_study(spec)
+    finally:
+        surface_prediction.ground_fields = inner
+    print(
+        f"demo study, ground_fields: {spent['calls']} calls, {spent['wall']:.2f} s wall / {spent['cpu']:.2f} s CPU "
+        f"({spent['pairs'] / 1e6:.0f} M pairs before pair weights and shadowing)"
+    )
+
+
 def demo_figures() -> None:
     import geo.study as study
     import geo.surface_study as surface_study
@@ -86,4 +116,5 @@ def demo_figures() -> None:
 if __name__ == "__main__":
     os.environ.setdefault("OMP_NUM_THREADS", "1")
     kernel_figures()
+    demo_kernel_figures()
     demo_figures()
