@@ -58,8 +58,10 @@ from geo.ground import reflection_coefficient_h
 
 __all__ = ["Facets", "scattered_field", "ground_fields", "direct_field", "horizontal_polarisation", "mirror_points"]
 
-#: Facet-receiver pairs of one chunk (each thread holds about 25 arrays of this size, reused).
-_PAIRS_PER_CHUNK = 32_768
+#: Facet-receiver pairs of one chunk (each thread holds about 30 arrays of this size, reused). At most
+#: 2**16, so that each matrix product of a chunk (inner size 4) stays below the size at which OpenBLAS
+#: starts threads of its own (``m n k <= 4 x 65536`` runs on one thread), which spin against ours.
+_PAIRS_PER_CHUNK = 65_536
 #: Worker threads of the kernel (the machine the project targets has 2 cores).
 _THREADS = 2
 
@@ -150,6 +152,11 @@ class _Workspace:
         if key not in self.flat or self.flat[key].size < need:
             self.flat[key] = np.empty(max(self.size, need), dtype=dtype)
         return self.flat[key][:need].reshape(shape)
+
+
+def _run(index: np.ndarray):
+    """``index`` as a slice when it is one run of consecutive numbers (no copy), else as it is."""
+    return slice(index[0], index[-1] + 1) if index[-1] - index[0] + 1 == index.size else index
 
 
 def _pair_fields(
@@ -255,7 +262,7 @@ def _pair_fields(
     h1 = np.hypot(sx, sy)
     a1 = np.abs(ns1)
     b1 = -np.sign(ns1) * (n[None, :, 1] * sx - n[None, :, 0] * sy)
-    coef = (np.stack([sx, sy, a1 * sx + b1 * sy, a1 * sy - b1 * sx], axis=2) / h1[..., None]).astype(dt)  # (S, P, 4)
+    coef = np.stack([sx, sy, a1 * sx + b1 * sy, a1 * sy - b1 * sx], axis=2) / h1[..., None]  # (S, P, 4)
     half_k = 0.5 * k
     s1a = (half_k * np.einsum("spj,pj->sp", s1, facets.edge_a_m)).astype(dt)
     s1b = (half_k * np.einsum("spj,pj->sp", s1, facets.edge_b_m)).astype(dt)
@@ -266,17 +273,22 @@ def _pair_fields(
         table = table.astype(dt)
         per_rad = (_GAMMA_TABLE_RAD.size - 1) / _GAMMA_TABLE_RAD[-1]
         g1 = np.arcsin(np.minimum(a1, 1.0)).astype(dt)  # the source's grazing angle
-    n_w = n.astype(dt)
-    ka, kb = (half_k * facets.edge_a_m).astype(dt), (half_k * facets.edge_b_m).astype(dt)
+    # Vectors whose products with (receiver - centre) the pairs need: x, y, z; n; h2 (n . e_r); k a / 2, k b / 2.
+    axes = np.broadcast_to(np.eye(3)[:, None, :], (3, count_p, 3))
+    n_e = np.column_stack([n[:, 1], -n[:, 0], np.zeros(count_p)])
+    shared = np.concatenate([axes, np.stack([n, n_e, half_k * facets.edge_a_m, half_k * facets.edge_b_m])])
     ht = None if horizon_tan is None else np.asarray(horizon_tan, dtype=dt)
-    cycles = 1.0 / wavelength_m
-    if far:
-        directions = rx.astype(dt)
-        h2_far = np.hypot(directions[:, 0], directions[:, 1])
+    # Lengths in wavelengths for points (so r2 is in turns), as given for far directions.
+    unit = 1.0 if far else 1.0 / wavelength_m
+    homogeneous = np.column_stack([rx * unit, np.full(count_r, 0.0 if far else 1.0)])
     tiny = dt.type(_TINY)
     rows_per_chunk = max(1, _PAIRS_PER_CHUNK // count_r)
     size = rows_per_chunk * count_r
     spaces: dict = {}
+
+    def rows_about(vectors: np.ndarray, centres: np.ndarray) -> np.ndarray:
+        """``[v, -v . c]`` per facet: times ``[q, 1]`` (a point) it is ``v . (q - c)``, times ``[d, 0]`` ``v . d``."""
+        return np.concatenate([vectors, -np.einsum("...pj,pj->...p", vectors, centres)[..., None]], axis=-1)
 
     def chunk(start: int):
         sl = slice(start, min(start + rows_per_chunk, count_p))
@@ -300,74 +312,57 @@ def _pair_fields(
             return ws.take(name, (p, m), dtype)
 
         tmp = take("tmp")
+        centres = facets.centres_m[idx] * unit
+        middle = centres.mean(axis=0)  # products about the chunk's middle (single precision keeps its digits)
+        q = homogeneous[cols] if far else homogeneous[cols] - np.r_[middle, 0.0]
+        q_t = q.T.astype(dt)
+        lin = ws.take("lin", (7, p, m), dt)
+        for row, homogeneous_rows in zip(lin, rows_about(shared[:, idx], centres - middle).astype(dt)):
+            np.matmul(homogeneous_rows, q_t, out=row)
+        x, y, z, nl, el, ra, rb = lin  # x, y, z: r2 times the range in turns (1 for far receivers)
         turns, whole, wa = take("turns", f64), take("whole", f64), take("wa")
-        c = facets.centres_m[idx]
         if far:
-            x, y, z = (directions[cols, i][None, :] for i in range(3))
-            h2 = h2_far[cols][None, :]
-            np.matmul(c, rx[cols].T * -cycles, out=turns)  # exp(-j k r2) -> exp(+j k d . c)
-            np.divide(1.0, h2, out=wa)  # 1 / h2
-        else:
-            # r2 in wavelengths, from the differences in double precision (each pair on its own).
+            np.matmul(centres, rx[cols].T * (-1.0 / wavelength_m), out=turns)  # exp(-j k r2) -> exp(+j k d . c)
+        else:  # r2 in turns, from the differences in double precision (each pair on its own)
             dx, dy, dz = take("dx", f64), take("dy", f64), take("dz", f64)
             for i, d in enumerate((dx, dy, dz)):
-                np.subtract(rx[cols, i][None, :] * cycles, c[:, i, None] * cycles, out=d)
+                np.subtract(homogeneous[cols, i][None, :], centres[:, i, None], out=d)
             np.multiply(dx, dx, out=turns)
             np.multiply(dy, dy, out=whole)
             turns += whole
             np.multiply(dz, dz, out=whole)
             turns += whole
             np.sqrt(turns, out=turns)
-            inverse_r2 = take("inverse_r2", f64)
+            inverse_r2 = take("inverse_r2")
             np.divide(1.0, turns, out=inverse_r2)
-            x, y, z, h2 = take("x"), take("y"), take("z"), take("h2")
-            for d, v in ((dx, x), (dy, y), (dz, z)):
-                np.multiply(d, inverse_r2, out=v)
-            np.multiply(x, x, out=h2)
-            np.multiply(y, y, out=tmp)
-            h2 += tmp
-            np.sqrt(h2, out=h2)
-            np.divide(inverse_r2, h2, out=wa)  # 1 / (r2 h2); the wavelength of r2 goes into the final factor
+            ra *= inverse_r2
+            rb *= inverse_r2
+        # rho = h2 times the range: the 1 / h2 of the coupling and the wave's 1 / r2 are 1 / (r2 rho / r2).
+        np.multiply(x, x, out=wa)
+        np.multiply(y, y, out=tmp)
+        wa += tmp
+        np.sqrt(wa, out=wa)
+        mask = take("mask", np.bool_)
+        if ht is not None:
+            np.multiply(wa, ht[idx, None], out=tmp)
+            np.greater(z, tmp, out=mask)
+        np.divide(1.0 if far else inverse_r2, wa, out=wa)  # 1 / (r2 h2) times 1 / r2 (spherical wave)
+        if ht is not None:
+            wa *= mask
+        if not two_sided:
+            np.greater(nl, 0.0, out=mask)
+            wa *= mask  # a ground facet radiates only upward
+        else:  # sign(N) on the products with n and e_r (module notes: P, Q)
+            np.copysign(1.0, nl, out=tmp)
+            nl *= tmp
+            el *= tmp
+        if pair is not None:
+            wa *= pair
         # The phase reduced to one turn in double precision, then in dt: exp(-j 2 pi turns).
         np.rint(turns, out=whole)
         turns -= whole
         phase = take("phase")
         np.multiply(turns, -2.0 * math.pi, out=phase)
-        nn = n_w[idx]
-        nr2, ne_rx = take("nr2"), take("ne_rx")
-        np.multiply(x, nn[:, 0, None], out=nr2)
-        np.multiply(y, nn[:, 1, None], out=tmp)
-        nr2 += tmp
-        np.multiply(z, nn[:, 2, None], out=tmp)
-        nr2 += tmp
-        np.multiply(x, nn[:, 1, None], out=ne_rx)
-        np.multiply(y, nn[:, 0, None], out=tmp)
-        ne_rx -= tmp
-        if two_sided:
-            np.copysign(1.0, nr2, out=tmp)
-            ne_rx *= tmp
-            np.abs(nr2, out=nr2)
-        else:
-            wa *= nr2 > 0.0  # a ground facet radiates only upward
-        if ht is not None:
-            np.multiply(h2, ht[idx, None], out=tmp)
-            wa *= z > tmp
-        if pair is not None:
-            wa *= pair
-        big_p, big_q = take("P"), take("Q")
-        np.multiply(x, nr2, out=big_p)
-        np.multiply(y, ne_rx, out=tmp)
-        big_p -= tmp
-        np.multiply(y, nr2, out=big_q)
-        np.multiply(x, ne_rx, out=tmp)
-        big_q += tmp
-        ra, rb = take("ra"), take("rb")
-        for r_e, edge in ((ra, ka[idx]), (rb, kb[idx])):
-            np.multiply(x, edge[:, 0, None], out=r_e)
-            np.multiply(y, edge[:, 1, None], out=tmp)
-            r_e += tmp
-            np.multiply(z, edge[:, 2, None], out=tmp)
-            r_e += tmp
         wave_re, wave_im = take("wave_re"), take("wave_im")
         np.cos(phase, out=wave_re)
         wave_re *= wa
@@ -375,24 +370,39 @@ def _pair_fields(
         wave_im *= wa
         if lossy:
             g2 = take("g2")
-            np.arcsin(np.minimum(nr2, 1.0, out=g2), out=g2)
+            np.abs(nl, out=g2)
+            if not far:
+                g2 *= inverse_r2
+            np.minimum(g2, 1.0, out=g2)
+            np.arcsin(g2, out=g2)
+        if not far:  # x, y, z, n . r2 and h2 (n . e_r) were times the range
+            nl *= inverse_r2
+            el *= inverse_r2
         local, inverse = np.unique(group_of[idx], return_inverse=True)
-        gather = np.zeros((2 * local.size, p), dtype=dt)
+        members_of = [slice(None)]
+        if local.size > 1:
+            members_of = [_run(np.flatnonzero(inverse == g)) for g in range(local.size)]
         result = np.zeros((src.shape[0], local.size, m), dtype=complex)
         coupling, u, v = take("coupling"), take("u"), take("v")
         terms = ws.take("terms", (p, 2 * m), dt)
+        per_source = ws.take("per_source", (3, p, m), dt)
+        g_1, g_2, g_3 = per_source
         for s in range(src.shape[0]):
             amp_s = amp[s, idx]
             if not np.any(amp_s):
                 continue
+            # F h1 h2 = s1x P + s1y Q + c1 x + c2 y (see _pair_fields): three products with (receiver - centre).
             cs = coef[s, idx]
-            np.multiply(big_p, cs[:, 0, None], out=coupling)
-            np.multiply(big_q, cs[:, 1, None], out=tmp)
+            vectors = np.zeros((3, p, 3))
+            vectors[0, :, 0], vectors[0, :, 1] = cs[:, 0], cs[:, 1]
+            vectors[1, :, 0], vectors[1, :, 1] = cs[:, 1], -cs[:, 0]
+            vectors[2, :, 0], vectors[2, :, 1] = cs[:, 2], cs[:, 3]
+            for row, homogeneous_rows in zip(per_source, rows_about(vectors, centres - middle).astype(dt)):
+                np.matmul(homogeneous_rows, q_t, out=row)
+            np.multiply(nl, g_1, out=coupling)
+            np.multiply(el, g_2, out=tmp)
             coupling += tmp
-            np.multiply(x, cs[:, 2, None], out=tmp)
-            coupling += tmp
-            np.multiply(y, cs[:, 3, None], out=tmp)
-            coupling += tmp
+            coupling += g_3
             for r_e, s_e in ((ra, s1a), (rb, s1b)):  # S(t) = sin(t / 2) / (t / 2), t / 2 = s1 . e - r2 . e
                 np.subtract(s_e[s, idx, None], r_e, out=u)
                 np.abs(u, out=u)
@@ -423,11 +433,11 @@ def _pair_fields(
             else:
                 np.multiply(coupling, wave_re, out=terms[:, :m])
                 np.multiply(coupling, wave_im, out=terms[:, m:])
-            gather[2 * inverse, np.arange(p)] = amp_s.real
-            gather[2 * inverse + 1, np.arange(p)] = amp_s.imag
-            summed = (gather @ terms).astype(float)  # (2 G, 2 m): rows real and imaginary parts of the source factor
-            result[s].real = summed[0::2, :m] - summed[1::2, m:]
-            result[s].imag = summed[0::2, m:] + summed[1::2, :m]
+            factor = np.stack([amp_s.real, amp_s.imag]).astype(dt)  # (2, p)
+            for g, members in enumerate(members_of):
+                summed = (factor[:, members] @ terms[members]).astype(float)  # (2, 2 m)
+                result[s, g].real = summed[0, :m] - summed[1, m:]
+                result[s, g].imag = summed[0, m:] + summed[1, :m]
         return local, cols, result
 
     starts = range(0, count_p, rows_per_chunk)
@@ -445,7 +455,7 @@ def _pair_fields(
                 out[:, local, :] += result
             else:
                 out[np.ix_(np.arange(src.shape[0]), local, cols)] += result
-    scale = -1j * k / (4.0 * math.pi) * (1.0 if far else cycles)
+    scale = -1j * k / (4.0 * math.pi) * unit
     return scale * out
 
 
