@@ -154,6 +154,11 @@ class _Workspace:
         return self.flat[key][:need].reshape(shape)
 
 
+def _dot(u: np.ndarray, v: np.ndarray) -> np.ndarray:
+    """Dot products of vectors stored components first, ``(..., 3, p)`` (no reduction over a short axis)."""
+    return u[..., 0, :] * v[..., 0, :] + u[..., 1, :] * v[..., 1, :] + u[..., 2, :] * v[..., 2, :]
+
+
 def _run(index: np.ndarray):
     """``index`` as a slice when it is one run of consecutive numbers (no copy), else as it is."""
     return slice(index[0], index[-1] + 1) if index[-1] - index[0] + 1 == index.size else index
@@ -247,54 +252,75 @@ def _pair_fields(
         return out
     dt = np.dtype(dtype)
     two_sided = facets.two_sided
-    # Source side, per source and facet, in double precision.
-    n = facets.normals
-    d1 = facets.centres_m[None, :, :] - src[:, None, :]  # (S, P, 3)
-    r1 = np.linalg.norm(d1, axis=2)
-    s1 = d1 / r1[..., None]
-    ns1 = np.einsum("pj,spj->sp", n, s1)
-    lit = ns1 != 0.0 if two_sided else ns1 < 0.0
-    if source_visible is not None:
-        lit &= np.asarray(source_visible, dtype=bool)
-    weight = facets.areas_m2 * (1.0 if facets.weights is None else facets.weights)
-    amp = np.where(lit, weight[None, :] * np.exp(-1j * k * r1) / r1, 0.0)  # (S, P)
-    sx, sy = s1[..., 0], s1[..., 1]
-    h1 = np.hypot(sx, sy)
-    a1 = np.abs(ns1)
-    b1 = -np.sign(ns1) * (n[None, :, 1] * sx - n[None, :, 0] * sy)
-    coef = np.stack([sx, sy, a1 * sx + b1 * sy, a1 * sy - b1 * sx], axis=2) / h1[..., None]  # (S, P, 4)
+    # Lengths in wavelengths for points (so r2 is in turns), as given for far directions.
+    unit = 1.0 if far else 1.0 / wavelength_m
+    homogeneous = np.column_stack([rx * unit, np.full(count_r, 0.0 if far else 1.0)])
+    centres = facets.centres_m * unit
+    visible = None if source_visible is None else np.asarray(source_visible, dtype=bool)
     half_k = 0.5 * k
-    s1a = (half_k * np.einsum("spj,pj->sp", s1, facets.edge_a_m)).astype(dt)
-    s1b = (half_k * np.einsum("spj,pj->sp", s1, facets.edge_b_m)).astype(dt)
     lossy = relative_permittivity is not None
     if lossy:
         gamma = -reflection_coefficient_h(_GAMMA_TABLE_RAD, relative_permittivity, conductivity_s_m, wavelength_m)
         table = np.stack([gamma.real, gamma.imag, np.r_[np.diff(gamma.real), 0.0], np.r_[np.diff(gamma.imag), 0.0]])
         table = table.astype(dt)
         per_rad = (_GAMMA_TABLE_RAD.size - 1) / _GAMMA_TABLE_RAD[-1]
-        g1 = np.arcsin(np.minimum(a1, 1.0)).astype(dt)  # the source's grazing angle
-    # Vectors whose products with (receiver - centre) the pairs need: x, y, z; n; h2 (n . e_r); k a / 2, k b / 2.
-    axes = np.broadcast_to(np.eye(3)[:, None, :], (3, count_p, 3))
-    n_e = np.column_stack([n[:, 1], -n[:, 0], np.zeros(count_p)])
-    shared = np.concatenate([axes, np.stack([n, n_e, half_k * facets.edge_a_m, half_k * facets.edge_b_m])])
+
+    def source_side(sl: slice) -> dict | None:
+        """Per source and facet of a chunk, in double precision (components first): the facets lit."""
+        a, b = facets.edge_a_m[sl].T, facets.edge_b_m[sl].T  # (3, p)
+        normal = np.cross(a, b, axis=0)
+        area = np.sqrt(_dot(normal, normal))
+        n = normal / area
+        d1 = facets.centres_m[sl].T[None, :, :] - src[:, :, None]  # (S, 3, p)
+        r1 = np.sqrt(_dot(d1, d1))
+        s1 = d1 / r1[:, None, :]
+        ns1 = _dot(s1, n)
+        lit = ns1 != 0.0 if two_sided else ns1 < 0.0
+        if visible is not None:
+            lit &= visible[:, sl]
+        weight = area if facets.weights is None else area * facets.weights[sl]
+        rows = np.flatnonzero(np.any(lit, axis=0) & (weight != 0.0))
+        if rows.size == 0:
+            return None
+        n, s1, ns1, r1, a, b = n[:, rows], s1[:, :, rows], ns1[:, rows], r1[:, rows], a[:, rows], b[:, rows]
+        amp = np.where(lit[:, rows], weight[rows] * np.exp(-1j * k * r1) / r1, 0.0)  # (S, p)
+        sx, sy = s1[:, 0], s1[:, 1]
+        h1 = np.hypot(sx, sy)
+        a1 = np.abs(ns1)
+        b1 = -np.sign(ns1) * (n[1] * sx - n[0] * sy)
+        side = {"rows": rows, "amp": amp, "n": n}
+        # Per source, F_p h1 h2 = s1x P + s1y Q + c1 x + c2 y (see above), divided by h1.
+        side["coef"] = (np.stack([sx, sy, a1 * sx + b1 * sy, a1 * sy - b1 * sx], axis=1) / h1[:, None, :]).astype(dt)
+        side["s1a"] = (half_k * _dot(s1, a)).astype(dt)
+        side["s1b"] = (half_k * _dot(s1, b)).astype(dt)
+        if lossy:
+            side["g1"] = np.arcsin(np.minimum(a1, 1.0)).astype(dt)  # the source's grazing angle
+        zero = np.zeros(rows.size)
+        side["shared"] = np.stack([n, [n[1], -n[0], zero], half_k * a, half_k * b]).astype(dt)  # (4, 3, p)
+        return side
+
     ht = None if horizon_tan is None else np.asarray(horizon_tan, dtype=dt)
-    # Lengths in wavelengths for points (so r2 is in turns), as given for far directions.
-    unit = 1.0 if far else 1.0 / wavelength_m
-    homogeneous = np.column_stack([rx * unit, np.full(count_r, 0.0 if far else 1.0)])
     tiny = dt.type(_TINY)
     rows_per_chunk = max(1, _PAIRS_PER_CHUNK // count_r)
     size = rows_per_chunk * count_r
     spaces: dict = {}
 
-    def rows_about(vectors: np.ndarray, centres: np.ndarray) -> np.ndarray:
-        """``[v, -v . c]`` per facet: times ``[q, 1]`` (a point) it is ``v . (q - c)``, times ``[d, 0]`` ``v . d``."""
-        return np.concatenate([vectors, -np.einsum("...pj,pj->...p", vectors, centres)[..., None]], axis=-1)
+    def homogeneous_rows(rows: np.ndarray, centres_about: np.ndarray) -> None:
+        """Complete rows ``[v, -v . c]`` (k, 4, p) from their ``v``.
+
+        Times ``[q, 1]`` (a point) they give ``v . (q - c)``, times ``[d, 0]`` (a direction) ``v . d``.
+        """
+        np.multiply(rows[:, 0], centres_about[0], out=rows[:, 3])
+        for i in (1, 2):
+            rows[:, 3] += rows[:, i] * centres_about[i]
+        np.negative(rows[:, 3], out=rows[:, 3])
 
     def chunk(start: int):
         sl = slice(start, min(start + rows_per_chunk, count_p))
-        rows = np.flatnonzero(np.any(amp[:, sl] != 0.0, axis=0))
-        if rows.size == 0:
+        side = source_side(sl)
+        if side is None:
             return None
+        rows, amp, coef = side["rows"], side["amp"], side["coef"]
         cols = slice(None)
         pair = None
         if pair_weight is not None:
@@ -302,31 +328,37 @@ def _pair_fields(
             cols = np.asarray(cols, dtype=np.int64)
             if cols.size == 0:
                 return None
-            pair = np.asarray(pair, dtype=dt)[rows]
+            pair = np.ascontiguousarray(np.asarray(pair, dtype=dt)[rows].T)
         idx = sl.start + rows
         p, m = idx.size, (count_r if pair is None else cols.size)
         ws = spaces.setdefault(threading.get_ident(), _Workspace(size))
         f64 = np.float64
 
         def take(name, dtype=dt):
-            return ws.take(name, (p, m), dtype)
+            return ws.take(name, (m, p), dtype)  # receivers by facets: per-facet factors broadcast along rows
 
         tmp = take("tmp")
-        centres = facets.centres_m[idx] * unit
-        middle = centres.mean(axis=0)  # products about the chunk's middle (single precision keeps its digits)
+        c = centres[idx].T  # (3, p)
+        middle = c.mean(axis=1)  # products about the chunk's middle, where single precision keeps its digits
         q = homogeneous[cols] if far else homogeneous[cols] - np.r_[middle, 0.0]
-        q_t = q.T.astype(dt)
-        lin = ws.take("lin", (7, p, m), dt)
-        for row, homogeneous_rows in zip(lin, rows_about(shared[:, idx], centres - middle).astype(dt)):
-            np.matmul(homogeneous_rows, q_t, out=row)
+        q = q.astype(dt)
+        c_about = (c - middle[:, None]).astype(dt)
+        # Shared by the sources: x, y, z; n; h2 (n . e_r); k a / 2, k b / 2 (the receiver's half of the sinc).
+        vectors = ws.take("vectors", (7, 4, p), dt)
+        vectors[:3, :3] = np.eye(3, dtype=dt)[:, :, None]
+        vectors[3:, :3] = side["shared"]
+        homogeneous_rows(vectors, c_about)
+        lin = ws.take("lin", (7, m, p), dt)
+        for row, rows_k in zip(lin, vectors):
+            np.matmul(q, rows_k, out=row)
         x, y, z, nl, el, ra, rb = lin  # x, y, z: r2 times the range in turns (1 for far receivers)
         turns, whole, wa = take("turns", f64), take("whole", f64), take("wa")
         if far:
-            np.matmul(centres, rx[cols].T * (-1.0 / wavelength_m), out=turns)  # exp(-j k r2) -> exp(+j k d . c)
+            np.matmul(rx[cols] * (-1.0 / wavelength_m), c, out=turns)  # exp(-j k r2) -> exp(+j k d . c)
         else:  # r2 in turns, from the differences in double precision (each pair on its own)
             dx, dy, dz = take("dx", f64), take("dy", f64), take("dz", f64)
             for i, d in enumerate((dx, dy, dz)):
-                np.subtract(homogeneous[cols, i][None, :], centres[:, i, None], out=d)
+                np.subtract(homogeneous[cols, i][:, None], c[i][None, :], out=d)
             np.multiply(dx, dx, out=turns)
             np.multiply(dy, dy, out=whole)
             turns += whole
@@ -344,7 +376,7 @@ def _pair_fields(
         np.sqrt(wa, out=wa)
         mask = take("mask", np.bool_)
         if ht is not None:
-            np.multiply(wa, ht[idx, None], out=tmp)
+            np.multiply(wa, ht[idx][None, :], out=tmp)
             np.greater(z, tmp, out=mask)
         np.divide(1.0 if far else inverse_r2, wa, out=wa)  # 1 / (r2 h2) times 1 / r2 (spherical wave)
         if ht is not None:
@@ -384,34 +416,35 @@ def _pair_fields(
             members_of = [_run(np.flatnonzero(inverse == g)) for g in range(local.size)]
         result = np.zeros((src.shape[0], local.size, m), dtype=complex)
         coupling, u, v = take("coupling"), take("u"), take("v")
-        terms = ws.take("terms", (p, 2 * m), dt)
-        per_source = ws.take("per_source", (3, p, m), dt)
+        terms = ws.take("terms", (2, m, p), dt)
+        per_source = ws.take("per_source", (3, m, p), dt)
         g_1, g_2, g_3 = per_source
         for s in range(src.shape[0]):
-            amp_s = amp[s, idx]
+            amp_s = amp[s]
             if not np.any(amp_s):
                 continue
-            # F h1 h2 = s1x P + s1y Q + c1 x + c2 y (see _pair_fields): three products with (receiver - centre).
-            cs = coef[s, idx]
-            vectors = np.zeros((3, p, 3))
-            vectors[0, :, 0], vectors[0, :, 1] = cs[:, 0], cs[:, 1]
-            vectors[1, :, 0], vectors[1, :, 1] = cs[:, 1], -cs[:, 0]
-            vectors[2, :, 0], vectors[2, :, 1] = cs[:, 2], cs[:, 3]
-            for row, homogeneous_rows in zip(per_source, rows_about(vectors, centres - middle).astype(dt)):
-                np.matmul(homogeneous_rows, q_t, out=row)
+            cs = coef[s]
+            own = ws.take("own", (3, 4, p), dt)
+            own[:, 2] = 0.0
+            own[0, 0], own[0, 1], own[1, 0], own[2, 0], own[2, 1] = cs[0], cs[1], cs[1], cs[2], cs[3]
+            np.negative(cs[0], out=own[1, 1])
+            homogeneous_rows(own, c_about)
+            for row, rows_k in zip(per_source, own):
+                np.matmul(q, rows_k, out=row)
             np.multiply(nl, g_1, out=coupling)
             np.multiply(el, g_2, out=tmp)
             coupling += tmp
             coupling += g_3
-            for r_e, s_e in ((ra, s1a), (rb, s1b)):  # S(t) = sin(t / 2) / (t / 2), t / 2 = s1 . e - r2 . e
-                np.subtract(s_e[s, idx, None], r_e, out=u)
+            # S(t) = sin(t / 2) / (t / 2), t / 2 = s1 . e - r2 . e
+            for r_e, s_e in ((ra, side["s1a"]), (rb, side["s1b"])):
+                np.subtract(s_e[s][None, :], r_e, out=u)
                 np.abs(u, out=u)
                 u += tiny
                 np.sin(u, out=v)
                 coupling *= v
                 coupling /= u
             if lossy:  # Fresnel coefficient at the mean grazing angle (module notes)
-                np.add(g2, g1[s, idx, None], out=u)
+                np.add(g2, side["g1"][s][None, :], out=u)
                 u *= 0.5 * per_rad
                 at = take("at", np.intp)
                 np.copyto(at, u, casting="unsafe")  # floor: u >= 0
@@ -424,20 +457,20 @@ def _pair_fields(
                 g_im += table[1][at]
                 g_re *= coupling
                 g_im *= coupling
-                np.multiply(g_re, wave_re, out=terms[:, :m])
+                np.multiply(g_re, wave_re, out=terms[0])
                 np.multiply(g_im, wave_im, out=tmp)
-                terms[:, :m] -= tmp
-                np.multiply(g_re, wave_im, out=terms[:, m:])
+                terms[0] -= tmp
+                np.multiply(g_re, wave_im, out=terms[1])
                 np.multiply(g_im, wave_re, out=tmp)
-                terms[:, m:] += tmp
+                terms[1] += tmp
             else:
-                np.multiply(coupling, wave_re, out=terms[:, :m])
-                np.multiply(coupling, wave_im, out=terms[:, m:])
-            factor = np.stack([amp_s.real, amp_s.imag]).astype(dt)  # (2, p)
+                np.multiply(coupling, wave_re, out=terms[0])
+                np.multiply(coupling, wave_im, out=terms[1])
+            factor = np.stack([amp_s.real, amp_s.imag], axis=1).astype(dt)  # (p, 2)
             for g, members in enumerate(members_of):
-                summed = (factor[:, members] @ terms[members]).astype(float)  # (2, 2 m)
-                result[s, g].real = summed[0, :m] - summed[1, m:]
-                result[s, g].imag = summed[0, m:] + summed[1, :m]
+                summed = (terms[:, :, members] @ factor[members]).astype(float)  # (2, m, 2)
+                result[s, g].real = summed[0, :, 0] - summed[1, :, 1]
+                result[s, g].imag = summed[0, :, 1] + summed[1, :, 0]
         return local, cols, result
 
     starts = range(0, count_p, rows_per_chunk)
