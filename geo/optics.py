@@ -31,6 +31,15 @@ Over an infinite flat plane the integral reduces by stationary phase to the imag
 from above, seen from above); plates are two-sided and also scatter forward, which forms
 their shadow.
 
+One kernel (:func:`_pair_fields`) evaluates this sum for every caller: one-sided ground facets
+and two-sided plates, several sources at once, facets summed per group, terrain shadowing, a
+weight per facet-receiver pair, receivers at a distance or far away (plane waves), lossy ground.
+:func:`scattered_field` (plates of objects, one source, double precision) and
+:func:`ground_fields` (the DEM surface, every antenna, single precision after the phase) are its
+two entry points. It works in chunks of facet-receiver pairs run in two threads; the pair work
+shared by the sources is done once, and the products of facet vectors with the receiver's
+position are small matrix products (see :func:`_pair_fields`).
+
 Coordinates are any right-handed metric frame with ``z`` up. [m]
 
 References
@@ -190,13 +199,21 @@ def _pair_fields(
         F_p h1 h2 = s1x P + s1y Q + (|n . s1| s1x + b s1y) x + (|n . s1| s1y - b s1x) y
         P = x |N| - y sign(N) E,  Q = y |N| + x sign(N) E,  b = sigma (n_y s1x - n_x s1y)
 
-    so the pair work shared by the sources (``P, Q``, the spherical wave, the receiver's half of
-    the sinc arguments) is done once per facet-receiver pair, and each source adds four products,
-    its two sinc factors and, on lossy ground, its Fresnel coefficient, interpolated linearly from
-    a table of 2,049 grazing angles. A one-sided (ground) facet radiates only where ``N > 0``.
-    The phase ``k r2`` is reduced to one turn in double precision; the rest of the pair work is in
-    ``dtype``. The sum over the facets of a group, each weighted by its source factor
-    ``A w exp(-j k r1) / r1`` (``A`` the area, ``w`` the weight), is one matrix product per chunk.
+    Every factor but ``|N|``, ``sign(N)`` and the sinc factors is linear in ``r2``, and ``r2`` times
+    the range is ``q - c`` (receiver minus facet centre; a far receiver's direction ``d`` itself).
+    So ``v . (q - c)`` for the facet vectors ``v`` (the axes, ``n``, ``(n_y, -n_x, 0)``, ``k a / 2``,
+    ``k b / 2``, and per source ``(s1x, s1y, 0) / h1``, ``(s1y, -s1x, 0) / h1``,
+    ``(c1, c2, 0) / h1``) are matrix products of rows ``[v, -v . c]`` with ``[q, 1]`` (``[d, 0]``),
+    and ``F_p = (sign(N) (N' G1 + E' G2) / r + G3) / rho``, with ``G1, G2, G3`` the three per-source
+    products, ``N', E'`` the products for ``n`` and ``(n_y, -n_x, 0)`` (``N, E`` times the range
+    ``r``) and ``rho = h2 r`` the horizontal length of ``q - c``. The work shared by the sources
+    (the phase, the wave, ``N``, ``E``, the receiver's half of the sinc arguments) is done once per
+    facet-receiver pair; each source adds three products, its two sinc factors and, on lossy
+    ground, its Fresnel coefficient, interpolated linearly from a table of 2,049 grazing angles.
+    A one-sided (ground) facet radiates only where ``N > 0``. The range ``r2`` and the phase
+    ``k r2``, reduced to one turn, are in double precision; the rest of the pair work in ``dtype``.
+    The sum over the facets of a group, each weighted by its source factor
+    ``A w exp(-j k r1) / r1`` (``A`` the area, ``w`` the weight), is a matrix product per chunk.
 
     Chunks of about ``_PAIRS_PER_CHUNK`` facet-receiver pairs run in ``threads`` threads (numpy
     releases the interpreter lock inside its array loops); each chunk's sum is added to the result
