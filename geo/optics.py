@@ -282,8 +282,11 @@ def _pair_fields(
         table = table.astype(dt)
         per_rad = (_GAMMA_TABLE_RAD.size - 1) / _GAMMA_TABLE_RAD[-1]
 
-    def source_side(sl: slice) -> dict | None:
-        """Per source and facet of a chunk, in double precision (components first): the facets lit."""
+    def source_side(sl: slice, counted=None) -> dict | None:
+        """Per source and facet of a chunk, in double precision, components first.
+
+        Only the facets lit by some source (and ``counted``: with a pair weight other than 0).
+        """
         a, b = facets.edge_a_m[sl].T, facets.edge_b_m[sl].T  # (3, p)
         normal = np.cross(a, b, axis=0)
         area = np.sqrt(_dot(normal, normal))
@@ -296,7 +299,8 @@ def _pair_fields(
         if visible is not None:
             lit &= visible[:, sl]
         weight = area if facets.weights is None else area * facets.weights[sl]
-        rows = np.flatnonzero(np.any(lit, axis=0) & (weight != 0.0))
+        keep = np.any(lit, axis=0) & (weight != 0.0)
+        rows = np.flatnonzero(keep if counted is None else keep & counted)
         if rows.size == 0:
             return None
         n, s1, ns1, r1, a, b = n[:, rows], s1[:, :, rows], ns1[:, rows], r1[:, rows], a[:, rows], b[:, rows]
@@ -334,18 +338,20 @@ def _pair_fields(
 
     def chunk(start: int):
         sl = slice(start, min(start + rows_per_chunk, count_p))
-        side = source_side(sl)
-        if side is None:
-            return None
-        rows, amp, coef = side["rows"], side["amp"], side["coef"]
-        cols = slice(None)
-        pair = None
+        cols, pair, counted = slice(None), None, None
         if pair_weight is not None:
             cols, pair = pair_weight(sl)
             cols = np.asarray(cols, dtype=np.int64)
             if cols.size == 0:
                 return None
-            pair = np.ascontiguousarray(np.asarray(pair, dtype=dt)[rows].T)
+            pair = np.asarray(pair, dtype=dt)
+            counted = np.any(pair != 0.0, axis=1)  # facets that count for some receiver
+        side = source_side(sl, counted)
+        if side is None:
+            return None
+        rows, amp, coef = side["rows"], side["amp"], side["coef"]
+        if pair is not None:
+            pair = np.ascontiguousarray(pair[rows].T)
         idx = sl.start + rows
         p, m = idx.size, (count_r if pair is None else cols.size)
         ws = spaces.setdefault(threading.get_ident(), _Workspace(size))
