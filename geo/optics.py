@@ -178,14 +178,15 @@ def _pair_fields(
     facets: Facets,
     receivers_m,
     wavelength_m: float,
+    *,
+    dtype=np.float32,
     relative_permittivity: float | None = None,
     conductivity_s_m: float | None = None,
+    groups=None,
     source_visible=None,
     horizon_tan=None,
     pair_weight=None,
     far: bool = False,
-    groups=None,
-    dtype=np.float32,
     threads: int | None = None,
 ) -> np.ndarray:
     """The one physical-optics kernel: every source, facet group and receiver (see the module notes).
@@ -228,8 +229,13 @@ def _pair_fields(
         Points [m], or unit directions toward distant receivers with ``far``.
     wavelength_m : float
         [m]
+    dtype : numpy dtype
+        Precision of the pair work after the phase (``float32`` for the ground, ``float64`` where
+        reciprocity or cancellation asks for it).
     relative_permittivity, conductivity_s_m : float or None
         Constants of the facets' material; ``None``: a perfect conductor.
+    groups : array_like of int, shape (P,), optional
+        Group of each facet (``0 .. G - 1``); the fields are summed per group.
     source_visible : numpy.ndarray of bool, shape (S, P), optional
         Whether each source lights each facet.
     horizon_tan : numpy.ndarray, shape (P,), optional
@@ -239,11 +245,6 @@ def _pair_fields(
         once per chunk, from the worker threads, in any order.
     far : bool
         ``receivers_m`` are unit directions; far-field units.
-    groups : array_like of int, shape (P,), optional
-        Group of each facet (``0 .. G - 1``); the fields are summed per group.
-    dtype : numpy dtype
-        Precision of the pair work after the phase (``float32`` for the ground, ``float64`` where
-        reciprocity or cancellation asks for it).
     threads : int, optional
         Worker threads; None: 2 when called from the main thread with more than one chunk, else 1
         (a caller that runs the kernel in a pool of its own already keeps the cores busy).
@@ -565,18 +566,12 @@ def scattered_field(
         def pair_weight(sl):
             return every, receiver_visible(np.arange(sl.start, sl.stop), every)
 
+    source = np.asarray(source_m, dtype=float)[None, :]
+    ground = dict(relative_permittivity=relative_permittivity, conductivity_s_m=conductivity_s_m)
     out = _pair_fields(
-        np.asarray(source_m, dtype=float)[None, :],
-        facets,
-        rx,
-        wavelength_m,
-        relative_permittivity,
-        conductivity_s_m,
-        pair_weight=pair_weight,
-        groups=groups,
-        dtype=np.float64,
-    )[0]
-    return out if groups is not None else out[0]
+        source, facets, rx, wavelength_m, dtype=np.float64, groups=groups, pair_weight=pair_weight, **ground
+    )
+    return out[0] if groups is not None else out[0, 0]
 
 
 def ground_fields(
@@ -637,17 +632,7 @@ def ground_fields(
     """
     if facets.two_sided:
         raise ValueError("ground_fields takes one-sided ground facets; use scattered_field for plates")
-    out = _pair_fields(
-        sources_m,
-        facets,
-        receivers_m,
-        wavelength_m,
-        relative_permittivity,
-        conductivity_s_m,
-        source_visible=source_visible,
-        horizon_tan=horizon_tan,
-        pair_weight=pair_weight,
-        far=far,
-        dtype=np.float32,
-    )
-    return out[:, 0, :]
+    ground = dict(relative_permittivity=relative_permittivity, conductivity_s_m=conductivity_s_m)
+    shading = dict(source_visible=source_visible, horizon_tan=horizon_tan, pair_weight=pair_weight)
+    fields = _pair_fields(sources_m, facets, receivers_m, wavelength_m, dtype=np.float32, far=far, **ground, **shading)
+    return fields[:, 0, :]
