@@ -1,8 +1,10 @@
 """Speed of the surface prediction: receiver-facet pairs per second, and what it adds to the demo.
 
-1. ``geo.optics.ground_fields`` on 20,000 random ground facets and 400 receivers (two antennas),
-   spherical and far (plane-wave) receivers, against ``geo.optics.scattered_field`` (the general
-   kernel, one antenna at a time). A pair is one facet and one receiver for one antenna.
+1. The one optics kernel (``geo.optics._pair_fields``) on 20,000 random ground facets and 400
+   receivers (two antennas): through ``ground_fields`` (single precision), spherical and far
+   (plane-wave) receivers, with one worker thread and with two; through ``scattered_field``
+   (double precision, one antenna at a time). A pair is one facet and one receiver for one
+   antenna. Then the time the demo study spends in ``ground_fields`` (every call it makes).
 2. The demo study (demo_airfield) with and without the surface prediction, wall and CPU time
    of this process (the machine may be shared: CPU time is the steadier figure).
 
@@ -22,7 +24,7 @@ import numpy as np
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
 
-from geo.optics import Facets, ground_fields, scattered_field  # noqa: E402
+from geo.optics import Facets, _pair_fields, scattered_field  # noqa: E402
 
 LAM = 0.895
 
@@ -47,16 +49,50 @@ def kernel_figures() -> None:
     rx = np.column_stack([np.linspace(300, 18000, r), np.full(r, 120.0), np.linspace(15, 1000, r)])
     sources = np.array([[0.0, 0.0, 4.47], [0.0, 0.25, 8.95]])
     pairs = n * r * len(sources)
-    _, wall, cpu = _timed(lambda: ground_fields(sources, f, rx, LAM))
-    print(f"ground_fields, spherical: {pairs / cpu / 1e6:.1f} M pairs/s (CPU), {pairs / wall / 1e6:.1f} (wall)")
     e = np.radians(np.linspace(2.0, 4.0, r))
     d = np.column_stack([np.cos(e), 0 * e, np.sin(e)])
-    _, wall, cpu = _timed(lambda: ground_fields(sources, f, d, LAM, far=True))
-    print(f"ground_fields, far:       {pairs / cpu / 1e6:.1f} M pairs/s (CPU), {pairs / wall / 1e6:.1f} (wall)")
+    for name, receivers, far in (("spherical", rx, False), ("far", d, True)):
+        for threads in (1, 2):
+            options = dict(far=far, threads=threads)
+            _, wall, cpu = _timed(lambda q=receivers, o=options: _pair_fields(sources, f, q, LAM, **o))
+            print(
+                f"ground_fields, {name + ',':10} {threads} thread{'s' if threads > 1 else ' '}: "
+                f"{pairs / cpu / 1e6:.1f} M pairs/s (CPU), {pairs / wall / 1e6:.1f} (wall)"
+            )
     small = f.subset(np.arange(4000))
     _, wall, cpu = _timed(lambda: [scattered_field(s, small, rx, LAM) for s in sources])
     pairs = 4000 * r * len(sources)
-    print(f"scattered_field (general): {pairs / cpu / 1e6:.1f} M pairs/s (CPU), {pairs / wall / 1e6:.1f} (wall)")
+    print(f"scattered_field, double:   {pairs / cpu / 1e6:.1f} M pairs/s (CPU), {pairs / wall / 1e6:.1f} (wall)")
+
+
+def demo_kernel_figures() -> None:
+    """Time spent in ``ground_fields`` during the demo study (every call the surface prediction makes)."""
+    import geo.study as study
+    import geo.surface_prediction as surface_prediction
+    from geo.site import load_site
+
+    spec = load_site(ROOT / "demo_airfield" / "site.toml")
+    study.run_study(spec)  # warm caches (transformers, imports)
+    inner = surface_prediction.ground_fields
+    spent = {"calls": 0, "pairs": 0, "wall": 0.0, "cpu": 0.0}
+
+    def timed(sources, facets, receivers, *args, **kwargs):
+        out, wall, cpu = _timed(lambda: inner(sources, facets, receivers, *args, **kwargs))
+        spent["calls"] += 1
+        spent["pairs"] += len(np.atleast_2d(sources)) * len(facets) * len(np.atleast_2d(receivers))
+        spent["wall"] += wall
+        spent["cpu"] += cpu
+        return out
+
+    surface_prediction.ground_fields = timed
+    try:
+        study.run_study(spec)
+    finally:
+        surface_prediction.ground_fields = inner
+    print(
+        f"demo study, ground_fields: {spent['calls']} calls, {spent['wall']:.2f} s wall / {spent['cpu']:.2f} s CPU "
+        f"({spent['pairs'] / 1e6:.0f} M pairs before pair weights and shadowing)"
+    )
 
 
 def demo_figures() -> None:
@@ -86,4 +122,5 @@ def demo_figures() -> None:
 if __name__ == "__main__":
     os.environ.setdefault("OMP_NUM_THREADS", "1")
     kernel_figures()
+    demo_kernel_figures()
     demo_figures()

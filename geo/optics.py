@@ -31,6 +31,15 @@ Over an infinite flat plane the integral reduces by stationary phase to the imag
 from above, seen from above); plates are two-sided and also scatter forward, which forms
 their shadow.
 
+One kernel (:func:`_pair_fields`) evaluates this sum for every caller: one-sided ground facets
+and two-sided plates, several sources at once, facets summed per group, terrain shadowing, a
+weight per facet-receiver pair, receivers at a distance or far away (plane waves), lossy ground.
+:func:`scattered_field` (plates of objects, one source, double precision) and
+:func:`ground_fields` (the DEM surface, every antenna, single precision after the phase) are its
+two entry points. It works in chunks of facet-receiver pairs run in two threads; the pair work
+shared by the sources is done once, and the products of facet vectors with the receiver's
+position are small matrix products (see :func:`_pair_fields`).
+
 Coordinates are any right-handed metric frame with ``z`` up. [m]
 
 References
@@ -48,6 +57,8 @@ References
 from __future__ import annotations
 
 import math
+import threading
+from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass
 
 import numpy as np
@@ -56,8 +67,12 @@ from geo.ground import reflection_coefficient_h
 
 __all__ = ["Facets", "scattered_field", "ground_fields", "direct_field", "horizontal_polarisation", "mirror_points"]
 
-#: Facet-receiver pairs handled at once (bounds the memory of one chunk: about 16 bytes x 12 arrays each).
-_PAIRS_PER_CHUNK = 400_000
+#: Facet-receiver pairs of one chunk (each thread holds about 30 arrays of this size, reused). At most
+#: 2**16, so that each matrix product of a chunk (inner size 4) stays below the size at which OpenBLAS
+#: starts threads of its own (``m n k <= 4 x 65536`` runs on one thread), which spin against ours.
+_PAIRS_PER_CHUNK = 65_536
+#: Worker threads of the kernel (the machine the project targets has 2 cores).
+_THREADS = 2
 
 
 @dataclass(frozen=True)
@@ -127,9 +142,378 @@ def direct_field(source_m: np.ndarray, receivers_m: np.ndarray, wavelength_m: fl
     return np.exp(-1j * k * r) / r
 
 
-def _sinc_half(t: np.ndarray) -> np.ndarray:
-    """``sin(t / 2) / (t / 2)``: the integral of ``exp(-j t alpha)`` over alpha in [-1/2, 1/2]."""
-    return np.sinc(t / (2.0 * math.pi))
+#: Grazing angles of the table the lossy-ground Fresnel coefficient is interpolated from. [rad]
+_GAMMA_TABLE_RAD = np.linspace(0.0, math.pi / 2.0, 2049)
+#: Added to ``|x|`` in ``sin(x) / x`` so that 0 needs no test (far below any argument that matters).
+_TINY = 1e-30
+
+
+class _Workspace:
+    """Arrays of one thread, reused from chunk to chunk (fresh large arrays cost page faults)."""
+
+    def __init__(self, size: int):
+        self.size = size
+        self.flat = {}
+
+    def take(self, name: str, shape: tuple, dtype) -> np.ndarray:
+        """An uninitialised array of ``shape``, in the same memory each time."""
+        key, need = (name, np.dtype(dtype)), math.prod(shape)
+        if key not in self.flat or self.flat[key].size < need:
+            self.flat[key] = np.empty(max(self.size, need), dtype=dtype)
+        return self.flat[key][:need].reshape(shape)
+
+
+def _dot(u: np.ndarray, v: np.ndarray) -> np.ndarray:
+    """Dot products of vectors stored components first, ``(..., 3, p)`` (no reduction over a short axis)."""
+    return u[..., 0, :] * v[..., 0, :] + u[..., 1, :] * v[..., 1, :] + u[..., 2, :] * v[..., 2, :]
+
+
+def _run(index: np.ndarray):
+    """``index`` as a slice when it is one run of consecutive numbers (no copy), else as it is."""
+    return slice(index[0], index[-1] + 1) if index[-1] - index[0] + 1 == index.size else index
+
+
+def _pair_fields(
+    sources_m,
+    facets: Facets,
+    receivers_m,
+    wavelength_m: float,
+    *,
+    dtype=np.float32,
+    relative_permittivity: float | None = None,
+    conductivity_s_m: float | None = None,
+    groups=None,
+    source_visible=None,
+    horizon_tan=None,
+    pair_weight=None,
+    far: bool = False,
+    threads: int | None = None,
+) -> np.ndarray:
+    """The one physical-optics kernel: every source, facet group and receiver (see the module notes).
+
+    The coupling ``F_p`` is written component by component. With ``x, y, z`` the direction
+    ``r2`` toward the receiver, ``n`` the facet's normal as given (not turned), ``N = n . r2``,
+    ``E = n_y x - n_x y`` (``h2 (n . e_r)``) and ``h1, h2`` the horizontal lengths of ``s1`` and
+    ``r2``, turning ``n`` toward the source (sign ``sigma = -sign(n . s1)``) and the same-side sign
+    ``t = sigma sign(N)`` cancel in pairs, leaving::
+
+        F_p h1 h2 = s1x P + s1y Q + (|n . s1| s1x + b s1y) x + (|n . s1| s1y - b s1x) y
+        P = x |N| - y sign(N) E,  Q = y |N| + x sign(N) E,  b = sigma (n_y s1x - n_x s1y)
+
+    Every factor but ``|N|``, ``sign(N)`` and the sinc factors is linear in ``r2``, and ``r2`` times
+    the range is ``q - c`` (receiver minus facet centre; a far receiver's direction ``d`` itself).
+    So ``v . (q - c)`` for the facet vectors ``v`` (the axes, ``n``, ``(n_y, -n_x, 0)``, ``k a / 2``,
+    ``k b / 2``, and per source ``(s1x, s1y, 0) / h1``, ``(s1y, -s1x, 0) / h1``,
+    ``(c1, c2, 0) / h1``) are matrix products of rows ``[v, -v . c]`` with ``[q, 1]`` (``[d, 0]``),
+    and ``F_p = (sign(N) (N' G1 + E' G2) / r + G3) / rho``, with ``G1, G2, G3`` the three per-source
+    products, ``N', E'`` the products for ``n`` and ``(n_y, -n_x, 0)`` (``N, E`` times the range
+    ``r``) and ``rho = h2 r`` the horizontal length of ``q - c``. The work shared by the sources
+    (the phase, the wave, ``N``, ``E``, the receiver's half of the sinc arguments) is done once per
+    facet-receiver pair; each source adds three products, its two sinc factors and, on lossy
+    ground, its Fresnel coefficient, interpolated linearly from a table of 2,049 grazing angles.
+    A one-sided (ground) facet radiates only where ``N > 0``. The range ``r2`` and the phase
+    ``k r2``, reduced to one turn, are in double precision; the rest of the pair work in ``dtype``.
+    The sum over the facets of a group, each weighted by its source factor
+    ``A w exp(-j k r1) / r1`` (``A`` the area, ``w`` the weight), is a matrix product per chunk.
+
+    Chunks of about ``_PAIRS_PER_CHUNK`` facet-receiver pairs run in ``threads`` threads (numpy
+    releases the interpreter lock inside its array loops); each chunk's sum is added to the result
+    in chunk order, so the result does not depend on the number of threads.
+
+    Parameters
+    ----------
+    sources_m : array_like, shape (S, 3)
+        [m]
+    facets : Facets
+    receivers_m : array_like, shape (R, 3)
+        Points [m], or unit directions toward distant receivers with ``far``.
+    wavelength_m : float
+        [m]
+    dtype : numpy dtype
+        Precision of the pair work after the phase (``float32`` for the ground, ``float64`` where
+        reciprocity or cancellation asks for it).
+    relative_permittivity, conductivity_s_m : float or None
+        Constants of the facets' material; ``None``: a perfect conductor.
+    groups : array_like of int, shape (P,), optional
+        Group of each facet (``0 .. G - 1``); the fields are summed per group.
+    source_visible : numpy.ndarray of bool, shape (S, P), optional
+        Whether each source lights each facet.
+    horizon_tan : numpy.ndarray, shape (P,), optional
+        Tangent of each facet's horizon: receivers seen lower from the facet are hidden.
+    pair_weight : callable, optional
+        ``pair_weight(facet_slice) -> (receiver_index, weights (p, len(receiver_index)))``, called
+        once per chunk, from the worker threads, in any order.
+    far : bool
+        ``receivers_m`` are unit directions; far-field units.
+    threads : int, optional
+        Worker threads; None: 2 when called from the main thread with more than one chunk, else 1
+        (a caller that runs the kernel in a pool of its own already keeps the cores busy).
+
+    Returns
+    -------
+    numpy.ndarray of complex, shape (S, G, R)
+        ``G = 1`` without groups; in the units of each source's direct field ``exp(-j k r) / r``
+        (far-field units with ``far``).
+
+    References
+    ----------
+    See the module notes ([1]_ to [4]_).
+    """
+    k = 2.0 * math.pi / wavelength_m
+    src = np.atleast_2d(np.asarray(sources_m, dtype=float))
+    rx = np.atleast_2d(np.asarray(receivers_m, dtype=float))
+    count_p, count_r = len(facets), rx.shape[0]
+    group_of = np.zeros(count_p, dtype=np.int64) if groups is None else np.asarray(groups, dtype=np.int64)
+    count_g = 1 if groups is None else (int(group_of.max()) + 1 if group_of.size else 0)
+    out = np.zeros((src.shape[0], count_g, count_r), dtype=complex)
+    if count_p == 0 or count_r == 0 or count_g == 0:
+        return out
+    dt = np.dtype(dtype)
+    two_sided = facets.two_sided
+    # Lengths in wavelengths for points (so r2 is in turns), as given for far directions.
+    unit = 1.0 if far else 1.0 / wavelength_m
+    homogeneous = np.column_stack([rx * unit, np.full(count_r, 0.0 if far else 1.0)])
+    centres = facets.centres_m * unit
+    visible = None if source_visible is None else np.asarray(source_visible, dtype=bool)
+    half_k = 0.5 * k
+    lossy = relative_permittivity is not None
+    if lossy:
+        gamma = -reflection_coefficient_h(_GAMMA_TABLE_RAD, relative_permittivity, conductivity_s_m, wavelength_m)
+        table = np.stack([gamma.real, gamma.imag, np.r_[np.diff(gamma.real), 0.0], np.r_[np.diff(gamma.imag), 0.0]])
+        table = table.astype(dt)
+        per_rad = (_GAMMA_TABLE_RAD.size - 1) / _GAMMA_TABLE_RAD[-1]
+
+    def source_side(sl: slice, counted=None) -> dict | None:
+        """Per source and facet of a chunk, in double precision, components first.
+
+        Only the facets lit by some source (and ``counted``: with a pair weight other than 0).
+        """
+        a, b = facets.edge_a_m[sl].T, facets.edge_b_m[sl].T  # (3, p)
+        normal = np.cross(a, b, axis=0)
+        area = np.sqrt(_dot(normal, normal))
+        n = normal / area
+        d1 = facets.centres_m[sl].T[None, :, :] - src[:, :, None]  # (S, 3, p)
+        r1 = np.sqrt(_dot(d1, d1))
+        s1 = d1 / r1[:, None, :]
+        ns1 = _dot(s1, n)
+        lit = ns1 != 0.0 if two_sided else ns1 < 0.0
+        if visible is not None:
+            lit &= visible[:, sl]
+        weight = area if facets.weights is None else area * facets.weights[sl]
+        keep = np.any(lit, axis=0) & (weight != 0.0)
+        rows = np.flatnonzero(keep if counted is None else keep & counted)
+        if rows.size == 0:
+            return None
+        n, s1, ns1, r1, a, b = n[:, rows], s1[:, :, rows], ns1[:, rows], r1[:, rows], a[:, rows], b[:, rows]
+        amp = np.where(lit[:, rows], weight[rows] * np.exp(-1j * k * r1) / r1, 0.0)  # (S, p)
+        sx, sy = s1[:, 0], s1[:, 1]
+        h1 = np.hypot(sx, sy)
+        a1 = np.abs(ns1)
+        b1 = -np.sign(ns1) * (n[1] * sx - n[0] * sy)
+        side = {"rows": rows, "amp": amp, "n": n}
+        # Per source, F_p h1 h2 = s1x P + s1y Q + c1 x + c2 y (see above), divided by h1.
+        side["coef"] = (np.stack([sx, sy, a1 * sx + b1 * sy, a1 * sy - b1 * sx], axis=1) / h1[:, None, :]).astype(dt)
+        side["s1a"] = (half_k * _dot(s1, a)).astype(dt)
+        side["s1b"] = (half_k * _dot(s1, b)).astype(dt)
+        if lossy:
+            side["g1"] = np.arcsin(np.minimum(a1, 1.0)).astype(dt)  # the source's grazing angle
+        zero = np.zeros(rows.size)
+        side["shared"] = np.stack([n, [n[1], -n[0], zero], half_k * a, half_k * b]).astype(dt)  # (4, 3, p)
+        return side
+
+    ht = None if horizon_tan is None else np.asarray(horizon_tan, dtype=dt)
+    tiny = dt.type(_TINY)
+    rows_per_chunk = max(1, _PAIRS_PER_CHUNK // count_r)
+    size = rows_per_chunk * count_r
+    spaces: dict = {}
+
+    def homogeneous_rows(rows: np.ndarray, centres_about: np.ndarray) -> None:
+        """Complete rows ``[v, -v . c]`` (k, 4, p) from their ``v``.
+
+        Times ``[q, 1]`` (a point) they give ``v . (q - c)``, times ``[d, 0]`` (a direction) ``v . d``.
+        """
+        np.multiply(rows[:, 0], centres_about[0], out=rows[:, 3])
+        for i in (1, 2):
+            rows[:, 3] += rows[:, i] * centres_about[i]
+        np.negative(rows[:, 3], out=rows[:, 3])
+
+    def chunk(start: int):
+        sl = slice(start, min(start + rows_per_chunk, count_p))
+        cols, pair, counted = slice(None), None, None
+        if pair_weight is not None:
+            cols, pair = pair_weight(sl)
+            cols = np.asarray(cols, dtype=np.int64)
+            if cols.size == 0:
+                return None
+            pair = np.asarray(pair, dtype=dt)
+            counted = np.any(pair != 0.0, axis=1)  # facets that count for some receiver
+        side = source_side(sl, counted)
+        if side is None:
+            return None
+        rows, amp, coef = side["rows"], side["amp"], side["coef"]
+        if pair is not None:
+            pair = np.ascontiguousarray(pair[rows].T)
+        idx = sl.start + rows
+        p, m = idx.size, (count_r if pair is None else cols.size)
+        ws = spaces.setdefault(threading.get_ident(), _Workspace(size))
+        f64 = np.float64
+
+        def take(name, dtype=dt):
+            return ws.take(name, (m, p), dtype)  # receivers by facets: per-facet factors broadcast along rows
+
+        tmp = take("tmp")
+        c = centres[idx].T  # (3, p)
+        middle = c.mean(axis=1)  # products about the chunk's middle, where single precision keeps its digits
+        q = homogeneous[cols] if far else homogeneous[cols] - np.r_[middle, 0.0]
+        q = q.astype(dt)
+        c_about = (c - middle[:, None]).astype(dt)
+        # Shared by the sources: x, y, z; n; h2 (n . e_r); k a / 2, k b / 2 (the receiver's half of the sinc).
+        vectors = ws.take("vectors", (7, 4, p), dt)
+        vectors[:3, :3] = np.eye(3, dtype=dt)[:, :, None]
+        vectors[3:, :3] = side["shared"]
+        homogeneous_rows(vectors, c_about)
+        lin = ws.take("lin", (7, m, p), dt)
+        for row, rows_k in zip(lin, vectors):
+            np.matmul(q, rows_k, out=row)
+        x, y, z, nl, el, ra, rb = lin  # x, y, z: r2 times the range in turns (1 for far receivers)
+        turns, whole, wa = take("turns", f64), take("whole", f64), take("wa")
+        if far:
+            np.matmul(rx[cols] * (-1.0 / wavelength_m), c, out=turns)  # exp(-j k r2) -> exp(+j k d . c)
+        else:  # r2 in turns, from the differences in double precision (each pair on its own)
+            dx, dy, dz = take("dx", f64), take("dy", f64), take("dz", f64)
+            for i, d in enumerate((dx, dy, dz)):
+                np.subtract(homogeneous[cols, i][:, None], c[i][None, :], out=d)
+            np.multiply(dx, dx, out=turns)
+            np.multiply(dy, dy, out=whole)
+            turns += whole
+            np.multiply(dz, dz, out=whole)
+            turns += whole
+            np.sqrt(turns, out=turns)
+            inverse_r2 = take("inverse_r2")
+            np.divide(1.0, turns, out=inverse_r2)
+            ra *= inverse_r2
+            rb *= inverse_r2
+        # rho = h2 times the range: the 1 / h2 of the coupling and the wave's 1 / r2 are 1 / (r2 rho / r2).
+        np.multiply(x, x, out=wa)
+        np.multiply(y, y, out=tmp)
+        wa += tmp
+        np.sqrt(wa, out=wa)
+        mask = take("mask", np.bool_)
+        if ht is not None:
+            np.multiply(wa, ht[idx][None, :], out=tmp)
+            np.greater(z, tmp, out=mask)
+        np.divide(1.0 if far else inverse_r2, wa, out=wa)  # 1 / (r2 h2) times 1 / r2 (spherical wave)
+        if ht is not None:
+            wa *= mask
+        if not two_sided:
+            np.greater(nl, 0.0, out=mask)
+            wa *= mask  # a ground facet radiates only upward
+        else:  # sign(N) on the products with n and e_r (module notes: P, Q)
+            np.copysign(1.0, nl, out=tmp)
+            nl *= tmp
+            el *= tmp
+        if pair is not None:
+            wa *= pair
+        # The phase reduced to one turn in double precision, then in dt: exp(-j 2 pi turns).
+        np.rint(turns, out=whole)
+        turns -= whole
+        phase = take("phase")
+        np.multiply(turns, -2.0 * math.pi, out=phase)
+        wave_re, wave_im = take("wave_re"), take("wave_im")
+        np.cos(phase, out=wave_re)
+        wave_re *= wa
+        np.sin(phase, out=wave_im)
+        wave_im *= wa
+        if lossy:
+            g2 = take("g2")
+            np.abs(nl, out=g2)
+            if not far:
+                g2 *= inverse_r2
+            np.minimum(g2, 1.0, out=g2)
+            np.arcsin(g2, out=g2)
+        if not far:  # x, y, z, n . r2 and h2 (n . e_r) were times the range
+            nl *= inverse_r2
+            el *= inverse_r2
+        local, inverse = np.unique(group_of[idx], return_inverse=True)
+        members_of = [slice(None)]
+        if local.size > 1:
+            members_of = [_run(np.flatnonzero(inverse == g)) for g in range(local.size)]
+        result = np.zeros((src.shape[0], local.size, m), dtype=complex)
+        coupling, u, v = take("coupling"), take("u"), take("v")
+        terms = ws.take("terms", (2, m, p), dt)
+        per_source = ws.take("per_source", (3, m, p), dt)
+        g_1, g_2, g_3 = per_source
+        for s in range(src.shape[0]):
+            amp_s = amp[s]
+            if not np.any(amp_s):
+                continue
+            cs = coef[s]
+            own = ws.take("own", (3, 4, p), dt)
+            own[:, 2] = 0.0
+            own[0, 0], own[0, 1], own[1, 0], own[2, 0], own[2, 1] = cs[0], cs[1], cs[1], cs[2], cs[3]
+            np.negative(cs[0], out=own[1, 1])
+            homogeneous_rows(own, c_about)
+            for row, rows_k in zip(per_source, own):
+                np.matmul(q, rows_k, out=row)
+            np.multiply(nl, g_1, out=coupling)
+            np.multiply(el, g_2, out=tmp)
+            coupling += tmp
+            coupling += g_3
+            # S(t) = sin(t / 2) / (t / 2), t / 2 = s1 . e - r2 . e
+            for r_e, s_e in ((ra, side["s1a"]), (rb, side["s1b"])):
+                np.subtract(s_e[s][None, :], r_e, out=u)
+                np.abs(u, out=u)
+                u += tiny
+                np.sin(u, out=v)
+                coupling *= v
+                coupling /= u
+            if lossy:  # Fresnel coefficient at the mean grazing angle (module notes)
+                np.add(g2, side["g1"][s][None, :], out=u)
+                u *= 0.5 * per_rad
+                at = take("at", np.intp)
+                np.copyto(at, u, casting="unsafe")  # floor: u >= 0
+                np.minimum(at, _GAMMA_TABLE_RAD.size - 2, out=at)
+                u -= at
+                g_re, g_im = take("g_re"), take("g_im")
+                np.multiply(table[2][at], u, out=g_re)
+                g_re += table[0][at]
+                np.multiply(table[3][at], u, out=g_im)
+                g_im += table[1][at]
+                g_re *= coupling
+                g_im *= coupling
+                np.multiply(g_re, wave_re, out=terms[0])
+                np.multiply(g_im, wave_im, out=tmp)
+                terms[0] -= tmp
+                np.multiply(g_re, wave_im, out=terms[1])
+                np.multiply(g_im, wave_re, out=tmp)
+                terms[1] += tmp
+            else:
+                np.multiply(coupling, wave_re, out=terms[0])
+                np.multiply(coupling, wave_im, out=terms[1])
+            factor = np.stack([amp_s.real, amp_s.imag], axis=1).astype(dt)  # (p, 2)
+            for g, members in enumerate(members_of):
+                summed = (terms[:, :, members] @ factor[members]).astype(float)  # (2, m, 2)
+                result[s, g].real = summed[0, :, 0] - summed[1, :, 1]
+                result[s, g].imag = summed[0, :, 1] + summed[1, :, 0]
+        return local, cols, result
+
+    starts = range(0, count_p, rows_per_chunk)
+    if threads is None:
+        threads = _THREADS if threading.current_thread() is threading.main_thread() and len(starts) > 1 else 1
+    if threads > 1:
+        with ThreadPoolExecutor(max_workers=threads) as pool:
+            parts = list(pool.map(chunk, starts))
+    else:
+        parts = map(chunk, starts)
+    for part in parts:  # in chunk order: the same sum whatever the threads
+        if part is not None:
+            local, cols, result = part
+            if isinstance(cols, slice):
+                out[:, local, :] += result
+            else:
+                out[np.ix_(np.arange(src.shape[0]), local, cols)] += result
+    scale = -1j * k / (4.0 * math.pi) * unit
+    return scale * out
 
 
 def scattered_field(
@@ -144,11 +528,14 @@ def scattered_field(
 ) -> np.ndarray:
     """Field scattered by ``facets`` from an isotropic horizontally polarised source (see module notes).
 
+    The kernel :func:`_pair_fields` in double precision, for one source.
+
     Parameters
     ----------
     source_m : array_like, shape (3,)
         The antenna. [m]
     facets : Facets
+        Plates (two-sided) or ground (one-sided).
     receivers_m : array_like, shape (R, 3)
         [m]
     wavelength_m : float
@@ -158,106 +545,33 @@ def scattered_field(
         ``None``: a perfect conductor.
     receiver_visible : callable, optional
         ``receiver_visible(facet_index, receiver_index) -> bool array (p, r)``: whether each
-        facet of the chunk sees each receiver (terrain shadowing); every pair by default.
+        facet of a chunk sees each receiver (terrain shadowing); every pair by default.
+    groups : array_like of int, shape (P,), optional
+        Group of each facet (``0 .. G - 1``, e.g. one object position each).
 
     Returns
     -------
-    numpy.ndarray of complex, shape (R,)
+    numpy.ndarray of complex, shape (R,), or (G, R) with ``groups``
         In the units of the direct field ``exp(-j k r) / r`` of the same source.
+
+    References
+    ----------
+    See the module notes ([1]_ to [4]_).
     """
-    k = 2.0 * math.pi / wavelength_m
-    src = np.asarray(source_m, dtype=float)
     rx = np.atleast_2d(np.asarray(receivers_m, dtype=float))
-    group_of = None if groups is None else np.asarray(groups, dtype=np.int64)
-    count = 0 if group_of is None or group_of.size == 0 else int(group_of[-1]) + 1
-    out = np.zeros(rx.shape[0] if group_of is None else (count, rx.shape[0]), dtype=complex)
-    if len(facets) == 0:
-        return out
-    # Source side: everything per facet.
-    d1 = facets.centres_m - src
-    r1 = np.linalg.norm(d1, axis=1)
-    s1 = d1 / r1[:, None]
-    n = facets.normals
-    ns1 = np.einsum("ij,ij->i", n, s1)
-    if facets.two_sided:
-        n = np.where((ns1 > 0.0)[:, None], -n, n)  # turn each plate's normal toward the source
-        ns1 = -np.abs(ns1)
-    keep = np.flatnonzero(ns1 < 0.0)
-    if keep.size == 0:
-        return out
-    n, s1, ns1 = n[keep], s1[keep], ns1[keep]
-    e_inc = horizontal_polarisation(s1)
-    ne = np.einsum("ij,ij->i", n, e_inc)
-    weight = facets.areas_m2[keep] * (1.0 if facets.weights is None else facets.weights[keep])
-    amp_src = weight * np.exp(-1j * k * r1[keep]) / r1[keep]  # (p,)
-    centres, a, b = facets.centres_m[keep], facets.edge_a_m[keep], facets.edge_b_m[keep]
-    chunk = max(1, _PAIRS_PER_CHUNK // max(rx.shape[0], 1))
-    for start in range(0, keep.size, chunk):
-        sl = slice(start, start + chunk)
-        # Component form of the vector products (the same formulas, without (p, R, 3) temporaries).
-        c, ns, es, s1s = centres[sl], n[sl], e_inc[sl], s1[sl]
-        dx, dy, dz = (rx[None, :, i] - c[:, i, None] for i in range(3))
-        r2 = np.sqrt(dx * dx + dy * dy + dz * dz)
-        inv = 1.0 / r2
-        ux, uy, uz = dx * inv, dy * inv, dz * inv  # r2_hat
-        inv_h = 1.0 / np.sqrt(ux * ux + uy * uy)  # e_rx = (-uy, ux, 0) / h
-        nr2 = ns[:, 0, None] * ux + ns[:, 1, None] * uy + ns[:, 2, None] * uz
-        s1_erx = (s1s[:, 1, None] * ux - s1s[:, 0, None] * uy) * inv_h
-        n_erx = (ns[:, 1, None] * ux - ns[:, 0, None] * uy) * inv_h
-        e_erx = (es[:, 1, None] * ux - es[:, 0, None] * uy) * inv_h
-        r2_e = es[:, 0, None] * ux + es[:, 1, None] * uy
-        same_side = np.where(nr2 > 0.0, 1.0, -1.0)
-        coupling = s1_erx * ne[sl, None] - same_side * r2_e * n_erx + e_erx * (np.abs(nr2) - ns1[sl, None])
-        if relative_permittivity is not None:
-            grazing = 0.5 * (np.arcsin(np.clip(-ns1[sl, None], 0.0, 1.0)) + np.arcsin(np.clip(np.abs(nr2), 0.0, 1.0)))
-            coupling = coupling * -reflection_coefficient_h(
-                grazing, relative_permittivity, conductivity_s_m, wavelength_m
-            )
-        # g = k (s1 - r2_hat); its products with the edges a and b.
-        aa, bb = a[sl], b[sl]
-        ga = k * ((s1s * aa).sum(axis=1)[:, None] - (aa[:, 0, None] * ux + aa[:, 1, None] * uy + aa[:, 2, None] * uz))
-        gb = k * ((s1s * bb).sum(axis=1)[:, None] - (bb[:, 0, None] * ux + bb[:, 1, None] * uy + bb[:, 2, None] * uz))
-        # term = coupling S S exp(-j k r2) / r2 * amp_src, with the source's phase folded in.
-        real = coupling * _sinc_half(ga) * _sinc_half(gb) * inv * np.abs(amp_src[sl])[:, None]
-        phase = k * r2 - np.angle(amp_src[sl])[:, None]
-        if np.iscomplexobj(real):  # lossy ground: a complex coupling
-            term = real * np.exp(-1j * phase)
-        else:
-            term = np.empty(real.shape, dtype=complex)
-            term.real = real * np.cos(phase)
-            term.imag = -real * np.sin(phase)
-        if not facets.two_sided:
-            term = np.where(nr2 > 0.0, term, 0.0)  # a ground facet radiates only upward
-        if receiver_visible is not None:
-            term = np.where(receiver_visible(keep[sl], np.arange(rx.shape[0])), term, 0.0)
-        if group_of is None:
-            out += term.sum(axis=0)
-        else:
-            g = group_of[keep[sl]]
-            starts = np.flatnonzero(np.r_[True, g[1:] != g[:-1]])
-            out[g[starts]] += np.add.reduceat(term, starts, axis=0)
-    return -1j * k / (4.0 * math.pi) * out
+    pair_weight = None
+    if receiver_visible is not None:
+        every = np.arange(rx.shape[0])
 
+        def pair_weight(sl):
+            return every, receiver_visible(np.arange(sl.start, sl.stop), every)
 
-#: Facet-receiver pairs of one chunk in :func:`ground_fields` (about 30 arrays of this size live at once).
-_GROUND_PAIRS_PER_CHUNK = 100000
-#: Grazing angles of the table the lossy-ground Fresnel coefficient is interpolated from. [rad]
-_GAMMA_TABLE_RAD = np.linspace(0.0, math.pi / 2.0, 2049)
-
-
-#: Adding and subtracting 1.5 * 2**52 rounds a double to the nearest integer (IEEE 754 round-to-even).
-_ROUND = 1.5 * 2.0**52
-
-
-def _sin_over(x: np.ndarray) -> np.ndarray:
-    """``sin(x) / x`` (1 at 0), in the precision of ``x``.
-
-    Taken as ``sin(|x| + t) / (|x| + t)`` (even, like the function) with a tiny ``t`` (1e-30, far
-    below the precision of any argument that matters), which needs no test for 0.
-    """
-    ax = np.abs(x)
-    ax += ax.dtype.type(1e-30)
-    return np.sin(ax) / ax
+    source = np.asarray(source_m, dtype=float)[None, :]
+    ground = dict(relative_permittivity=relative_permittivity, conductivity_s_m=conductivity_s_m)
+    out = _pair_fields(
+        source, facets, rx, wavelength_m, dtype=np.float64, groups=groups, pair_weight=pair_weight, **ground
+    )
+    return out[0] if groups is not None else out[0, 0]
 
 
 def ground_fields(
@@ -272,16 +586,10 @@ def ground_fields(
     pair_weight=None,
     far: bool = False,
 ) -> np.ndarray:
-    """:func:`scattered_field` for one-sided ground facets and several sources at once, faster.
+    """Fields of one-sided ground facets for several sources at once, in single precision.
 
-    The same physics and the same coupling ``F_p`` (see the module notes), specialised to ground
-    facets (one-sided, lit and seen from above, so ``t = +1``) and written component by component:
-    with ``X = (s1 x r2)_z`` and ``D = s1_h . r2_h`` (horizontal parts) the coupling is
-    ``[D (n . r2 - n . s1) - X (h1 (n . e) + h2 (n . e_r))] / (h1 h2)``, ``h1, h2`` the horizontal
-    lengths of ``s1`` and ``r2``. Everything on the receiver side (distances, directions, the
-    spherical wave ``exp(-j k r2) / r2``) is computed once per facet-receiver pair and shared by
-    the sources; the sum over facets is a matrix product. For lossy ground the Fresnel
-    coefficient is interpolated from a table of 2,049 grazing angles (its error is below 1e-6).
+    The kernel :func:`_pair_fields` with ``float32`` pair work after the phase (its error is about
+    1e-6 of the largest field; the sum of each chunk is added in double precision).
 
     Parameters
     ----------
@@ -304,7 +612,8 @@ def ground_fields(
         ``pair_weight(facet_slice) -> (receiver_index, weights)``: the receivers the facets of a
         chunk count for, and the real weights (p, len(receiver_index)) of each pair (e.g. a taper
         at the edge of each receiver's own integration area); the other receivers are skipped
-        for that chunk, so facets ordered by position make it pay.
+        for that chunk, so facets ordered by position make it pay. Called once per chunk, from
+        worker threads, in any order.
     far : bool
         ``receivers_m`` are unit directions toward distant receivers: the field is returned in
         far-field units (``exp(-j k r) / r`` times ``r exp(j k r)``, ``r`` from the origin), where
@@ -323,100 +632,7 @@ def ground_fields(
     """
     if facets.two_sided:
         raise ValueError("ground_fields takes one-sided ground facets; use scattered_field for plates")
-    k = 2.0 * math.pi / wavelength_m
-    src = np.atleast_2d(np.asarray(sources_m, dtype=float))
-    rx = np.atleast_2d(np.asarray(receivers_m, dtype=float))
-    out = np.zeros((src.shape[0], rx.shape[0]), dtype=complex)
-    if len(facets) == 0:
-        return out
-    lossy = relative_permittivity is not None
-    if lossy:
-        gamma_table = -reflection_coefficient_h(_GAMMA_TABLE_RAD, relative_permittivity, conductivity_s_m, wavelength_m)
-    n = facets.normals
-    a, b = facets.edge_a_m, facets.edge_b_m
-    weight = facets.areas_m2 * (1.0 if facets.weights is None else facets.weights)
-    # Source side, per source and facet.
-    d1 = facets.centres_m[None, :, :] - src[:, None, :]  # (S, P, 3)
-    r1 = np.linalg.norm(d1, axis=2)
-    s1 = d1 / r1[..., None]
-    ns1 = np.einsum("pj,spj->sp", n, s1)
-    h1 = np.hypot(s1[..., 0], s1[..., 1])
-    ne = (n[None, :, 1] * s1[..., 0] - n[None, :, 0] * s1[..., 1]) / h1  # n . e_inc
-    lit = ns1 < 0.0
-    if source_visible is not None:
-        lit &= np.asarray(source_visible, dtype=bool)
-    amp = np.where(lit, weight[None, :] * np.exp(-1j * k * r1) / r1, 0.0)  # (S, P)
-    s1a = np.einsum("spj,pj->sp", s1, a)
-    s1b = np.einsum("spj,pj->sp", s1, b)
-    f32 = np.float32
-    s1_32, ns1_32, h1_32, ne_32 = s1.astype(f32), ns1.astype(f32), h1.astype(f32), ne.astype(f32)
-    s1a_32, s1b_32 = (0.5 * k * s1a).astype(f32), (0.5 * k * s1b).astype(f32)
-    n32, a32, b32 = n.astype(f32), (0.5 * k * a).astype(f32), (0.5 * k * b).astype(f32)
-    cycles_per_m = 1.0 / wavelength_m
-    chunk = max(1, _GROUND_PAIRS_PER_CHUNK // max(rx.shape[0], 1))
-    for start in range(0, len(facets), chunk):
-        sl = slice(start, start + chunk)
-        if not np.any(amp[:, sl]):
-            continue
-        c = facets.centres_m[sl]
-        cols = slice(None)
-        if pair_weight is not None:
-            cols, pair = pair_weight(sl)
-            if len(cols) == 0:
-                continue
-            pair = np.asarray(pair, dtype=f32)
-        # The phase reduced to [-pi, pi] in double precision (rounding by the 1.5 * 2**52 trick,
-        # far faster than rint), then single precision for the rest of the pair's work.
-        if far:
-            d = rx[cols]
-            turns = -(c @ d.T) * cycles_per_m  # exp(-j k r2) -> exp(+j k d . c)
-            inv_r2 = np.ones(turns.shape, dtype=f32)
-            x, y, z = (np.broadcast_to(d[None, :, i].astype(f32), turns.shape) for i in range(3))
-        else:
-            dx = rx[None, cols, 0] - c[:, 0, None]
-            dy = rx[None, cols, 1] - c[:, 1, None]
-            dz = rx[None, cols, 2] - c[:, 2, None]
-            r2 = np.sqrt(dx * dx + dy * dy + dz * dz)
-            turns = r2 * cycles_per_m
-            inv = 1.0 / r2
-            inv_r2 = inv.astype(f32)
-            x, y, z = (dx * inv).astype(f32), (dy * inv).astype(f32), (dz * inv).astype(f32)
-        turns -= (turns + _ROUND) - _ROUND
-        phase = (2.0 * math.pi * turns).astype(f32)
-        h2 = np.sqrt(x * x + y * y)
-        nn = n32[sl]
-        nr2 = nn[:, 0, None] * x + nn[:, 1, None] * y + nn[:, 2, None] * z
-        seen = nr2 > 0.0  # a ground facet radiates only upward
-        if horizon_tan is not None:
-            seen &= z > horizon_tan[sl, None].astype(f32) * h2
-        ne_rx = nn[:, 1, None] * x - nn[:, 0, None] * y  # h2 (n . e_r)
-        ra = a32[sl, 0, None] * x + a32[sl, 1, None] * y + a32[sl, 2, None] * z
-        rb = b32[sl, 0, None] * x + b32[sl, 1, None] * y + b32[sl, 2, None] * z
-        inv_r2 = np.where(seen, inv_r2, f32(0.0))
-        if pair_weight is not None:
-            inv_r2 *= pair
-        wave_re = np.cos(phase) * inv_r2
-        wave_im = -np.sin(phase) * inv_r2
-        for s in range(src.shape[0]):
-            amp_s = amp[s, sl]
-            if not np.any(amp_s):
-                continue
-            sx, sy = s1_32[s, sl, 0, None], s1_32[s, sl, 1, None]
-            cross = sx * y - sy * x
-            dot = sx * x + sy * y
-            h1s = h1_32[s, sl, None]
-            coupling = (dot * (nr2 - ns1_32[s, sl, None]) - cross * (h1s * ne_32[s, sl, None] + ne_rx)) / (h1s * h2)
-            coupling *= _sin_over(s1a_32[s, sl, None] - ra) * _sin_over(s1b_32[s, sl, None] - rb)
-            if lossy:
-                grazing = 0.5 * (np.arcsin(np.clip(-ns1_32[s, sl, None], 0.0, 1.0)) + np.arcsin(np.clip(nr2, 0.0, 1.0)))
-                g_re = np.interp(grazing, _GAMMA_TABLE_RAD, gamma_table.real).astype(f32)
-                g_im = np.interp(grazing, _GAMMA_TABLE_RAD, gamma_table.imag).astype(f32)
-                m_re = coupling * (g_re * wave_re - g_im * wave_im)
-                m_im = coupling * (g_re * wave_im + g_im * wave_re)
-            else:
-                m_re = coupling * wave_re
-                m_im = coupling * wave_im
-            m_re, m_im = m_re.astype(float), m_im.astype(float)
-            ar, ai = amp_s.real, amp_s.imag
-            out[s, cols] += (ar @ m_re - ai @ m_im) + 1j * (ar @ m_im + ai @ m_re)
-    return -1j * k / (4.0 * math.pi) * out
+    ground = dict(relative_permittivity=relative_permittivity, conductivity_s_m=conductivity_s_m)
+    shading = dict(source_visible=source_visible, horizon_tan=horizon_tan, pair_weight=pair_weight)
+    fields = _pair_fields(sources_m, facets, receivers_m, wavelength_m, dtype=np.float32, far=far, **ground, **shading)
+    return fields[:, 0, :]

@@ -6,10 +6,11 @@ import math
 import numpy as np
 import pytest
 from dem_helpers import box_around, write_dem
+from optics_reference import reference_fields
 from pyproj import Transformer
 
 from geo.arrays import antenna_heights_m, proximity_shifts_m
-from geo.optics import Facets, ground_fields, scattered_field
+from geo.optics import Facets, ground_fields
 from geo.prediction import DDM_AT_HALF_SECTOR, ArrayModel, predict_path
 from geo.site import load_site
 from geo.structure import bends, segment_bends
@@ -63,15 +64,32 @@ def _random_ground(n, seed=1):
 
 
 @pytest.mark.parametrize("ground", [(None, None), (15.0, 0.005)])
-def test_ground_kernel_agrees_with_the_general_kernel(ground):
-    # Independent construction: geo.optics.scattered_field (vector form, double precision, the
-    # Fresnel coefficient computed per pair) against the component form of ground_fields
-    # (single precision after the phase, tabulated coefficient). Requirement: 1e-5 of the largest.
-    f = _random_ground(3000)
-    rx = np.column_stack([np.linspace(300, 18000, 40), np.full(40, 120.0), np.linspace(15, 1000, 40)])
+@pytest.mark.parametrize("far", [False, True])
+def test_ground_kernel_agrees_with_the_formula_pair_by_pair(ground, far):
+    # Independent construction: tests/optics_reference.py evaluates the module notes' sum facet by
+    # facet and receiver by receiver in double precision with the vector products as written (Knott
+    # et al. 1993 ch. 5; Beckmann and Spizzichino 1963 ch. 3: -Gamma from geo.ground per pair),
+    # here with terrain shadowing and per-pair weights, against the single-precision kernel
+    # (component form, tabulated Gamma). Requirement: 1e-5 of the largest.
+    f = _random_ground(150, seed=3)
+    rng = np.random.default_rng(4)
     src = np.array([[0.0, 0.0, 4.47], [0.0, 0.25, 8.95]])
-    ref = np.array([scattered_field(s, f, rx, LAM, *ground) for s in src])
-    got = ground_fields(src, f, rx, LAM, *ground)
+    if far:
+        e = np.radians(np.linspace(1.0, 6.0, 12))
+        rx = np.column_stack([np.cos(e), 0.05 * np.sin(7 * e), np.sin(e)])
+        rx /= np.linalg.norm(rx, axis=1)[:, None]
+    else:
+        rx = np.column_stack([np.linspace(300, 18000, 12), np.full(12, 120.0), np.linspace(15, 1000, 12)])
+    visible = rng.random((2, len(f))) > 0.2
+    horizon = rng.random(len(f)) * 0.03
+    weights = np.where(rng.random((len(f), 12)) > 0.3, rng.random((len(f), 12)), 0.0)
+
+    def pair_weight(sl):
+        used = np.flatnonzero(np.any(weights[sl] > 0.0, axis=0))
+        return used, weights[sl][:, used]
+
+    ref = reference_fields(src, f, rx, LAM, *ground, visible, horizon, weights, far=far)
+    got = ground_fields(src, f, rx, LAM, *ground, visible, horizon, pair_weight, far=far)
     assert np.max(np.abs(got - ref)) <= 1e-5 * np.max(np.abs(ref))
 
 
