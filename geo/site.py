@@ -163,6 +163,9 @@ class PredictionSpec:
         the glide path intercept procedure needs it (Annex 10 Vol I 3.1.5.6.5, from memory).
     below_path_down_to_set : bool
         Whether the site file gave ``below_path_down_to``.
+    surface : bool
+        Predict the path over the DEM surface too (physical optics, :mod:`geo.surface_study`)
+        when the site file gives a DEM; ``false`` skips it (a quicker study, e.g. in a batch).
     """
 
     relative_permittivity: float | None = None
@@ -172,6 +175,7 @@ class PredictionSpec:
     sbo_feed: tuple[complex, ...] | None = None
     below_path_down_to: float = 0.45
     below_path_down_to_set: bool = False
+    surface: bool = True
 
 
 #: Headings an object may take: parallel to the runway (holding, parked) or across it (taxiing).
@@ -546,8 +550,19 @@ def _prediction(table, antennas: int) -> PredictionSpec:
     _only(
         table,
         "prediction",
-        ("relative_permittivity", "conductivity", "half_sector", "csb_feed", "sbo_feed", "below_path_down_to"),
+        (
+            "relative_permittivity",
+            "conductivity",
+            "half_sector",
+            "csb_feed",
+            "sbo_feed",
+            "below_path_down_to",
+            "surface",
+        ),
     )
+    surface = table.get("surface", True)
+    if not isinstance(surface, bool):
+        raise SiteFileError("prediction.surface", f"must be true or false (got {_show(surface)})")
     eps = _number(
         table,
         "prediction",
@@ -606,6 +621,7 @@ def _prediction(table, antennas: int) -> PredictionSpec:
         feeds["sbo_feed"],
         below_path_down_to=down_to if down_to is not None else 0.45,
         below_path_down_to_set=down_to is not None,
+        surface=surface,
     )
 
 

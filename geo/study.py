@@ -540,10 +540,11 @@ def run_study(spec: SiteSpec) -> StudyResult:
 
         families = _roughness_families(spec, terrain, lam, setback, offset)
         found.append(checks.check_roughness_families(families))
-        surface = surface_for_study(
-            spec, runway, side, setback, offset, terrain, heights, shifts, feeds, lam, prediction, rdh
-        )
-        found += surface_findings(surface, spec.category, spec.units)
+        if spec.prediction.surface:
+            surface = surface_for_study(
+                spec, runway, side, setback, offset, terrain, heights, shifts, feeds, lam, prediction, rdh
+            )
+            found += surface_findings(surface, spec.category, spec.units)
     if dem_finding is not None:
         found.insert(0, dem_finding)  # the likely cause of every other odd height: shown first
     found = [f for f in found if f is not None]

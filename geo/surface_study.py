@@ -24,7 +24,7 @@ from geo.structure_limits import LIMITS_SOURCE, structure_segments
 from geo.surface_prediction import AreaTooLarge, SurfacePrediction, predict_surface, surface_far_ddm
 from geo.units import format_length
 
-__all__ = ["surface_for_study", "surface_findings", "SKIPPED_WITHOUT_DEM"]
+__all__ = ["surface_for_study", "surface_findings", "skipped_reason", "SKIPPED_WITHOUT_DEM", "SKIPPED_BY_SITE_FILE"]
 
 #: Elevations from the path down to 0.30 theta where the surface's far-field DDM below the path is
 #: computed (once; a cubic between them, :func:`geo.below_path.sampled_ddm`). At the demo, against
@@ -36,6 +36,12 @@ BELOW_PATH_SAMPLES = 31
 #: plane. At the demo the DDM at 0.45 theta is 0.350 with 3, 0.378 with 1.5 and 0.404 with 1 (measured).
 BELOW_PATH_ZONE_FACTOR = 3.0
 SKIPPED_WITHOUT_DEM = "surface prediction skipped: the site file gives no DEM (terrain.dem)"
+SKIPPED_BY_SITE_FILE = "surface prediction skipped: the site file says prediction.surface = false"
+
+
+def skipped_reason(spec) -> str:
+    """Why a study has no surface prediction: no DEM, or the site file's ``prediction.surface``."""
+    return SKIPPED_WITHOUT_DEM if spec.terrain is None else SKIPPED_BY_SITE_FILE
 
 
 def surface_for_study(

@@ -287,3 +287,29 @@ def test_without_a_dem_the_surface_prediction_is_skipped(write_site, site_text):
     assert result.surface is None
     assert "skipped" in summary_dict(result)["prediction"]["surface"]
     assert "Surface prediction: skipped" in summary_text(result)
+
+
+def test_the_site_file_can_switch_the_surface_prediction_off(tmp_path):
+    # The demo with `[prediction] surface = false`: no surface prediction, said so with the key that
+    # did it, and every other figure the same as the full study (independent: the full study itself).
+    from demo_airfield import SITE_FILE
+    from geo.errors import SiteFileError
+    from geo.outputs.summary import summary_dict
+    from geo.outputs.text import summary_text
+
+    text = SITE_FILE.read_text()
+    dem = (SITE_FILE.parent / "dem.tif").resolve().as_posix()
+    text = text.replace('"dem.tif"', f'"{dem}"')
+    off = tmp_path / "off.toml"
+    off.write_text(text + "\n[prediction]\nsurface = false\n")
+    full, quick = run_study(load_site(SITE_FILE)), run_study(load_site(off))
+    assert full.surface is not None and quick.surface is None
+    assert "prediction.surface = false" in summary_dict(quick)["prediction"]["surface"]["skipped"]
+    assert "prediction.surface = false" in summary_text(quick)
+    assert quick.rdh_m == full.rdh_m and quick.terrain.heights_m == full.terrain.heights_m
+    assert quick.prediction.path_angle_deg == full.prediction.path_angle_deg
+    assert not [f for f in quick.findings if f.code.startswith("surface")]
+    bad = tmp_path / "bad.toml"
+    bad.write_text(text + '\n[prediction]\nsurface = "no"\n')
+    with pytest.raises(SiteFileError, match="prediction.surface"):
+        load_site(bad)

@@ -9,7 +9,7 @@ import html
 from pathlib import Path
 
 from geo.findings import CAUTIONS
-from geo.outputs.text import past_or_before
+from geo.outputs.text import past_or_before, skipped_words
 from geo.study import StudyResult
 from geo.units import format_area, format_length
 
@@ -72,7 +72,7 @@ def write_report(result: StudyResult, path: Path, plots: bool) -> None:
             )
         )
     elif result.prediction is not None:
-        figures.append(("Path over the DEM surface", "skipped: no DEM in the site file"))
+        figures.append(("Path over the DEM surface", f"skipped: {skipped_words(result.spec)}"))
     if result.terrain is not None:
         t = result.terrain
         figures.append(

@@ -361,11 +361,11 @@ def roughness_families_dict(families) -> list[dict]:
 def surface_dict(result: StudyResult) -> dict:
     """The path over the DEM surface (physical optics), or why it was skipped (metre keys)."""
     from geo.structure_limits import LIMITS_SOURCE
-    from geo.surface_study import SKIPPED_WITHOUT_DEM
+    from geo.surface_study import skipped_reason
 
     sp = result.surface
     if sp is None:
-        return {"skipped": SKIPPED_WITHOUT_DEM}
+        return {"skipped": skipped_reason(result.spec)}
     base = result.mast.plane_elevation_m
     thr = result.spec.threshold.elevation_m
     u0, u1, w0, w1 = sp.area_m

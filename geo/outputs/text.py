@@ -74,7 +74,7 @@ def surface_lines(result: StudyResult) -> list[str]:
     if result.prediction is None:
         return []
     if sp is None:
-        return ["Surface prediction: skipped (no DEM in the site file)"]
+        return [f"Surface prediction: skipped ({skipped_words(result.spec)})"]
     _len = _lengths(result.spec.units)
     base = result.mast.plane_elevation_m - result.spec.threshold.elevation_m
     worst = max(sp.structure, key=lambda s: s.bend_95_ddm / s.limit_ddm) if sp.structure else None
@@ -94,3 +94,8 @@ def surface_lines(result: StudyResult) -> list[str]:
 def past_or_before(along_m: float) -> str:
     """Which side of the threshold a distance along the centre line lies: ``past`` or ``before``."""
     return "before" if along_m < 0.0 else "past"
+
+
+def skipped_words(spec) -> str:
+    """Why the surface prediction was skipped, in a few words for the screen and the report."""
+    return "no DEM in the site file" if spec.terrain is None else "prediction.surface = false in the site file"
