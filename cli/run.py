@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import shutil
 from pathlib import Path
 
 import click
@@ -29,15 +30,33 @@ def run_site(
 ) -> None:
     """Load, study, write and report one site (shared by ``run`` and ``demo``)."""
     from geo.outputs.text import summary_text
-    from geo.outputs.write import OUTPUTS, check_outputs, write_study
+    from geo.outputs.write import OUTPUTS, check_outputs, write_early, write_study
     from geo.site import load_site
     from geo.study import run_study
 
     chosen = check_outputs(outputs.split(",")) if outputs else OUTPUTS
     spec = load_site(site_path)
-    with _background(chosen, plots) as background:
-        result = run_study(spec)
-        folder = write_study(result, out_dir, overwrite=overwrite, plots=plots, outputs=chosen, background=background)
+    early, staged = [], []
+    try:
+        with _background(chosen, plots) as background:
+
+            def before_surface(partial):  # what does not need the surface prediction is drawn meanwhile
+                if background is not None:
+                    early.append(write_early(partial, out_dir, overwrite, plots, chosen, background, staged))
+
+            result = run_study(spec, before_surface=before_surface)
+            folder = write_study(
+                result,
+                out_dir,
+                overwrite=overwrite,
+                plots=plots,
+                outputs=chosen,
+                background=background,
+                early=early[0] if early else None,
+            )
+    finally:  # after the writers have ended: nothing writes into the staging folder any more
+        for path in staged:
+            shutil.rmtree(path, ignore_errors=True)
     if not quiet:
         click.echo(summary_text(result))
         click.echo(f"Results written to {folder}")
@@ -54,7 +73,7 @@ def _background(chosen, plots: bool):
     from geo.outputs.background import BackgroundWriter
 
     slow = [name for name in ("plots", "map", "gpkg") if name in chosen and (plots or name != "plots")]
-    return BackgroundWriter(slow) if slow else contextlib.nullcontext()
+    return BackgroundWriter(slow) if slow else contextlib.nullcontext(None)
 
 
 @click.command("run")

@@ -380,13 +380,17 @@ def _solve_on_terrain(spec, runway, dem, side, setback, offset, lam, field_name,
 
 
 @naming_site_file
-def run_study(spec: SiteSpec) -> StudyResult:
+def run_study(spec: SiteSpec, before_surface=None) -> StudyResult:
     """Run one site study, on flat ground or on the DEM of ``spec.terrain``.
 
     Parameters
     ----------
     spec : SiteSpec
         Validated inputs (see :func:`geo.site.load_site`).
+    before_surface : callable, optional
+        Called with the study without its surface prediction (``surface`` None and its findings
+        left out) just before that prediction starts, when it will run: the outputs that do not
+        depend on it can be written meanwhile. Not called when there is no surface prediction.
 
     Returns
     -------
@@ -534,21 +538,17 @@ def run_study(spec: SiteSpec) -> StudyResult:
     found.append(checks.check_predicted_angle(prediction.path_angle_deg, spec.angle_deg))
     below, capture = _below_path(spec, heights, shifts, feeds, lam, gu, gw, prediction)
     found += checks.check_below_path(spec.array, below, capture)
-    families = surface = None
+    families = None
     if terrain is not None:
-        from geo.surface_study import surface_findings, surface_for_study
-
         families = _roughness_families(spec, terrain, lam, setback, offset)
         found.append(checks.check_roughness_families(families))
-        if spec.prediction.surface:
-            surface = surface_for_study(
-                spec, runway, side, setback, offset, terrain, heights, shifts, feeds, lam, prediction, rdh
-            )
-            found += surface_findings(surface, spec.category, spec.units)
-    if dem_finding is not None:
-        found.insert(0, dem_finding)  # the likely cause of every other odd height: shown first
-    found = [f for f in found if f is not None]
-    return StudyResult(
+
+    def in_order(findings):
+        if dem_finding is not None:  # the likely cause of every other odd height: shown first
+            findings = [dem_finding, *findings]
+        return [f for f in findings if f is not None]
+
+    result = StudyResult(
         spec=spec,
         channel=channel,
         wavelength_m=lam,
@@ -558,7 +558,7 @@ def run_study(spec: SiteSpec) -> StudyResult:
         rdh_m=rdh,
         path_height_over_threshold_m=over_threshold,
         gpip=gpip,
-        findings=found,
+        findings=in_order(found),
         intercept_elevation_m=intercept_m,
         terrain=terrain,
         profile=profile,
@@ -572,8 +572,21 @@ def run_study(spec: SiteSpec) -> StudyResult:
         below_path=below,
         capture_effect=capture,
         roughness_families=families,
-        surface=surface,
+        surface=None,
     )
+    if terrain is None or not spec.prediction.surface:
+        return result
+    from dataclasses import replace
+
+    from geo.surface_study import surface_findings, surface_for_study
+
+    if before_surface is not None:
+        before_surface(result)
+    surface = surface_for_study(
+        spec, runway, side, setback, offset, terrain, heights, shifts, feeds, lam, prediction, rdh
+    )
+    found += surface_findings(surface, spec.category, spec.units)
+    return replace(result, surface=surface, findings=in_order(found))
 
 
 def _feeds(spec: SiteSpec) -> tuple:

@@ -333,3 +333,9 @@ def write_plots(result: StudyResult, folder: Path) -> None:
     plot_path(result, folder / "path.png")
     if result.surface is not None:
         plot_surface_structure(result, folder / "surface.png")
+
+
+def write_surface_plot(result: StudyResult, folder: Path) -> None:
+    """Draw the one plot that needs the surface prediction (after :func:`write_plots` of the study without it)."""
+    if result.surface is not None:
+        plot_surface_structure(result, folder / "surface.png")

@@ -12,12 +12,13 @@ import os
 import shutil
 import tempfile
 from collections.abc import Callable
+from dataclasses import dataclass
 from pathlib import Path
 
 from geo.errors import OutputError
 from geo.study import StudyResult
 
-__all__ = ["write_study", "write_json", "atomic_folder"]
+__all__ = ["write_study", "write_early", "EarlyWrites", "write_json", "atomic_folder"]
 
 Writer = Callable[[StudyResult, Path], None]
 
@@ -45,6 +46,72 @@ def check_outputs(names) -> tuple[str, ...]:
     return names
 
 
+@dataclass(frozen=True)
+class EarlyWrites:
+    """Outputs the background writers were given before the surface prediction ended.
+
+    Attributes
+    ----------
+    staging : Path
+        The temporary folder they write into; :func:`fill_study` moves its files into the output
+        folder.
+    outputs : frozenset of str
+        ``"plots"`` (every plot but ``surface.png``), ``"map"``, ``"gpkg"``.
+    """
+
+    staging: Path
+    outputs: frozenset
+
+
+def write_early(
+    partial: StudyResult, out_dir: str | Path, overwrite: bool, plots: bool, outputs, background, staged: list
+) -> EarlyWrites | None:
+    """Give the background writers the outputs that do not depend on the surface prediction.
+
+    Called with the study before its surface prediction (:func:`geo.study.run_study`'s
+    ``before_surface``): the plots but ``surface.png``, the map and the GeoPackage read nothing of
+    that prediction or its findings, so they are the same files drawn now. They go to a staging
+    folder beside ``out_dir``, appended to ``staged`` as soon as it exists (before anything is
+    written into it), so that the caller removes it when the run ends, however it ends; the output
+    folder itself is still written atomically by :func:`write_study`. The output folder is checked
+    here, so a folder that cannot be written is said before the surface prediction runs.
+
+    Returns
+    -------
+    EarlyWrites or None
+        None when no background writer takes any of them.
+    """
+    out = Path(out_dir).absolute()
+    _check_target(out, overwrite, [Path(partial.spec.source)] if partial.spec.source else [])
+    chosen = set(outputs) - (set() if plots else {"plots"})
+    early = set(background.outputs) & chosen & {"plots", "map", "gpkg"}
+    if not early:
+        return None
+    try:
+        out.parent.mkdir(parents=True, exist_ok=True)
+        staged.append(Path(tempfile.mkdtemp(prefix=f".{out.name}.partial-{os.getpid()}-", dir=out.parent)))
+    except OSError as exc:
+        raise OutputError(f"--out: cannot create {out} ({exc.strerror or exc})") from None
+    staging = staged[-1]
+    if "plots" in early:
+        from geo.outputs.plots import write_plots
+
+        background.submit(write_plots, partial, staging, output="plots")
+    if early & {"map", "gpkg"}:
+        from geo.outputs.geojson import study_layers
+
+        layers = study_layers(partial)
+        if "map" in early:
+            from geo.outputs.webmap import write_map
+
+            background.submit(write_map, partial, layers, staging / "map.html", output="map")
+        if "gpkg" in early:
+            from geo.outputs.gpkg import write_gpkg
+
+            background.submit(write_gpkg, layers, staging / "site.gpkg", output="gpkg")
+    return EarlyWrites(staging, frozenset(early))
+
+
 def fill_study(
     result: StudyResult,
     folder: Path,
@@ -52,6 +119,7 @@ def fill_study(
     outputs=OUTPUTS,
     extra_layers: dict | None = None,
     background=None,
+    early: EarlyWrites | None = None,
 ) -> None:
     """Write the chosen outputs of a study into an existing, empty folder (not atomic by itself).
 
@@ -69,6 +137,9 @@ def fill_study(
         Worker processes that draw the plots, render the map and write the GeoPackage (those they
         were started for) while this process writes the rest; the files are the same. It is stopped when
         writing fails or is interrupted, before the caller removes the folder.
+    early : EarlyWrites, optional
+        Outputs already given to the background writers (:func:`write_early`): not written again;
+        their files are moved in from the staging folder.
     """
     chosen = set(outputs) - (set() if plots else {"plots"})
     layers = None
@@ -77,22 +148,26 @@ def fill_study(
 
         layers = {**study_layers(result), **(extra_layers or {})}
     elsewhere = set(background.outputs) & chosen if background is not None else set()
+    done = early.outputs if early is not None else frozenset()
     try:
         if "plots" in elsewhere:
-            from geo.outputs.plots import write_plots
+            from geo.outputs.plots import write_plots, write_surface_plot
 
-            background.submit(write_plots, result, folder, output="plots")
-        if "map" in elsewhere:
+            background.submit(write_surface_plot if "plots" in done else write_plots, result, folder, output="plots")
+        if "map" in elsewhere - done:
             from geo.outputs.webmap import write_map
 
             background.submit(write_map, result, layers, folder / "map.html", output="map")
-        if "gpkg" in elsewhere:
+        if "gpkg" in elsewhere - done:
             from geo.outputs.gpkg import write_gpkg
 
             background.submit(write_gpkg, layers, folder / "site.gpkg", output="gpkg")
         _fill_here(result, folder, chosen - elsewhere, layers, "plots" in chosen)
         if elsewhere:
             background.wait()
+        if early is not None:
+            for staged in sorted(early.staging.iterdir()):
+                os.replace(staged, folder / staged.name)
     except BaseException:
         if elsewhere:
             background.stop()
@@ -222,6 +297,7 @@ def write_study(
     plots: bool = True,
     outputs=OUTPUTS,
     background=None,
+    early: EarlyWrites | None = None,
 ) -> Path:
     """Write every output of a study into ``out_dir``, atomically.
 
@@ -236,6 +312,8 @@ def write_study(
     outputs : sequence of str
         Names from :data:`OUTPUTS`.
     background : geo.outputs.background.BackgroundWriter, optional
+        See :func:`fill_study`.
+    early : EarlyWrites, optional
         See :func:`fill_study`.
 
     Returns
@@ -252,7 +330,10 @@ def write_study(
     inputs = [Path(result.spec.source)] if result.spec.source else []
 
     return atomic_folder(
-        out_dir, overwrite, lambda folder: fill_study(result, folder, plots, outputs, background=background), inputs
+        out_dir,
+        overwrite,
+        lambda folder: fill_study(result, folder, plots, outputs, background=background, early=early),
+        inputs,
     )
 
 

@@ -1,0 +1,69 @@
+"""Outputs written while the surface prediction runs: the same files, and nothing left on failure."""
+
+from __future__ import annotations
+
+import hashlib
+
+import pytest
+from click.testing import CliRunner
+
+from cli.main import main
+from geo.outputs.write import write_study
+from geo.site import load_site
+from geo.study import run_study
+
+
+def _digest(folder):
+    return {
+        str(p.relative_to(folder)): hashlib.sha256(p.read_bytes()).hexdigest()
+        for p in sorted(folder.rglob("*"))
+        if p.is_file()
+    }
+
+
+def test_a_run_writes_the_same_files_as_one_process_after_the_study(tmp_path):
+    # Independent method: the whole study first, then every output written in this one process,
+    # against `mastplan run`, whose plots (but surface.png), map and GeoPackage are drawn from the
+    # study before its surface prediction, in the writer processes, while the prediction runs.
+    from demo_airfield import SITE_FILE
+
+    calls = []
+    alone = write_study(run_study(load_site(SITE_FILE), before_surface=calls.append), tmp_path / "alone")
+    assert len(calls) == 1 and calls[0].surface is None  # the hook sees the study without the prediction
+    res = CliRunner().invoke(main, ["run", str(SITE_FILE), "--out", str(tmp_path / "run"), "--quiet"])
+    assert res.exit_code == 0, res.output
+    digest = _digest(tmp_path / "run")
+    assert digest == _digest(alone)
+    assert {"map.html", "site.gpkg", "profile.png", "ddm.png", "surface.png"} <= set(digest)
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["alone", "run"]  # no staging folder left
+
+
+def test_a_failing_surface_prediction_leaves_no_folder_behind(tmp_path, monkeypatch):
+    # The early writes are under way when the prediction fails: no output folder, no staging folder.
+    import geo.surface_study
+    from demo_airfield import SITE_FILE
+
+    def broken(*args, **kwargs):
+        raise RuntimeError("surface prediction failed")
+
+    monkeypatch.setattr(geo.surface_study, "surface_for_study", broken)
+    res = CliRunner().invoke(main, ["run", str(SITE_FILE), "--out", str(tmp_path / "run")])
+    assert res.exit_code == 1 and "surface prediction failed" in res.output
+    assert list(tmp_path.iterdir()) == []
+
+
+def test_an_output_folder_that_cannot_be_used_is_said_before_the_surface_prediction(tmp_path, monkeypatch):
+    import geo.surface_study
+    from demo_airfield import SITE_FILE
+
+    (tmp_path / "full").mkdir()
+    (tmp_path / "full" / "keep.txt").write_text("mine")
+
+    def not_reached(*args, **kwargs):
+        pytest.fail("the surface prediction ran although the output folder was refused")
+
+    monkeypatch.setattr(geo.surface_study, "surface_for_study", not_reached)
+    res = CliRunner().invoke(main, ["run", str(SITE_FILE), "--out", str(tmp_path / "full")])
+    assert res.exit_code == 2 and "not empty" in res.output
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["full"]
+    assert (tmp_path / "full" / "keep.txt").read_text() == "mine"
