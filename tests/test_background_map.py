@@ -2,20 +2,12 @@
 
 from __future__ import annotations
 
-import hashlib
+from tests_support import file_digests
 
 from geo.outputs.background import BackgroundWriter
 from geo.outputs.write import write_study
 from geo.site import load_site
 from geo.study import run_study
-
-
-def _digest(folder):
-    return {
-        str(p.relative_to(folder)): hashlib.sha256(p.read_bytes()).hexdigest()
-        for p in sorted(folder.rglob("*"))
-        if p.is_file()
-    }
 
 
 def test_map_and_gpkg_in_their_worker_are_the_same_bytes(tmp_path):
@@ -28,8 +20,8 @@ def test_map_and_gpkg_in_their_worker_are_the_same_bytes(tmp_path):
     with BackgroundWriter(["plots", "map", "gpkg"]) as background:
         assert [w.outputs for w in background._workers] == [("plots",), ("map", "gpkg")]
         beside = write_study(result, tmp_path / "beside", background=background)
-    digest = _digest(beside)
-    assert _digest(alone) == digest
+    digest = file_digests(beside)
+    assert file_digests(alone) == digest
     assert {"map.html", "site.gpkg", "path.png", "profile.png", "surface.png"} <= set(digest)
 
 

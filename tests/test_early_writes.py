@@ -2,23 +2,14 @@
 
 from __future__ import annotations
 
-import hashlib
-
 import pytest
 from click.testing import CliRunner
+from tests_support import file_digests
 
 from cli.main import main
 from geo.outputs.write import write_study
 from geo.site import load_site
 from geo.study import run_study
-
-
-def _digest(folder):
-    return {
-        str(p.relative_to(folder)): hashlib.sha256(p.read_bytes()).hexdigest()
-        for p in sorted(folder.rglob("*"))
-        if p.is_file()
-    }
 
 
 def test_a_run_writes_the_same_files_as_one_process_after_the_study(tmp_path):
@@ -32,8 +23,8 @@ def test_a_run_writes_the_same_files_as_one_process_after_the_study(tmp_path):
     assert len(calls) == 1 and calls[0].surface is None  # the hook sees the study without the prediction
     res = CliRunner().invoke(main, ["run", str(SITE_FILE), "--out", str(tmp_path / "run"), "--quiet"])
     assert res.exit_code == 0, res.output
-    digest = _digest(tmp_path / "run")
-    assert digest == _digest(alone)
+    digest = file_digests(tmp_path / "run")
+    assert digest == file_digests(alone)
     assert {"map.html", "site.gpkg", "profile.png", "ddm.png", "surface.png"} <= set(digest)
     assert sorted(p.name for p in tmp_path.iterdir()) == ["alone", "run"]  # no staging folder left
 

@@ -3,6 +3,7 @@
 import json
 
 import pytest
+from tests_support import file_digests
 
 from geo.errors import OutputError
 from geo.outputs.geojson import ring_is_ccw
@@ -172,16 +173,6 @@ def test_protected_areas_layer_and_cover(tmp_path, write_site, site_text):
     assert small.zone_covers[0].outside_percent == pytest.approx(100.0)
 
 
-def _digest(folder):
-    import hashlib
-
-    return {
-        str(p.relative_to(folder)): hashlib.sha256(p.read_bytes()).hexdigest()
-        for p in sorted(folder.rglob("*"))
-        if p.is_file()
-    }
-
-
 def test_a_background_writer_writes_the_same_bytes(tmp_path):
     # Independent method: the same outputs written in one process, against plots and GeoPackage
     # written in the worker process.
@@ -192,7 +183,7 @@ def test_a_background_writer_writes_the_same_bytes(tmp_path):
     alone = write_study(result, tmp_path / "alone")
     with BackgroundWriter(["plots", "gpkg"]) as background:
         beside = write_study(result, tmp_path / "beside", background=background)
-    assert _digest(alone) == _digest(beside) and "profile.png" in _digest(beside)
+    assert file_digests(alone) == file_digests(beside) and "profile.png" in file_digests(beside)
 
 
 def _broken_plots(result, folder):

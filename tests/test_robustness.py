@@ -1,6 +1,5 @@
 """No lost work (runs killed midway), reproducible outputs."""
 
-import hashlib
 import signal
 import subprocess
 import sys
@@ -8,15 +7,7 @@ import time
 from pathlib import Path
 
 import pytest
-from tests_support import DEMO_SITE
-
-
-def _digest(folder: Path) -> dict:
-    return {
-        str(p.relative_to(folder)): hashlib.sha256(p.read_bytes()).hexdigest()
-        for p in sorted(folder.rglob("*"))
-        if p.is_file()
-    }
+from tests_support import DEMO_SITE, file_digests
 
 
 def _start(out: Path):
@@ -43,7 +34,7 @@ def earlier(tmp_path):
     subprocess.run(
         [sys.executable, "-m", "cli.main", "run", str(DEMO_SITE), "--out", str(out), "-q", "--no-plots"], check=True
     )
-    return out, _digest(out)
+    return out, file_digests(out)
 
 
 @pytest.mark.parametrize("how", [signal.SIGTERM, signal.SIGINT])
@@ -54,7 +45,7 @@ def test_a_run_stopped_midway_leaves_the_earlier_results_and_no_partial_folder(t
     proc.send_signal(how)
     _, err = proc.communicate(timeout=60)
     assert proc.returncode in (130, 143) and "earlier results are untouched" in err and "Traceback" not in err
-    assert _digest(out) == before
+    assert file_digests(out) == before
     assert not list(tmp_path.glob(".out.*"))
 
 
@@ -64,7 +55,7 @@ def test_a_run_killed_outright_is_cleaned_up_by_the_next(tmp_path, earlier):
     assert _wait_for_partial(tmp_path, proc)
     proc.kill()  # SIGKILL: nothing can clean up now
     proc.wait(timeout=60)
-    assert _digest(out) == before  # the earlier results are still whole
+    assert file_digests(out) == before  # the earlier results are still whole
     subprocess.run(
         [sys.executable, "-m", "cli.main", "run", str(DEMO_SITE), "--out", str(out), "--overwrite", "-q", "--no-plots"],
         check=True,
@@ -76,7 +67,7 @@ def test_a_run_killed_outright_is_cleaned_up_by_the_next(tmp_path, earlier):
 def test_same_inputs_give_byte_identical_outputs(tmp_path):
     for name in ("a", "b"):
         subprocess.run([sys.executable, "-m", "cli.main", "demo", "--out", str(tmp_path / name), "-q"], check=True)
-    a, b = _digest(tmp_path / "a"), _digest(tmp_path / "b")
+    a, b = file_digests(tmp_path / "a"), file_digests(tmp_path / "b")
     assert a == b and len(a) >= 15
     import json
 

@@ -68,3 +68,14 @@ def on_a_terminal(*args):
         data += chunk
     os.close(master)
     return proc.returncode, data
+
+
+def file_digests(folder: Path) -> dict:
+    """SHA-256 of every file under ``folder``, by relative path (to compare output folders byte by byte)."""
+    import hashlib
+
+    return {
+        str(p.relative_to(folder)): hashlib.sha256(p.read_bytes()).hexdigest()
+        for p in sorted(folder.rglob("*"))
+        if p.is_file()
+    }
