@@ -283,42 +283,54 @@ def _pair_fields(
         table = table.astype(dt)
         per_rad = (_GAMMA_TABLE_RAD.size - 1) / _GAMMA_TABLE_RAD[-1]
 
-    def source_side(sl: slice, counted=None) -> dict | None:
-        """Per source and facet of a chunk, in double precision, components first.
+    def source_terms() -> dict:
+        """Per source and facet, for every facet at once, in double precision, components first.
 
-        Only the facets lit by some source (and ``counted``: with a pair weight other than 0).
+        Computed once per call (a chunk takes its facets' columns): the same numbers as facet by
+        facet, without the fixed cost of some forty small array operations per chunk.
         """
-        a, b = facets.edge_a_m[sl].T, facets.edge_b_m[sl].T  # (3, p)
+        a, b = facets.edge_a_m.T, facets.edge_b_m.T  # (3, P)
         normal = np.cross(a, b, axis=0)
         area = np.sqrt(_dot(normal, normal))
         n = normal / area
-        d1 = facets.centres_m[sl].T[None, :, :] - src[:, :, None]  # (S, 3, p)
+        d1 = facets.centres_m.T[None, :, :] - src[:, :, None]  # (S, 3, P)
         r1 = np.sqrt(_dot(d1, d1))
         s1 = d1 / r1[:, None, :]
         ns1 = _dot(s1, n)
         lit = ns1 != 0.0 if two_sided else ns1 < 0.0
         if visible is not None:
-            lit &= visible[:, sl]
-        weight = area if facets.weights is None else area * facets.weights[sl]
-        keep = np.any(lit, axis=0) & (weight != 0.0)
-        rows = np.flatnonzero(keep if counted is None else keep & counted)
-        if rows.size == 0:
-            return None
-        n, s1, ns1, r1, a, b = n[:, rows], s1[:, :, rows], ns1[:, rows], r1[:, rows], a[:, rows], b[:, rows]
-        amp = np.where(lit[:, rows], weight[rows] * np.exp(-1j * k * r1) / r1, 0.0)  # (S, p)
+            lit &= visible
+        weight = area if facets.weights is None else area * facets.weights
+        terms = {"keep": np.any(lit, axis=0) & (weight != 0.0)}
+        terms["amp"] = np.where(lit, weight * np.exp(-1j * k * r1) / r1, 0.0)  # (S, P)
         sx, sy = s1[:, 0], s1[:, 1]
         h1 = np.hypot(sx, sy)
         a1 = np.abs(ns1)
         b1 = -np.sign(ns1) * (n[1] * sx - n[0] * sy)
-        side = {"rows": rows, "amp": amp, "n": n}
         # Per source, F_p h1 h2 = s1x P + s1y Q + c1 x + c2 y (see above), divided by h1.
-        side["coef"] = (np.stack([sx, sy, a1 * sx + b1 * sy, a1 * sy - b1 * sx], axis=1) / h1[:, None, :]).astype(dt)
-        side["s1a"] = (half_k * _dot(s1, a)).astype(dt)
-        side["s1b"] = (half_k * _dot(s1, b)).astype(dt)
+        terms["coef"] = (np.stack([sx, sy, a1 * sx + b1 * sy, a1 * sy - b1 * sx], axis=1) / h1[:, None, :]).astype(dt)
+        terms["s1a"] = (half_k * _dot(s1, a)).astype(dt)
+        terms["s1b"] = (half_k * _dot(s1, b)).astype(dt)
         if lossy:
-            side["g1"] = np.arcsin(np.minimum(a1, 1.0)).astype(dt)  # the source's grazing angle
-        zero = np.zeros(rows.size)
-        side["shared"] = np.stack([n, [n[1], -n[0], zero], half_k * a, half_k * b]).astype(dt)  # (4, 3, p)
+            terms["g1"] = np.arcsin(np.minimum(a1, 1.0)).astype(dt)  # the source's grazing angle
+        zero = np.zeros(n.shape[1])
+        terms["shared"] = np.stack([n, [n[1], -n[0], zero], half_k * a, half_k * b]).astype(dt)  # (4, 3, P)
+        return terms
+
+    every_facet = source_terms()
+
+    def source_side(sl: slice, counted=None) -> dict | None:
+        """The terms of the facets of a chunk lit by some source (and ``counted``: with a pair weight other than 0)."""
+        keep = every_facet["keep"][sl]
+        rows = np.flatnonzero(keep if counted is None else keep & counted)
+        if rows.size == 0:
+            return None
+        idx = sl.start + rows
+        side = {"rows": rows, "amp": every_facet["amp"][:, idx], "coef": every_facet["coef"][:, :, idx]}
+        for name in ("s1a", "s1b", "g1"):
+            if name in every_facet:
+                side[name] = every_facet[name][:, idx]
+        side["shared"] = every_facet["shared"][:, :, idx]
         return side
 
     ht = None if horizon_tan is None else np.asarray(horizon_tan, dtype=dt)

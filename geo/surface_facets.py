@@ -145,19 +145,49 @@ class AreaLimits:
         sel = slice(None) if receivers is None else receivers
         u = np.asarray(u_m, float)[:, None]
         w = np.asarray(w_m, float)[:, None]
-        best = None
+        least = None  # the smallest rho squared over the antennas
         for centre, q in zip(self.centres_m[:, sel], self.quadratic[:, sel]):
             du, dw = u - centre[None, :, 0], w - centre[None, :, 1]
-            rho = np.sqrt(q[None, :, 0, 0] * du * du + 2.0 * q[None, :, 0, 1] * du * dw + q[None, :, 1, 1] * dw * dw)
-            best = rho if best is None else np.minimum(best, rho)
-        weight = np.zeros(best.shape)
-        inner = best <= (1.0 + f) / 2.0
-        weight[inner] = 1.0
-        edge = (best > (1.0 + f) / 2.0) & (best < f)
-        weight[edge] = planck_taper((f - best[edge]) / ((f - 1.0) / 2.0))
-        if self.foot_ramps_m is not None:
-            weight *= planck_taper((u - self.u0_m) / self.foot_ramps_m[sel][None, :])
+            rho2 = q[None, :, 0, 0] * du * du + 2.0 * q[None, :, 0, 1] * du * dw + q[None, :, 1, 1] * dw * dw
+            least = rho2 if least is None else np.minimum(least, rho2, out=least)
+        best = np.sqrt(least, out=least)  # sqrt is monotonic: the least rho
+        weight = (best <= (1.0 + f) / 2.0).astype(float)
+        edge = np.flatnonzero(((best > (1.0 + f) / 2.0) & (best < f)).ravel())
+        weight.ravel()[edge] = planck_taper((f - best.ravel()[edge]) / ((f - 1.0) / 2.0))
+        if self.foot_ramps_m is not None:  # only the facets within some receiver's ramp: 1 beyond
+            ramps = self.foot_ramps_m[sel]
+            near = np.flatnonzero(u[:, 0] - self.u0_m < np.max(ramps)) if ramps.size else np.arange(0)
+            weight[near] *= planck_taper((u[near] - self.u0_m) / ramps[None, :])
         return weight
+
+    def within_areas(self, u_m, w_m, receivers=None, margin_m: float = 1e-6) -> np.ndarray:
+        """Whether a point of the lattice ``u_m`` x ``w_m`` lies in some receiver's area. (len(u), len(w)) bool
+
+        True wherever :meth:`pair_weights` is not 0 for some receiver (and a little beyond: the
+        points within ``margin_m`` of an area's edge): at each ``u`` the ellipse
+        ``rho^2 = f^2`` of every antenna and receiver cuts an interval of ``w`` (the roots of a
+        quadratic in ``w``), and a point inside the span of those intervals is kept. So the facets
+        outside every area, whose pair weights are all 0, are known without computing them.
+        ``receivers`` selects receivers (all by default).
+
+        References
+        ----------
+        .. [1] Born, M. and Wolf, E., *Principles of Optics*, 7th ed., 1999, sec. 8.2 (Fresnel zones).
+        """
+        sel = slice(None) if receivers is None else receivers
+        u = np.asarray(u_m, float)[:, None, None]
+        centres, q = self.centres_m[:, sel], self.quadratic[:, sel]  # (S, R, 2), (S, R, 2, 2)
+        du = u - centres[None, :, :, 0]  # (nu, S, R)
+        a, b = q[None, :, :, 1, 1], q[None, :, :, 0, 1] * du
+        c = q[None, :, :, 0, 0] * du * du - self.zone_factor**2
+        disc = b * b - a * c  # a dw^2 + 2 b dw + c < 0 between the roots
+        cut = disc > 0.0
+        root = np.sqrt(np.where(cut, disc, 0.0))
+        w_c = centres[None, :, :, 1]
+        lo = np.where(cut, w_c + (-b - root) / a, np.inf).reshape(u.shape[0], -1).min(axis=1)
+        hi = np.where(cut, w_c + (-b + root) / a, -np.inf).reshape(u.shape[0], -1).max(axis=1)
+        w = np.asarray(w_m, float)[None, :]
+        return (w >= lo[:, None] - margin_m) & (w <= hi[:, None] + margin_m)
 
 
 def area_limits(antennas_m, receivers_m, wavelength_m: float, zone_factor: float = 3.0) -> AreaLimits:

@@ -187,7 +187,14 @@ def surface_fields(
     if visibility:
         vis, horizon = _shading(grid, surface, model.positions_m)
     options = dict(far=far)
-    if rx_index is not None:  # the same weights for the surface and the plane: their facets share (u, w)
+    counted = slice(None)
+    if rx_index is not None:  # only the facets in some receiver's area: the others weigh 0 for every receiver
+        u_mid, w_mid, _ = surface._centres()
+        counted = np.flatnonzero(grid.limits.within_areas(u_mid, w_mid, rx_index).ravel())
+        facets = facets.subset(counted)
+        if vis is not None:
+            vis, horizon = vis[:, counted], horizon[counted]
+        # the same weights for the surface and the plane: their facets share (u, w)
         options["pair_weight"] = _receiver_weights(grid.limits, facets.centres_m, rx_index)
     po = ground_fields(model.positions_m, facets, rx, *consts, source_visible=vis, horizon_tan=horizon, **options)
     k = 2.0 * math.pi / model.wavelength_m
@@ -200,7 +207,7 @@ def surface_fields(
         return model.csb @ (direct + po), model.sbo @ (direct + po)
     if method != "difference":
         raise ValueError(f"method {method!r} is not one of 'difference', 'raw'")
-    plane = SurfaceGrid(grid.u_m, grid.w_m, plane_nodes, grid.limits).facets(foot=not own_areas)
+    plane = SurfaceGrid(grid.u_m, grid.w_m, plane_nodes, grid.limits).facets(foot=not own_areas).subset(counted)
     po = po - ground_fields(model.positions_m, plane, rx, *consts, **options)
     if far:
         elevation = np.arcsin(np.clip(rx[:, 2], -1.0, 1.0))

@@ -383,3 +383,41 @@ def test_a_receivers_far_ddm_does_not_depend_on_the_receivers_computed_with_it(s
         together = surface_far_ddm(model, heights, r.terrain.cell_size_m, wide, r.prediction.sbo_scale)[0]
     print(f"\nrough site, DDM at 0.45 theta: alone {alone:.5f}, with receivers up to 1.8 theta {together:.5f}")
     assert together == pytest.approx(alone, abs=1e-4)
+
+
+@pytest.mark.parametrize("far", [False, True], ids=["path points", "far field"])
+def test_the_facets_kept_are_every_facet_with_a_weight_on_the_real_surface(studies, far):
+    # geo.surface_prediction drops the facets outside every receiver's area before the kernel
+    # (AreaLimits.within_areas: the ellipses cut at each slab). Independent: the pair weights of
+    # every facet, computed one by one (AreaLimits.pair_weights); a facet with a weight above 0 for
+    # some receiver must be kept, and the facets dropped must be a real share (the saving).
+    from geo.surface_facets import area_limits, surface_grid
+
+    r = studies["rough"]
+    model, _ = _pieces(r)
+    plane = _plane_heights(model)
+    theta = math.radians(r.spec.angle_deg)
+    e = np.linspace(0.3, 1.2, 7) * theta
+    if far:
+        at_range = 200_000.0 * np.column_stack([np.cos(e), np.zeros(e.size), np.sin(e)])
+    else:
+        u = np.geomspace(300.0, 9000.0, e.size)
+        at_range = np.column_stack([u, np.full(e.size, r.mast.offset_m), u * np.tan(theta)])
+    ants = model.positions_m
+
+    def above_plane(p):
+        return np.column_stack([p[:, 0], p[:, 1], p[:, 2] - plane(p[:, 0], p[:, 1])])
+
+    limits = area_limits(above_plane(ants), above_plane(at_range), model.wavelength_m)
+    with Dem.open(r.spec.terrain) as dem:
+        grid = surface_grid(limits, _dem_heights(r, dem), model.wavelength_m, r.terrain.cell_size_m, ants, at_range)
+    centres = grid.facets(foot=False).centres_m
+    chosen = np.array([2, 4, 6])  # a subset (not the lowest, whose areas set the box), as the convergence check
+    u_mid = (grid.u_m[:-1] + grid.u_m[1:]) / 2.0
+    w_mid = (grid.w_m[:-1] + grid.w_m[1:]) / 2.0
+    kept = limits.within_areas(u_mid, w_mid, chosen).ravel()
+    blocks = [centres[s : s + 5000] for s in range(0, len(centres), 5000)]
+    weighed = np.concatenate([limits.pair_weights(b[:, 0], b[:, 1], chosen) for b in blocks])
+    counts = np.any(weighed > 0.0, axis=1)
+    assert not np.any(counts & ~kept)
+    assert kept.mean() < 0.9 and counts.sum() >= 0.95 * kept.sum()
