@@ -81,6 +81,21 @@ def test_bad_input_in_a_real_process_has_no_traceback(tmp_path, write_site, site
     assert proc.stderr.count("\n") == 1 and "mast.offset" in proc.stderr and "Traceback" not in proc.stderr
 
 
+def test_a_real_process_keeps_its_exit_status_and_its_whole_output(tmp_path):
+    # The console command ends without the interpreter's teardown (cli.main.entry): the status of
+    # --fail-on (1: the demo has warnings, see its summary.json) and every printed line must still
+    # reach the caller through pipes.
+    from demo_airfield import SITE_FILE
+
+    out = tmp_path / "r"
+    args = ["run", str(SITE_FILE), "--out", str(out), "--outputs", "summary", "--fail-on", "warning"]
+    proc = subprocess.run([sys.executable, "-m", "cli.main", *args], capture_output=True, text=True, timeout=120)
+    assert proc.returncode == 1, proc.stderr
+    assert proc.stdout.rstrip().endswith(f"Results written to {out}")
+    assert proc.stderr.startswith("mastplan: findings at level warning or worse:")
+    assert (out / "summary.json").exists()
+
+
 def test_demo_dem_script_reproduces_the_committed_raster(tmp_path):
     # The demo DEM is invented; its script must be deterministic so the committed file can be remade.
     import numpy as np
