@@ -44,7 +44,8 @@ def run_site(
                 if background is not None:
                     early.append(write_early(partial, out_dir, overwrite, plots, chosen, background, staged))
 
-            result = run_study(spec, before_surface=before_surface)
+            with _cores_shared(background):
+                result = run_study(spec, before_surface=before_surface)
             folder = write_study(
                 result,
                 out_dir,
@@ -61,6 +62,17 @@ def run_site(
         click.echo(summary_text(result))
         click.echo(f"Results written to {folder}")
     check_fail_on([f.severity for f in result.findings], fail_on)
+
+
+def _cores_shared(background):
+    """The optics kernel on one thread while the writer processes draw (they keep the other core busy)."""
+    import contextlib
+
+    if background is None:
+        return contextlib.nullcontext()
+    from geo.optics import thread_limit
+
+    return thread_limit(lambda: 1 if background.busy() else 2)
 
 
 def _background(chosen, plots: bool):

@@ -56,8 +56,10 @@ References
 
 from __future__ import annotations
 
+import contextlib
 import math
 import threading
+from collections.abc import Callable
 from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass
 
@@ -65,7 +67,15 @@ import numpy as np
 
 from geo.ground import reflection_coefficient_h
 
-__all__ = ["Facets", "scattered_field", "ground_fields", "direct_field", "horizontal_polarisation", "mirror_points"]
+__all__ = [
+    "Facets",
+    "scattered_field",
+    "ground_fields",
+    "direct_field",
+    "horizontal_polarisation",
+    "mirror_points",
+    "thread_limit",
+]
 
 #: Facet-receiver pairs of one chunk (each thread holds about 30 arrays of this size, reused). At most
 #: 2**16, so that each matrix product of a chunk (inner size 4) stays below the size at which OpenBLAS
@@ -73,6 +83,29 @@ __all__ = ["Facets", "scattered_field", "ground_fields", "direct_field", "horizo
 _PAIRS_PER_CHUNK = 65_536
 #: Worker threads of the kernel (the machine the project targets has 2 cores).
 _THREADS = 2
+#: The limits set by :func:`thread_limit`, innermost last.
+_LIMITS: list = []
+
+
+@contextlib.contextmanager
+def thread_limit(limit: Callable[[], int]):
+    """Within the block, a kernel call runs on at most ``limit()`` threads, asked as it starts.
+
+    For a caller that keeps other work on the machine's cores at times (``mastplan run`` draws
+    its plots in other processes meanwhile): a second thread on a busy core adds work (the threads
+    hand the interpreter lock to each other at every small array operation) and no speed. The
+    result does not depend on the number of threads.
+
+    Parameters
+    ----------
+    limit : callable
+        ``limit() -> int``, at least 1 is used.
+    """
+    _LIMITS.append(limit)
+    try:
+        yield
+    finally:
+        _LIMITS.remove(limit)
 
 
 @dataclass(frozen=True)
@@ -247,7 +280,8 @@ def _pair_fields(
         ``receivers_m`` are unit directions; far-field units.
     threads : int, optional
         Worker threads; None: 2 when called from the main thread with more than one chunk, else 1
-        (a caller that runs the kernel in a pool of its own already keeps the cores busy).
+        (a caller that runs the kernel in a pool of its own already keeps the cores busy), and no
+        more than a :func:`thread_limit` in force allows.
 
     Returns
     -------
@@ -512,6 +546,8 @@ def _pair_fields(
     starts = range(0, count_p, rows_per_chunk)
     if threads is None:
         threads = _THREADS if threading.current_thread() is threading.main_thread() and len(starts) > 1 else 1
+        if _LIMITS and threads > 1:
+            threads = max(1, min(threads, int(_LIMITS[-1]())))
     if threads > 1:
         with ThreadPoolExecutor(max_workers=threads) as pool:
             parts = list(pool.map(chunk, starts))

@@ -31,3 +31,24 @@ def test_every_worker_ends_when_stopped():
     assert len(procs) == 2
     writer.stop()
     assert not any(proc.is_alive() for proc in procs)
+
+
+def test_busy_says_whether_a_task_still_runs_and_wait_keeps_its_error():
+    # BackgroundWriter.busy polls without waiting (cli.run keeps the optics kernel on one thread
+    # while it is True); an error reported meanwhile is still raised by wait().
+    import time
+
+    import pytest
+
+    with BackgroundWriter(["plots"]) as writer:
+        assert not writer.busy()
+        writer.submit(time.sleep, 1.0, output="plots")
+        assert writer.busy()
+        writer.submit(int, "not a number", output="plots")
+        deadline = time.monotonic() + 30.0
+        while writer.busy() and time.monotonic() < deadline:
+            time.sleep(0.05)
+        assert not writer.busy()
+        with pytest.raises(ValueError):
+            writer.wait()
+        writer.wait()  # the error is raised once

@@ -214,3 +214,34 @@ def test_the_result_does_not_depend_on_the_threads():
     two = _pair_fields(src, f, rx, LAM, threads=2, **ground)
     assert np.array_equal(one, two)
     assert np.array_equal(ground_fields(src, f, rx, LAM, 15.0, 0.005), one[:, 0, :])
+
+
+def test_a_thread_limit_keeps_the_kernel_on_the_calling_thread():
+    # geo.optics.thread_limit: within it, a call runs its chunks where the limit says (here on the
+    # calling thread alone: every pair-weight callback, called once per chunk, comes from it), and
+    # without it on two threads; the result is the same bits either way.
+    import threading
+
+    from geo.optics import thread_limit
+
+    rng = np.random.default_rng(4)
+    n = 4000
+    c = np.column_stack([rng.random(n) * 600, rng.random(n) * 80 - 40, rng.random(n) * 1.5])
+    a = np.column_stack([np.full(n, 2.0), np.zeros(n), np.zeros(n)])
+    b = np.column_stack([np.zeros(n), np.full(n, 2.0), np.zeros(n)])
+    f = Facets(c, a, b, False)
+    rx = np.column_stack([np.linspace(300.0, 9000.0, 200), np.full(200, 120.0), np.linspace(15.0, 500.0, 200)])
+    src = np.array([[0.0, 0.0, 4.47], [0.0, 0.25, 8.95]])
+    seen = []
+
+    def pair_weight(sl):
+        seen.append(threading.get_ident())
+        return np.arange(rx.shape[0]), np.ones((sl.stop - sl.start, rx.shape[0]))
+
+    with thread_limit(lambda: 1):
+        limited = ground_fields(src, f, rx, LAM, pair_weight=pair_weight)
+    assert len(seen) > 1 and set(seen) == {threading.get_ident()}
+    seen.clear()
+    free = ground_fields(src, f, rx, LAM, pair_weight=pair_weight)
+    assert len(set(seen)) == 2 and threading.get_ident() not in seen
+    assert np.array_equal(limited, free)

@@ -118,6 +118,7 @@ class BackgroundWriter:
         known = {o for group in _GROUPS for o in group}
         groups.append(tuple(o for o in self.outputs if o not in known))
         self._workers: list[_Worker] = []
+        self._error: BaseException | None = None
         for group in groups:
             if group:
                 self._workers.append(_Worker(ctx, group, self._workers))
@@ -147,20 +148,31 @@ class BackgroundWriter:
         worker.conn.send_bytes(data)
         worker.pending += 1
 
+    def _collect(self, worker: _Worker) -> None:
+        """Take one finished task's report from ``worker`` (blocks until there is one)."""
+        try:
+            status, exc = worker.conn.recv()
+        except EOFError:
+            for other in self._workers:
+                other.pending = 0
+            raise RuntimeError("a background writer process ended unexpectedly") from None
+        worker.pending -= 1
+        if status == "error" and self._error is None:
+            self._error = exc
+
+    def busy(self) -> bool:
+        """Whether some task submitted is still running (without waiting; errors kept for :meth:`wait`)."""
+        for worker in self._workers:
+            while worker.pending and worker.conn.poll():
+                self._collect(worker)
+        return any(worker.pending for worker in self._workers)
+
     def wait(self) -> None:
         """Wait for every submitted task; raise the first error any of them raised."""
-        error = None
         for worker in self._workers:
             while worker.pending:
-                try:
-                    status, exc = worker.conn.recv()
-                except EOFError:
-                    for other in self._workers:
-                        other.pending = 0
-                    raise RuntimeError("a background writer process ended unexpectedly") from None
-                worker.pending -= 1
-                if status == "error" and error is None:
-                    error = exc
+                self._collect(worker)
+        error, self._error = self._error, None
         if error is not None:
             raise error
 
