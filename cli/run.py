@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import shutil
 from pathlib import Path
 
 import click
@@ -30,7 +29,7 @@ def run_site(
 ) -> None:
     """Load, study, write and report one site (shared by ``run`` and ``demo``)."""
     from geo.outputs.text import summary_text
-    from geo.outputs.write import OUTPUTS, check_outputs, write_early, write_study
+    from geo.outputs.write import OUTPUTS, check_outputs, remove_partials, write_early, write_study
     from geo.site import load_site
     from geo.study import run_study
 
@@ -56,8 +55,7 @@ def run_site(
                 early=early[0] if early else None,
             )
     finally:  # after the writers have ended: nothing writes into the staging folder any more
-        for path in staged:
-            shutil.rmtree(path, ignore_errors=True)
+        remove_partials(out_dir)  # by name: also one made just before a signal landed
     if not quiet:
         click.echo(summary_text(result))
         click.echo(f"Results written to {folder}")

@@ -58,3 +58,29 @@ def test_an_output_folder_that_cannot_be_used_is_said_before_the_surface_predict
     assert res.exit_code == 2 and "not empty" in res.output
     assert sorted(p.name for p in tmp_path.iterdir()) == ["full"]
     assert (tmp_path / "full" / "keep.txt").read_text() == "mine"
+
+
+@pytest.mark.parametrize("which", [1, 2], ids=["staging folder", "atomic folder"])
+def test_an_interrupt_just_after_a_temporary_folder_is_made_leaves_nothing(tmp_path, monkeypatch, which):
+    # A signal can land between the creation of a temporary folder and the line that notes it (a
+    # SIGTERM test once left one behind on a loaded machine). Simulated here: the folder is made,
+    # then the interrupt is raised before the caller gets its name; the run must still end with
+    # nothing of its own beside the output folder (geo.outputs.write.remove_partials).
+    import tempfile
+
+    import geo.outputs.write
+    from cli.run import run_site
+    from demo_airfield import SITE_FILE
+
+    real, made = tempfile.mkdtemp, []
+
+    def interrupted_mkdtemp(*args, **kwargs):
+        made.append(real(*args, **kwargs))
+        if len(made) == which:
+            raise KeyboardInterrupt
+        return made[-1]
+
+    monkeypatch.setattr(geo.outputs.write.tempfile, "mkdtemp", interrupted_mkdtemp)
+    with pytest.raises(KeyboardInterrupt):
+        run_site(SITE_FILE, str(tmp_path / "run"), overwrite=False, quiet=True, outputs="summary,map")
+    assert len(made) == which and list(tmp_path.iterdir()) == []

@@ -7,6 +7,7 @@ input file inside the output folder is never deleted.
 
 from __future__ import annotations
 
+import glob
 import json
 import os
 import shutil
@@ -18,7 +19,7 @@ from pathlib import Path
 from geo.errors import OutputError
 from geo.study import StudyResult
 
-__all__ = ["write_study", "write_early", "EarlyWrites", "write_json", "atomic_folder"]
+__all__ = ["write_study", "write_early", "EarlyWrites", "write_json", "atomic_folder", "remove_partials"]
 
 Writer = Callable[[StudyResult, Path], None]
 
@@ -241,6 +242,17 @@ def _check_target(out: Path, overwrite: bool, inputs: list[Path]) -> None:
                 raise OutputError(f"--out: {out} holds the input {path}; write the results elsewhere")
 
 
+def remove_partials(out_dir: str | Path) -> None:
+    """Remove the temporary folders this process made beside ``out_dir`` (named for it and the process).
+
+    Found by name, not from a list: a signal that lands between a folder's creation and the line
+    that would note it cannot leave the folder behind.
+    """
+    out = Path(out_dir).absolute()
+    for tmp in out.parent.glob(f".{glob.escape(out.name)}.partial-{os.getpid()}-*"):
+        shutil.rmtree(tmp, ignore_errors=True)
+
+
 def atomic_folder(
     out_dir: str | Path,
     overwrite: bool,
@@ -271,10 +283,13 @@ def atomic_folder(
     try:
         parent.mkdir(parents=True, exist_ok=True)
         _clean_stale(parent, out.name)
-        tmp = Path(tempfile.mkdtemp(prefix=f".{out.name}.partial-{os.getpid()}-", dir=parent))
     except OSError as exc:
         raise OutputError(f"--out: cannot create {out} ({exc.strerror or exc})") from None
     try:
+        try:
+            tmp = Path(tempfile.mkdtemp(prefix=f".{out.name}.partial-{os.getpid()}-", dir=parent))
+        except OSError as exc:
+            raise OutputError(f"--out: cannot create {out} ({exc.strerror or exc})") from None
         os.chmod(tmp, 0o755)
         fill(tmp)
         if out.exists():
@@ -285,7 +300,7 @@ def atomic_folder(
         else:
             os.rename(tmp, out)
     except BaseException:
-        shutil.rmtree(tmp, ignore_errors=True)
+        remove_partials(out)  # this one, and any a signal left unnoted (the staging of write_early)
         raise
     return out
 
