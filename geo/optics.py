@@ -75,6 +75,7 @@ __all__ = [
     "horizontal_polarisation",
     "mirror_points",
     "thread_limit",
+    "set_thread_limit",
 ]
 
 #: Facet-receiver pairs of one chunk (each thread holds about 30 arrays of this size, reused). At most
@@ -83,8 +84,24 @@ __all__ = [
 _PAIRS_PER_CHUNK = 65_536
 #: Worker threads of the kernel (the machine the project targets has 2 cores).
 _THREADS = 2
-#: The limits set by :func:`thread_limit`, innermost last.
+#: The limits set by :func:`thread_limit`, innermost last (the first: :func:`set_thread_limit`'s).
 _LIMITS: list = []
+
+
+def set_thread_limit(count: int | None) -> None:
+    """For the rest of the process, a kernel call runs on at most ``count`` threads (None: no limit).
+
+    For a process among others that keep the cores busy (a batch runs one study per core, each in
+    its own process); :func:`thread_limit` sets a limit for a block instead.
+    """
+    _LIMITS[:] = [limit for limit in _LIMITS if not getattr(limit, "process_wide", False)]
+    if count is not None:
+
+        def limit() -> int:
+            return count
+
+        limit.process_wide = True
+        _LIMITS.insert(0, limit)
 
 
 @contextlib.contextmanager

@@ -222,7 +222,7 @@ def test_a_thread_limit_keeps_the_kernel_on_the_calling_thread():
     # without it on two threads; the result is the same bits either way.
     import threading
 
-    from geo.optics import thread_limit
+    from geo.optics import set_thread_limit, thread_limit
 
     rng = np.random.default_rng(4)
     n = 4000
@@ -241,6 +241,13 @@ def test_a_thread_limit_keeps_the_kernel_on_the_calling_thread():
     with thread_limit(lambda: 1):
         limited = ground_fields(src, f, rx, LAM, pair_weight=pair_weight)
     assert len(seen) > 1 and set(seen) == {threading.get_ident()}
+    seen.clear()
+    set_thread_limit(1)  # the same for the rest of a process (a batch's), until taken back
+    try:
+        assert np.array_equal(ground_fields(src, f, rx, LAM, pair_weight=pair_weight), limited)
+        assert set(seen) == {threading.get_ident()}
+    finally:
+        set_thread_limit(None)
     seen.clear()
     free = ground_fields(src, f, rx, LAM, pair_weight=pair_weight)
     assert len(set(seen)) == 2 and threading.get_ident() not in seen

@@ -194,6 +194,7 @@ def write_batch(
     """
     from concurrent.futures import ProcessPoolExecutor, as_completed
 
+    from geo.optics import set_thread_limit
     from geo.outputs.gpkg import write_gpkg
     from geo.outputs.write import atomic_folder
 
@@ -203,7 +204,8 @@ def write_batch(
 
     def fill(folder: Path) -> None:
         count = min(workers or os.cpu_count() or 1, len(jobs))
-        with ProcessPoolExecutor(max_workers=count) as pool:
+        threads = max(1, (os.cpu_count() or 1) // count)  # the cores each process's optics kernel may use
+        with ProcessPoolExecutor(max_workers=count, initializer=set_thread_limit, initargs=(threads,)) as pool:
             futures = {
                 pool.submit(run_job, job, str(folder / name), plots): i
                 for i, (job, name) in enumerate(zip(jobs, names))
