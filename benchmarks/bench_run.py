@@ -11,6 +11,9 @@ Then the writing phase alone: in a new process, the study as `mastplan run` runs
 processes started first), then the wall time from the end of the study to the output folder in
 place, every output.
 
+With ``--against DIR``, the same full run of another checkout (its code and its demo) is timed in
+the same turns: before and after a change, under the same load.
+
 Then variants: without plots, the study with only its summary and GeoJSON layers (the site-study
 core's outputs), and that on flat ground (the demo site with its [terrain] table removed).
 Prints figures; never fails by timing. Other work on the machine slows every figure: the load
@@ -34,11 +37,11 @@ RUNS = 7
 FLOOR = "import numpy, pyproj, shapely, rasterio"
 
 
-def _once(args: list[str], cpu: list[float] | None = None) -> float:
-    """Wall time of one run; its CPU time (every process it started) appended to ``cpu``."""
+def _once(args: list[str], cpu: list[float] | None = None, cwd: Path = ROOT) -> float:
+    """Wall time of one run (in ``cwd``: its code); its CPU time (every process it started) appended to ``cpu``."""
     before = resource.getrusage(resource.RUSAGE_CHILDREN)
     start = time.perf_counter()
-    subprocess.run([sys.executable, *args], check=True, cwd=ROOT)
+    subprocess.run([sys.executable, *args], check=True, cwd=cwd)
     wall = time.perf_counter() - start
     after = resource.getrusage(resource.RUSAGE_CHILDREN)
     if cpu is not None:
@@ -79,20 +82,31 @@ def _line(label: str, t: list[float]) -> str:
 
 
 def main() -> None:
+    import argparse
+
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--against", type=Path, help="another checkout, its full run timed in the same turns")
+    against = parser.parse_args().against
     with tempfile.TemporaryDirectory() as tmp:
         _once(_run_args(SITE, tmp))  # warm the file cache and the bytecode
         # The demo without the surface prediction (issue 11 budgets it apart: at most 3 s more).
         no_surface = Path(tmp) / "no_surface.toml"
         dem = (SITE.parent / "dem.tif").resolve().as_posix()
         no_surface.write_text(SITE.read_text().replace('"dem.tif"', f'"{dem}"') + "\n[prediction]\nsurface = false\n")
-        floor, full, cpu, quick = [], [], [], []
+        floor, full, cpu, quick, other, other_cpu = [], [], [], [], [], []
         for _ in range(RUNS):
             floor.append(_once(["-c", FLOOR]))
             full.append(_once(_run_args(SITE, tmp), cpu))
             quick.append(_once(_run_args(no_surface, tmp)))
+            if against is not None:
+                other.append(_once(_run_args(against / "demo_airfield" / "site.toml", tmp), other_cpu, against))
         print(_line(f'import floor (python -c "{FLOOR}")', floor))
         print(_line("mastplan run (demo site, every output)", full))
         print(f"full run / import floor (medians): {statistics.median(full) / statistics.median(floor):.2f}")
+        if against is not None:
+            print(_line(f"the same run of {against}", other))
+            print(f"that run / import floor (medians): {statistics.median(other) / statistics.median(floor):.2f}")
+            print(f"its CPU time, all processes: median {statistics.median(other_cpu):.3f} s")
         print(_line("mastplan run (demo site, every output, prediction.surface = false)", quick))
         print(f"that run / import floor (medians): {statistics.median(quick) / statistics.median(floor):.2f}")
         print(
