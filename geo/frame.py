@@ -27,6 +27,8 @@ from functools import lru_cache
 
 import numpy as np
 
+from geo.transformers import inverse_transformer
+
 __all__ = ["RunwayFrame", "geodesic_inverse", "geodesic_forward", "frame_transformer"]
 
 
@@ -83,8 +85,7 @@ def _transformers(lat0_deg: float, lon0_deg: float):
         geodetic_crs=geographic,
     )
     forward = Transformer.from_crs(geographic, local, always_xy=True)
-    inverse = Transformer.from_crs(local, geographic, always_xy=True)
-    return local, forward, inverse
+    return local, forward, inverse_transformer(forward, local, geographic)
 
 
 @dataclass(frozen=True)
@@ -151,14 +152,13 @@ class RunwayFrame:
 
 
 @lru_cache(maxsize=16)
-def _frame_transformer(lat0_deg: float, lon0_deg: float, crs_wkt: str, inverse: bool):
+def _frame_transformers(lat0_deg: float, lon0_deg: float, crs_wkt: str):
     from pyproj import CRS, Transformer
 
     local = _transformers(lat0_deg, lon0_deg)[0]
     other = CRS.from_user_input(crs_wkt)
-    if inverse:
-        return Transformer.from_crs(other, local, always_xy=True)
-    return Transformer.from_crs(local, other, always_xy=True)
+    forward = Transformer.from_crs(local, other, always_xy=True)
+    return forward, inverse_transformer(forward, local, other)
 
 
 def frame_transformer(frame: RunwayFrame, crs_wkt: str, inverse: bool = False):
@@ -172,7 +172,7 @@ def frame_transformer(frame: RunwayFrame, crs_wkt: str, inverse: bool = False):
     inverse : bool
         From the other CRS to the frame instead.
     """
-    return _frame_transformer(frame.threshold_lat_deg, frame.threshold_lon_deg, crs_wkt, inverse)
+    return _frame_transformers(frame.threshold_lat_deg, frame.threshold_lon_deg, crs_wkt)[int(inverse)]
 
 
 def _scalar(values):

@@ -1,0 +1,86 @@
+"""Reverse transformers from reversed pipelines against the ones PROJ finds itself (pyproj)."""
+
+import numpy as np
+import pytest
+from pyproj import CRS, Transformer
+
+from geo.frame import RunwayFrame, _transformers, frame_transformer
+from geo.transformers import inverse_transformer, reversed_pipeline
+
+# Thresholds: the demo's, one with every digit used, the southern and eastern hemispheres.
+ORIGINS = [(46.35, -101.2), (46.123456789012345, -101.98765432109876), (-33.9461, 151.1772), (64.1, -21.9)]
+# DEM CRSs: UTM north and south, geographic 2D and 3D, web Mercator, Lambert-93, NAD83 UTM, a
+# compound CRS; then ones with datum shifts, where PROJ is asked as before (OSGB36, NAD83, ETRS89-LAEA).
+OTHERS = [
+    "EPSG:32614",
+    "EPSG:32756",
+    "EPSG:4326",
+    "EPSG:4979",
+    "EPSG:3857",
+    "EPSG:2154",
+    "EPSG:26914",
+    "EPSG:4326+5773",
+]
+SHIFTED = ["EPSG:27700", "EPSG:4269", "EPSG:3035"]
+
+
+def _points(lat0, lon0, n=2000):
+    rng = np.random.default_rng(7)
+    return lon0 + rng.uniform(-0.2, 0.2, n), lat0 + rng.uniform(-0.2, 0.2, n)
+
+
+@pytest.mark.parametrize("lat0, lon0", ORIGINS)
+@pytest.mark.parametrize("other", OTHERS)
+def test_reversed_pipeline_is_the_one_proj_finds(lat0, lon0, other):
+    # Reference: pyproj's own Transformer.from_crs the other way; same text, hence the same figures.
+    local, crs = _transformers(lat0, lon0)[0], CRS(other)
+    for source, target in ((local, crs), (crs, local)):
+        forward = Transformer.from_crs(source, target, always_xy=True)
+        found = Transformer.from_crs(target, source, always_xy=True)
+        assert reversed_pipeline(forward.definition) == found.definition
+
+
+@pytest.mark.parametrize("lat0, lon0", ORIGINS)
+def test_frame_transformers_bit_for_bit(lat0, lon0):
+    # Reference: transformers pyproj finds from the CRSs each way (the code before this module).
+    from pyproj.crs import GeographicCRS
+
+    lon, lat = _points(lat0, lon0)
+    local, forward, inverse = _transformers(lat0, lon0)
+    reference = Transformer.from_crs(local, GeographicCRS(datum="WGS84"), always_xy=True)
+    east, north = forward.transform(lon, lat)
+    for a, b in zip(inverse.transform(east, north), reference.transform(east, north)):
+        assert np.array_equal(a, b)
+    frame = RunwayFrame(lat0, lon0, lat0 + 0.001, lon0 - 0.03)
+    for other in OTHERS + SHIFTED:
+        wkt = CRS(other).to_wkt()
+        x, y = frame_transformer(frame, wkt).transform(east, north)
+        found = Transformer.from_crs(CRS(wkt), local, always_xy=True)
+        for a, b in zip(frame_transformer(frame, wkt, inverse=True).transform(x, y), found.transform(x, y)):
+            assert np.array_equal(a, b, equal_nan=True)
+
+
+def test_not_reversed_where_unsure():
+    # Datum shifts, several candidate operations, other axis orders: left to PROJ (None).
+    local = _transformers(46.35, -101.2)[0]
+    for other in SHIFTED:
+        assert reversed_pipeline(Transformer.from_crs(local, CRS(other), always_xy=True).definition) is None
+    assert reversed_pipeline("proj=pipeline step proj=axisswap order=2,1,3 step proj=utm zone=14") is None
+    assert reversed_pipeline("proj=pipeline step proj=helmert x=1 step proj=utm zone=14") is None
+    assert reversed_pipeline("proj=utm zone=14 ellps=WGS84") is None
+    assert reversed_pipeline("") is None
+    # A by-hand reversal: projections swap their direction, unit steps their units.
+    assert (
+        reversed_pipeline(
+            "proj=pipeline step proj=unitconvert xy_in=deg xy_out=rad step proj=tmerc lat_0=1 ellps=GRS80"
+        )
+        == "proj=pipeline step inv proj=tmerc lat_0=1 ellps=GRS80 step proj=unitconvert xy_in=rad xy_out=deg"
+    )
+
+
+def test_inverse_transformer_falls_back_to_proj():
+    # OSGB36 has a Helmert shift from WGS 84: the reverse transformer is the one PROJ finds (pyproj).
+    source, target = CRS("EPSG:4326"), CRS("EPSG:27700")
+    forward = Transformer.from_crs(source, target, always_xy=True)
+    back = inverse_transformer(forward, source, target)
+    assert back.definition == Transformer.from_crs(target, source, always_xy=True).definition
