@@ -232,32 +232,51 @@ def swept_zone(
 
 
 def _row_intervals(centres, quadratics, rows):
-    """Interval of every ellipse on every row ``w = rows[k]`` (NaN where it misses)."""
+    """Interval of every ellipse on every row ``w = rows[k]`` (NaN where it misses).
+
+    The discriminant and the roots in place, term by term as written: the same figures, fewer
+    temporary arrays.
+    """
     q_uu, q_uw, q_ww = quadratics[:, 0, 0], quadratics[:, 0, 1], quadratics[:, 1, 1]
     dw = rows[:, None] - centres[None, :, 1]
-    disc = (q_uw * dw) ** 2 - q_uu * (q_ww * dw**2 - 1.0)
-    root = np.sqrt(np.where(disc >= 0.0, disc, np.nan))
-    lo = centres[:, 0] + (-q_uw * dw - root) / q_uu
-    hi = centres[:, 0] + (-q_uw * dw + root) / q_uu
+    b = q_uw * dw
+    disc = b * b  # (q_uw dw)^2 - q_uu (q_ww dw^2 - 1)
+    dw *= dw
+    dw *= q_ww
+    dw -= 1.0
+    dw *= q_uu
+    disc -= dw
+    with np.errstate(invalid="ignore"):
+        root = np.sqrt(disc, out=disc)  # NaN where the row misses the ellipse
+    np.negative(b, out=b)
+    lo = b - root
+    lo /= q_uu
+    lo += centres[:, 0]
+    hi = np.add(b, root, out=b)
+    hi /= q_uu
+    hi += centres[:, 0]
     return lo, hi
 
 
 def _merge(lo, hi):
     """Merge the intervals of each row; returns (row index, start, end) of the merged ones."""
-    rows_idx, cols = np.nonzero(np.isfinite(lo))
-    lo_f, hi_f = lo[rows_idx, cols], hi[rows_idx, cols]
-    span = float(np.nanmax(hi) - np.nanmin(lo)) + 1.0
-    base = float(np.nanmin(lo))
-    # Offset each row by a multiple of the span so one global running maximum never crosses rows.
-    lo_o = (lo_f - base) + rows_idx * 2.0 * span
-    hi_o = (hi_f - base) + rows_idx * 2.0 * span
-    order = np.lexsort((lo_o, rows_idx))
-    lo_o, hi_o, r = lo_o[order], hi_o[order], rows_idx[order]
+    hits = np.isfinite(lo)
+    rows_idx = np.repeat(np.arange(lo.shape[0]), np.count_nonzero(hits, axis=1))
+    lo_f, hi_f = lo[hits], hi[hits]  # row by row, as np.nonzero orders them
+    base = float(lo_f.min()) if lo_f.size else math.nan
+    span = float(hi_f.max() - base) + 1.0 if hi_f.size else math.nan
+    # Offset each row by a multiple of the span so one global running maximum never crosses rows;
+    # rows so offset never overlap, so sorting the offset starts sorts by row, then start.
+    shift = rows_idx * 2.0 * span
+    lo_o = (lo_f - base) + shift
+    hi_o = (hi_f - base) + shift
+    order = np.argsort(lo_o, kind="stable")
+    lo_o, hi_o = lo_o[order], hi_o[order]
     reach = np.maximum.accumulate(hi_o)
     starts = np.r_[True, lo_o[1:] > reach[:-1]]
     start_idx = np.flatnonzero(starts)
     end_idx = np.r_[start_idx[1:] - 1, lo_o.size - 1]
-    row = r[start_idx]
+    row = rows_idx[order[start_idx]]
     offset = row * 2.0 * span - base
     return row, lo_o[start_idx] - offset, reach[end_idx] - offset
 
