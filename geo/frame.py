@@ -75,7 +75,8 @@ def _transformers(lat0_deg: float, lon0_deg: float):
     from pyproj.crs import GeographicCRS, ProjectedCRS
     from pyproj.crs.coordinate_operation import TransverseMercatorConversion
 
-    geographic = GeographicCRS(datum="WGS84")
+    # WGS 84 (EPSG:6326, the same CRS as datum="WGS84" gives, without PROJ's search by name).
+    geographic = GeographicCRS()
     local = ProjectedCRS(
         conversion=TransverseMercatorConversion(
             latitude_natural_origin=lat0_deg,
@@ -84,7 +85,8 @@ def _transformers(lat0_deg: float, lon0_deg: float):
         ),
         geodetic_crs=geographic,
     )
-    forward = Transformer.from_crs(geographic, local, always_xy=True)
+    # From WGS 84 the operation is the frame's own conversion: its pipeline, as PROJ writes it.
+    forward = Transformer.from_pipeline(local.coordinate_operation.to_proj4())
     return local, forward, inverse_transformer(forward, local, geographic)
 
 

@@ -47,8 +47,13 @@ def test_frame_transformers_bit_for_bit(lat0, lon0):
 
     lon, lat = _points(lat0, lon0)
     local, forward, inverse = _transformers(lat0, lon0)
-    reference = Transformer.from_crs(local, GeographicCRS(datum="WGS84"), always_xy=True)
+    assert GeographicCRS().to_json() == GeographicCRS(datum="WGS84").to_json()  # the same WGS 84
+    found = Transformer.from_crs(GeographicCRS(datum="WGS84"), local, always_xy=True)
+    assert forward.definition == found.definition
     east, north = forward.transform(lon, lat)
+    for a, b in zip((east, north), found.transform(lon, lat)):
+        assert np.array_equal(a, b)
+    reference = Transformer.from_crs(local, GeographicCRS(datum="WGS84"), always_xy=True)
     for a, b in zip(inverse.transform(east, north), reference.transform(east, north)):
         assert np.array_equal(a, b)
     frame = RunwayFrame(lat0, lon0, lat0 + 0.001, lon0 - 0.03)
@@ -58,6 +63,21 @@ def test_frame_transformers_bit_for_bit(lat0, lon0):
         found = Transformer.from_crs(CRS(wkt), local, always_xy=True)
         for a, b in zip(frame_transformer(frame, wkt, inverse=True).transform(x, y), found.transform(x, y)):
             assert np.array_equal(a, b, equal_nan=True)
+
+
+def test_frame_forward_is_the_one_proj_finds_anywhere():
+    # Reference: pyproj's Transformer.from_crs from WGS 84 to the frame's CRS, at 200 random
+    # thresholds with every digit used (PROJ writes 15 significant digits in its pipelines).
+    from pyproj.crs import GeographicCRS
+
+    rng = np.random.default_rng(11)
+    for lat0, lon0 in zip(rng.uniform(-85.0, 85.0, 200), rng.uniform(-180.0, 180.0, 200)):
+        local, forward, inverse = _transformers(float(lat0), float(lon0))
+        found = Transformer.from_crs(GeographicCRS(datum="WGS84"), local, always_xy=True)
+        assert forward.definition == found.definition
+        assert (
+            inverse.definition == Transformer.from_crs(local, GeographicCRS(datum="WGS84"), always_xy=True).definition
+        )
 
 
 def test_not_reversed_where_unsure():
