@@ -27,7 +27,7 @@ from functools import lru_cache
 
 import numpy as np
 
-from geo.transformers import inverse_transformer
+from geo.transformers import inverse_transformer, onward_pipeline
 
 __all__ = ["RunwayFrame", "geodesic_inverse", "geodesic_forward", "frame_transformer"]
 
@@ -159,7 +159,11 @@ def _frame_transformers(lat0_deg: float, lon0_deg: float, crs_wkt: str):
 
     local = _transformers(lat0_deg, lon0_deg)[0]
     other = CRS.from_user_input(crs_wkt)
-    forward = Transformer.from_crs(local, other, always_xy=True)
+    onward = onward_pipeline(_transformers(lat0_deg, lon0_deg)[1].definition, local, other)
+    if onward is None:
+        forward = Transformer.from_crs(local, other, always_xy=True)
+    else:
+        forward = Transformer.from_pipeline(onward)
     return forward, inverse_transformer(forward, local, other)
 
 

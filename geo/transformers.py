@@ -5,7 +5,9 @@ PROJ's search of its database for the operations between them; one made from a p
 costs a fraction of a millisecond. PROJ runs a transformer made from CRSs as the pipeline its
 ``definition`` states, and between a CRS and another on the same datum (map projections, unit
 and axis steps) the pipeline the other way is that one reversed. Written out as PROJ writes it,
-it computes the same figures bit for bit as the transformer PROJ would have found.
+it computes the same figures bit for bit as the transformer PROJ would have found. Likewise the
+pipeline from one projected CRS to another on the same datum is the first's projection undone,
+then the second's (:func:`onward_pipeline`).
 
 References
 ----------
@@ -15,7 +17,7 @@ References
 
 from __future__ import annotations
 
-__all__ = ["inverse_transformer", "reversed_pipeline"]
+__all__ = ["inverse_transformer", "reversed_pipeline", "onward_pipeline"]
 
 
 def inverse_transformer(forward, source, target):
@@ -94,3 +96,56 @@ def reversed_pipeline(definition: str) -> str | None:
         else:
             out.append(body if inverse else ["inv", *body])
     return " ".join(["proj=pipeline", *(" ".join(["step", *step]) for step in out)])
+
+
+def _steps(definition: str) -> list[list[str]] | None:
+    """A pipeline's steps as lists of words (``+`` signs dropped); None if it is not a pipeline."""
+    words = [w.removeprefix("+") for w in definition.split()]
+    if len(words) < 2 or words[0] != "proj=pipeline" or words[1] != "step":
+        return None
+    steps = []
+    for word in words[1:]:
+        if word == "step":
+            steps.append([])
+        else:
+            steps[-1].append(word)
+    return steps
+
+
+def onward_pipeline(forward_definition: str, source, target) -> str | None:
+    """The pipeline PROJ finds from a projected CRS to another projected CRS on the same datum.
+
+    Parameters
+    ----------
+    forward_definition : str
+        The pipeline from the geographic CRS of ``source`` to ``source``: a unit step from degrees
+        to radians, then the projection (as :class:`geo.frame.RunwayFrame` makes its own).
+    source, target : pyproj.CRS
+        Projected CRSs.
+
+    Returns
+    -------
+    str or None
+        ``source``'s projection run inverse, then ``target``'s (in x, y order, as
+        ``always_xy=True`` gives); None unless both are projected on the very same datum and
+        ``target``'s conversion is one projection between the usual unit and axis steps: the caller
+        then asks PROJ.
+    """
+    if not (source.is_projected and target.is_projected) or target.coordinate_operation is None:
+        return None
+    if not target.geodetic_crs.equals(source.geodetic_crs, ignore_axis_order=True):  # PROJ's test of one datum
+        return None
+    own, onward = _steps(forward_definition), _steps(target.coordinate_operation.to_proj4())
+    if own is None or onward is None:
+        return None
+    if onward and onward[0] == ["proj=axisswap", "order=2,1"]:  # latitude first: x, y order wanted
+        onward = onward[1:]
+    if onward and onward[-1] == ["proj=axisswap", "order=2,1"]:  # northing first: likewise
+        onward = onward[:-1]
+    degrees_to_radians = ["proj=unitconvert", "xy_in=deg", "xy_out=rad"]
+    if len(own) != 2 or own[0] != degrees_to_radians or len(onward) != 2 or onward[0] != degrees_to_radians:
+        return None
+    projections = (own[1], onward[1])
+    if any(p[:1] == ["inv"] or p[0].partition("=")[2] in ("unitconvert", "axisswap") for p in projections):
+        return None
+    return " ".join(["proj=pipeline", "step inv", " ".join(own[1]), "step", " ".join(onward[1])])

@@ -5,7 +5,7 @@ import pytest
 from pyproj import CRS, Transformer
 
 from geo.frame import RunwayFrame, _transformers, frame_transformer
-from geo.transformers import inverse_transformer, reversed_pipeline
+from geo.transformers import inverse_transformer, onward_pipeline, reversed_pipeline
 
 # Thresholds: the demo's, one with every digit used, the southern and eastern hemispheres.
 ORIGINS = [(46.35, -101.2), (46.123456789012345, -101.98765432109876), (-33.9461, 151.1772), (64.1, -21.9)]
@@ -57,9 +57,18 @@ def test_frame_transformers_bit_for_bit(lat0, lon0):
     for a, b in zip(inverse.transform(east, north), reference.transform(east, north)):
         assert np.array_equal(a, b)
     frame = RunwayFrame(lat0, lon0, lat0 + 0.001, lon0 - 0.03)
-    for other in OTHERS + SHIFTED:
-        wkt = CRS(other).to_wkt()
+    import rasterio.crs
+
+    wkts = [CRS(other).to_wkt() for other in OTHERS + SHIFTED + ["ESRI:54009", "EPSG:3031"]]
+    wkts += [
+        rasterio.crs.CRS.from_string(c).to_wkt() for c in ("EPSG:32614", "EPSG:3857", "EPSG:26914")
+    ]  # GDAL's WKT 1
+    for wkt in wkts:
         x, y = frame_transformer(frame, wkt).transform(east, north)
+        onward = Transformer.from_crs(local, CRS(wkt), always_xy=True)
+        assert frame_transformer(frame, wkt).definition == onward.definition
+        for a, b in zip((x, y), onward.transform(east, north)):
+            assert np.array_equal(a, b, equal_nan=True)
         found = Transformer.from_crs(CRS(wkt), local, always_xy=True)
         for a, b in zip(frame_transformer(frame, wkt, inverse=True).transform(x, y), found.transform(x, y)):
             assert np.array_equal(a, b, equal_nan=True)
@@ -104,3 +113,14 @@ def test_inverse_transformer_falls_back_to_proj():
     forward = Transformer.from_crs(source, target, always_xy=True)
     back = inverse_transformer(forward, source, target)
     assert back.definition == Transformer.from_crs(target, source, always_xy=True).definition
+
+
+def test_onward_only_on_one_datum():
+    # Projected CRSs on other datums (Lambert-93 on RGF93, NAD83 UTM, OSGB36), geographic and
+    # compound CRSs: left to PROJ (None). On WGS 84: the pipeline PROJ finds (pyproj).
+    lat0, lon0 = 46.35, -101.2
+    local, forward, _ = _transformers(lat0, lon0)
+    for other in ("EPSG:2154", "EPSG:26914", "EPSG:27700", "EPSG:4326", "EPSG:32614+5773"):
+        assert onward_pipeline(forward.definition, local, CRS(other)) is None
+    found = Transformer.from_crs(local, CRS("EPSG:32614"), always_xy=True)
+    assert onward_pipeline(forward.definition, local, CRS("EPSG:32614")) == found.definition
