@@ -66,16 +66,9 @@ def reversed_pipeline(definition: str) -> str | None:
     -------
     str or None
     """
-    words = definition.split()
-    if not words or words[0] != "proj=pipeline" or words.count("step") < 1 or words[1] != "step":
+    steps = _steps(definition)
+    if steps is None:
         return None
-    steps, current = [], None
-    for word in words[1:]:
-        if word == "step":
-            current = []
-            steps.append(current)
-        else:
-            current.append(word)
     out = []
     for step in reversed(steps):
         inverse = step[:1] == ["inv"]
