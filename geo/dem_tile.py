@@ -180,12 +180,27 @@ class DemTile:
         rr0, rr1 = max(r0, 0), min(r1, ds.height)
         cc0, cc1 = max(c0, 0), min(c1, ds.width)
         window = Window(cc0, rr0, cc1 - cc0, rr1 - rr0)
-        inner = ds.read(1, window=window, masked=True).astype(np.float64).filled(np.nan) * self.vertical_scale
+        inner = ds.read(1, window=window).astype(np.float64)
+        inner[~valid_cells(ds, window)] = np.nan
+        inner *= self.vertical_scale
         if (r0, r1, c0, c1) == (rr0, rr1, cc0, cc1):
             return inner, r0, c0
         block = np.full((r1 - r0, c1 - c0), np.nan)
         block[rr0 - r0 : rr1 - r0, cc0 - c0 : cc1 - c0] = inner
         return block, r0, c0
+
+
+def valid_cells(ds, window) -> np.ndarray:
+    """True where the cells of a window of band 1 hold data, by GDAL's mask of the band [1]_.
+
+    The mask a masked read applies (nodata value, alpha band or internal mask), without numpy's
+    masked arrays: read only when the band has cells without data.
+    """
+    from rasterio.enums import MaskFlags
+
+    if MaskFlags.all_valid in ds.mask_flag_enums[0]:
+        return np.ones((int(window.height), int(window.width)), dtype=bool)
+    return ds.read_masks(1, window=window) != 0
 
 
 def _vertical_scale(ds, vertical_unit: str | None) -> tuple[float, str]:

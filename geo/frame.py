@@ -27,6 +27,8 @@ from functools import lru_cache
 
 import numpy as np
 
+from geo.transformers import inverse_transformer, onward_pipeline
+
 __all__ = ["RunwayFrame", "geodesic_inverse", "geodesic_forward", "frame_transformer"]
 
 
@@ -73,7 +75,8 @@ def _transformers(lat0_deg: float, lon0_deg: float):
     from pyproj.crs import GeographicCRS, ProjectedCRS
     from pyproj.crs.coordinate_operation import TransverseMercatorConversion
 
-    geographic = GeographicCRS(datum="WGS84")
+    # WGS 84 (EPSG:6326, the same CRS as datum="WGS84" gives, without PROJ's search by name).
+    geographic = GeographicCRS()
     local = ProjectedCRS(
         conversion=TransverseMercatorConversion(
             latitude_natural_origin=lat0_deg,
@@ -82,9 +85,9 @@ def _transformers(lat0_deg: float, lon0_deg: float):
         ),
         geodetic_crs=geographic,
     )
-    forward = Transformer.from_crs(geographic, local, always_xy=True)
-    inverse = Transformer.from_crs(local, geographic, always_xy=True)
-    return local, forward, inverse
+    # From WGS 84 the operation is the frame's own conversion: its pipeline, as PROJ writes it.
+    forward = Transformer.from_pipeline(local.coordinate_operation.to_proj4())
+    return local, forward, inverse_transformer(forward, local, geographic)
 
 
 @dataclass(frozen=True)
@@ -151,14 +154,17 @@ class RunwayFrame:
 
 
 @lru_cache(maxsize=16)
-def _frame_transformer(lat0_deg: float, lon0_deg: float, crs_wkt: str, inverse: bool):
+def _frame_transformers(lat0_deg: float, lon0_deg: float, crs_wkt: str):
     from pyproj import CRS, Transformer
 
     local = _transformers(lat0_deg, lon0_deg)[0]
     other = CRS.from_user_input(crs_wkt)
-    if inverse:
-        return Transformer.from_crs(other, local, always_xy=True)
-    return Transformer.from_crs(local, other, always_xy=True)
+    onward = onward_pipeline(_transformers(lat0_deg, lon0_deg)[1].definition, local, other)
+    if onward is None:
+        forward = Transformer.from_crs(local, other, always_xy=True)
+    else:
+        forward = Transformer.from_pipeline(onward)
+    return forward, inverse_transformer(forward, local, other)
 
 
 def frame_transformer(frame: RunwayFrame, crs_wkt: str, inverse: bool = False):
@@ -172,7 +178,7 @@ def frame_transformer(frame: RunwayFrame, crs_wkt: str, inverse: bool = False):
     inverse : bool
         From the other CRS to the frame instead.
     """
-    return _frame_transformer(frame.threshold_lat_deg, frame.threshold_lon_deg, crs_wkt, inverse)
+    return _frame_transformers(frame.threshold_lat_deg, frame.threshold_lon_deg, crs_wkt)[int(inverse)]
 
 
 def _scalar(values):

@@ -30,7 +30,7 @@ from functools import lru_cache
 
 import numpy as np
 
-from geo.dem_tile import DemTile, apply_affine
+from geo.dem_tile import DemTile, apply_affine, valid_cells
 
 __all__ = ["Mosaic", "transformer_between"]
 
@@ -140,8 +140,7 @@ class Mosaic:
             r1 = min(int(win.row_off + win.height) + 1, ds.height)
             if c1 <= c0 or r1 <= r0:
                 continue
-            valid = ~ds.read(1, window=Window(c0, r0, c1 - c0, r1 - r0), masked=True).mask
-            valid = np.broadcast_to(valid, (r1 - r0, c1 - c0))
+            valid = valid_cells(ds, Window(c0, r0, c1 - c0, r1 - r0))
             ii, jj = np.nonzero(valid)
             cx, cy = apply_affine(ds.transform, jj + c0 + 0.5, ii + r0 + 0.5)
             mx, my = self.to_tile(0, cx, cy, from_tile=k)

@@ -34,7 +34,7 @@ from geo.site import SiteSpec
 from geo.site_errors import naming_site_file
 from geo.surface_prediction import SurfacePrediction
 from geo.surfaces import MastClearance, mast_clearance
-from geo.terrain import TerrainResult, analyse_terrain
+from geo.terrain import TerrainResult, solve_plane
 from geo.units import format_length
 from geo.zones import ReflectionZone, reflection_zones
 
@@ -329,13 +329,14 @@ def _solve_on_terrain(spec, runway, dem, side, setback, offset, lam, field_name,
     where DEM samples cross the zone's edge, so the setback is bracketed, then refined by regula
     falsi with the Illinois modification and bisection (as :mod:`geo.plane_solve`). It stops when
     the RDH is within 0.5 mm of the target, or on a bracket narrower than 1 mm (a jump: the end
-    whose RDH is nearer the target is kept), or after 40 analyses (the nearest seen).
+    whose RDH is nearer the target is kept), or after 40 analyses (the nearest seen). Returns the
+    setback and its :class:`geo.terrain.SolvedPlane` (``.result()``: the report's figures).
     """
     thr = spec.threshold.elevation_m
 
     def analyse(x):
         _check_setback(x, field_name, runway, spec.units)
-        ground = analyse_terrain(dem, runway.frame, side, x, offset, spec.array, lam, spec.angle_deg)
+        ground = solve_plane(dem, runway.frame, side, x, offset, spec.array, lam, spec.angle_deg)
         if not solve:
             return [x, 0.0, ground]
         return [x, rdh_m(ground.rpi_elevation_m, x, spec.angle_deg, thr) - spec.target_rdh_m, ground]
@@ -432,6 +433,7 @@ def run_study(spec: SiteSpec, before_surface=None) -> StudyResult:
             mast_at = [] if solve else [(setback, _SIGN[side] * offset)]
             dem_finding, dem_threshold = check_dem_covers_site(dem, frame, thr_elev, mast_at)
             setback, terrain = _solve_on_terrain(spec, runway, dem, side, setback, offset, lam, field_name, solve)
+            terrain = terrain.result()  # the report's figures, for the setback kept only
             profile = approach_profile(
                 dem,
                 frame,

@@ -40,7 +40,7 @@ from geo.roughness import RoughnessVerdict, roughness_verdicts
 from geo.zone_grid import FIT_RECEIVERS, FrameGrid, zone_rows
 from geo.zones import ZoneShape, path_receivers, united_zone
 
-__all__ = ["PlaneFit", "TerrainResult", "fit_plane", "analyse_terrain", "fit_zone"]
+__all__ = ["PlaneFit", "TerrainResult", "fit_plane", "analyse_terrain", "solve_plane", "SolvedPlane", "fit_zone"]
 
 #: Rows of the fit zone's polygon: fine, so that its edge follows the ellipses closely.
 _FIT_ROWS = 480
@@ -245,6 +245,7 @@ def analyse_terrain(
     Returns
     -------
     TerrainResult
+        :func:`solve_plane`, then :meth:`SolvedPlane.result`.
 
     Raises
     ------
@@ -252,6 +253,25 @@ def analyse_terrain(
         When the mast or its zone is off the DEM or on nodata, or the ground rises to within
         0.5 deg of the path angle. Real ground never ends in an error of the solve: where no
         fixed point exists the result reports the bracket and the heights' spread.
+    """
+    return solve_plane(dem, frame, side, setback_m, offset_m, array, wavelength_m, angle_deg).result()
+
+
+def solve_plane(
+    dem,
+    frame,
+    side: str,
+    setback_m: float,
+    offset_m: float,
+    array: str,
+    wavelength_m: float,
+    angle_deg: float,
+) -> SolvedPlane:
+    """The reflecting plane of one mast position, its slope solved with the heights; the report's figures later.
+
+    What a search over setbacks needs of each trial (the plane and its intercept on the centre
+    line); :meth:`SolvedPlane.result` adds the fit zone, the lowest antenna's plane and the
+    roughness for the position kept. Parameters and errors: :func:`analyse_terrain`.
     """
     sign = 1.0 if side == "right" else -1.0
     cell = dem.cell_size_m(frame)
@@ -279,56 +299,125 @@ def analyse_terrain(
     slope_deg = math.degrees(math.atan(plane.forward_gradient))
     if slope_deg >= angle_deg - STEEP_MARGIN_DEG:
         raise _slope_error("steep", slope_deg, angle_deg)
-    heights = antenna_heights_m(array, wavelength_m, angle_deg, slope_deg)
-    zone_heights = antenna_heights_m(array, wavelength_m, angle_deg, zone_slope)
-    antennas = path_setting_antennas(array)
-    zone = fit_zone(
-        np.take(zone_heights, antennas),
-        wavelength_m,
-        angle_deg,
-        setback_m,
-        offset_m,
-        math.tan(math.radians(zone_slope)),
-        zone_gw,
-    )
-    # The plane of the lowest antenna's zone alone (the former choice), for the report.
-    lu, lw, lz, _ = planes.samples(zone_slope, zone_gw, antennas=(0,))
-    ok = np.isfinite(lz)
-    lowest_slope_deg = (
-        math.degrees(math.atan(fit_plane(lu[ok], lw[ok], lz[ok])[0].forward_gradient)) if ok.sum() >= 3 else math.nan
-    )
-    grazing_deg = angle_deg - slope_deg
-    return TerrainResult(
+    return SolvedPlane(
         plane=plane,
-        forward_slope_deg=slope_deg,
-        lateral_slope_deg=math.degrees(math.atan(plane.lateral_gradient)),
+        residuals_m=residuals,
+        slope_deg=slope_deg,
         ground_at_mast_m=ground,
         rpi_elevation_m=plane.elevation_at_mast_m + plane.lateral_gradient * offset_m,
-        grazing_deg=grazing_deg,
-        heights_m=heights,
-        zone=zone,
-        roughness=roughness_verdicts(plane.rms_residual_m, wavelength_m, grazing_deg),
-        iterations=int(solve.evaluations[0]),
-        cell_size_m=cell,
-        sample_spacing_m=spacing,
+        planes=planes,
+        solve=solve,
+        status=status,
+        zone_slope_deg=zone_slope,
+        zone_lateral_gradient=zone_gw,
         u_m=u,
         w_m=w,
-        residual_m=residuals,
-        solve_status=status,
-        zone_slope_deg=zone_slope,
-        zone_heights_m=zone_heights,
-        slope_bracket_deg=(float(solve.bracket_deg[0, 0]), float(solve.bracket_deg[0, 1])),
-        bracket_plane_slopes_deg=(
-            float(solve.bracket_plane_slope_deg[0, 0]),
-            float(solve.bracket_plane_slope_deg[0, 1]),
-        ),
-        height_spread_mm=1000.0 * float(solve.spread_m[0]),
-        evaluations=int(solve.evaluations[0]),
-        lateral_passes=int(solve.passes[0]),
-        zone_lateral_gradient=zone_gw,
-        fit_antennas=tuple(antennas),
-        lowest_zone_forward_slope_deg=lowest_slope_deg,
+        cell_size_m=cell,
+        sample_spacing_m=spacing,
+        array=array,
+        wavelength_m=wavelength_m,
+        angle_deg=angle_deg,
+        setback_m=setback_m,
+        offset_m=offset_m,
     )
+
+
+@dataclass(frozen=True)
+class SolvedPlane:
+    """The plane solved at one mast position (:func:`solve_plane`), before the report's figures.
+
+    Attributes
+    ----------
+    plane : PlaneFit
+    rpi_elevation_m : float
+        Plane extended to the centre line abeam the mast. [m]
+
+    The other attributes are the solve's workings, kept for :meth:`result` (as in
+    :class:`TerrainResult`).
+    """
+
+    plane: PlaneFit
+    residuals_m: np.ndarray
+    slope_deg: float
+    ground_at_mast_m: float
+    rpi_elevation_m: float
+    planes: object
+    solve: object
+    status: str
+    zone_slope_deg: float
+    zone_lateral_gradient: float
+    u_m: np.ndarray
+    w_m: np.ndarray
+    cell_size_m: float
+    sample_spacing_m: float
+    array: str
+    wavelength_m: float
+    angle_deg: float
+    setback_m: float
+    offset_m: float
+
+    def result(self) -> TerrainResult:
+        """The full result: heights, the fit zone, the lowest antenna's plane, roughness."""
+        plane, slope_deg, solve, zone_slope, zone_gw = (
+            self.plane,
+            self.slope_deg,
+            self.solve,
+            self.zone_slope_deg,
+            self.zone_lateral_gradient,
+        )
+        array, wavelength_m, angle_deg = self.array, self.wavelength_m, self.angle_deg
+        heights = antenna_heights_m(array, wavelength_m, angle_deg, slope_deg)
+        zone_heights = antenna_heights_m(array, wavelength_m, angle_deg, zone_slope)
+        antennas = path_setting_antennas(array)
+        zone = fit_zone(
+            np.take(zone_heights, antennas),
+            wavelength_m,
+            angle_deg,
+            self.setback_m,
+            self.offset_m,
+            math.tan(math.radians(zone_slope)),
+            zone_gw,
+        )
+        # The plane of the lowest antenna's zone alone (the former choice), for the report.
+        lu, lw, lz, _ = self.planes.samples(zone_slope, zone_gw, antennas=(0,))
+        ok = np.isfinite(lz)
+        lowest_slope_deg = (
+            math.degrees(math.atan(fit_plane(lu[ok], lw[ok], lz[ok])[0].forward_gradient))
+            if ok.sum() >= 3
+            else math.nan
+        )
+        grazing_deg = angle_deg - slope_deg
+        return TerrainResult(
+            plane=plane,
+            forward_slope_deg=slope_deg,
+            lateral_slope_deg=math.degrees(math.atan(plane.lateral_gradient)),
+            ground_at_mast_m=self.ground_at_mast_m,
+            rpi_elevation_m=self.rpi_elevation_m,
+            grazing_deg=grazing_deg,
+            heights_m=heights,
+            zone=zone,
+            roughness=roughness_verdicts(plane.rms_residual_m, wavelength_m, grazing_deg),
+            iterations=int(solve.evaluations[0]),
+            cell_size_m=self.cell_size_m,
+            sample_spacing_m=self.sample_spacing_m,
+            u_m=self.u_m,
+            w_m=self.w_m,
+            residual_m=self.residuals_m,
+            solve_status=self.status,
+            zone_slope_deg=zone_slope,
+            zone_heights_m=zone_heights,
+            slope_bracket_deg=(float(solve.bracket_deg[0, 0]), float(solve.bracket_deg[0, 1])),
+            bracket_plane_slopes_deg=(
+                float(solve.bracket_plane_slope_deg[0, 0]),
+                float(solve.bracket_plane_slope_deg[0, 1]),
+            ),
+            height_spread_mm=1000.0 * float(solve.spread_m[0]),
+            evaluations=int(solve.evaluations[0]),
+            lateral_passes=int(solve.passes[0]),
+            zone_lateral_gradient=zone_gw,
+            fit_antennas=tuple(antennas),
+            lowest_zone_forward_slope_deg=lowest_slope_deg,
+        )
 
 
 def _slope_error(status: str, slope_deg: float, angle_deg: float) -> TerrainError:
