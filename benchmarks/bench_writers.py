@@ -22,6 +22,8 @@ from pathlib import Path
 
 ROOT = Path(__file__).resolve().parents[1]
 ROUNDS = int(os.environ.get("BENCH_ROUNDS", "7"))
+#: The writer groups timed: ``plots`` (the plot worker's tasks), ``map`` (the map and the GeoPackage).
+GROUPS = tuple(os.environ.get("BENCH_GROUPS", "plots,map").split(","))
 
 
 def _cpu() -> float:
@@ -82,7 +84,7 @@ def main() -> None:
     figures: dict[str, list[float]] = {}
     keep = os.environ.get("BENCH_KEEP")
     for _ in range(ROUNDS):
-        for group in ("plots", "map"):
+        for group in GROUPS:
             with tempfile.TemporaryDirectory() as tmp:
                 folder = keep or tmp
                 parent, child = ctx.Pipe()
@@ -93,7 +95,8 @@ def main() -> None:
                 proc.join()
     print(f"load average {os.getloadavg()[0]:.2f}; {ROUNDS} rounds; CPU time per task in a writer process")
     for name, values in figures.items():
-        print(f"  {name:20s} median {statistics.median(values):.3f} s  min {min(values):.3f} s  max {max(values):.3f} s")
+        median, low, high = statistics.median(values), min(values), max(values)
+        print(f"  {name:20s} median {median:.3f} s  min {low:.3f} s  max {high:.3f} s")
     total = [sum(v[i] for v in figures.values()) for i in range(ROUNDS)]
     print(f"  {'all four':20s} median {statistics.median(total):.3f} s")
 
