@@ -72,3 +72,55 @@ def test_the_demo_map_has_no_token_left(tmp_path):
     page = (tmp_path / "map.html").read_text(encoding="utf-8")
     assert "mastplan-inline" not in page
     assert page.count("data:image/png;base64,") >= 1 and "L.imageOverlay" in page
+
+
+def _geojson_map(text):
+    import folium
+    from branca.element import Element
+
+    fmap = folium.Map(location=[0.0, 0.0], zoom_start=3, tiles=None)
+    fmap.get_root().header.add_child(Element(text), name="text")
+    square = [[[0.0, 0.0], [1.0, 0.0], [1.0, 1.0], [0.0, 1.0], [0.0, 0.0]]]
+    fc = {
+        "type": "FeatureCollection",
+        "features": [
+            {"type": "Feature", "geometry": {"type": "Polygon", "coordinates": square}, "properties": {"name": "a"}}
+        ],
+    }
+    group = folium.FeatureGroup(name="group")
+    folium.GeoJson(
+        fc, style_function=lambda _f: {"color": "#000000"}, tooltip=folium.GeoJsonTooltip(fields=["name"])
+    ).add_to(group)
+    group.add_to(fmap)
+    folium.CircleMarker([0.5, 0.5], radius=3, tooltip="a point").add_to(fmap)
+    folium.LayerControl().add_to(fmap)
+    return fmap
+
+
+def test_rendering_without_compiling_plain_texts_gives_the_same_page():
+    # Independent method: the same map rendered by folium with every text compiled by jinja2.
+    import branca.element
+
+    from geo.outputs.webmap import _plain_texts_not_compiled
+
+    text = "<style>\r\n.a { color: red; }\r\n</style>\r\n"
+    whole = _stable_ids(_geojson_map(text).get_root().render())
+    original = branca.element.Template
+    with _plain_texts_not_compiled():
+        assert not isinstance(branca.element.Element("plain")._template, original)  # not compiled
+        plain = _stable_ids(_geojson_map(text).get_root().render())
+    assert branca.element.Template is original
+    assert plain == whole
+    assert ".a { color: red; }\n</style>" in plain and "geo_json" in plain
+
+
+def test_the_template_is_given_back_when_rendering_fails():
+    import branca.element
+
+    from geo.outputs.webmap import _plain_texts_not_compiled
+
+    original = branca.element.Template
+    with pytest.raises(ZeroDivisionError), _plain_texts_not_compiled():
+        assert branca.element.Template is not original
+        1 / 0  # noqa: B018
+    assert branca.element.Template is original
