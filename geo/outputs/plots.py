@@ -76,7 +76,10 @@ def _save(fig, path: Path) -> None:
     for ax in fig.axes:
         if ax.get_xscale() == "log":
             _minor_ticks_as_marks(ax)
-        if ax.get_axes_locator() is None:
+        # Axes placed at drawing time (colorbars, secondary axes), boxed to an aspect or sharing
+        # an axis may still change size or limits when drawn: their ticks are left as they are.
+        shared = len(ax.get_shared_x_axes().get_siblings(ax)) > 1 or len(ax.get_shared_y_axes().get_siblings(ax)) > 1
+        if ax.get_axes_locator() is None and ax.get_aspect() == "auto" and not shared:
             _fix_major_ticks(ax.xaxis)
             _fix_major_ticks(ax.yaxis)
     fig.canvas.draw()
