@@ -23,6 +23,7 @@ lint: $(BIN)/.installed
 
 bench: $(BIN)/.installed
 	$(BIN)/python benchmarks/bench_run.py
+	$(BIN)/python benchmarks/bench_writers.py
 
 clean:
 	rm -rf $(VENV) out .pytest_cache

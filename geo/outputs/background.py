@@ -32,7 +32,18 @@ __all__ = ["BackgroundWriter"]
 _WARM_MODULES = {
     "plots": ("matplotlib.figure", "matplotlib.backends.backend_agg", "geo.outputs.plots"),
     "gpkg": ("geo.outputs.gpkg",),
-    "map": ("branca.element", "geo.outputs.webmap", "geo.dem", "geo.hillshade", "pyproj"),
+    # rasterio (and numpy.ma, for its masked reads) for the DEM the hillshade is drawn from: geo.dem
+    # opens it lazily, and the main process imports it only when the study starts, after the fork.
+    "map": (
+        "branca.element",
+        "geo.outputs.webmap",
+        "geo.dem",
+        "geo.hillshade",
+        "pyproj",
+        "rasterio",
+        "rasterio.warp",
+        "numpy.ma",
+    ),
 }
 #: What a worker imports ahead with the data-frame libraries hidden, by output name.
 _WARM_WITHOUT_DATAFRAMES = {"gpkg": "pyogrio.raw", "map": "folium"}

@@ -39,16 +39,15 @@ def write_gpkg(layers: dict[str, dict], path: Path) -> None:
         FeatureCollections by layer name.
     path : Path
     """
-    import json
-
     import pyogrio.raw
     import shapely
+    import shapely.geometry
 
     pyogrio.set_gdal_config_options({"OGR_CURRENT_DATE": _FIXED_DATE})
     try:
         for name, fc in layers.items():
             features = fc["features"]
-            geoms = [shapely.from_geojson(json.dumps(f["geometry"])) for f in features]
+            geoms = [shapely.geometry.shape(f["geometry"]) for f in features]  # no JSON text on the way
             keys = list(dict.fromkeys(k for f in features for k in f["properties"]))
             columns = [_column([f["properties"].get(k) for f in features]) for k in keys]
             kinds = {g.geom_type for g in geoms}

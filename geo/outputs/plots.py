@@ -76,10 +76,43 @@ def _save(fig, path: Path) -> None:
     for ax in fig.axes:
         if ax.get_xscale() == "log":
             _minor_ticks_as_marks(ax)
+        # Axes placed at drawing time (colorbars, secondary axes), boxed to an aspect or sharing
+        # an axis may still change size or limits when drawn: their ticks are left as they are.
+        shared = len(ax.get_shared_x_axes().get_siblings(ax)) > 1 or len(ax.get_shared_y_axes().get_siblings(ax)) > 1
+        if ax.get_axes_locator() is None and ax.get_aspect() == "auto" and not shared:
+            _fix_major_ticks(ax.xaxis)
+            _fix_major_ticks(ax.yaxis)
     fig.canvas.draw()
     width, height = fig.canvas.get_width_height()
     rgba = Image.frombuffer("RGBA", (width, height), fig.canvas.buffer_rgba(), "raw", "RGBA", 0, 1)
     rgba.convert("RGB").save(path, format="png", compress_level=3, dpi=(_DPI, _DPI))
+
+
+def _fix_major_ticks(axis) -> None:
+    """The major ticks of an axis whose limits are final, fixed at the ones matplotlib will draw.
+
+    matplotlib asks the tick locator and formatter again each time it lays out or draws an axis
+    (three times a figure), and makes a tick, with its lines and labels, for every location the
+    locator returns, those outside the limits too, which it then leaves out. Here the locator and
+    formatter are asked once, as matplotlib asks them, and the ticks within the limits are kept
+    with their labels: the same ticks and labels are drawn.
+    """
+    from matplotlib.ticker import FixedFormatter, FixedLocator, NullLocator
+
+    if isinstance(axis.get_major_locator(), (NullLocator, FixedLocator)):
+        return
+    locs = np.asarray(axis.get_majorticklocs())
+    labels = axis.major.formatter.format_ticks(locs)
+    if axis.major.formatter.get_offset():
+        return  # an offset or exponent beside the axis: left as it is
+    transform = axis.get_transform()
+    lo, hi = sorted(transform.transform(np.asarray(axis.get_view_interval(), dtype=float)))
+    with np.errstate(all="ignore"):
+        where = transform.transform(locs)
+    margin = 1e-6 * (hi - lo)  # wider than matplotlib's own test, so no tick it draws is dropped
+    keep = np.isfinite(where) & (where >= lo - margin) & (where <= hi + margin)
+    axis.set_major_locator(FixedLocator(locs[keep]))
+    axis.set_major_formatter(FixedFormatter([label for label, k in zip(labels, keep) if k]))
 
 
 def _minor_ticks_as_marks(ax) -> None:

@@ -10,7 +10,10 @@ from __future__ import annotations
 
 import base64
 import html
+import os
 import re
+from contextlib import contextmanager
+from functools import cache
 from pathlib import Path
 
 from geo.outputs.text import past_or_before
@@ -29,6 +32,14 @@ _EXAGGERATION = 10.0
 
 def _popup(html_text: str, max_width: int = 320):
     """A popup bound with Leaflet itself (folium's own popups need jQuery, which is not bundled)."""
+    popup = _bound_popup_class()()
+    popup.html, popup.width = html_text, max_width
+    return popup
+
+
+@cache
+def _bound_popup_class():
+    """The popup element class, made once a process (its template compiled once, not for every popup)."""
     from branca.element import MacroElement
     from jinja2 import Template
 
@@ -42,9 +53,96 @@ def _popup(html_text: str, max_width: int = 320):
         def __init__(self):
             super().__init__()
             self._name = "BoundPopup"
-            self.html, self.width = html_text, max_width
 
-    return _BoundPopup()
+    return _BoundPopup
+
+
+def _has_template_syntax(text: str) -> bool:
+    """Whether jinja2 would see more than plain text in ``text`` (its default delimiters)."""
+    return any(mark in text for mark in ("{{", "{%", "{#"))
+
+
+def _rendered_plain_text(text: str) -> str:
+    """What jinja2 renders of a template without syntax: line breaks made LF, one trailing line break dropped."""
+    lines = re.split(r"\r\n|\r|\n", text)
+    if lines[-1] == "":
+        del lines[-1]
+    return "\n".join(lines)
+
+
+class _PlainText:
+    """A template without syntax, rendered as jinja2 renders it, without compiling it."""
+
+    def __init__(self, source: str) -> None:
+        self._text = _rendered_plain_text(source)
+
+    def render(self, *args, **kwargs) -> str:
+        return self._text
+
+
+@contextmanager
+def _plain_texts_not_compiled():
+    """While the map renders, the element texts without template syntax are not compiled.
+
+    folium renders each layer's script and wraps the text in a new ``branca.element.Element``,
+    whose constructor compiles it as a jinja2 template (the layers' GeoJSON among them); such a
+    text has no template syntax, and rendering it gives it back with its newlines normalised. For
+    that time, branca's ``Template`` (which ``Element`` looks up in its module) is replaced by one
+    that skips the compiling for plain texts and compiles the others as before. If branca stops
+    looking it up there, the map is rendered as before, only slower.
+    """
+    import branca.element
+
+    compiled = branca.element.Template
+
+    def template(source, *args, **kwargs):
+        if args or kwargs or not isinstance(source, str) or _has_template_syntax(source):
+            return compiled(source, *args, **kwargs)
+        return _PlainText(source)
+
+    branca.element.Template = template
+    try:
+        yield
+    finally:
+        branca.element.Template = compiled
+
+
+class _Inlined:
+    """Long texts put into the rendered page at the end, in place of short tokens.
+
+    folium compiles the text of every element as a jinja2 template when the map is built and
+    rendered, the hillshade's data URI and the inlined Leaflet library (half a megabyte) among
+    them; a short token in their place is compiled instead, and replaced by the text the template
+    would have rendered. Only texts without template syntax are put in this way (others go in
+    whole), so the page is the same.
+    """
+
+    def __init__(self) -> None:
+        self._texts: dict[str, str] = {}
+
+    def element_text(self, text: str) -> str:
+        """A token standing for ``text`` as the content of a ``folium.Element``, or ``text`` itself."""
+        if _has_template_syntax(text):
+            return text
+        token = f"<!--mastplan-inline-{os.urandom(16).hex()}-->"
+        self._texts[token] = _rendered_plain_text(text)
+        return token
+
+    def data_uri(self, uri: str) -> str:
+        """A token standing for a base64 data URI where folium writes it as JSON, or ``uri`` itself."""
+        if not re.fullmatch(r"data:image/png;base64,[A-Za-z0-9+/=]*", uri):
+            return uri
+        token = f"data:mastplan-inline-{os.urandom(16).hex()}"
+        self._texts[token] = uri  # JSON and jinja2's tojson leave these characters as they are
+        return token
+
+    def fill(self, page: str) -> str:
+        """The page with every token replaced by its text."""
+        for token, text in self._texts.items():
+            if page.count(token) != 1:
+                raise RuntimeError(f"map.html: the placeholder {token} is not in the page exactly once")
+            page = page.replace(token, text)
+        return page
 
 
 def _leaflet_inline() -> str:
@@ -236,7 +334,7 @@ def _png_data_uri(rgba) -> str:
     return "data:image/png;base64," + base64.b64encode(png).decode("ascii")
 
 
-def _hillshade_overlay(result: StudyResult, path_bounds):
+def _hillshade_overlay(result: StudyResult, path_bounds, inlined: _Inlined):
     import folium
     import numpy as np
 
@@ -260,7 +358,7 @@ def _hillshade_overlay(result: StudyResult, path_bounds):
     lon0, lat0 = back.transform(x0, y0)
     lon1, lat1 = back.transform(x1, y1)
     return folium.raster_layers.ImageOverlay(
-        _png_data_uri(rgba),
+        inlined.data_uri(_png_data_uri(rgba)),
         bounds=[[lat0, lon0], [lat1, lon1]],
         name=HILLSHADE_LAYER,
         mercator_project=False,
@@ -287,7 +385,8 @@ def write_map(result: StudyResult, layers: dict[str, dict], path: Path) -> None:
     fmap = folium.Map(location=[mast.lat_deg, mast.lon_deg], zoom_start=15, tiles=None, control_scale=True)
     fmap.default_js = []
     fmap.default_css = []
-    fmap.get_root().header.add_child(folium.Element(_leaflet_inline()), name="leaflet_inline")
+    inlined = _Inlined()
+    fmap.get_root().header.add_child(folium.Element(inlined.element_text(_leaflet_inline())), name="leaflet_inline")
     fmap.get_root().html.add_child(folium.Element(_legend(result)))
 
     folium.TileLayer(
@@ -299,7 +398,7 @@ def write_map(result: StudyResult, layers: dict[str, dict], path: Path) -> None:
     if result.spec.terrain is not None:
         pad = 0.002
         box = (min(lons) - pad, min(lats) - pad, max(lons) + pad, max(lats) + pad)
-        _hillshade_overlay(result, box).add_to(fmap)
+        _hillshade_overlay(result, box, inlined).add_to(fmap)
 
     def add(name: str, fc: dict, style: dict, fields=(), show: bool = True) -> None:
         group = folium.FeatureGroup(name=name, show=show)
@@ -398,7 +497,9 @@ def write_map(result: StudyResult, layers: dict[str, dict], path: Path) -> None:
     view_lats = [c[1] for f in shown for ring in _rings(f["geometry"]) for c in ring] + [thr.lat_deg]
     fmap.fit_bounds([[min(view_lats), min(view_lons)], [max(view_lats), max(view_lons)]], padding=(30, 30))
     folium.LayerControl(collapsed=False).add_to(fmap)
-    path.write_text(_stable_ids(fmap.get_root().render()), encoding="utf-8")
+    with _plain_texts_not_compiled():
+        page = fmap.get_root().render()
+    path.write_text(_stable_ids(inlined.fill(page)), encoding="utf-8")
 
 
 def _stable_ids(page: str) -> str:
