@@ -12,7 +12,6 @@ import base64
 import html
 import os
 import re
-from contextlib import contextmanager
 from functools import cache
 from pathlib import Path
 
@@ -57,56 +56,6 @@ def _bound_popup_class():
     return _BoundPopup
 
 
-def _has_template_syntax(text: str) -> bool:
-    """Whether jinja2 would see more than plain text in ``text`` (its default delimiters)."""
-    return any(mark in text for mark in ("{{", "{%", "{#"))
-
-
-def _rendered_plain_text(text: str) -> str:
-    """What jinja2 renders of a template without syntax: line breaks made LF, one trailing line break dropped."""
-    lines = re.split(r"\r\n|\r|\n", text)
-    if lines[-1] == "":
-        del lines[-1]
-    return "\n".join(lines)
-
-
-class _PlainText:
-    """A template without syntax, rendered as jinja2 renders it, without compiling it."""
-
-    def __init__(self, source: str) -> None:
-        self._text = _rendered_plain_text(source)
-
-    def render(self, *args, **kwargs) -> str:
-        return self._text
-
-
-@contextmanager
-def _plain_texts_not_compiled():
-    """While the map renders, the element texts without template syntax are not compiled.
-
-    folium renders each layer's script and wraps the text in a new ``branca.element.Element``,
-    whose constructor compiles it as a jinja2 template (the layers' GeoJSON among them); such a
-    text has no template syntax, and rendering it gives it back with its newlines normalised. For
-    that time, branca's ``Template`` (which ``Element`` looks up in its module) is replaced by one
-    that skips the compiling for plain texts and compiles the others as before. If branca stops
-    looking it up there, the map is rendered as before, only slower.
-    """
-    import branca.element
-
-    compiled = branca.element.Template
-
-    def template(source, *args, **kwargs):
-        if args or kwargs or not isinstance(source, str) or _has_template_syntax(source):
-            return compiled(source, *args, **kwargs)
-        return _PlainText(source)
-
-    branca.element.Template = template
-    try:
-        yield
-    finally:
-        branca.element.Template = compiled
-
-
 class _Inlined:
     """Long texts put into the rendered page at the end, in place of short tokens.
 
@@ -122,10 +71,14 @@ class _Inlined:
 
     def element_text(self, text: str) -> str:
         """A token standing for ``text`` as the content of a ``folium.Element``, or ``text`` itself."""
-        if _has_template_syntax(text):
+        if any(mark in text for mark in ("{{", "{%", "{#")):
             return text
         token = f"<!--mastplan-inline-{os.urandom(16).hex()}-->"
-        self._texts[token] = _rendered_plain_text(text)
+        # What jinja2 renders of plain text: newlines made "\n", one trailing newline dropped.
+        lines = re.split(r"\r\n|\r|\n", text)
+        if lines[-1] == "":
+            del lines[-1]
+        self._texts[token] = "\n".join(lines)
         return token
 
     def data_uri(self, uri: str) -> str:
@@ -497,9 +450,7 @@ def write_map(result: StudyResult, layers: dict[str, dict], path: Path) -> None:
     view_lats = [c[1] for f in shown for ring in _rings(f["geometry"]) for c in ring] + [thr.lat_deg]
     fmap.fit_bounds([[min(view_lats), min(view_lons)], [max(view_lats), max(view_lons)]], padding=(30, 30))
     folium.LayerControl(collapsed=False).add_to(fmap)
-    with _plain_texts_not_compiled():
-        page = fmap.get_root().render()
-    path.write_text(_stable_ids(inlined.fill(page)), encoding="utf-8")
+    path.write_text(_stable_ids(inlined.fill(fmap.get_root().render())), encoding="utf-8")
 
 
 def _stable_ids(page: str) -> str:
