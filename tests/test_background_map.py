@@ -52,3 +52,25 @@ def test_busy_says_whether_a_task_still_runs_and_wait_keeps_its_error():
         with pytest.raises(ValueError):
             writer.wait()
         writer.wait()  # the error is raised once
+
+
+def test_writers_run_below_the_main_process_priority():
+    # The main process's study is what a run waits for: the writers are started 5 steps of Unix
+    # nice below it (geo.outputs.background._NICENESS), so that the study keeps a core.
+    import os
+    import time
+
+    writer = BackgroundWriter(["plots", "map", "gpkg"])
+    try:
+        mine = os.getpriority(os.PRIO_PROCESS, 0)
+        deadline = time.monotonic() + 30.0
+        wanted = min(mine + 5, 19)
+        while time.monotonic() < deadline:
+            levels = [os.getpriority(os.PRIO_PROCESS, w.proc.pid) for w in writer._workers]
+            if levels == [wanted] * len(levels):
+                break
+            time.sleep(0.02)
+        assert levels == [wanted] * len(levels)
+        assert os.getpriority(os.PRIO_PROCESS, 0) == mine  # the main process keeps its own
+    finally:
+        writer.stop()

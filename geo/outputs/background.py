@@ -19,6 +19,7 @@ from __future__ import annotations
 
 import importlib
 import multiprocessing
+import os
 import pickle
 import signal
 from collections.abc import Callable, Sequence
@@ -47,6 +48,10 @@ _WARM_MODULES = {
 }
 #: What a worker imports ahead with the data-frame libraries hidden, by output name.
 _WARM_WITHOUT_DATAFRAMES = {"gpkg": "pyogrio.raw", "map": "folium"}
+#: How much lower the writers' priority is than the main process's (Unix ``nice``): while both
+#: have work, the main process keeps a core of its own (its optics kernel then runs on one thread,
+#: :func:`cli.run._cores_shared`) and the writers share the other.
+_NICENESS = 5
 #: The outputs that share a worker process; each group that has an output chosen gets its own.
 _GROUPS = (("plots",), ("map", "gpkg"))
 
@@ -60,6 +65,10 @@ def _serve(conn, outputs: Sequence[str], main_ends) -> None:
     """
     signal.signal(signal.SIGINT, signal.SIG_IGN)  # the main process decides what an interrupt stops
     signal.signal(signal.SIGTERM, signal.SIG_DFL)
+    try:  # the study in the main process first: it is what the run waits for
+        os.nice(_NICENESS)
+    except (AttributeError, OSError):  # no nice on this system, or not allowed: as it is
+        pass
     for main_end in main_ends:
         main_end.close()
     try:
