@@ -321,6 +321,23 @@ def test_below_path_ddm_on_real_ground(studies):
         assert below > 0.0 > above
 
 
+def _real_grid(result, model, receivers_m):
+    """The integration areas of ``receivers_m`` (points, or far receivers at range) and the real surface on them."""
+    from geo.surface_facets import area_limits, surface_grid
+
+    plane = _plane_heights(model)
+
+    def above_plane(p):
+        return np.column_stack([p[:, 0], p[:, 1], p[:, 2] - plane(p[:, 0], p[:, 1])])
+
+    ants = model.positions_m
+    limits = area_limits(above_plane(ants), above_plane(receivers_m), model.wavelength_m)
+    with Dem.open(result.spec.terrain) as dem:
+        heights = _dem_heights(result, dem)
+        grid = surface_grid(limits, heights, model.wavelength_m, result.terrain.cell_size_m, ants, receivers_m)
+    return limits, grid
+
+
 @pytest.mark.parametrize("far", [False, True], ids=["path points", "far field"])
 def test_fields_add_over_disjoint_facet_sets_of_the_real_surface(studies, far):
     # Superposition (the field is a linear integral over the surface: Beckmann and Spizzichino 1963,
@@ -330,11 +347,9 @@ def test_fields_add_over_disjoint_facet_sets_of_the_real_surface(studies, far):
     # (relative permittivity 15, 5 mS/m: medium ground, ITU-R P.527, from memory). Requirement: the
     # kernel's single precision after the phase, 1e-5 of the largest field.
     from geo.optics import ground_fields
-    from geo.surface_facets import area_limits, surface_grid
 
     r = studies["rough"]
     model, _ = _pieces(r)
-    plane = _plane_heights(model)
     theta = math.radians(r.spec.angle_deg)
     e = np.array([0.8, 1.0, 1.2]) * theta
     if far:
@@ -345,13 +360,7 @@ def test_fields_add_over_disjoint_facet_sets_of_the_real_surface(studies, far):
         receivers = np.column_stack([u, np.full(3, r.mast.offset_m), u * np.tan(e)])
         at_range = receivers
     ants = model.positions_m
-
-    def above_plane(p):
-        return np.column_stack([p[:, 0], p[:, 1], p[:, 2] - plane(p[:, 0], p[:, 1])])
-
-    limits = area_limits(above_plane(ants), above_plane(at_range), model.wavelength_m)
-    with Dem.open(r.spec.terrain) as dem:
-        grid = surface_grid(limits, _dem_heights(r, dem), model.wavelength_m, r.terrain.cell_size_m, ants, at_range)
+    limits, grid = _real_grid(r, model, at_range)
     assert np.isfinite(grid.z_m).all()
     facets = grid.facets()
     visible, horizon = grid.antenna_visibility(ants), grid.horizon_tangents()
@@ -391,11 +400,8 @@ def test_the_facets_kept_are_every_facet_with_a_weight_on_the_real_surface(studi
     # (AreaLimits.within_areas: the ellipses cut at each slab). Independent: the pair weights of
     # every facet, computed one by one (AreaLimits.pair_weights); a facet with a weight above 0 for
     # some receiver must be kept, and the facets dropped must be a real share (the saving).
-    from geo.surface_facets import area_limits, surface_grid
-
     r = studies["rough"]
     model, _ = _pieces(r)
-    plane = _plane_heights(model)
     theta = math.radians(r.spec.angle_deg)
     e = np.linspace(0.3, 1.2, 7) * theta
     if far:
@@ -403,14 +409,7 @@ def test_the_facets_kept_are_every_facet_with_a_weight_on_the_real_surface(studi
     else:
         u = np.geomspace(300.0, 9000.0, e.size)
         at_range = np.column_stack([u, np.full(e.size, r.mast.offset_m), u * np.tan(theta)])
-    ants = model.positions_m
-
-    def above_plane(p):
-        return np.column_stack([p[:, 0], p[:, 1], p[:, 2] - plane(p[:, 0], p[:, 1])])
-
-    limits = area_limits(above_plane(ants), above_plane(at_range), model.wavelength_m)
-    with Dem.open(r.spec.terrain) as dem:
-        grid = surface_grid(limits, _dem_heights(r, dem), model.wavelength_m, r.terrain.cell_size_m, ants, at_range)
+    limits, grid = _real_grid(r, model, at_range)
     centres = grid.facets(foot=False).centres_m
     chosen = np.array([2, 4, 6])  # a subset (not the lowest, whose areas set the box), as the convergence check
     u_mid = (grid.u_m[:-1] + grid.u_m[1:]) / 2.0
