@@ -84,7 +84,7 @@ __all__ = [
 _PAIRS_PER_CHUNK = 65_536
 #: Worker threads of the kernel (the machine the project targets has 2 cores).
 _THREADS = 2
-#: The limits set by :func:`thread_limit`, innermost last (the first: :func:`set_thread_limit`'s).
+#: The limits in force: :func:`set_thread_limit`'s first, then those of :func:`thread_limit` blocks.
 _LIMITS: list = []
 
 
@@ -563,8 +563,8 @@ def _pair_fields(
     starts = range(0, count_p, rows_per_chunk)
     if threads is None:
         threads = _THREADS if threading.current_thread() is threading.main_thread() and len(starts) > 1 else 1
-        if _LIMITS and threads > 1:
-            threads = max(1, min(threads, int(_LIMITS[-1]())))
+        if _LIMITS and threads > 1:  # every limit in force: the process's and each block's
+            threads = max(1, min(threads, *(int(limit()) for limit in _LIMITS)))
     if threads > 1:
         with ThreadPoolExecutor(max_workers=threads) as pool:
             parts = list(pool.map(chunk, starts))

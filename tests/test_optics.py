@@ -244,7 +244,8 @@ def test_a_thread_limit_keeps_the_kernel_on_the_calling_thread():
     seen.clear()
     set_thread_limit(1)  # the same for the rest of a process (a batch's), until taken back
     try:
-        assert np.array_equal(ground_fields(src, f, rx, LAM, pair_weight=pair_weight), limited)
+        with thread_limit(lambda: 2):  # a block's limit does not lift the process's
+            assert np.array_equal(ground_fields(src, f, rx, LAM, pair_weight=pair_weight), limited)
         assert set(seen) == {threading.get_ident()}
     finally:
         set_thread_limit(None)
