@@ -24,12 +24,12 @@ from pathlib import Path
 
 import numpy as np
 
-from geo.areas import derive_areas
-from geo.objects import GENERIC_OBJECTS, object_facets
-from geo.optics import scattered_field
-from geo.scatter_paths import four_path_field
-from geo.site import AreaSpec, ObjectSpec, load_site
-from geo.study import run_study
+from geo.optics.areas import derive_areas
+from geo.optics.kernel import scattered_field
+from geo.optics.objects import GENERIC_OBJECTS, object_facets
+from geo.optics.scatter_paths import four_path_field
+from geo.site.site_file import AreaSpec, ObjectSpec, load_site
+from geo.study.site_study import run_study
 
 SITE = Path(__file__).resolve().parents[1] / "demo_airfield" / "site.toml"
 LAM = 0.9

@@ -15,11 +15,11 @@ from pathlib import Path
 
 import numpy as np
 
-from geo.arrays import ARRAY_TYPES, antenna_heights_m, proximity_shifts_m
-from geo.below_path import check_below_path
-from geo.channels import wavelength_m
-from geo.clearance import assess_capture_effect, detected_ddm
-from geo.prediction import ArrayModel, far_field_ddm, predict_path
+from geo.radio.arrays import ARRAY_TYPES, antenna_heights_m, proximity_shifts_m
+from geo.radio.below_path import check_below_path
+from geo.radio.clearance import assess_capture_effect, detected_ddm
+from geo.radio.prediction import ArrayModel, far_field_ddm, predict_path
+from geo.site.channels import wavelength_m
 
 DEMO = Path(__file__).resolve().parents[1] / "demo_airfield" / "site.toml"
 
@@ -86,8 +86,8 @@ def fft_check() -> None:
 
 
 def demo_families() -> None:
-    from geo.site import load_site
-    from geo.study import run_study
+    from geo.site.site_file import load_site
+    from geo.study.site_study import run_study
 
     spec = load_site(DEMO)
     start = time.perf_counter()

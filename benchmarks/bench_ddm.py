@@ -10,9 +10,9 @@ import time
 
 import numpy as np
 
-from geo.arrays import ARRAY_TYPES, antenna_heights_m, proximity_shifts_m
-from geo.channels import wavelength_m
-from geo.prediction import ArrayModel, ddm
+from geo.radio.arrays import ARRAY_TYPES, antenna_heights_m, proximity_shifts_m
+from geo.radio.prediction import ArrayModel, ddm
+from geo.site.channels import wavelength_m
 
 
 def main() -> None:

@@ -1,7 +1,7 @@
 """Does a compiled kernel (numba) pay for its install weight? The ground integral measured both ways.
 
-``geo.optics.ground_fields`` (float32 numpy in chunks) against a numba version of the same
-physics (the module notes of ``geo.optics``): the same source-side preparation in numpy, then one
+``geo.optics.kernel.ground_fields`` (float32 numpy in chunks) against a numba version of the same
+physics (the module notes of ``geo.optics.kernel``): the same source-side preparation in numpy, then one
 loop per receiver over the facets, every pair computed in float64 (sines, cosines and arc sines
 in float64 or, as in ground_fields, float32: both measured) with the same formulas (the
 coupling ``F_p``, the two sinc factors, the spherical or plane wave, the lossy Fresnel coefficient
@@ -71,8 +71,8 @@ import numpy as np
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
 
-from geo.ground import reflection_coefficient_h  # noqa: E402
-from geo.optics import _GAMMA_TABLE_RAD, _GROUND_PAIRS_PER_CHUNK, Facets, ground_fields  # noqa: E402
+from geo.optics.kernel import _GAMMA_TABLE_RAD, _GROUND_PAIRS_PER_CHUNK, Facets, ground_fields  # noqa: E402
+from geo.radio.reflection import reflection_coefficient_h  # noqa: E402
 
 HAVE_NUMBA = importlib.util.find_spec("numba") is not None
 #: fastmath of the kernels, set per process by the driver (the cache does not key on it).
@@ -89,7 +89,7 @@ if HAVE_NUMBA:
 
     @numba.njit(cache=True, fastmath=FASTMATH)
     def _sin_over(x):
-        ax = _trig(abs(x) + 1e-30)  # as geo.optics._sin_over: sin(x) / x, 1 at 0, no test for 0
+        ax = _trig(abs(x) + 1e-30)  # as geo.optics.kernel._sin_over: sin(x) / x, 1 at 0, no test for 0
         return math.sin(ax) / ax
 
     @numba.njit(cache=True, fastmath=FASTMATH)
@@ -210,7 +210,7 @@ def numba_ground_fields(
     far: bool = False,
     parallel: str | None = None,
 ) -> np.ndarray:
-    """``geo.optics.ground_fields`` with the pair loop compiled by numba (same arguments, same result).
+    """``geo.optics.kernel.ground_fields`` with the pair loop compiled by numba (same arguments, same result).
 
     ``parallel``: None (serial), "receivers" (prange over receivers) or "facets" (prange over one
     block of facets per thread).
@@ -405,9 +405,9 @@ def first_calls() -> None:
 
 
 def demo() -> None:
-    import geo.study as study
-    import geo.surface_prediction as sp
-    from geo.site import load_site
+    import geo.optics.surface_prediction as sp
+    import geo.study.site_study as study
+    from geo.site.site_file import load_site
 
     spec = load_site(ROOT / "demo_airfield" / "site.toml")
     original = sp.ground_fields

@@ -25,8 +25,8 @@ ROOT = Path(__file__).resolve().parents[1]
 TURN = """
 import sys, time
 start = time.perf_counter()
-from geo.site import load_site
-from geo.study import run_study
+from geo.site.site_file import load_site
+from geo.study.site_study import run_study
 spec = load_site(sys.argv[1])
 imported, cpu = time.perf_counter(), time.process_time()
 

@@ -58,8 +58,8 @@ WRITING = """
 import sys, time
 from cli.run import _background
 from geo.outputs.write import OUTPUTS, write_study
-from geo.site import load_site
-from geo.study import run_study
+from geo.site.site_file import load_site
+from geo.study.site_study import run_study
 
 with _background(OUTPUTS, True) as background:
     result = run_study(load_site(sys.argv[1]))

@@ -1,6 +1,6 @@
 """Speed of the surface prediction: receiver-facet pairs per second, and what it adds to the demo.
 
-1. The one optics kernel (``geo.optics._pair_fields``) on 20,000 random ground facets and 400
+1. The one optics kernel (``geo.optics.kernel._pair_fields``) on 20,000 random ground facets and 400
    receivers (two antennas): through ``ground_fields`` (single precision), spherical and far
    (plane-wave) receivers, with one worker thread and with two; through ``scattered_field``
    (double precision, one antenna at a time). A pair is one facet and one receiver for one
@@ -24,7 +24,7 @@ import numpy as np
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
 
-from geo.optics import Facets, _pair_fields, scattered_field  # noqa: E402
+from geo.optics.kernel import Facets, _pair_fields, scattered_field  # noqa: E402
 
 LAM = 0.895
 
@@ -67,9 +67,9 @@ def kernel_figures() -> None:
 
 def demo_kernel_figures() -> None:
     """Time spent in ``ground_fields`` during the demo study (every call the surface prediction makes)."""
-    import geo.study as study
-    import geo.surface_prediction as surface_prediction
-    from geo.site import load_site
+    import geo.optics.surface_prediction as surface_prediction
+    import geo.study.site_study as study
+    from geo.site.site_file import load_site
 
     spec = load_site(ROOT / "demo_airfield" / "site.toml")
     study.run_study(spec)  # warm caches (transformers, imports)
@@ -96,9 +96,9 @@ def demo_kernel_figures() -> None:
 
 
 def demo_figures() -> None:
-    import geo.study as study
-    import geo.surface_study as surface_study
-    from geo.site import load_site
+    import geo.study.site_study as study
+    import geo.study.surface as surface_study
+    from geo.site.site_file import load_site
 
     spec = load_site(ROOT / "demo_airfield" / "site.toml")
     study.run_study(spec)  # warm caches (transformers, imports)

@@ -2,7 +2,7 @@
 
 Makes the 10,000 x 10,000 cell 1 m DEM of bench_terrain.py, sweeps a grid of candidates on both
 sides (reflecting plane in each candidate's own zone, slope-corrected heights, RDH, roughness,
-grading volumes, Annex 14 clearance), then times the single-site study (geo.study.run_study) and
+grading volumes, Annex 14 clearance), then times the single-site study (geo.study.site_study.run_study) and
 the single-site terrain analysis alone at a few of the same candidates. Prints figures; never
 fails by timing. Requirement for reference: at least 500 candidates per second.
 """
@@ -21,9 +21,9 @@ sys.path.insert(0, str(Path(__file__).resolve().parent))
 
 from bench_terrain import make_dem, write_site  # noqa: E402
 
-from geo.site import MastSpec, SiteSpec, load_site  # noqa: E402
-from geo.study import run_study  # noqa: E402
-from geo.sweep import SweepOptions, run_sweep  # noqa: E402
+from geo.site.site_file import MastSpec, SiteSpec, load_site  # noqa: E402
+from geo.study.site_study import run_study  # noqa: E402
+from geo.study.sweep import SweepOptions, run_sweep  # noqa: E402
 
 
 def main() -> None:
@@ -55,8 +55,8 @@ def main() -> None:
             start = time.perf_counter()
             result = run_study(one)
             times.append(time.perf_counter() - start)
-            from geo.dem import Dem
-            from geo.terrain import analyse_terrain
+            from geo.ground.dem import Dem
+            from geo.ground.terrain import analyse_terrain
 
             with Dem.open(dem) as d:
                 start = time.perf_counter()

@@ -11,9 +11,10 @@ from pathlib import Path
 
 import numpy as np
 
-from geo.site import load_site
-from geo.sweep import SweepOptions, run_sweep
-from geo.sweep_choice import add_ranks, near_feasible, solve_setbacks
+from geo.site.site_file import load_site
+from geo.study.solved_setbacks import solve_setbacks
+from geo.study.sweep import SweepOptions, run_sweep
+from geo.study.sweep_choice import add_ranks, near_feasible
 from geo.units import format_length
 
 ROOT = Path(__file__).resolve().parents[1]

@@ -3,7 +3,7 @@
 Makes the DEM (a plane with metre-scale undulations, UTM 14N, float32, tiled) in a temporary
 folder, then in a fresh process times one site's terrain analysis (reflecting-plane fit with
 its iterations, plus the approach profile) and reports that process's peak RSS. Then samples
-1e6 random points bilinearly with geo.dem and times rasterio's `sample` called point by point on
+1e6 random points bilinearly with geo.ground.dem and times rasterio's `sample` called point by point on
 a subset of them. Prints figures; never fails by timing.
 
 Requirements for reference: terrain analysis under 1 s and 300 MB peak RSS; sampling at least
@@ -36,12 +36,12 @@ CHILD = textwrap.dedent("""
             if line.startswith("VmHWM:"):
                 return int(line.split()[1]) / 1024
     t0 = time.perf_counter()
-    from geo.dem import Dem
-    from geo.study import runway_of
-    from geo.site import load_site
-    from geo.terrain import analyse_terrain
-    from geo.profile import approach_profile
-    from geo.channels import wavelength_m
+    from geo.ground.dem import Dem
+    from geo.study.site_study import runway_of
+    from geo.site.site_file import load_site
+    from geo.ground.terrain import analyse_terrain
+    from geo.ground.profile import approach_profile
+    from geo.site.channels import wavelength_m
     spec = load_site({site!r})
     runway = runway_of(spec)
     t1 = time.perf_counter()
@@ -117,7 +117,7 @@ def write_site(folder: Path, dem_path: Path, setback_m: float) -> Path:
 def main() -> None:
     import rasterio
 
-    from geo.dem import Dem
+    from geo.ground.dem import Dem
 
     with tempfile.TemporaryDirectory() as tmp:
         dem_path = Path(tmp) / "dem_1m.tif"

@@ -13,8 +13,8 @@ from pathlib import Path
 import rasterio
 from rasterio.windows import Window
 
-from geo.site import load_site
-from geo.study import run_study
+from geo.site.site_file import load_site
+from geo.study.site_study import run_study
 
 ROOT = Path(__file__).resolve().parents[1]
 SITE = ROOT / "demo_airfield" / "site.toml"

@@ -35,8 +35,8 @@ STUDY = """
 import pickle, sys
 from demo_airfield import SITE_FILE
 from geo.outputs.geojson import study_layers
-from geo.site import load_site
-from geo.study import run_study
+from geo.site.site_file import load_site
+from geo.study.site_study import run_study
 
 kept = []
 result = run_study(load_site(SITE_FILE), before_surface=kept.append)

@@ -1,6 +1,6 @@
 """Reflection zones: three antennas (capture-effect), at least 2,000 receivers each, path zone.
 
-Times the exact ellipses and their unions, as `geo.zones.antenna_zone` computes them, and the
+Times the exact ellipses and their unions, as `geo.radio.zones.antenna_zone` computes them, and the
 whole set the study computes (path and coverage zones, each antenna and all together). Prints
 figures; never fails by timing. Requirement for reference: three antennas under 0.3 s.
 """
@@ -10,9 +10,9 @@ from __future__ import annotations
 import statistics
 import time
 
-from geo.arrays import antenna_heights_m, proximity_shifts_m
-from geo.channels import wavelength_m
-from geo.zones import antenna_zone, path_receivers, reflection_zones
+from geo.radio.arrays import antenna_heights_m, proximity_shifts_m
+from geo.radio.zones import antenna_zone, path_receivers, reflection_zones
+from geo.site.channels import wavelength_m
 
 RUNS = 7
 

@@ -2,7 +2,7 @@
 
 Each receiver of the surface integral has its own area and its own foot ramp, the taper at the
 foot of the mast over half the distance to its nearest specular point
-(geo.surface_facets.AreaLimits.pair_weights). Until 2026-12 the ramp was common to all the
+(geo.optics.surface_facets.AreaLimits.pair_weights). Until 2026-12 the ramp was common to all the
 receivers of one call (the smallest of them, which the highest elevation set), so on rough real
 ground, where the ground under the mast is far from the plane, the DDM at one elevation moved
 with the set it was computed in (0.178, 0.188 and 0.260 at 0.45 theta for the three sets below).
@@ -32,11 +32,12 @@ sys.path.insert(0, str(ROOT / "tests"))  # the sample DEM's reader, shared with 
 
 from jacksboro import jacksboro_sheet, site_text  # noqa: E402
 
-from geo.dem import Dem  # noqa: E402
-from geo.site import load_site  # noqa: E402
-from geo.study import array_model, run_study  # noqa: E402
-from geo.surface_facets import area_limits  # noqa: E402
-from geo.surface_prediction import FAR_RANGE_M, surface_far_ddm  # noqa: E402
+from geo.ground.dem import Dem  # noqa: E402
+from geo.optics.surface_facets import area_limits  # noqa: E402
+from geo.optics.surface_prediction import FAR_RANGE_M, surface_far_ddm  # noqa: E402
+from geo.site.site_file import load_site  # noqa: E402
+from geo.study.array_setup import array_model  # noqa: E402
+from geo.study.site_study import run_study  # noqa: E402
 
 
 def main() -> None:

@@ -5,8 +5,8 @@ The DEM is matplotlib's sample ``jacksboro_fault_dem.npz`` (a real 3-arc-second 
 larger). Its relief (236-1,076 m) is scaled down about the sheet's mean to airfield-like ground
 by a few factors; at three sites a runway of 2.5 km heading west gets a null-reference glide path
 (mast 120 m right of the centre line, 300 m past the threshold), and the study reports the
-roughness verdicts of the fitted zone (Rayleigh, Fraunhofer, IEV: geo.roughness) beside the
-95 % bends per segment of the surface prediction (geo.surface_prediction). Prints a table;
+roughness verdicts of the fitted zone (Rayleigh, Fraunhofer, IEV: geo.ground.roughness) beside the
+95 % bends per segment of the surface prediction (geo.optics.surface_prediction). Prints a table;
 never fails. A 3-arc-second DEM has ~90 m posts, so its bilinear surface holds no detail below
 that: the bends come from the larger undulations only.
 """
@@ -24,9 +24,9 @@ sys.path.insert(0, str(ROOT / "tests"))  # the sample DEM's reader, shared with 
 
 from jacksboro import jacksboro_sheet, site_text, write_raster  # noqa: E402
 
-from geo.frame import geodesic_forward  # noqa: E402
-from geo.site import load_site  # noqa: E402
-from geo.study import run_study  # noqa: E402
+from geo.airfield.frame import geodesic_forward  # noqa: E402
+from geo.site.site_file import load_site  # noqa: E402
+from geo.study.site_study import run_study  # noqa: E402
 
 SITES = [(36.60, -84.25), (36.55, -84.18), (36.66, -84.32)]  # thresholds (lat, lon) inside the sheet
 SCALES = [0.01, 0.04, 0.1, 0.2]

@@ -26,10 +26,10 @@ def areas(site: Path, out_dir: str, overwrite: bool, plots: bool, quiet: bool) -
 
     Example: mastplan areas site.toml --out areas/
     """
-    from geo.areas import AREAS_CAUTION, derive_areas
+    from geo.optics.areas import AREAS_CAUTION, derive_areas
     from geo.outputs.areas_out import write_areas
-    from geo.site import load_site
-    from geo.study import run_study
+    from geo.site.site_file import load_site
+    from geo.study.site_study import run_study
 
     result = run_study(load_site(site))
     if sys.stderr.isatty() and not quiet:

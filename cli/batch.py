@@ -48,8 +48,8 @@ def batch(
 
     Example: mastplan batch sites/*.toml runways.csv --out batch/ -j 2
     """
-    from geo.batch import jobs_from_paths
     from geo.outputs.batch_out import write_batch
+    from geo.site.batch import jobs_from_paths
 
     job_list = jobs_from_paths(sites)  # every input checked before anything is written
     with progress_bar("Studying sites", quiet, total=len(job_list)) as progress:

@@ -74,7 +74,7 @@ def check_fail_on(severities, level: str | None, what: str = "") -> None:
     """
     if level is None:
         return
-    from geo.findings import SEVERITIES
+    from geo.study.findings import SEVERITIES
 
     worse = SEVERITIES[SEVERITIES.index(level) :]
     counts = {s: 0 for s in worse}

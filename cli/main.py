@@ -12,7 +12,7 @@ from cli.batch import batch
 from cli.demo import demo
 from cli.run import run
 from cli.sweep import sweep
-from geo import __version__
+from geo.version import __version__
 
 
 @click.group(context_settings={"help_option_names": ["-h", "--help"]})

@@ -30,8 +30,8 @@ def run_site(
     """Load, study, write and report one site (shared by ``run`` and ``demo``)."""
     from geo.outputs.text import summary_text
     from geo.outputs.write import OUTPUTS, check_outputs, remove_partials, write_early, write_study
-    from geo.site import load_site
-    from geo.study import run_study
+    from geo.site.site_file import load_site
+    from geo.study.site_study import run_study
 
     chosen = check_outputs(outputs.split(",")) if outputs else OUTPUTS
     spec = load_site(site_path)
@@ -68,7 +68,7 @@ def _cores_shared(background):
 
     if background is None:
         return contextlib.nullcontext()
-    from geo.optics import thread_limit
+    from geo.optics.kernel import thread_limit
 
     return thread_limit(lambda: 1 if background.busy() else 2)
 

@@ -44,7 +44,7 @@ def _surveyed_side(spec) -> str:
     """The side of a surveyed mast position (``"both"`` without one)."""
     if spec.mast.position is None:
         return "both"
-    from geo.study import runway_of
+    from geo.study.site_study import runway_of
 
     _, cross = runway_of(spec).frame.to_plane(spec.mast.position.lat_deg, spec.mast.position.lon_deg)
     return "right" if cross > 0 else "left"
@@ -124,13 +124,14 @@ def sweep(
     Example: mastplan sweep site.toml --out sweep/ --setback 230 380 5 --offset 80 200 20
     """
     from geo.errors import SiteFileError
-    from geo.findings import rdh_band_m
     from geo.outputs.sweep_out import SCORE_TEXT, sweep_text
     from geo.outputs.write import write_sweep
-    from geo.site import load_site
-    from geo.study import run_study
-    from geo.sweep import SweepOptions, best_site, run_sweep
-    from geo.sweep_choice import RANK_TEXT, add_ranks, solve_setbacks
+    from geo.site.site_file import load_site
+    from geo.study.findings import rdh_band_m
+    from geo.study.site_study import run_study
+    from geo.study.solved_setbacks import solve_setbacks
+    from geo.study.sweep import SweepOptions, best_site, run_sweep
+    from geo.study.sweep_choice import RANK_TEXT, add_ranks
     from geo.units import from_unit
 
     spec = load_site(site)

@@ -47,7 +47,7 @@ def make(path: Path) -> Path:
     from pyproj import Transformer
     from rasterio.transform import from_origin
 
-    from geo.frame import RunwayFrame
+    from geo.airfield.frame import RunwayFrame
 
     frame = RunwayFrame(*THRESHOLD, *END)
     to_utm = Transformer.from_crs("EPSG:4326", f"EPSG:{EPSG}", always_xy=True)

@@ -1,7 +1,7 @@
 """Length units and the metre/foot twin rule.
 
 Inside the library every length is in metres. A site file states its length
-unit once; :mod:`geo.site` converts by :data:`LENGTH_UNITS` on the way in. On the way out every
+unit once; :mod:`geo.site.site_file` converts by :data:`LENGTH_UNITS` on the way in. On the way out every
 key that ends in ``_m`` (``_m2``) gets a twin in feet ending in ``_ft``
 (``_ft2``) and every ``_m3`` a twin in cubic yards (``_yd3``, as earthworks are priced), made in
 one place: :func:`with_foot_twins`.

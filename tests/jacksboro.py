@@ -58,7 +58,7 @@ class Sheet:
         The elevations are the nearest cells' of ``z``; the end is brought within 1.5 % of the
         threshold (Annex 14 allows 1 to 2 % longitudinal slope; from memory).
         """
-        from geo.frame import geodesic_forward
+        from geo.airfield.frame import geodesic_forward
 
         end_lat, end_lon, _ = geodesic_forward(lat, lon, heading_deg, length_m)
         z_thr, z_end = self.height_at(lat, lon, z), self.height_at(end_lat, end_lon, z)

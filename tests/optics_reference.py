@@ -1,4 +1,4 @@
-"""A direct evaluation of the physical-optics sum of geo.optics' module notes, for the tests.
+"""A direct evaluation of the physical-optics sum of geo.optics.kernel' module notes, for the tests.
 
 Written from the formulas, not from the kernel: every facet-receiver pair on its own, in double
 precision, with the vector products as written (no component form, no tables, no chunks)::
@@ -8,7 +8,7 @@ precision, with the vector products as written (no component form, no tables, no
 
 (Knott, Shaeffer and Tuley, Radar Cross Section, 2nd ed., 1993, ch. 5; Balanis, Advanced
 Engineering Electromagnetics, 1989, sec. 7.10), with ``F -> -Gamma F`` on lossy ground at the mean
-grazing angle (Beckmann and Spizzichino, 1963, ch. 3), Gamma from geo.ground at each pair.
+grazing angle (Beckmann and Spizzichino, 1963, ch. 3), Gamma from geo.radio.reflection at each pair.
 """
 
 from __future__ import annotations
@@ -17,7 +17,7 @@ import math
 
 import numpy as np
 
-from geo.ground import reflection_coefficient_h
+from geo.radio.reflection import reflection_coefficient_h
 
 
 def _horizontal(d):

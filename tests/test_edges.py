@@ -7,8 +7,8 @@ from pyproj import Geod
 
 from geo.errors import SiteFileError
 from geo.outputs.geojson import cut_antimeridian, ring_is_ccw, study_layers
-from geo.site import load_site
-from geo.study import run_study
+from geo.site.site_file import load_site
+from geo.study.site_study import run_study
 
 GEOD = Geod(ellps="WGS84")
 

@@ -20,8 +20,8 @@ from tests_support import BASE_SITE
 
 from cli.main import main
 from geo.errors import SiteFileError, TerrainError
-from geo.site import load_site, parse_site
-from geo.study import run_study
+from geo.site.site_file import load_site, parse_site
+from geo.study.site_study import run_study
 
 # The shared test site with notes and a runway code, so that those fields are fuzzed too.
 BASE_TEXT = BASE_SITE.replace('name = "Test strip"', 'name = "Test strip"\nnotes = "base"').replace(

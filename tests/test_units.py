@@ -32,8 +32,8 @@ def test_format_helpers_against_the_exact_foot_and_yard():
 
 @pytest.fixture
 def feet_study(write_site):
-    from geo.site import load_site
-    from geo.study import run_study
+    from geo.site.site_file import load_site
+    from geo.study.site_study import run_study
 
     return run_study(load_site(write_site(FEET_SITE)))
 
@@ -51,8 +51,8 @@ def test_a_site_in_feet_shows_feet_first_on_screen(feet_study):
 
 def test_a_site_in_metres_shows_metres_first(write_site, site_text):
     from geo.outputs.text import summary_text
-    from geo.site import load_site
-    from geo.study import run_study
+    from geo.site.site_file import load_site
+    from geo.study.site_study import run_study
 
     result = run_study(load_site(write_site(site_text)))
     text = summary_text(result)
@@ -71,7 +71,7 @@ def test_the_report_in_feet(feet_study, tmp_path):
 
 
 def test_clearance_required_in_both_units():
-    from geo.findings import check_clearance
+    from geo.study.findings import check_clearance
 
     # terrain.min_clearance = 30 ft is 9.144 m exactly (the "required 9.144 m" without feet).
     f = check_clearance(12.0, -500.0, 9.144, unit="ft")
@@ -81,14 +81,14 @@ def test_clearance_required_in_both_units():
 
 
 def test_errors_name_both_units(write_site):
-    from geo.site import load_site
-    from geo.study import run_study
+    from geo.site.site_file import load_site
+    from geo.study.site_study import run_study
 
     # setback = 10,000 ft = 3,048 m, past the end of BASE_SITE's runway (about 2.9 km by pyproj's geodesic).
     spec = load_site(write_site(FEET_SITE.replace("setback = 1000", "setback = 10000")))
     with pytest.raises(SiteFileError, match=r"10,000\.0 ft \(3,048\.0 m\) along the runway"):
         run_study(spec)
-    # The offset limit (1,000 m in geo.site) in feet first: 1,000 / 0.3048 = 3,280.8 ft.
+    # The offset limit (1,000 m in geo.site.site_file) in feet first: 1,000 / 0.3048 = 3,280.8 ft.
     with pytest.raises(SiteFileError, match=r"at most 3,280\.8 ft \(1,000\.0 m\)"):
         load_site(write_site(FEET_SITE.replace("offset = 400", "offset = 5000")))
     with pytest.raises(SiteFileError, match=r"60\.0 ft \(18\.3 m\) puts the mast on the runway"):
@@ -100,8 +100,8 @@ def _codes(result):
 
 
 def test_lengths_that_look_written_in_the_other_unit(write_site):
-    from geo.site import load_site
-    from geo.study import run_study
+    from geo.site.site_file import load_site
+    from geo.study.site_study import run_study
 
     # The case: offset = 120 in a file in feet is 36.6 m, inside the strip; 120 m would be typical
     # (FAA AIM 1-1-9: 250-650 ft = 76-198 m).

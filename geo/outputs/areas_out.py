@@ -1,6 +1,6 @@
 """Writers of ``mastplan areas``: the derived-area layer, ``areas.csv``, the disturbance maps, the summary.
 
-Every writer reads an :class:`geo.areas.AreasResult` and recomputes nothing.
+Every writer reads an :class:`geo.optics.areas.AreasResult` and recomputes nothing.
 """
 
 from __future__ import annotations
@@ -11,16 +11,16 @@ from pathlib import Path
 
 import numpy as np
 
-from geo import __version__
-from geo.areas import AREAS_CAUTION, AreasResult
+from geo.optics.areas import AREAS_CAUTION, AreasResult
+from geo.outputs.webmap import DERIVED_AREA_COLOURS
 from geo.units import with_foot_twins
+from geo.version import __version__
 
 __all__ = [
     "derived_areas_layer",
     "write_areas_csv",
     "plot_disturbance",
     "areas_summary",
-    "derived_areas_group",
     "write_areas",
     "MODEL_TEXT",
 ]
@@ -33,7 +33,6 @@ MODEL_TEXT = (
     "Areas: union of grid cells where the disturbance exceeds the share of the structure limit "
     "somewhere on the path, over the object's headings; positions against the mast count as both."
 )
-_KIND_COLOURS = {"critical": "#c2255c", "sensitive": "#f08c00"}
 
 
 def _slug(text: str) -> str:
@@ -152,7 +151,7 @@ def plot_disturbance(areas: AreasResult, index: int, path: Path) -> None:
         for k, part in enumerate(parts):
             x, y = part.exterior.xy
             label = f"{area.kind} (> {area.share:g} of the limit)" if k == 0 else None
-            ax.plot(x, y, color=_KIND_COLOURS[area.kind], lw=1.5, label=label)
+            ax.plot(x, y, color=DERIVED_AREA_COLOURS[area.kind], lw=1.5, label=label)
     mast = areas.study.mast
     ax.plot([0.0], [0.0], "s", color="#1864ab", label="mast")
     ax.axhline(mast.offset_m, color="k", ls="--", lw=0.8, label="runway centre line")
@@ -171,7 +170,7 @@ def plot_disturbance(areas: AreasResult, index: int, path: Path) -> None:
 
 def areas_summary(areas: AreasResult) -> dict:
     """``summary.json`` of ``mastplan areas``: settings, segments, objects and their ``derived_areas``."""
-    from geo.structure_limits import LIMITS_SOURCE
+    from geo.radio.structure_limits import LIMITS_SOURCE
 
     s = areas.settings
     study = areas.study
@@ -235,28 +234,6 @@ def areas_summary(areas: AreasResult) -> dict:
 def _finite(value) -> float | None:
     value = float(value)
     return value if math.isfinite(value) else None
-
-
-def derived_areas_group(fc: dict):
-    """A folium layer of the derived areas (called by :func:`geo.outputs.webmap.write_map`)."""
-    import folium
-
-    from geo.outputs.webmap import _escaped
-
-    group = folium.FeatureGroup(name="Derived areas (mastplan areas)")
-    for kind in ("sensitive", "critical"):
-        features = [f for f in fc["features"] if f["properties"]["kind"] == kind]
-        if not features:
-            continue
-        colour = _KIND_COLOURS[kind]
-        folium.GeoJson(
-            _escaped({"type": "FeatureCollection", "features": features}),
-            style_function=lambda _f, c=colour: {"color": c, "weight": 2, "fillOpacity": 0.12, "dashArray": "2 4"},
-            tooltip=folium.GeoJsonTooltip(
-                fields=["object", "kind", "area_m2", "reach_ahead_m", "reach_toward_runway_m", "reach_away_m"]
-            ),
-        ).add_to(group)
-    return group
 
 
 def write_areas(areas: AreasResult, out_dir, overwrite: bool = False, plots: bool = True) -> Path:

@@ -33,13 +33,13 @@ __all__ = ["BackgroundWriter"]
 _WARM_MODULES = {
     "plots": ("matplotlib.figure", "matplotlib.backends.backend_agg", "geo.outputs.plots"),
     "gpkg": ("geo.outputs.gpkg",),
-    # rasterio (and numpy.ma, for its masked reads) for the DEM the hillshade is drawn from: geo.dem
+    # rasterio (and numpy.ma, for its masked reads) for the DEM the hillshade is drawn from: geo.ground.dem
     # opens it lazily, and the main process imports it only when the study starts, after the fork.
     "map": (
         "branca.element",
         "geo.outputs.webmap",
-        "geo.dem",
-        "geo.hillshade",
+        "geo.ground.dem",
+        "geo.ground.hillshade",
         "pyproj",
         "rasterio",
         "rasterio.warp",

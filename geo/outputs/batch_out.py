@@ -1,6 +1,6 @@
 """Running and writing a batch: one folder per site, ``index.csv`` and ``sites.gpkg``.
 
-The batch's inputs come from :mod:`geo.batch` (which never writes); this module studies each job
+The batch's inputs come from :mod:`geo.site.batch` (which never writes); this module studies each job
 in a process pool, writes each site's folder, and writes the index of all sites and their
 combined layers, atomically as one output folder. A failing site is recorded with its one-line
 error and does not stop the others.
@@ -16,8 +16,8 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
-from geo.batch import Job, slug
 from geo.errors import MastplanError
+from geo.site.batch import Job, slug
 from geo.units import with_foot_twins
 
 __all__ = ["SiteRecord", "INDEX_FIELDS", "run_job", "combined_layers", "write_index", "write_batch"]
@@ -101,10 +101,10 @@ def _figures(result) -> dict[str, Any]:
 
 def run_job(job: Job, folder: str, plots: bool) -> SiteRecord:
     """Study one site and write it into ``folder`` (which must not exist); never raises."""
-    from geo.batch import site_spec
     from geo.outputs.geojson import study_layers
     from geo.outputs.write import fill_study
-    from geo.study import run_study
+    from geo.site.batch import site_spec
+    from geo.study.site_study import run_study
 
     name = Path(folder).name
     try:
@@ -173,7 +173,7 @@ def write_batch(
     Parameters
     ----------
     jobs : sequence of Job
-        From :func:`geo.batch.jobs_from_paths`.
+        From :func:`geo.site.batch.jobs_from_paths`.
     out_dir : str or Path
     overwrite : bool
         Replace a non-empty ``out_dir``.
@@ -194,7 +194,7 @@ def write_batch(
     """
     from concurrent.futures import ProcessPoolExecutor, as_completed
 
-    from geo.optics import set_thread_limit
+    from geo.optics.kernel import set_thread_limit
     from geo.outputs.gpkg import write_gpkg
     from geo.outputs.write import atomic_folder
 

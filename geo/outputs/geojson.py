@@ -14,7 +14,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from geo.study import StudyResult
+from geo.study.site_study import StudyResult
 from geo.units import with_foot_twins
 
 __all__ = ["study_layers", "feature", "collection", "ring_is_ccw", "cut_antimeridian"]
@@ -259,7 +259,7 @@ def study_layers(result: StudyResult) -> dict[str, dict]:
         [feature(_mast_plane_polygon(result, z.shape.polygon), zone_figures(z)) for z in result.zones]
     )
     if spec.protected_areas:
-        from geo.protected import area_polygon
+        from geo.airfield.protected import area_polygon
 
         layers["protected_areas"] = collection(
             [

@@ -8,7 +8,7 @@ from pathlib import Path
 
 import numpy as np
 
-from geo.study import StudyResult
+from geo.study.site_study import StudyResult
 from geo.units import M_PER_FT
 
 __all__ = ["write_path_csv", "path_columns"]

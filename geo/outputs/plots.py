@@ -8,7 +8,7 @@ from pathlib import Path
 
 import numpy as np
 
-from geo.study import StudyResult
+from geo.study.site_study import StudyResult
 from geo.units import M_PER_FT
 
 __all__ = ["plot_profile", "plot_residuals", "plot_ddm", "plot_path", "plot_surface_structure", "write_plots"]
@@ -317,7 +317,7 @@ def plot_path(result: StudyResult, path: Path) -> None:
 
 def plot_surface_structure(result: StudyResult, path: Path) -> None:
     """DDM on the designed path over the DEM surface beside image theory, and the bends against the limits."""
-    from geo.structure import BEND_WINDOW_M
+    from geo.radio.structure import BEND_WINDOW_M
 
     sp = result.surface
     fig, axes = _figure(11, 8.5, rows=2)

@@ -6,7 +6,7 @@ import csv
 import math
 from pathlib import Path
 
-from geo.profile import ApproachProfile
+from geo.ground.profile import ApproachProfile
 from geo.units import M_PER_FT
 
 __all__ = ["write_profile_csv"]

@@ -8,9 +8,9 @@ from __future__ import annotations
 import html
 from pathlib import Path
 
-from geo.findings import CAUTIONS
 from geo.outputs.text import past_or_before, skipped_words
-from geo.study import StudyResult
+from geo.study.findings import CAUTIONS
+from geo.study.site_study import StudyResult
 from geo.units import format_area, format_length
 
 __all__ = ["write_report"]

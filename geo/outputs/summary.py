@@ -12,11 +12,11 @@ from pathlib import Path
 
 import numpy as np
 
-from geo import __version__
-from geo.arrays import array_type
-from geo.findings import CAUTIONS
-from geo.study import StudyResult
+from geo.radio.arrays import array_type
+from geo.study.findings import CAUTIONS
+from geo.study.site_study import StudyResult
 from geo.units import with_foot_twins
+from geo.version import __version__
 
 __all__ = ["summary_dict", "zone_figures", "below_path_dict", "roughness_families_dict"]
 
@@ -360,8 +360,8 @@ def roughness_families_dict(families) -> list[dict]:
 
 def surface_dict(result: StudyResult) -> dict:
     """The path over the DEM surface (physical optics), or why it was skipped (metre keys)."""
-    from geo.structure_limits import LIMITS_SOURCE
-    from geo.surface_study import skipped_reason
+    from geo.radio.structure_limits import LIMITS_SOURCE
+    from geo.study.surface import skipped_reason
 
     sp = result.surface
     if sp is None:

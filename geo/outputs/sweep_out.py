@@ -8,11 +8,11 @@ from pathlib import Path
 
 import numpy as np
 
-from geo import __version__
-from geo.site import SiteSpec
-from geo.sweep import SweepResult
-from geo.sweep_choice import RANK_TEXT, near_feasible
+from geo.site.site_file import SiteSpec
+from geo.study.sweep import SweepResult
+from geo.study.sweep_choice import RANK_TEXT, near_feasible
 from geo.units import M_PER_YD, format_length, format_number, format_volume, to_unit, with_foot_twins
+from geo.version import __version__
 
 __all__ = [
     "sweep_rows",
@@ -49,7 +49,7 @@ def sweep_rows(sweep: SweepResult) -> list[dict]:
 
 
 def _order(sweep: SweepResult) -> list[int]:
-    """Candidate indices by rank when the sweep is ranked (:func:`geo.sweep_choice.add_ranks`), else as swept."""
+    """Candidate indices by rank when the sweep is ranked (:func:`geo.study.sweep_choice.add_ranks`), else as swept."""
     if "rank" not in sweep.columns:
         return list(range(len(sweep)))
     return [int(k) for k in np.argsort(sweep.columns["rank"], kind="stable")]
@@ -73,7 +73,7 @@ def write_sweep_csv(sweep: SweepResult, path: Path) -> None:
 def candidates_layer(spec: SiteSpec, sweep: SweepResult) -> dict:
     """Candidate mast positions (lowest antenna) as GeoJSON points with every figure."""
     from geo.outputs.geojson import _coord, collection, feature
-    from geo.study import runway_of
+    from geo.study.site_study import runway_of
 
     frame = runway_of(spec).frame
     c = sweep.columns

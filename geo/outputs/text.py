@@ -2,8 +2,8 @@
 
 from __future__ import annotations
 
-from geo.findings import CAUTIONS
-from geo.study import StudyResult
+from geo.study.findings import CAUTIONS
+from geo.study.site_study import StudyResult
 from geo.units import format_length
 
 __all__ = ["summary_text", "past_or_before"]

@@ -16,7 +16,7 @@ from functools import cache
 from pathlib import Path
 
 from geo.outputs.text import past_or_before
-from geo.study import StudyResult
+from geo.study.site_study import StudyResult
 from geo.units import format_area, format_length
 
 __all__ = ["write_map", "ZONE_COLOURS"]
@@ -24,6 +24,8 @@ __all__ = ["write_map", "ZONE_COLOURS"]
 VENDOR = Path(__file__).with_name("vendor") / "leaflet"
 ZONE_COLOURS = {"lower": "#c92a2a", "middle": "#e67700", "upper": "#5f3dc4", "all": "#495057"}
 AREA_COLOURS = {"critical": "#2b8a3e", "sensitive": "#74b816"}
+#: Derived areas (``mastplan areas``): on the map and on the disturbance plots.
+DERIVED_AREA_COLOURS = {"critical": "#c2255c", "sensitive": "#f08c00"}
 MAST_COLOUR = "#1864ab"
 #: Vertical exaggeration of the hillshade, so that gentle airfield slopes show.
 _EXAGGERATION = 10.0
@@ -291,8 +293,8 @@ def _hillshade_overlay(result: StudyResult, path_bounds, inlined: _Inlined):
     import folium
     import numpy as np
 
-    from geo.dem import Dem
-    from geo.hillshade import hillshade
+    from geo.ground.dem import Dem
+    from geo.ground.hillshade import hillshade
 
     t = result.spec.terrain
     west, south, east, north = path_bounds
@@ -318,6 +320,26 @@ def _hillshade_overlay(result: StudyResult, path_bounds, inlined: _Inlined):
         overlay=True,
         show=True,
     )
+
+
+def derived_areas_group(fc: dict):
+    """A folium layer of the derived areas (``mastplan areas``)."""
+    import folium
+
+    group = folium.FeatureGroup(name="Derived areas (mastplan areas)")
+    for kind in ("sensitive", "critical"):
+        features = [f for f in fc["features"] if f["properties"]["kind"] == kind]
+        if not features:
+            continue
+        colour = DERIVED_AREA_COLOURS[kind]
+        folium.GeoJson(
+            _escaped({"type": "FeatureCollection", "features": features}),
+            style_function=lambda _f, c=colour: {"color": c, "weight": 2, "fillOpacity": 0.12, "dashArray": "2 4"},
+            tooltip=folium.GeoJsonTooltip(
+                fields=["object", "kind", "area_m2", "reach_ahead_m", "reach_toward_runway_m", "reach_away_m"]
+            ),
+        ).add_to(group)
+    return group
 
 
 def write_map(result: StudyResult, layers: dict[str, dict], path: Path) -> None:
@@ -441,8 +463,6 @@ def write_map(result: StudyResult, layers: dict[str, dict], path: Path) -> None:
         _candidates(layers["candidates"], result.spec.units).add_to(fmap)
         fmap.get_root().html.add_child(folium.Element(_candidates_legend()))
     if "derived_areas" in layers:
-        from geo.outputs.areas_out import derived_areas_group
-
         derived_areas_group(layers["derived_areas"]).add_to(fmap)
     # Open on what is shown at first: the path zones, the mast and the threshold.
     shown = [f for f in zones["features"] if f["properties"]["kind"] == "path"]

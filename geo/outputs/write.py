@@ -17,7 +17,7 @@ from dataclasses import dataclass
 from pathlib import Path
 
 from geo.errors import OutputError
-from geo.study import StudyResult
+from geo.study.site_study import StudyResult
 
 __all__ = ["write_study", "write_early", "EarlyWrites", "write_json", "atomic_folder", "remove_partials"]
 
@@ -69,7 +69,7 @@ def write_early(
 ) -> EarlyWrites | None:
     """Give the background writers the outputs that do not depend on the surface prediction.
 
-    Called with the study before its surface prediction (:func:`geo.study.run_study`'s
+    Called with the study before its surface prediction (:func:`geo.study.site_study.run_study`'s
     ``before_surface``): the plots but ``surface.png``, the map and the GeoPackage read nothing of
     that prediction or its findings, so they are the same files drawn now. They go to a staging
     folder beside ``out_dir``, appended to ``staged`` as soon as it exists (before anything is

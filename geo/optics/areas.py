@@ -1,0 +1,472 @@
+"""Critical and sensitive areas derived from the disturbance an object causes on the path.
+
+For each object (``[[object]]`` of the site file, or three generic classes), each heading and
+each position of a grid around the mast, the object's scattered field (:mod:`geo.optics.objects`,
+:mod:`geo.optics.scatter_paths`) adds to the CSB and SBO of every antenna with its feeds. The
+disturbance at a receiver on the designed straight path is the bend amplitude
+
+    dDDM = 2 k |dS - (S / C) dC| / (|C| - |dC|)
+
+the largest change of ``DDM = 2 k Re(S / C)`` (module notes of :mod:`geo.radio.prediction`) as the
+phase of the scattered wave against the direct one turns: an upper bound, reached to first order
+in ``dC / C`` (the phase turns along the approach as the path lengths change; the change at any
+one receiver lies within it). Per approach segment (:mod:`geo.radio.structure_limits`) the largest
+disturbance is compared with the segment's structure limit at each receiver.
+
+A position is **critical** when the disturbance exceeds ``critical_share`` of the limit somewhere
+on the path, **sensitive** above ``sensitive_share``; positions where the object would stand
+against the mast count as both. The areas are the union of the grid cells (squares of the grid
+spacing centred on the positions) over the object's headings: a cell union, not a contour, so
+the outline shows the grid it came from. Ground: the reflecting plane of the study (flat ground,
+or the plane fitted to the DEM).
+
+The antenna elements are isotropic, as the predicted path takes them, unless ``[areas]`` gives
+their front-to-back ratio (:func:`element_pattern`, weighting the illumination of the objects).
+
+Derived areas are a planning aid beside the authority's rules and flight inspection, never in
+place of them.
+
+References
+----------
+.. [1] ICAO Annex 10, Volume I, 3.1.5.4 (glide path structure limits; values from memory in
+       :mod:`geo.radio.structure_limits`).
+.. [2] Knott, E. F., Shaeffer, J. F. and Tuley, M. T., *Radar Cross Section*, 2nd ed., Artech
+       House, 1993, ch. 5 (physical optics of plates).
+"""
+
+from __future__ import annotations
+
+import math
+import os
+from concurrent.futures import ThreadPoolExecutor
+from dataclasses import dataclass
+
+import numpy as np
+
+from geo.optics.kernel import Facets
+from geo.optics.objects import GENERIC_OBJECTS, object_facets, object_half_diagonal_m
+from geo.optics.scatter_paths import four_path_field
+from geo.radio.prediction import ArrayModel
+from geo.radio.structure_limits import COVERAGE_M, Segment, structure_segments
+from geo.site.site_file import AreaSpec, ObjectSpec
+
+__all__ = [
+    "AREAS_CAUTION",
+    "PathReceivers",
+    "ObjectDisturbance",
+    "DerivedArea",
+    "AreasResult",
+    "array_model",
+    "path_receivers",
+    "position_grid",
+    "object_fields",
+    "element_pattern",
+    "bend_amplitude",
+    "disturbance",
+    "cell_union",
+    "derive_areas",
+]
+
+AREAS_CAUTION = (
+    "Derived critical and sensitive areas are a planning aid beside the authority's rules and flight "
+    "inspection, never in place of them."
+)
+#: Positions evaluated together (bounds memory: about 20 facets x 300 receivers x 16 bytes x 20 arrays each).
+_POSITIONS_PER_CHUNK = 100
+#: Clearance around the mast inside which an object counts as standing against it. [m]
+_MAST_CLEARANCE_M = 2.0
+
+
+@dataclass(frozen=True)
+class PathReceivers:
+    """Receivers on the designed straight path, with the undisturbed fields there.
+
+    Attributes
+    ----------
+    points_m : numpy.ndarray, shape (R, 3)
+        In the mast frame. [m]
+    before_threshold_m : numpy.ndarray, shape (R,)
+        Distance before the threshold along the centre line. [m]
+    csb, sbo : numpy.ndarray of complex, shape (R,)
+        Undisturbed fields.
+    sbo_scale : float
+    limit_ddm : numpy.ndarray, shape (R,)
+        Structure limit at each receiver.
+    segment : numpy.ndarray of int, shape (R,)
+        Index of each receiver's segment.
+    """
+
+    points_m: np.ndarray
+    before_threshold_m: np.ndarray
+    csb: np.ndarray
+    sbo: np.ndarray
+    sbo_scale: float
+    limit_ddm: np.ndarray
+    segment: np.ndarray
+
+
+@dataclass(frozen=True)
+class ObjectDisturbance:
+    """One object's disturbance at every position and heading.
+
+    Attributes
+    ----------
+    obj : ObjectSpec
+    ahead_m, toward_runway_m : numpy.ndarray, shape (G,)
+        Positions (u, w) of the object's centre in the mast frame. [m]
+    at_mast : numpy.ndarray of bool, shape (G,)
+        The object would stand against the mast there (not computed; inside both areas).
+    segment_ddm : dict of str to numpy.ndarray, shape (G, S)
+        Per heading, the largest disturbance per segment (NaN at the mast).
+    share : dict of str to numpy.ndarray, shape (G,)
+        Per heading, the largest disturbance over the path as a share of the limit (inf at the mast).
+    """
+
+    obj: ObjectSpec
+    ahead_m: np.ndarray
+    toward_runway_m: np.ndarray
+    at_mast: np.ndarray
+    segment_ddm: dict
+    share: dict
+
+    @property
+    def worst_share(self) -> np.ndarray:
+        """The largest share over the headings. [-]"""
+        return np.max(np.stack(list(self.share.values())), axis=0)
+
+
+@dataclass(frozen=True)
+class DerivedArea:
+    """One derived area.
+
+    Attributes
+    ----------
+    object_name : str
+    kind : {"critical", "sensitive"}
+    polygon : shapely geometry
+        In the mast frame (u toward the approach, w toward the runway). [m]
+    share : float
+        The share of the structure limit that defines it.
+    reaches_grid_edge : bool
+        The area touches the edge of the grid: it may go on beyond it (widen the grid).
+    """
+
+    object_name: str
+    kind: str
+    polygon: object
+    share: float
+    reaches_grid_edge: bool = False
+
+    @property
+    def area_m2(self) -> float:
+        return float(self.polygon.area)
+
+    def reach_m(self) -> dict:
+        """Reach from the mast: ahead, behind, toward the runway and away from it (0 when not reached). [m]"""
+        if self.polygon.is_empty:
+            return {"ahead_m": 0.0, "behind_m": 0.0, "toward_runway_m": 0.0, "away_m": 0.0}
+        u0, w0, u1, w1 = self.polygon.bounds
+        return {
+            "ahead_m": max(u1, 0.0),
+            "behind_m": max(-u0, 0.0),
+            "toward_runway_m": max(w1, 0.0),
+            "away_m": max(-w0, 0.0),
+        }
+
+
+@dataclass(frozen=True)
+class AreasResult:
+    """Everything ``mastplan areas`` computes.
+
+    Attributes
+    ----------
+    study : StudyResult
+    settings : AreaSpec
+    segments : list of Segment
+    receivers : PathReceivers
+    disturbances : list of ObjectDisturbance
+    areas : list of DerivedArea
+        Critical then sensitive, per object.
+    objects_source : str
+        ``"site file"`` or ``"generic, no source"``.
+    """
+
+    study: object
+    settings: AreaSpec
+    segments: list[Segment]
+    receivers: PathReceivers
+    disturbances: list[ObjectDisturbance]
+    areas: list[DerivedArea]
+    objects_source: str
+
+
+def array_model(result) -> ArrayModel:
+    """The study's array over its reflecting plane, with its feeds, as the prediction built it."""
+    spec = result.spec
+    plane = result.terrain.plane if result.terrain is not None else None
+    gu, gw = (plane.forward_gradient, plane.lateral_gradient) if plane is not None else (0.0, 0.0)
+    return ArrayModel.build(
+        [a.height_m for a in result.antennas],
+        [a.shift_toward_runway_m for a in result.antennas],
+        result.feeds[0],
+        result.feeds[1],
+        result.wavelength_m,
+        gu,
+        gw,
+        spec.prediction.relative_permittivity,
+        spec.prediction.conductivity_s_m,
+        phase_for_angle_deg=spec.angle_deg,
+    )
+
+
+def path_receivers(result, model: ArrayModel, segments: list[Segment], count: int = 300) -> PathReceivers:
+    """``count`` receivers on the designed straight path over the segments, spaced evenly in log range."""
+    mast = result.mast
+    theta = math.radians(result.spec.angle_deg)
+    intercept_z = result.intercept_elevation_m - mast.plane_elevation_m
+    end = max(min(s.to_m for s in segments), 0.0)
+    u = np.geomspace(mast.setback_m + end, mast.setback_m + COVERAGE_M, count)
+    before = np.clip(u - mast.setback_m, end, COVERAGE_M)  # the ends exactly on the segment ends
+    points = np.column_stack([u, np.full(count, mast.offset_m), intercept_z + u * math.tan(theta)])
+    csb, sbo = model.fields(points)
+    limit = np.full(count, np.nan)
+    segment = np.full(count, -1)
+    for i in range(len(segments) - 1, -1, -1):  # the first segment containing a receiver wins
+        inside = segments[i].contains(before)
+        limit = np.where(inside, segments[i].limit_at(before), limit)
+        segment = np.where(inside, i, segment)
+    return PathReceivers(points, before, csb, sbo, result.prediction.sbo_scale, limit, segment)
+
+
+def position_grid(result, settings: AreaSpec) -> tuple[np.ndarray, np.ndarray]:
+    """Object positions (u, w) around the mast: behind to ahead, beyond the mast to past the centre line. [m]"""
+    step = settings.grid_m
+    u = np.arange(-settings.behind_m, settings.ahead_m + step / 2, step)
+    w = np.arange(-settings.away_m, result.mast.offset_m + settings.beyond_m + step / 2, step)
+    uu, ww = np.meshgrid(u, w, indexing="ij")
+    return uu.ravel(), ww.ravel()
+
+
+def _feet(model: ArrayModel, u: np.ndarray, w: np.ndarray) -> np.ndarray:
+    """Ground points under the positions: on the plane through the origin."""
+    n = model.normal
+    return np.column_stack([u, w, -(n[0] * u + n[1] * w) / n[2]])
+
+
+def _at_mast(obj: ObjectSpec, heading: str, model: ArrayModel, u: np.ndarray, w: np.ndarray) -> np.ndarray:
+    """Whether the object's footprint (with a clearance) holds an antenna's foot."""
+    along, across = (obj.length_m, obj.width_m) if heading == "along" else (obj.width_m, obj.length_m)
+    hit = np.zeros(u.shape, dtype=bool)
+    for pu, pw, _ in model.positions_m:
+        hit |= (np.abs(u - pu) <= along / 2 + _MAST_CLEARANCE_M) & (np.abs(w - pw) <= across / 2 + _MAST_CLEARANCE_M)
+    return hit
+
+
+def object_fields(
+    model: ArrayModel,
+    obj: ObjectSpec,
+    heading: str,
+    u: np.ndarray,
+    w: np.ndarray,
+    receivers_m: np.ndarray,
+    refine: float = 1.0,
+    front_to_back_db: float = 0.0,
+) -> tuple[np.ndarray, np.ndarray]:
+    """CSB and SBO fields the object scatters, per position and receiver.
+
+    Parameters
+    ----------
+    model : ArrayModel
+    obj : ObjectSpec
+    heading : {"along", "across"}
+    u, w : numpy.ndarray, shape (G,)
+        Positions of the object's centre. [m]
+    receivers_m : numpy.ndarray, shape (R, 3)
+    refine : float
+        Finer facets than the phase criterion asks (for checks).
+    front_to_back_db : float
+        The elements' front-to-back ratio (:func:`element_pattern`; 0: isotropic). [dB]
+
+    Returns
+    -------
+    d_csb, d_sbo : numpy.ndarray of complex, shape (G, R)
+        In the units of :meth:`geo.radio.prediction.ArrayModel.fields`.
+    """
+    feet = _feet(model, np.asarray(u, float), np.asarray(w, float))
+    centres = feet + np.array([0.0, 0.0, (obj.height_m + obj.base_m) / 2.0])
+    to_antennas = np.linalg.norm(centres[:, None, :] - model.positions_m[None, :, :], axis=2).min(axis=1)
+    rx = np.asarray(receivers_m, float)
+    to_receivers = np.linalg.norm(centres[:, None, :] - rx[None, :, :], axis=2).min(axis=1)
+    reach = math.hypot(object_half_diagonal_m(obj), (obj.height_m - obj.base_m) / 2.0)
+    ranges = np.minimum(to_antennas, to_receivers) - reach
+    facets, groups = object_facets(obj, heading, feet, ranges, model.wavelength_m, refine)
+    d_csb = np.zeros((feet.shape[0], rx.shape[0]), dtype=complex)
+    d_sbo = np.zeros_like(d_csb)
+    for position, c, s in zip(model.positions_m, model.csb, model.sbo):
+        lit = facets
+        if front_to_back_db > 0.0:
+            weights = element_pattern(facets.centres_m - position, front_to_back_db)
+            lit = Facets(facets.centres_m, facets.edge_a_m, facets.edge_b_m, True, weights)
+        e = four_path_field(
+            position,
+            lit,
+            groups,
+            centres,
+            rx,
+            model.wavelength_m,
+            model.normal,
+            model.relative_permittivity,
+            model.conductivity_s_m,
+        )
+        d_csb += c * e
+        d_sbo += s * e
+    return d_csb, d_sbo
+
+
+def element_pattern(direction_m: np.ndarray, front_to_back_db: float) -> np.ndarray:
+    """Field pattern of an element facing the approach (+u), in azimuth: ``b + (1 - b)(1 + cos phi) / 2``.
+
+    A cardioid [1]_ raised to the back level ``b = 10^(-F/B / 20)``: 1 toward the approach, ``b``
+    straight behind, smooth between; isotropic at 0 dB. It weights only the illumination of the
+    objects (the receivers on the approach are in front, where it is 1).
+
+    Parameters
+    ----------
+    direction_m : numpy.ndarray, shape (P, 3)
+        From the element toward each facet.
+    front_to_back_db : float
+        [dB]
+
+    References
+    ----------
+    .. [1] Balanis, C. A., *Antenna Theory*, 3rd ed., Wiley, 2005, sec. 6.2 (two-element array,
+           the cardioid ``(1 + cos phi) / 2``); IEEE Std 145-2013 (front-to-back ratio).
+    """
+    back = 10.0 ** (-front_to_back_db / 20.0)
+    horizontal = np.hypot(direction_m[:, 0], direction_m[:, 1])
+    cos_phi = np.divide(direction_m[:, 0], horizontal, out=np.ones_like(horizontal), where=horizontal > 0)
+    return back + (1.0 - back) * (1.0 + cos_phi) / 2.0
+
+
+def bend_amplitude(csb, sbo, d_csb, d_sbo, sbo_scale: float) -> np.ndarray:
+    """``2 k |dS - (S / C) dC| / (|C| - |dC|)``: the largest DDM change as the scattered phase turns.
+
+    Exactly, ``DDM' - DDM = 2 k Re[(dS - (S / C) dC) / (C + dC)]``; with a common phase turning
+    ``dS`` and ``dC`` its magnitude never exceeds this value, which is reached to first order in
+    ``dC / C`` (module notes). Infinite when the object's carrier outweighs the array's.
+    """
+    csb_abs, d_abs = np.abs(csb), np.abs(d_csb)
+    margin = np.where(csb_abs > d_abs, csb_abs - d_abs, np.nan)
+    bend = 2.0 * abs(sbo_scale) * np.abs(d_sbo - (sbo / csb) * d_csb) / margin
+    return np.where(np.isnan(margin), np.inf, bend)
+
+
+def disturbance(
+    model: ArrayModel,
+    receivers: PathReceivers,
+    segments,
+    obj: ObjectSpec,
+    heading: str,
+    u,
+    w,
+    refine: float = 1.0,
+    front_to_back_db: float = 0.0,
+) -> tuple[np.ndarray, np.ndarray]:
+    """Largest disturbance per segment (G, S) and largest share of the limit (G,) at positions (u, w)."""
+    d_csb, d_sbo = object_fields(model, obj, heading, u, w, receivers.points_m, refine, front_to_back_db)
+    bend = bend_amplitude(receivers.csb, receivers.sbo, d_csb, d_sbo, receivers.sbo_scale)
+    per_segment = np.full((bend.shape[0], len(segments)), np.nan)
+    for i in range(len(segments)):
+        inside = receivers.segment == i
+        if inside.any():
+            per_segment[:, i] = bend[:, inside].max(axis=1)
+    valid = receivers.segment >= 0
+    share = (bend[:, valid] / receivers.limit_ddm[valid]).max(axis=1)
+    return per_segment, share
+
+
+def cell_union(u, w, mask, step_m: float):
+    """The union of square cells of side ``step_m`` centred on the selected positions (shapely)."""
+    import shapely
+
+    uu, ww = np.asarray(u)[mask], np.asarray(w)[mask]
+    if uu.size == 0:
+        return shapely.Polygon()
+    h = step_m / 2.0
+    cells = shapely.box(uu - h, ww - h, uu + h, ww + h)
+    return shapely.union_all(cells).simplify(0.0)
+
+
+def derive_areas(result, progress=None, receivers_count: int = 300, workers: int | None = None) -> AreasResult:
+    """Disturbance maps and derived areas for every object of a study's site.
+
+    Parameters
+    ----------
+    result : StudyResult
+    progress : callable, optional
+        ``progress(done, total)`` after each chunk of positions.
+    receivers_count : int
+        Receivers on the designed path.
+    workers : int, optional
+        Threads (default: the processor count, at most 4).
+
+    Returns
+    -------
+    AreasResult
+    """
+    spec = result.spec
+    settings = spec.areas
+    objects = spec.objects or GENERIC_OBJECTS
+    segments = structure_segments(spec.category, result.rdh_m, spec.angle_deg)
+    model = array_model(result)
+    receivers = path_receivers(result, model, segments, receivers_count)
+    u, w = position_grid(result, settings)
+    jobs = []
+    for k, obj in enumerate(objects):
+        for heading in obj.headings:
+            free = np.flatnonzero(~_at_mast(obj, heading, model, u, w))
+            for start in range(0, free.size, _POSITIONS_PER_CHUNK):
+                jobs.append((k, heading, free[start : start + _POSITIONS_PER_CHUNK]))
+    segment_ddm = {(k, h): np.full((u.size, len(segments)), np.nan) for k, o in enumerate(objects) for h in o.headings}
+    share = {(k, h): np.full(u.size, np.inf) for k, o in enumerate(objects) for h in o.headings}
+
+    def run(job):
+        k, heading, index = job
+        return job, disturbance(
+            model, receivers, segments, objects[k], heading, u[index], w[index], 1.0, settings.front_to_back_db
+        )
+
+    done = 0
+    threads = workers or min(os.cpu_count() or 1, 4)
+    pool = ThreadPoolExecutor(max_workers=threads)
+    try:
+        for (k, heading, index), (per_segment, worst) in pool.map(run, jobs):
+            segment_ddm[k, heading][index] = per_segment
+            share[k, heading][index] = worst
+            done += 1
+            if progress is not None:
+                progress(done, len(jobs))
+    finally:  # an interrupted run stops after the chunks in hand, not after every chunk
+        pool.shutdown(wait=True, cancel_futures=True)
+    disturbances, areas = [], []
+    for k, obj in enumerate(objects):
+        at_mast = np.zeros(u.size, dtype=bool)
+        for h in obj.headings:
+            at_mast |= _at_mast(obj, h, model, u, w)
+        d = ObjectDisturbance(
+            obj,
+            u,
+            w,
+            at_mast,
+            {h: segment_ddm[k, h] for h in obj.headings},
+            {h: share[k, h] for h in obj.headings},
+        )
+        disturbances.append(d)
+        worst = d.worst_share
+        edge = (u == u.min()) | (u == u.max()) | (w == w.min()) | (w == w.max())
+        for kind, limit in (("critical", settings.critical_share), ("sensitive", settings.sensitive_share)):
+            inside = worst > limit
+            polygon = cell_union(u, w, inside, settings.grid_m)
+            areas.append(DerivedArea(obj.name, kind, polygon, limit, bool((inside & edge).any())))
+    source = "site file" if spec.objects else GENERIC_OBJECTS[0].source
+    return AreasResult(result, settings, segments, receivers, disturbances, areas, source)

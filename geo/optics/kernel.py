@@ -1,0 +1,703 @@
+"""Physical optics: the field that flat facets scatter from an antenna to receivers.
+
+One core serves every scatterer mastplan models: the ground in front of the mast (facets cut
+from the DEM surface) and objects near it (plates of a tail fin or a vehicle body). Each facet
+is a flat parallelogram; its physical-optics surface current, induced by a horizontally
+polarised point source, radiates to each receiver. The integral over one facet is taken with
+the phase linearised about its centre, which gives the familiar sinc factors of a flat plate,
+so facets need only be small enough that the quadratic part of the phase stays small.
+
+For a perfect conductor the physical-optics current is ``J = 2 n x H_i`` on the lit side [1]_
+[2]_. With the incident field ``E_i = e exp(-j k r1) / r1`` (``e`` horizontal, normal to the ray
+``s1`` from the source) and a receiving antenna of horizontal polarisation ``e_r`` (normal to the
+ray ``r2`` toward it), the received field of that current is ``-(j k / 4 pi) F ...`` with
+``F = 2 [(s1 . e_r)(n . e) - (e . e_r)(n . s1)]``. That form is not reciprocal off the specular
+and back-scatter directions (a known property of physical optics), so the coupling used here is
+its average with the swapped problem (receiver as source), which is reciprocal by construction
+and equal to it at specular, in back-scatter and in the forward (shadow) direction::
+
+    E_s = -(j k / 4 pi) sum_p F_p A_p S(g.a_p) S(g.b_p) exp(-j k (r1 + r2)) / (r1 r2)
+    F_p = (s1 . e_r)(n . e) - t (r2 . e)(n . e_r) + (e . e_r)(|n . s1| + |n . r2|)
+    g = k (s1 - r2_hat),  S(t) = sin(t / 2) / (t / 2)
+
+with ``n`` the facet normal turned toward the source and ``t = +1`` when the receiver is on the
+source's side of the facet, ``-1`` behind it. Over horizontal ground ``F = 2 sin psi`` at the
+specular point, the scalar Kirchhoff obliquity factor [3]_. For ground of finite conductivity
+the current is weighted by the Fresnel coefficient (``F -> -Gamma F``; ``Gamma = -1`` is the
+conductor), taken at the mean of the local grazing angles toward source and receiver (equal at
+the specular point, symmetric under the swap): the tangent-plane (Kirchhoff) approximation [3]_.
+Over an infinite flat plane the integral reduces by stationary phase to the image wave
+``Gamma exp(-j k R') / R'`` [3]_ [4]_, which the tests check. Ground facets are one-sided (lit
+from above, seen from above); plates are two-sided and also scatter forward, which forms
+their shadow.
+
+One kernel (:func:`_pair_fields`) evaluates this sum for every caller: one-sided ground facets
+and two-sided plates, several sources at once, facets summed per group, terrain shadowing, a
+weight per facet-receiver pair, receivers at a distance or far away (plane waves), lossy ground.
+:func:`scattered_field` (plates of objects, one source, double precision) and
+:func:`ground_fields` (the DEM surface, every antenna, single precision after the phase) are its
+two entry points. It works in chunks of facet-receiver pairs run in two threads; the pair work
+shared by the sources is done once, and the products of facet vectors with the receiver's
+position are small matrix products (see :func:`_pair_fields`).
+
+Coordinates are any right-handed metric frame with ``z`` up. [m]
+
+References
+----------
+.. [1] Knott, E. F., Shaeffer, J. F. and Tuley, M. T., *Radar Cross Section*, 2nd ed., Artech
+       House, 1993, ch. 5 (physical optics; flat plate, peak ``4 pi A^2 / lambda^2``).
+.. [2] Balanis, C. A., *Advanced Engineering Electromagnetics*, Wiley, 1989, sec. 7.10
+       (physical-optics current ``2 n x H_i``) and sec. 6.6 (radiation of a surface current).
+.. [3] Beckmann, P. and Spizzichino, A., *The Scattering of Electromagnetic Waves from Rough
+       Surfaces*, Pergamon, 1963, ch. 3 (Kirchhoff tangent-plane approximation).
+.. [4] Born, M. and Wolf, E., *Principles of Optics*, 7th ed., Cambridge, 1999, app. III
+       (method of stationary phase).
+"""
+
+from __future__ import annotations
+
+import contextlib
+import math
+import threading
+from collections.abc import Callable
+from concurrent.futures import ThreadPoolExecutor
+from dataclasses import dataclass
+
+import numpy as np
+
+from geo.radio.reflection import reflection_coefficient_h
+
+__all__ = [
+    "Facets",
+    "scattered_field",
+    "ground_fields",
+    "direct_field",
+    "horizontal_polarisation",
+    "mirror_points",
+    "thread_limit",
+    "set_thread_limit",
+]
+
+#: Facet-receiver pairs of one chunk (each thread holds about 30 arrays of this size, reused). At most
+#: 2**16, so that each matrix product of a chunk (inner size 4) stays below the size at which OpenBLAS
+#: starts threads of its own (``m n k <= 4 x 65536`` runs on one thread), which spin against ours.
+_PAIRS_PER_CHUNK = 65_536
+#: Worker threads of the kernel (the machine the project targets has 2 cores).
+_THREADS = 2
+#: The limits in force: :func:`set_thread_limit`'s first, then those of :func:`thread_limit` blocks.
+_LIMITS: list = []
+
+
+def set_thread_limit(count: int | None) -> None:
+    """For the rest of the process, a kernel call runs on at most ``count`` threads (None: no limit).
+
+    For a process among others that keep the cores busy (a batch runs one study per core, each in
+    its own process); :func:`thread_limit` sets a limit for a block instead.
+    """
+    _LIMITS[:] = [limit for limit in _LIMITS if not getattr(limit, "process_wide", False)]
+    if count is not None:
+
+        def limit() -> int:
+            return count
+
+        limit.process_wide = True
+        _LIMITS.insert(0, limit)
+
+
+@contextlib.contextmanager
+def thread_limit(limit: Callable[[], int]):
+    """Within the block, a kernel call runs on at most ``limit()`` threads, asked as it starts.
+
+    For a caller that keeps other work on the machine's cores at times (``mastplan run`` draws
+    its plots in other processes meanwhile): a second thread on a busy core adds work (the threads
+    hand the interpreter lock to each other at every small array operation) and no speed. The
+    result does not depend on the number of threads.
+
+    Parameters
+    ----------
+    limit : callable
+        ``limit() -> int``, at least 1 is used.
+    """
+    _LIMITS.append(limit)
+    try:
+        yield
+    finally:
+        _LIMITS.remove(limit)
+
+
+@dataclass(frozen=True)
+class Facets:
+    """Flat parallelogram facets ``centre + alpha a + beta b``, ``alpha, beta`` in [-1/2, 1/2].
+
+    Attributes
+    ----------
+    centres_m, edge_a_m, edge_b_m : numpy.ndarray, shape (P, 3)
+        Centres and edge vectors. [m]
+    two_sided : bool
+        ``False`` for ground (lit and seen from the side of ``a x b`` only); ``True`` for plates.
+    weights : numpy.ndarray, shape (P,), optional
+        A real factor per facet (1 by default), e.g. a taper at the edge of an integration area.
+    """
+
+    centres_m: np.ndarray
+    edge_a_m: np.ndarray
+    edge_b_m: np.ndarray
+    two_sided: bool = False
+    weights: np.ndarray | None = None
+
+    @property
+    def normals(self) -> np.ndarray:
+        """Unit normals ``a x b / |a x b|``."""
+        n = np.cross(self.edge_a_m, self.edge_b_m)
+        return n / np.linalg.norm(n, axis=1)[:, None]
+
+    @property
+    def areas_m2(self) -> np.ndarray:
+        """Facet areas ``|a x b|``. [m2]"""
+        return np.linalg.norm(np.cross(self.edge_a_m, self.edge_b_m), axis=1)
+
+    def __len__(self) -> int:
+        return self.centres_m.shape[0]
+
+    def subset(self, index) -> Facets:
+        """The facets selected by ``index`` (a mask or indices)."""
+        w = None if self.weights is None else self.weights[index]
+        return Facets(self.centres_m[index], self.edge_a_m[index], self.edge_b_m[index], self.two_sided, w)
+
+
+def horizontal_polarisation(direction: np.ndarray) -> np.ndarray:
+    """Unit horizontal vectors normal to propagation directions, ``z x d / |z x d|``.
+
+    Parameters
+    ----------
+    direction : numpy.ndarray, shape (..., 3)
+        Directions of propagation (need not be unit vectors; not vertical).
+    """
+    d = np.asarray(direction, dtype=float)
+    e = np.stack([-d[..., 1], d[..., 0], np.zeros(d.shape[:-1])], axis=-1)
+    return e / np.linalg.norm(e, axis=-1, keepdims=True)
+
+
+def mirror_points(points_m: np.ndarray, normal: np.ndarray, origin_m=(0.0, 0.0, 0.0)) -> np.ndarray:
+    """Mirror images of points in the plane through ``origin_m`` with unit normal ``normal`` [3]_."""
+    p = np.asarray(points_m, dtype=float) - np.asarray(origin_m, dtype=float)
+    n = np.asarray(normal, dtype=float) / np.linalg.norm(normal)
+    return np.asarray(origin_m, dtype=float) + p - 2.0 * (p @ n)[..., None] * n
+
+
+def direct_field(source_m: np.ndarray, receivers_m: np.ndarray, wavelength_m: float) -> np.ndarray:
+    """Free-space field ``exp(-j k r) / r`` of an isotropic source at receivers (R, 3)."""
+    k = 2.0 * math.pi / wavelength_m
+    r = np.linalg.norm(np.asarray(receivers_m, dtype=float) - np.asarray(source_m, dtype=float), axis=1)
+    return np.exp(-1j * k * r) / r
+
+
+#: Grazing angles of the table the lossy-ground Fresnel coefficient is interpolated from. [rad]
+_GAMMA_TABLE_RAD = np.linspace(0.0, math.pi / 2.0, 2049)
+#: Added to ``|x|`` in ``sin(x) / x`` so that 0 needs no test (far below any argument that matters).
+_TINY = 1e-30
+
+
+class _Workspace:
+    """Arrays of one thread, reused from chunk to chunk (fresh large arrays cost page faults)."""
+
+    def __init__(self, size: int):
+        self.size = size
+        self.flat = {}
+
+    def take(self, name: str, shape: tuple, dtype) -> np.ndarray:
+        """An uninitialised array of ``shape``, in the same memory each time."""
+        key, need = (name, np.dtype(dtype)), math.prod(shape)
+        if key not in self.flat or self.flat[key].size < need:
+            self.flat[key] = np.empty(max(self.size, need), dtype=dtype)
+        return self.flat[key][:need].reshape(shape)
+
+
+def _dot(u: np.ndarray, v: np.ndarray) -> np.ndarray:
+    """Dot products of vectors stored components first, ``(..., 3, p)`` (no reduction over a short axis)."""
+    return u[..., 0, :] * v[..., 0, :] + u[..., 1, :] * v[..., 1, :] + u[..., 2, :] * v[..., 2, :]
+
+
+def _run(index: np.ndarray):
+    """``index`` as a slice when it is one run of consecutive numbers (no copy), else as it is."""
+    return slice(index[0], index[-1] + 1) if index[-1] - index[0] + 1 == index.size else index
+
+
+def _pair_fields(
+    sources_m,
+    facets: Facets,
+    receivers_m,
+    wavelength_m: float,
+    *,
+    dtype=np.float32,
+    relative_permittivity: float | None = None,
+    conductivity_s_m: float | None = None,
+    groups=None,
+    source_visible=None,
+    horizon_tan=None,
+    pair_weight=None,
+    far: bool = False,
+    threads: int | None = None,
+) -> np.ndarray:
+    """The one physical-optics kernel: every source, facet group and receiver (see the module notes).
+
+    The coupling ``F_p`` is written component by component. With ``x, y, z`` the direction
+    ``r2`` toward the receiver, ``n`` the facet's normal as given (not turned), ``N = n . r2``,
+    ``E = n_y x - n_x y`` (``h2 (n . e_r)``) and ``h1, h2`` the horizontal lengths of ``s1`` and
+    ``r2``, turning ``n`` toward the source (sign ``sigma = -sign(n . s1)``) and the same-side sign
+    ``t = sigma sign(N)`` cancel in pairs, leaving::
+
+        F_p h1 h2 = s1x P + s1y Q + (|n . s1| s1x + b s1y) x + (|n . s1| s1y - b s1x) y
+        P = x |N| - y sign(N) E,  Q = y |N| + x sign(N) E,  b = sigma (n_y s1x - n_x s1y)
+
+    Every factor but ``|N|``, ``sign(N)`` and the sinc factors is linear in ``r2``, and ``r2`` times
+    the range is ``q - c`` (receiver minus facet centre; a far receiver's direction ``d`` itself).
+    So ``v . (q - c)`` for the facet vectors ``v`` (the axes, ``n``, ``(n_y, -n_x, 0)``, ``k a / 2``,
+    ``k b / 2``, and per source ``(s1x, s1y, 0) / h1``, ``(s1y, -s1x, 0) / h1``,
+    ``(c1, c2, 0) / h1``) are matrix products of rows ``[v, -v . c]`` with ``[q, 1]`` (``[d, 0]``),
+    and ``F_p = (sign(N) (N' G1 + E' G2) / r + G3) / rho``, with ``G1, G2, G3`` the three per-source
+    products, ``N', E'`` the products for ``n`` and ``(n_y, -n_x, 0)`` (``N, E`` times the range
+    ``r``) and ``rho = h2 r`` the horizontal length of ``q - c``. The work shared by the sources
+    (the phase, the wave, ``N``, ``E``, the receiver's half of the sinc arguments) is done once per
+    facet-receiver pair; each source adds three products, its two sinc factors and, on lossy
+    ground, its Fresnel coefficient, interpolated linearly from a table of 2,049 grazing angles.
+    A one-sided (ground) facet radiates only where ``N > 0``. The range ``r2`` and the phase
+    ``k r2``, reduced to one turn, are in double precision; the rest of the pair work in ``dtype``.
+    The sum over the facets of a group, each weighted by its source factor
+    ``A w exp(-j k r1) / r1`` (``A`` the area, ``w`` the weight), is a matrix product per chunk.
+
+    Chunks of about ``_PAIRS_PER_CHUNK`` facet-receiver pairs run in ``threads`` threads (numpy
+    releases the interpreter lock inside its array loops); each chunk's sum is added to the result
+    in chunk order, so the result does not depend on the number of threads.
+
+    Parameters
+    ----------
+    sources_m : array_like, shape (S, 3)
+        [m]
+    facets : Facets
+    receivers_m : array_like, shape (R, 3)
+        Points [m], or unit directions toward distant receivers with ``far``.
+    wavelength_m : float
+        [m]
+    dtype : numpy dtype
+        Precision of the pair work after the phase (``float32`` for the ground, ``float64`` where
+        reciprocity or cancellation asks for it).
+    relative_permittivity, conductivity_s_m : float or None
+        Constants of the facets' material; ``None``: a perfect conductor.
+    groups : array_like of int, shape (P,), optional
+        Group of each facet (``0 .. G - 1``); the fields are summed per group.
+    source_visible : numpy.ndarray of bool, shape (S, P), optional
+        Whether each source lights each facet.
+    horizon_tan : numpy.ndarray, shape (P,), optional
+        Tangent of each facet's horizon: receivers seen lower from the facet are hidden.
+    pair_weight : callable, optional
+        ``pair_weight(facet_slice) -> (receiver_index, weights (p, len(receiver_index)))``, called
+        once per chunk, from the worker threads, in any order.
+    far : bool
+        ``receivers_m`` are unit directions; far-field units.
+    threads : int, optional
+        Worker threads; None: 2 when called from the main thread with more than one chunk, else 1
+        (a caller that runs the kernel in a pool of its own already keeps the cores busy), and no
+        more than a :func:`thread_limit` in force allows.
+
+    Returns
+    -------
+    numpy.ndarray of complex, shape (S, G, R)
+        ``G = 1`` without groups; in the units of each source's direct field ``exp(-j k r) / r``
+        (far-field units with ``far``).
+
+    References
+    ----------
+    See the module notes ([1]_ to [4]_).
+    """
+    k = 2.0 * math.pi / wavelength_m
+    src = np.atleast_2d(np.asarray(sources_m, dtype=float))
+    rx = np.atleast_2d(np.asarray(receivers_m, dtype=float))
+    count_p, count_r = len(facets), rx.shape[0]
+    group_of = np.zeros(count_p, dtype=np.int64) if groups is None else np.asarray(groups, dtype=np.int64)
+    count_g = 1 if groups is None else (int(group_of.max()) + 1 if group_of.size else 0)
+    out = np.zeros((src.shape[0], count_g, count_r), dtype=complex)
+    if count_p == 0 or count_r == 0 or count_g == 0:
+        return out
+    dt = np.dtype(dtype)
+    two_sided = facets.two_sided
+    # Lengths in wavelengths for points (so r2 is in turns), as given for far directions.
+    unit = 1.0 if far else 1.0 / wavelength_m
+    homogeneous = np.column_stack([rx * unit, np.full(count_r, 0.0 if far else 1.0)])
+    centres = facets.centres_m * unit
+    visible = None if source_visible is None else np.asarray(source_visible, dtype=bool)
+    half_k = 0.5 * k
+    lossy = relative_permittivity is not None
+    if lossy:
+        gamma = -reflection_coefficient_h(_GAMMA_TABLE_RAD, relative_permittivity, conductivity_s_m, wavelength_m)
+        table = np.stack([gamma.real, gamma.imag, np.r_[np.diff(gamma.real), 0.0], np.r_[np.diff(gamma.imag), 0.0]])
+        table = table.astype(dt)
+        per_rad = (_GAMMA_TABLE_RAD.size - 1) / _GAMMA_TABLE_RAD[-1]
+
+    def source_terms() -> dict:
+        """Per source and facet, for every facet at once, in double precision, components first.
+
+        Computed once per call (a chunk takes its facets' columns): the same numbers as facet by
+        facet, without the fixed cost of some forty small array operations per chunk.
+        """
+        a, b = facets.edge_a_m.T, facets.edge_b_m.T  # (3, P)
+        normal = np.cross(a, b, axis=0)
+        area = np.sqrt(_dot(normal, normal))
+        n = normal / area
+        d1 = facets.centres_m.T[None, :, :] - src[:, :, None]  # (S, 3, P)
+        r1 = np.sqrt(_dot(d1, d1))
+        s1 = d1 / r1[:, None, :]
+        ns1 = _dot(s1, n)
+        lit = ns1 != 0.0 if two_sided else ns1 < 0.0
+        if visible is not None:
+            lit &= visible
+        weight = area if facets.weights is None else area * facets.weights
+        terms = {"keep": np.any(lit, axis=0) & (weight != 0.0)}
+        terms["amp"] = np.where(lit, weight * np.exp(-1j * k * r1) / r1, 0.0)  # (S, P)
+        sx, sy = s1[:, 0], s1[:, 1]
+        h1 = np.hypot(sx, sy)
+        a1 = np.abs(ns1)
+        b1 = -np.sign(ns1) * (n[1] * sx - n[0] * sy)
+        # Per source, F_p h1 h2 = s1x P + s1y Q + c1 x + c2 y (see above), divided by h1.
+        terms["coef"] = (np.stack([sx, sy, a1 * sx + b1 * sy, a1 * sy - b1 * sx], axis=1) / h1[:, None, :]).astype(dt)
+        terms["s1a"] = (half_k * _dot(s1, a)).astype(dt)
+        terms["s1b"] = (half_k * _dot(s1, b)).astype(dt)
+        if lossy:
+            terms["g1"] = np.arcsin(np.minimum(a1, 1.0)).astype(dt)  # the source's grazing angle
+        zero = np.zeros(n.shape[1])
+        terms["shared"] = np.stack([n, [n[1], -n[0], zero], half_k * a, half_k * b]).astype(dt)  # (4, 3, P)
+        return terms
+
+    every_facet = source_terms()
+
+    def source_side(sl: slice, counted=None) -> dict | None:
+        """The terms of the facets of a chunk lit by some source (and ``counted``: with a pair weight other than 0)."""
+        keep = every_facet["keep"][sl]
+        rows = np.flatnonzero(keep if counted is None else keep & counted)
+        if rows.size == 0:
+            return None
+        idx = sl.start + rows
+        side = {"rows": rows, "amp": every_facet["amp"][:, idx], "coef": every_facet["coef"][:, :, idx]}
+        for name in ("s1a", "s1b", "g1"):
+            if name in every_facet:
+                side[name] = every_facet[name][:, idx]
+        side["shared"] = every_facet["shared"][:, :, idx]
+        return side
+
+    ht = None if horizon_tan is None else np.asarray(horizon_tan, dtype=dt)
+    tiny = dt.type(_TINY)
+    rows_per_chunk = max(1, _PAIRS_PER_CHUNK // count_r)
+    size = rows_per_chunk * count_r
+    spaces: dict = {}
+
+    def homogeneous_rows(rows: np.ndarray, centres_about: np.ndarray) -> None:
+        """Complete rows ``[v, -v . c]`` (k, 4, p) from their ``v``.
+
+        Times ``[q, 1]`` (a point) they give ``v . (q - c)``, times ``[d, 0]`` (a direction) ``v . d``.
+        """
+        np.multiply(rows[:, 0], centres_about[0], out=rows[:, 3])
+        for i in (1, 2):
+            rows[:, 3] += rows[:, i] * centres_about[i]
+        np.negative(rows[:, 3], out=rows[:, 3])
+
+    def chunk(start: int):
+        sl = slice(start, min(start + rows_per_chunk, count_p))
+        cols, pair, counted = slice(None), None, None
+        if pair_weight is not None:
+            cols, pair = pair_weight(sl)
+            cols = np.asarray(cols, dtype=np.int64)
+            if cols.size == 0:
+                return None
+            pair = np.asarray(pair, dtype=dt)
+            counted = np.any(pair != 0.0, axis=1)  # facets that count for some receiver
+        side = source_side(sl, counted)
+        if side is None:
+            return None
+        rows, amp, coef = side["rows"], side["amp"], side["coef"]
+        if pair is not None:
+            pair = np.ascontiguousarray(pair[rows].T)
+        idx = sl.start + rows
+        p, m = idx.size, (count_r if pair is None else cols.size)
+        ws = spaces.setdefault(threading.get_ident(), _Workspace(size))
+        f64 = np.float64
+
+        def take(name, dtype=dt):
+            return ws.take(name, (m, p), dtype)  # receivers by facets: per-facet factors broadcast along rows
+
+        tmp = take("tmp")
+        c = centres[idx].T  # (3, p)
+        middle = c.mean(axis=1)  # products about the chunk's middle, where single precision keeps its digits
+        q = homogeneous[cols] if far else homogeneous[cols] - np.r_[middle, 0.0]
+        q = q.astype(dt)
+        c_about = (c - middle[:, None]).astype(dt)
+        # Shared by the sources: x, y, z; n; h2 (n . e_r); k a / 2, k b / 2 (the receiver's half of the sinc).
+        vectors = ws.take("vectors", (7, 4, p), dt)
+        vectors[:3, :3] = np.eye(3, dtype=dt)[:, :, None]
+        vectors[3:, :3] = side["shared"]
+        homogeneous_rows(vectors, c_about)
+        lin = ws.take("lin", (7, m, p), dt)
+        for row, rows_k in zip(lin, vectors):
+            np.matmul(q, rows_k, out=row)
+        x, y, z, nl, el, ra, rb = lin  # x, y, z: r2 times the range in turns (1 for far receivers)
+        turns, whole, wa = take("turns", f64), take("whole", f64), take("wa")
+        if far:
+            np.matmul(rx[cols] * (-1.0 / wavelength_m), c, out=turns)  # exp(-j k r2) -> exp(+j k d . c)
+        else:  # r2 in turns, from the differences in double precision (each pair on its own)
+            dx, dy, dz = take("dx", f64), take("dy", f64), take("dz", f64)
+            for i, d in enumerate((dx, dy, dz)):
+                np.subtract(homogeneous[cols, i][:, None], c[i][None, :], out=d)
+            np.multiply(dx, dx, out=turns)
+            np.multiply(dy, dy, out=whole)
+            turns += whole
+            np.multiply(dz, dz, out=whole)
+            turns += whole
+            np.sqrt(turns, out=turns)
+            inverse_r2 = take("inverse_r2")
+            np.divide(1.0, turns, out=inverse_r2)
+            ra *= inverse_r2
+            rb *= inverse_r2
+        # rho = h2 times the range: the 1 / h2 of the coupling and the wave's 1 / r2 are 1 / (r2 rho / r2).
+        np.multiply(x, x, out=wa)
+        np.multiply(y, y, out=tmp)
+        wa += tmp
+        np.sqrt(wa, out=wa)
+        mask = take("mask", np.bool_)
+        if ht is not None:
+            np.multiply(wa, ht[idx][None, :], out=tmp)
+            np.greater(z, tmp, out=mask)
+        np.divide(1.0 if far else inverse_r2, wa, out=wa)  # 1 / (r2 h2) times 1 / r2 (spherical wave)
+        if ht is not None:
+            wa *= mask
+        if not two_sided:
+            np.greater(nl, 0.0, out=mask)
+            wa *= mask  # a ground facet radiates only upward
+        else:  # sign(N) on the products with n and e_r (module notes: P, Q)
+            np.copysign(1.0, nl, out=tmp)
+            nl *= tmp
+            el *= tmp
+        if pair is not None:
+            wa *= pair
+        # The phase reduced to one turn in double precision, then in dt: exp(-j 2 pi turns).
+        np.rint(turns, out=whole)
+        turns -= whole
+        phase = take("phase")
+        np.multiply(turns, -2.0 * math.pi, out=phase)
+        wave_re, wave_im = take("wave_re"), take("wave_im")
+        np.cos(phase, out=wave_re)
+        wave_re *= wa
+        np.sin(phase, out=wave_im)
+        wave_im *= wa
+        if lossy:
+            g2 = take("g2")
+            np.abs(nl, out=g2)
+            if not far:
+                g2 *= inverse_r2
+            np.minimum(g2, 1.0, out=g2)
+            np.arcsin(g2, out=g2)
+        if not far:  # x, y, z, n . r2 and h2 (n . e_r) were times the range
+            nl *= inverse_r2
+            el *= inverse_r2
+        local, inverse = np.unique(group_of[idx], return_inverse=True)
+        members_of = [slice(None)]
+        if local.size > 1:
+            members_of = [_run(np.flatnonzero(inverse == g)) for g in range(local.size)]
+        result = np.zeros((src.shape[0], local.size, m), dtype=complex)
+        coupling, u, v = take("coupling"), take("u"), take("v")
+        terms = ws.take("terms", (2, m, p), dt)
+        per_source = ws.take("per_source", (3, m, p), dt)
+        g_1, g_2, g_3 = per_source
+        for s in range(src.shape[0]):
+            amp_s = amp[s]
+            if not np.any(amp_s):
+                continue
+            cs = coef[s]
+            own = ws.take("own", (3, 4, p), dt)
+            own[:, 2] = 0.0
+            own[0, 0], own[0, 1], own[1, 0], own[2, 0], own[2, 1] = cs[0], cs[1], cs[1], cs[2], cs[3]
+            np.negative(cs[0], out=own[1, 1])
+            homogeneous_rows(own, c_about)
+            for row, rows_k in zip(per_source, own):
+                np.matmul(q, rows_k, out=row)
+            np.multiply(nl, g_1, out=coupling)
+            np.multiply(el, g_2, out=tmp)
+            coupling += tmp
+            coupling += g_3
+            # S(t) = sin(t / 2) / (t / 2), t / 2 = s1 . e - r2 . e
+            for r_e, s_e in ((ra, side["s1a"]), (rb, side["s1b"])):
+                np.subtract(s_e[s][None, :], r_e, out=u)
+                np.abs(u, out=u)
+                u += tiny
+                np.sin(u, out=v)
+                coupling *= v
+                coupling /= u
+            if lossy:  # Fresnel coefficient at the mean grazing angle (module notes)
+                np.add(g2, side["g1"][s][None, :], out=u)
+                u *= 0.5 * per_rad
+                at = take("at", np.intp)
+                np.copyto(at, u, casting="unsafe")  # floor: u >= 0
+                np.minimum(at, _GAMMA_TABLE_RAD.size - 2, out=at)
+                u -= at
+                g_re, g_im = take("g_re"), take("g_im")
+                np.multiply(table[2][at], u, out=g_re)
+                g_re += table[0][at]
+                np.multiply(table[3][at], u, out=g_im)
+                g_im += table[1][at]
+                g_re *= coupling
+                g_im *= coupling
+                np.multiply(g_re, wave_re, out=terms[0])
+                np.multiply(g_im, wave_im, out=tmp)
+                terms[0] -= tmp
+                np.multiply(g_re, wave_im, out=terms[1])
+                np.multiply(g_im, wave_re, out=tmp)
+                terms[1] += tmp
+            else:
+                np.multiply(coupling, wave_re, out=terms[0])
+                np.multiply(coupling, wave_im, out=terms[1])
+            factor = np.stack([amp_s.real, amp_s.imag], axis=1).astype(dt)  # (p, 2)
+            for g, members in enumerate(members_of):
+                summed = (terms[:, :, members] @ factor[members]).astype(float)  # (2, m, 2)
+                result[s, g].real = summed[0, :, 0] - summed[1, :, 1]
+                result[s, g].imag = summed[0, :, 1] + summed[1, :, 0]
+        return local, cols, result
+
+    starts = range(0, count_p, rows_per_chunk)
+    if threads is None:
+        threads = _THREADS if threading.current_thread() is threading.main_thread() and len(starts) > 1 else 1
+        if _LIMITS and threads > 1:  # every limit in force: the process's and each block's
+            threads = max(1, min(threads, *(int(limit()) for limit in _LIMITS)))
+    if threads > 1:
+        with ThreadPoolExecutor(max_workers=threads) as pool:
+            parts = list(pool.map(chunk, starts))
+    else:
+        parts = map(chunk, starts)
+    for part in parts:  # in chunk order: the same sum whatever the threads
+        if part is not None:
+            local, cols, result = part
+            if isinstance(cols, slice):
+                out[:, local, :] += result
+            else:
+                out[np.ix_(np.arange(src.shape[0]), local, cols)] += result
+    scale = -1j * k / (4.0 * math.pi) * unit
+    return scale * out
+
+
+def scattered_field(
+    source_m,
+    facets: Facets,
+    receivers_m,
+    wavelength_m: float,
+    relative_permittivity: float | None = None,
+    conductivity_s_m: float | None = None,
+    receiver_visible=None,
+    groups=None,
+) -> np.ndarray:
+    """Field scattered by ``facets`` from an isotropic horizontally polarised source (see module notes).
+
+    The kernel :func:`_pair_fields` in double precision, for one source.
+
+    Parameters
+    ----------
+    source_m : array_like, shape (3,)
+        The antenna. [m]
+    facets : Facets
+        Plates (two-sided) or ground (one-sided).
+    receivers_m : array_like, shape (R, 3)
+        [m]
+    wavelength_m : float
+        [m]
+    relative_permittivity, conductivity_s_m : float or None
+        Constants of the facets' material (:func:`geo.radio.reflection.reflection_coefficient_h`);
+        ``None``: a perfect conductor.
+    receiver_visible : callable, optional
+        ``receiver_visible(facet_index, receiver_index) -> bool array (p, r)``: whether each
+        facet of a chunk sees each receiver (terrain shadowing); every pair by default.
+    groups : array_like of int, shape (P,), optional
+        Group of each facet (``0 .. G - 1``, e.g. one object position each).
+
+    Returns
+    -------
+    numpy.ndarray of complex, shape (R,), or (G, R) with ``groups``
+        In the units of the direct field ``exp(-j k r) / r`` of the same source.
+
+    References
+    ----------
+    See the module notes ([1]_ to [4]_).
+    """
+    rx = np.atleast_2d(np.asarray(receivers_m, dtype=float))
+    pair_weight = None
+    if receiver_visible is not None:
+        every = np.arange(rx.shape[0])
+
+        def pair_weight(sl):
+            return every, receiver_visible(np.arange(sl.start, sl.stop), every)
+
+    source = np.asarray(source_m, dtype=float)[None, :]
+    ground = dict(relative_permittivity=relative_permittivity, conductivity_s_m=conductivity_s_m)
+    out = _pair_fields(
+        source, facets, rx, wavelength_m, dtype=np.float64, groups=groups, pair_weight=pair_weight, **ground
+    )
+    return out[0] if groups is not None else out[0, 0]
+
+
+def ground_fields(
+    sources_m,
+    facets: Facets,
+    receivers_m,
+    wavelength_m: float,
+    relative_permittivity: float | None = None,
+    conductivity_s_m: float | None = None,
+    source_visible=None,
+    horizon_tan=None,
+    pair_weight=None,
+    far: bool = False,
+) -> np.ndarray:
+    """Fields of one-sided ground facets for several sources at once, in single precision.
+
+    The kernel :func:`_pair_fields` with ``float32`` pair work after the phase (its error is about
+    1e-6 of the largest field; the sum of each chunk is added in double precision).
+
+    Parameters
+    ----------
+    sources_m : array_like, shape (S, 3)
+        Antennas. [m]
+    facets : Facets
+        Ground facets (``two_sided`` must be False).
+    receivers_m : array_like, shape (R, 3)
+        [m]
+    wavelength_m : float
+        [m]
+    relative_permittivity, conductivity_s_m : float or None
+        Ground constants; ``None``: a perfect conductor.
+    source_visible : numpy.ndarray of bool, shape (S, P), optional
+        Whether each facet is lit by each source (terrain shadowing); all by default.
+    horizon_tan : numpy.ndarray, shape (P,), optional
+        Tangent of each facet's horizon toward the receivers: a receiver whose elevation seen from
+        the facet has a smaller tangent is hidden from it. None: every receiver is seen.
+    pair_weight : callable, optional
+        ``pair_weight(facet_slice) -> (receiver_index, weights)``: the receivers the facets of a
+        chunk count for, and the real weights (p, len(receiver_index)) of each pair (e.g. a taper
+        at the edge of each receiver's own integration area); the other receivers are skipped
+        for that chunk, so facets ordered by position make it pay. Called once per chunk, from
+        worker threads, in any order.
+    far : bool
+        ``receivers_m`` are unit directions toward distant receivers: the field is returned in
+        far-field units (``exp(-j k r) / r`` times ``r exp(j k r)``, ``r`` from the origin), where
+        the receiver's wave is ``exp(j k d . c)`` and its direction ``d`` the same for every facet
+        (the limit of large range, in which the spherical form loses nothing but time).
+
+    Returns
+    -------
+    numpy.ndarray of complex, shape (S, R)
+        In the units of each source's direct field ``exp(-j k r) / r`` (far-field units with
+        ``far``).
+
+    References
+    ----------
+    See the module notes ([1]_ to [4]_).
+    """
+    if facets.two_sided:
+        raise ValueError("ground_fields takes one-sided ground facets; use scattered_field for plates")
+    ground = dict(relative_permittivity=relative_permittivity, conductivity_s_m=conductivity_s_m)
+    shading = dict(source_visible=source_visible, horizon_tan=horizon_tan, pair_weight=pair_weight)
+    fields = _pair_fields(sources_m, facets, receivers_m, wavelength_m, dtype=np.float32, far=far, **ground, **shading)
+    return fields[:, 0, :]

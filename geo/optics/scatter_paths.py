@@ -1,0 +1,110 @@
+"""The field an object scatters from an antenna to receivers over a reflecting plane: four paths.
+
+Over a plane ground the wave reaches the object directly and by the ground reflection, and
+leaves it toward the receiver directly and by the ground reflection. By image theory [1]_
+each reflected leg is a leg from (or to) the mirror image in the plane, weighted by the ground's
+Fresnel coefficient ``Gamma`` at the leg's grazing angle [2]_ (``-1`` for a perfect conductor)::
+
+    E = E(a -> o -> r) + Gs E(a' -> o -> r) + Gr E(a -> o -> r') + Gs Gr E(a' -> o -> r')
+
+with ``a'`` and ``r'`` the images of antenna and receiver. Each ``E(.)`` is the physical-optics
+field of the object's facets (:func:`geo.optics.kernel.scattered_field`, which includes the forward
+scatter that forms the object's shadow); so the object also blocks the ground reflection (the
+``a'`` paths shadow the image wave behind the object). ``Gamma`` is taken at the grazing angle
+of the leg between the image and the object's centre (one value per object position and
+antenna, and per position and receiver), which keeps the sum reciprocal: swapping antenna and
+receiver swaps the second and third paths.
+
+Coordinates: the mast frame of :mod:`geo.radio.prediction`, plane through the origin. [m]
+
+References
+----------
+.. [1] Kraus, J. D., *Antennas*, 2nd ed., McGraw-Hill, 1988, sec. 11-9 (image theory).
+.. [2] Balanis, C. A., *Advanced Engineering Electromagnetics*, Wiley, 1989, sec. 5.3
+       (Fresnel coefficient, horizontal polarisation).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from geo.optics.kernel import Facets, mirror_points, scattered_field
+from geo.radio.reflection import reflection_coefficient_h
+
+__all__ = ["grazing_gamma", "four_path_field"]
+
+
+def grazing_gamma(points_m, images_m, normal, wavelength_m, relative_permittivity=None, conductivity_s_m=None):
+    """Fresnel coefficient of the legs from image points to points, by their grazing angle.
+
+    Parameters
+    ----------
+    points_m : numpy.ndarray, shape (G, 3)
+        Points above the plane (the object's centres). [m]
+    images_m : numpy.ndarray, shape (R, 3)
+        Mirror images below it (of antennas or receivers). [m]
+    normal : numpy.ndarray, shape (3,)
+        Unit normal of the plane.
+
+    Returns
+    -------
+    numpy.ndarray of complex, shape (G, R)
+    """
+    d = np.asarray(points_m, float)[:, None, :] - np.asarray(images_m, float)[None, :, :]
+    sin_psi = np.abs(d @ np.asarray(normal, float)) / np.linalg.norm(d, axis=2)
+    return reflection_coefficient_h(
+        np.arcsin(np.clip(sin_psi, 0.0, 1.0)), relative_permittivity, conductivity_s_m, wavelength_m
+    )
+
+
+def four_path_field(
+    source_m,
+    facets: Facets,
+    groups: np.ndarray,
+    centres_m: np.ndarray,
+    receivers_m,
+    wavelength_m: float,
+    normal,
+    relative_permittivity=None,
+    conductivity_s_m=None,
+) -> np.ndarray:
+    """Field of the object at each position from one source, the four ground paths summed.
+
+    Parameters
+    ----------
+    source_m : array_like, shape (3,)
+        The antenna. [m]
+    facets : Facets
+        The object's facets at every position.
+    groups : numpy.ndarray of int, shape (P,)
+        Position of each facet (non-decreasing, 0 to G - 1).
+    centres_m : numpy.ndarray, shape (G, 3)
+        Centre of the object per position (for the grazing angles). [m]
+    receivers_m : array_like, shape (R, 3)
+        [m]
+    wavelength_m : float
+    normal : array_like, shape (3,)
+        Unit normal of the ground plane through the origin.
+    relative_permittivity, conductivity_s_m : float or None
+        Ground constants; ``None``: a perfect conductor.
+
+    Returns
+    -------
+    numpy.ndarray of complex, shape (G, R)
+        In units of the direct field ``exp(-j k r) / r`` of the source.
+    """
+    src = np.asarray(source_m, dtype=float)
+    rx = np.atleast_2d(np.asarray(receivers_m, dtype=float))
+    n = np.asarray(normal, dtype=float) / np.linalg.norm(normal)
+    src_image = mirror_points(src, n)
+    rx_image = mirror_points(rx, n)
+    ground = (n, wavelength_m, relative_permittivity, conductivity_s_m)
+    gamma_source = grazing_gamma(centres_m, src_image[None, :], *ground)  # (G, 1)
+    gamma_receiver = grazing_gamma(centres_m, rx_image, *ground)  # (G, R)
+
+    def leg(a, r):
+        return scattered_field(a, facets, r, wavelength_m, groups=groups)
+
+    direct = leg(src, rx) + gamma_source * leg(src_image, rx)
+    via_ground = leg(src, rx_image) + gamma_source * leg(src_image, rx_image)
+    return direct + gamma_receiver * via_ground

@@ -1,0 +1,80 @@
+"""Checks of a DEM against the site before the terrain study: coverage and vertical agreement.
+
+- The threshold and the mast must lie on the DEM; when they do not, the error
+  names each raster's extent and CRS, so that a DEM of the wrong place or in a
+  CRS other than its metadata says is seen at once.
+- The DEM at the threshold should agree with the surveyed threshold
+  elevation: more than a few metres apart is one finding, shown first, that
+  names the likely cause (:func:`geo.study.findings.check_dem_threshold`); more than
+  :data:`geo.study.findings.DEM_MISMATCH_STOP_M` stops the study, since no height
+  of it could be right.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import math
+
+import numpy as np
+
+from geo.errors import TerrainError
+from geo.study.findings import DEM_MISMATCH_STOP_M, Finding, check_dem_threshold
+
+__all__ = ["check_dem_covers_site", "dem_extent_in_errors"]
+
+
+def check_dem_covers_site(dem, frame, survey_threshold_m: float, mast_points) -> tuple[Finding | None, float]:
+    """The DEM at the threshold and the mast: coverage and agreement with the survey.
+
+    Parameters
+    ----------
+    dem : geo.ground.dem.Dem
+    frame : geo.airfield.frame.RunwayFrame
+    survey_threshold_m : float
+        Surveyed threshold elevation. [m]
+    mast_points : list of (along_m, cross_m)
+        Where the mast stands in the runway frame (empty when the setback is still to be solved). [m]
+
+    Returns
+    -------
+    finding : Finding or None
+        The ``"dem-threshold"`` warning, when the DEM and the survey disagree by more than a few metres.
+    dem_threshold_m : float
+        The DEM at the threshold. [m]
+
+    Raises
+    ------
+    TerrainError
+        When the threshold or the mast is off the DEM (naming its extent and CRS), or when the DEM
+        and the survey disagree by more than 100 m at the threshold.
+    """
+    for along, cross in mast_points:
+        if not math.isfinite(float(dem.sample_frame(frame, np.array([along]), np.array([cross]))[0])):
+            lat, lon = frame.to_geographic(along, cross)
+            raise TerrainError(
+                f"terrain.dem: the mast at lat {lat:.6f}, lon {lon:.6f} is off the DEM or on nodata; "
+                f"the DEM covers {dem.extent_text()}; give a DEM that covers the site"
+            )
+    z = float(dem.sample_frame(frame, np.array([0.0]), np.array([0.0]))[0])
+    if not math.isfinite(z):
+        lat, lon = frame.to_geographic(0.0, 0.0)
+        raise TerrainError(
+            f"terrain.dem: the threshold at lat {lat:.6f}, lon {lon:.6f} is off the DEM or on nodata; "
+            f"the DEM covers {dem.extent_text()}; give a DEM that covers the runway"
+        )
+    finding = check_dem_threshold(z, survey_threshold_m)
+    if finding is not None and abs(z - survey_threshold_m) > DEM_MISMATCH_STOP_M:
+        raise TerrainError(f"terrain.dem: {finding.message} No results written: the difference exceeds 100 m.")
+    return finding, z
+
+
+@contextlib.contextmanager
+def dem_extent_in_errors(dem):
+    """Add the DEM's extent and CRS to the terrain errors about ground off the DEM raised inside."""
+    try:
+        yield
+    except TerrainError as exc:
+        text = str(exc)
+        if "off the DEM" in text and "the DEM covers" not in text:
+            raise TerrainError(f"{text.rstrip('.')}; the DEM covers {dem.extent_text()}") from None
+        raise
