@@ -10,7 +10,7 @@ Now the three figures must agree; the smallest ramp of each set (the old common 
 beside them.
 
 Site: matplotlib's real sample DEM (tests/jacksboro.py), relief scaled by 0.1, a runway along the
-meridian 84.25 W with its threshold at 36.60 N (the rough site of tests/test_surface_real_dem.py),
+meridian 84.25 W with its threshold at 36.60 N (the rough site of tests/optics/test_surface_real_dem.py),
 null-reference array 120 m right, 300 m past the threshold. Prints the DDM at 0.45 theta (the
 lower edge of the below-path band, Annex 10 Vol I 3.1.5.6.5, from memory) computed alone, in the
 study's below-path set (0.30 theta to the path), and in a set reaching 1.8 theta, with each set's

@@ -30,7 +30,7 @@ antenna and receiver can see:
   (the largest elevation tangent met so far), read linearly across where a ray crosses a slab
   [4]_; a facet below the horizon of its ray is hidden. Every slab on the way counts (no
   sampling along the ray); against a dense line-of-sight march it differs on at most 2 % of the
-  facets, at shadow edges (tests/test_surface_shading.py). Toward the receivers, each facet's
+  facets, at shadow edges (tests/optics/test_surface_shading.py). Toward the receivers, each facet's
   horizon is taken along the course (toward +u, over up to 600 m, at 16 distances on the
   surface along its column); a receiver whose elevation seen from the facet is below that
   horizon is hidden. The receivers on the approach lie within about 20 deg of the course seen
