@@ -164,23 +164,36 @@ def study_layers(result: StudyResult) -> dict[str, dict]:
         FeatureCollections: ``runway``, ``centreline``, ``threshold``,
         ``extended_centreline``, ``mast``, ``antennas``, ``gpip``.
     """
-    from geo.outputs.summary import zone_figures
+    layers = {
+        **_runway_layers(result),
+        "threshold": _threshold_layer(result),
+        "extended_centreline": _extended_centreline_layer(result),
+        "mast": _mast_layer(result),
+        "antennas": _antennas_layer(result),
+        "gpip": _gpip_layer(result),
+    }
+    layers["reflection_zones"] = _zones_layer(result)
+    if result.spec.protected_areas:
+        layers["protected_areas"] = _protected_areas_layer(result)
+    return layers
 
-    spec, runway, mast = result.spec, result.runway, result.mast
+
+def _runway_layers(result: StudyResult) -> dict[str, dict]:
+    """The ``runway`` outline and its ``centreline``, from threshold to end."""
+    runway = result.runway
     frame = runway.frame
     half = runway.width_m / 2.0
     length = runway.length_m
     along = _densified(0.0, length)
     outline_along = np.concatenate([along, along[::-1]])
     outline_cross = np.concatenate([np.full(along.size, -half), np.full(along.size, half)])
-    approach = _densified(-EXTENDED_CENTRELINE_M, 0.0)
-    layers = {
+    return {
         "runway": collection(
             [
                 feature(
                     _polygon(frame, outline_along, outline_cross),
                     {
-                        "name": spec.name,
+                        "name": result.spec.name,
                         "length_m": length,
                         "width_m": runway.width_m,
                         "true_bearing_deg": runway.true_bearing_deg,
@@ -196,78 +209,108 @@ def study_layers(result: StudyResult) -> dict[str, dict]:
                 )
             ]
         ),
-        "threshold": collection(
-            [
-                feature(
-                    _point(spec.threshold.lat_deg, spec.threshold.lon_deg),
-                    {
-                        "elevation_m": spec.threshold.elevation_m,
-                        "rdh_m": result.rdh_m,
-                        "path_height_over_threshold_m": result.path_height_over_threshold_m,
-                    },
-                )
-            ]
-        ),
-        "extended_centreline": collection(
-            [
-                feature(
-                    _line(frame, approach, np.zeros(approach.size)),
-                    {"length_m": EXTENDED_CENTRELINE_M},
-                )
-            ]
-        ),
-        "mast": collection(
-            [
-                feature(
-                    _point(mast.lat_deg, mast.lon_deg),
-                    {
-                        "side": mast.side,
-                        "setback_m": mast.setback_m,
-                        "offset_m": mast.offset_m,
-                        "base_elevation_m": mast.base_elevation_m,
-                        "array": spec.array,
-                        "frequency_mhz": result.channel.glide_path_mhz,
-                    },
-                )
-            ]
-        ),
-        "antennas": collection(
-            [
-                feature(
-                    _point(a.lat_deg, a.lon_deg),
-                    {
-                        "role": a.role,
-                        "height_m": a.height_m,
-                        "shift_toward_runway_m": a.shift_toward_runway_m,
-                        "offset_m": a.offset_m,
-                        "elevation_m": a.elevation_m,
-                    },
-                )
-                for a in result.antennas
-            ]
-        ),
-        "gpip": collection(
-            [
-                feature(
-                    _point(result.gpip.lat_deg, result.gpip.lon_deg),
-                    {"along_m": result.gpip.along_m, "elevation_m": result.gpip.elevation_m},
-                )
-            ]
-        ),
     }
-    layers["reflection_zones"] = collection(
-        [feature(_mast_plane_polygon(result, z.shape.polygon), zone_figures(z)) for z in result.zones]
-    )
-    if spec.protected_areas:
-        from geo.airfield.protected import area_polygon
 
-        layers["protected_areas"] = collection(
-            [
-                feature(
-                    _mast_plane_polygon(result, area_polygon(a)),
-                    {"name": a.name, "kind": a.kind, "area_m2": area_polygon(a).area},
-                )
-                for a in spec.protected_areas
-            ]
-        )
-    return layers
+
+def _threshold_layer(result: StudyResult) -> dict:
+    """The threshold with the RDH and the actual path over it."""
+    threshold = result.spec.threshold
+    return collection(
+        [
+            feature(
+                _point(threshold.lat_deg, threshold.lon_deg),
+                {
+                    "elevation_m": threshold.elevation_m,
+                    "rdh_m": result.rdh_m,
+                    "path_height_over_threshold_m": result.path_height_over_threshold_m,
+                },
+            )
+        ]
+    )
+
+
+def _extended_centreline_layer(result: StudyResult) -> dict:
+    """The centre line extended 10 NM before the threshold."""
+    approach = _densified(-EXTENDED_CENTRELINE_M, 0.0)
+    return collection(
+        [
+            feature(
+                _line(result.runway.frame, approach, np.zeros(approach.size)),
+                {"length_m": EXTENDED_CENTRELINE_M},
+            )
+        ]
+    )
+
+
+def _mast_layer(result: StudyResult) -> dict:
+    """The mast with its placement, array and frequency."""
+    mast = result.mast
+    return collection(
+        [
+            feature(
+                _point(mast.lat_deg, mast.lon_deg),
+                {
+                    "side": mast.side,
+                    "setback_m": mast.setback_m,
+                    "offset_m": mast.offset_m,
+                    "base_elevation_m": mast.base_elevation_m,
+                    "array": result.spec.array,
+                    "frequency_mhz": result.channel.glide_path_mhz,
+                },
+            )
+        ]
+    )
+
+
+def _antennas_layer(result: StudyResult) -> dict:
+    """Every antenna, lowest first, with its height and proximity shift."""
+    return collection(
+        [
+            feature(
+                _point(a.lat_deg, a.lon_deg),
+                {
+                    "role": a.role,
+                    "height_m": a.height_m,
+                    "shift_toward_runway_m": a.shift_toward_runway_m,
+                    "offset_m": a.offset_m,
+                    "elevation_m": a.elevation_m,
+                },
+            )
+            for a in result.antennas
+        ]
+    )
+
+
+def _gpip_layer(result: StudyResult) -> dict:
+    """The GPIP on the centre line."""
+    gpip = result.gpip
+    return collection(
+        [
+            feature(
+                _point(gpip.lat_deg, gpip.lon_deg),
+                {"along_m": gpip.along_m, "elevation_m": gpip.elevation_m},
+            )
+        ]
+    )
+
+
+def _zones_layer(result: StudyResult) -> dict:
+    """The reflection zones with their figures, on the reflecting plane at the mast."""
+    from geo.outputs.summary import zone_figures
+
+    return collection([feature(_mast_plane_polygon(result, z.shape.polygon), zone_figures(z)) for z in result.zones])
+
+
+def _protected_areas_layer(result: StudyResult) -> dict:
+    """The site file's protected areas with their areas."""
+    from geo.airfield.protected import area_polygon
+
+    return collection(
+        [
+            feature(
+                _mast_plane_polygon(result, area_polygon(a)),
+                {"name": a.name, "kind": a.kind, "area_m2": area_polygon(a).area},
+            )
+            for a in result.spec.protected_areas
+        ]
+    )

@@ -45,7 +45,7 @@ def summary_dict(result: StudyResult) -> dict:
     dict
         Stable key order; no timestamps, so equal inputs give equal output.
     """
-    spec, runway, mast = result.spec, result.runway, result.mast
+    spec = result.spec
     body = {
         "site": {"name": spec.name, "notes": spec.notes},
         "tool": {"name": "mastplan", "version": __version__},
@@ -60,65 +60,17 @@ def summary_dict(result: StudyResult) -> dict:
         "path_angle_deg": spec.angle_deg,
         "array": spec.array,
         "category": spec.category,
-        "runway": {
-            "true_bearing_deg": runway.true_bearing_deg,
-            "length_m": runway.length_m,
-            "width_m": runway.width_m,
-            "gradient_percent": runway.gradient * 100.0,
-            "code": spec.runway_code,
-            "threshold": {
-                "lat": spec.threshold.lat_deg,
-                "lon": spec.threshold.lon_deg,
-                "elevation_m": spec.threshold.elevation_m,
-            },
-            "end": {"lat": spec.end.lat_deg, "lon": spec.end.lon_deg, "elevation_m": spec.end.elevation_m},
-        },
-        "mast": {
-            "lat": mast.lat_deg,
-            "lon": mast.lon_deg,
-            "side": mast.side,
-            "setback_m": mast.setback_m,
-            "setback_source": mast.setback_source,
-            "offset_m": mast.offset_m,
-            "base_elevation_m": mast.base_elevation_m,
-            "base_elevation_source": mast.base_elevation_source,
-            "site_file_base_elevation_m": mast.site_file_base_elevation_m,
-            "plane_elevation_m": mast.plane_elevation_m,
-        },
-        "antennas": [
-            {
-                "role": a.role,
-                "height_m": a.height_m,
-                "shift_toward_runway_m": a.shift_toward_runway_m,
-                "offset_m": a.offset_m,
-                "elevation_m": a.elevation_m,
-                "height_above_ground_m": a.elevation_m - mast.base_elevation_m,
-                "lat": a.lat_deg,
-                "lon": a.lon_deg,
-            }
-            for a in result.antennas
-        ],
+        "runway": _runway_dict(result),
+        "mast": _mast_dict(result.mast),
+        "antennas": _antennas_list(result),
         "rdh_m": result.rdh_m,
         "target_rdh_m": spec.target_rdh_m,
         "path_height_over_threshold_m": result.path_height_over_threshold_m,
-        "gpip": {
-            "along_m": result.gpip.along_m,
-            "elevation_m": result.gpip.elevation_m,
-            "lat": result.gpip.lat_deg,
-            "lon": result.gpip.lon_deg,
-        },
+        "gpip": _gpip_dict(result.gpip),
         "findings": [{"code": f.code, "severity": f.severity, "message": f.message} for f in result.findings],
         "reflection_zones": [{**zone_figures(z), "receivers": z.shape.receivers} for z in result.zones],
         "protected_areas": [{"name": a.name, "kind": a.kind} for a in result.spec.protected_areas],
-        "zone_outside_protected_areas": [
-            {
-                "kind": c.kind,
-                "zone_area_m2": c.zone_area_m2,
-                "outside_m2": c.outside_m2,
-                "outside_percent": c.outside_percent,
-            }
-            for c in result.zone_covers
-        ],
+        "zone_outside_protected_areas": _zone_covers_list(result),
         "cautions": list(CAUTIONS),
     }
     if result.prediction is not None:
@@ -131,6 +83,80 @@ def summary_dict(result: StudyResult) -> dict:
     if result.roughness_families and "terrain" in body:
         body["terrain"]["roughness_by_family"] = roughness_families_dict(result.roughness_families)
     return with_foot_twins(body)
+
+
+def _runway_dict(result: StudyResult) -> dict:
+    """The runway: bearing, length, width, gradient, code number, threshold and end (metre keys)."""
+    spec, runway = result.spec, result.runway
+    return {
+        "true_bearing_deg": runway.true_bearing_deg,
+        "length_m": runway.length_m,
+        "width_m": runway.width_m,
+        "gradient_percent": runway.gradient * 100.0,
+        "code": spec.runway_code,
+        "threshold": {
+            "lat": spec.threshold.lat_deg,
+            "lon": spec.threshold.lon_deg,
+            "elevation_m": spec.threshold.elevation_m,
+        },
+        "end": {"lat": spec.end.lat_deg, "lon": spec.end.lon_deg, "elevation_m": spec.end.elevation_m},
+    }
+
+
+def _mast_dict(mast) -> dict:
+    """The mast: position, placement and ground, each with where it came from (metre keys)."""
+    return {
+        "lat": mast.lat_deg,
+        "lon": mast.lon_deg,
+        "side": mast.side,
+        "setback_m": mast.setback_m,
+        "setback_source": mast.setback_source,
+        "offset_m": mast.offset_m,
+        "base_elevation_m": mast.base_elevation_m,
+        "base_elevation_source": mast.base_elevation_source,
+        "site_file_base_elevation_m": mast.site_file_base_elevation_m,
+        "plane_elevation_m": mast.plane_elevation_m,
+    }
+
+
+def _antennas_list(result: StudyResult) -> list[dict]:
+    """Every antenna, lowest first: height, shift, offset, elevation and position (metre keys)."""
+    return [
+        {
+            "role": a.role,
+            "height_m": a.height_m,
+            "shift_toward_runway_m": a.shift_toward_runway_m,
+            "offset_m": a.offset_m,
+            "elevation_m": a.elevation_m,
+            "height_above_ground_m": a.elevation_m - result.mast.base_elevation_m,
+            "lat": a.lat_deg,
+            "lon": a.lon_deg,
+        }
+        for a in result.antennas
+    ]
+
+
+def _gpip_dict(gpip) -> dict:
+    """The GPIP: distance past the threshold, elevation and position (metre keys)."""
+    return {
+        "along_m": gpip.along_m,
+        "elevation_m": gpip.elevation_m,
+        "lat": gpip.lat_deg,
+        "lon": gpip.lon_deg,
+    }
+
+
+def _zone_covers_list(result: StudyResult) -> list[dict]:
+    """The part of each kind's zone outside the protected areas (metre keys)."""
+    return [
+        {
+            "kind": c.kind,
+            "zone_area_m2": c.zone_area_m2,
+            "outside_m2": c.outside_m2,
+            "outside_percent": c.outside_percent,
+        }
+        for c in result.zone_covers
+    ]
 
 
 def terrain_dict(result: StudyResult) -> dict:

@@ -354,36 +354,67 @@ def write_map(result: StudyResult, layers: dict[str, dict], path: Path) -> None:
     """
     from geo.outputs.imports import import_without_dataframes
 
-    _len = _lengths(result.spec.units)
     folium = import_without_dataframes("folium")  # folium takes pandas only to accept data frames
+    inlined = _Inlined()
+    fmap = _base_map(result, inlined)
+    zones = layers["reflection_zones"]
+    if result.spec.terrain is not None:
+        _hillshade_overlay(result, _padded_bounds(zones), inlined).add_to(fmap)
+    _add_zone_layers(fmap, result, zones)
+    if "protected_areas" in layers:
+        _add_protected_layers(fmap, result.spec.units, layers["protected_areas"])
+    _add_runway_layers(fmap, result.spec.units, layers)
+    _points_group(result).add_to(fmap)
+    _mast_group(result).add_to(fmap)
+    if "candidates" in layers:
+        _candidates(layers["candidates"], result.spec.units).add_to(fmap)
+        fmap.get_root().html.add_child(folium.Element(_candidates_legend()))
+    if "derived_areas" in layers:
+        derived_areas_group(layers["derived_areas"]).add_to(fmap)
+    _fit_to_path_zones(fmap, zones, result.spec.threshold)
+    folium.LayerControl(collapsed=False).add_to(fmap)
+    path.write_text(_stable_ids(inlined.fill(fmap.get_root().render())), encoding="utf-8")
+
+
+def _base_map(result: StudyResult, inlined: _Inlined):
+    """The map centred on the mast: Leaflet inlined, the legend, and the online base map (off at first)."""
+    import folium
+
     mast = result.mast
     fmap = folium.Map(location=[mast.lat_deg, mast.lon_deg], zoom_start=15, tiles=None, control_scale=True)
     fmap.default_js = []
     fmap.default_css = []
-    inlined = _Inlined()
     fmap.get_root().header.add_child(folium.Element(inlined.element_text(_leaflet_inline())), name="leaflet_inline")
     fmap.get_root().html.add_child(folium.Element(_legend(result)))
-
     folium.TileLayer(
         "OpenStreetMap", name="Online base map (OpenStreetMap, needs internet)", overlay=True, show=False
     ).add_to(fmap)
-    zones = layers["reflection_zones"]
+    return fmap
+
+
+def _padded_bounds(zones: dict) -> tuple[float, float, float, float]:
+    """West, south, east and north of the reflection zones, with a margin. [deg]"""
     lons = [c[0] for f in zones["features"] for ring in _rings(f["geometry"]) for c in ring]
     lats = [c[1] for f in zones["features"] for ring in _rings(f["geometry"]) for c in ring]
-    if result.spec.terrain is not None:
-        pad = 0.002
-        box = (min(lons) - pad, min(lats) - pad, max(lons) + pad, max(lats) + pad)
-        _hillshade_overlay(result, box, inlined).add_to(fmap)
+    pad = 0.002
+    return (min(lons) - pad, min(lats) - pad, max(lons) + pad, max(lats) + pad)
 
-    def add(name: str, fc: dict, style: dict, fields=(), show: bool = True) -> None:
-        group = folium.FeatureGroup(name=name, show=show)
-        tooltip = None
-        if fields:
-            fc = _tooltip_values(fc, fields, result.spec.units)
-            tooltip = folium.GeoJsonTooltip(fields=list(fields), aliases=[TOOLTIP_LABELS[k] for k in fields])
-        folium.GeoJson(_escaped(fc), style_function=lambda _f, s=style: s, tooltip=tooltip).add_to(group)
-        group.add_to(fmap)
 
+def _add_layer(fmap, unit: str, name: str, fc: dict, style: dict, fields=(), show: bool = True) -> None:
+    """One FeatureCollection as a layer of its own, with a tooltip of ``fields`` when given."""
+    import folium
+
+    group = folium.FeatureGroup(name=name, show=show)
+    tooltip = None
+    if fields:
+        fc = _tooltip_values(fc, fields, unit)
+        tooltip = folium.GeoJsonTooltip(fields=list(fields), aliases=[TOOLTIP_LABELS[k] for k in fields])
+    folium.GeoJson(_escaped(fc), style_function=lambda _f, s=style: s, tooltip=tooltip).add_to(group)
+    group.add_to(fmap)
+
+
+def _add_zone_layers(fmap, result: StudyResult, zones: dict) -> None:
+    """A layer per kind of reflection zone and antenna: coverage zones (hidden at first), then path zones."""
     for kind, dash, fill in (("coverage", "6 4", 0.08), ("path", None, 0.25)):
         for antenna in [a.role for a in result.antennas]:
             fc = {
@@ -394,39 +425,62 @@ def write_map(result: StudyResult, layers: dict[str, dict], path: Path) -> None:
                     if f["properties"]["kind"] == kind and f["properties"]["antenna"] == antenna
                 ],
             }
-            add(
+            _add_layer(
+                fmap,
+                result.spec.units,
                 zone_layer_name(kind, antenna),
                 fc,
                 {"color": ZONE_COLOURS[antenna], "weight": 1.5, "fillOpacity": fill, "dashArray": dash},
                 ("kind", "antenna", "near_m", "far_m", "max_half_width_m", "area_m2"),
                 show=kind == "path",
             )
-    if "protected_areas" in layers:
-        for kind in ("critical", "sensitive"):
-            fc = {
-                "type": "FeatureCollection",
-                "features": [f for f in layers["protected_areas"]["features"] if f["properties"]["kind"] == kind],
-            }
-            if fc["features"]:
-                add(
-                    protected_layer_name(kind),
-                    fc,
-                    {"color": AREA_COLOURS[kind], "weight": 2, "fillOpacity": 0.05},
-                    ("name", "kind", "area_m2"),
-                )
-    add(
+
+
+def _add_protected_layers(fmap, unit: str, protected: dict) -> None:
+    """A layer per kind of the site file's protected areas that has any."""
+    for kind in ("critical", "sensitive"):
+        fc = {
+            "type": "FeatureCollection",
+            "features": [f for f in protected["features"] if f["properties"]["kind"] == kind],
+        }
+        if fc["features"]:
+            _add_layer(
+                fmap,
+                unit,
+                protected_layer_name(kind),
+                fc,
+                {"color": AREA_COLOURS[kind], "weight": 2, "fillOpacity": 0.05},
+                ("name", "kind", "area_m2"),
+            )
+
+
+def _add_runway_layers(fmap, unit: str, layers: dict[str, dict]) -> None:
+    """The runway, its centre line and the extended centre line."""
+    _add_layer(
+        fmap,
+        unit,
         RUNWAY_LAYER,
         layers["runway"],
         {"color": "#495057", "fillColor": "#868e96", "weight": 1, "fillOpacity": 0.6},
         ("name", "length_m", "width_m", "true_bearing_deg"),
     )
-    add(CENTRELINE_LAYER, layers["centreline"], {"color": "#ffffff", "weight": 1.5, "dashArray": "8 6"})
-    add(
+    _add_layer(
+        fmap, unit, CENTRELINE_LAYER, layers["centreline"], {"color": "#ffffff", "weight": 1.5, "dashArray": "8 6"}
+    )
+    _add_layer(
+        fmap,
+        unit,
         EXTENDED_LAYER,
         layers["extended_centreline"],
         {"color": "#343a40", "weight": 1, "dashArray": "4 6"},
     )
 
+
+def _points_group(result: StudyResult):
+    """The threshold and the GPIP as dots with their popups."""
+    import folium
+
+    _len = _lengths(result.spec.units)
     points = folium.FeatureGroup(name=POINTS_LAYER)
     thr = result.spec.threshold
     marker = folium.CircleMarker(
@@ -445,7 +499,14 @@ def write_map(result: StudyResult, layers: dict[str, dict], path: Path) -> None:
     gpip = result.gpip.along_m
     marker.add_child(_popup(f"<b>GPIP</b><br>{_len(abs(gpip), 1)} {past_or_before(gpip)} the threshold"))
     marker.add_to(points)
-    points.add_to(fmap)
+    return points
+
+
+def _mast_group(result: StudyResult):
+    """The mast as a dot whose popup lists the antennas."""
+    import folium
+
+    mast = result.mast
     mast_group = folium.FeatureGroup(name=MAST_LAYER)
     marker = folium.CircleMarker(
         [mast.lat_deg, mast.lon_deg],
@@ -458,19 +519,15 @@ def write_map(result: StudyResult, layers: dict[str, dict], path: Path) -> None:
     )
     marker.add_child(_popup(_mast_popup(result), 520))
     marker.add_to(mast_group)
-    mast_group.add_to(fmap)
-    if "candidates" in layers:
-        _candidates(layers["candidates"], result.spec.units).add_to(fmap)
-        fmap.get_root().html.add_child(folium.Element(_candidates_legend()))
-    if "derived_areas" in layers:
-        derived_areas_group(layers["derived_areas"]).add_to(fmap)
-    # Open on what is shown at first: the path zones, the mast and the threshold.
+    return mast_group
+
+
+def _fit_to_path_zones(fmap, zones: dict, thr) -> None:
+    """Open on what is shown at first: the path zones, the mast and the threshold."""
     shown = [f for f in zones["features"] if f["properties"]["kind"] == "path"]
     view_lons = [c[0] for f in shown for ring in _rings(f["geometry"]) for c in ring] + [thr.lon_deg]
     view_lats = [c[1] for f in shown for ring in _rings(f["geometry"]) for c in ring] + [thr.lat_deg]
     fmap.fit_bounds([[min(view_lats), min(view_lons)], [max(view_lats), max(view_lons)]], padding=(30, 30))
-    folium.LayerControl(collapsed=False).add_to(fmap)
-    path.write_text(_stable_ids(inlined.fill(fmap.get_root().render())), encoding="utf-8")
 
 
 def _stable_ids(page: str) -> str:

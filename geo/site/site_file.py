@@ -387,89 +387,11 @@ def parse_site(doc: dict[str, Any], source: str = "", sha256: str = "", base_dir
             "object", "areas",
         ),
     )  # fmt: skip
-    units = doc.get("units")
-    if units is None:
-        raise SiteFileError("units", 'missing; add units = "m" or units = "ft" at the top')
-    if not _is_choice(units, LENGTH_UNITS):
-        raise SiteFileError("units", f'must be "m" or "ft" (got {_show(units)})')
-    scale = LENGTH_UNITS[units]
-
-    site = _table(doc, "site")
-    _only(site, "site", ("name", "notes"))
-    name = _text(site, "site", "name", required=True)
-    notes = _text(site, "site", "notes", required=False) or ""
-
+    units, scale = _units(doc)
+    name, notes = _site_texts(doc)
     runway = _table(doc, "runway")
-    _only(runway, "runway", ("threshold", "end", "width", "code", "vertical_datum", "geoid_undulation"))
-    threshold = _point(runway, "runway", "threshold", scale, units, elevation="required")
-    end = _point(runway, "runway", "end", scale, units, elevation="required")
-    if abs(threshold.lat_deg - end.lat_deg) < 1e-9 and abs(_wrap(threshold.lon_deg - end.lon_deg)) < 1e-9:
-        raise SiteFileError("runway.end", "is the same point as runway.threshold; give the far end")
-    width_m = _number(
-        runway,
-        "runway",
-        "width",
-        scale,
-        required=True,
-        above=_WIDTH_LIMITS_M[0],
-        at_most=_WIDTH_LIMITS_M[1],
-        unit=units,
-    )
-    code = runway.get("code")
-    if code is not None and (isinstance(code, bool) or not isinstance(code, int) or code not in (1, 2, 3, 4)):
-        raise SiteFileError("runway.code", f"must be the aerodrome code number 1, 2, 3 or 4 (got {_show(code)})")
-
-    gp = _table(doc, "glide_path")
-    _only(gp, "glide_path", ("angle_deg", "localizer_mhz", "frequency_mhz", "array", "target_rdh", "category"))
-    angle_deg = _number(
-        gp,
-        "glide_path",
-        "angle_deg",
-        1.0,
-        required=True,
-        at_least=ANGLE_LIMITS_DEG[0],
-        at_most=ANGLE_LIMITS_DEG[1],
-        unit="deg",
-    )
-    has_loc, has_gp = "localizer_mhz" in gp, "frequency_mhz" in gp
-    if has_loc == has_gp:
-        raise SiteFileError(
-            "glide_path",
-            "give exactly one of localizer_mhz and frequency_mhz" + (" (both are given)" if has_loc else ""),
-        )
-    localizer_mhz = frequency_mhz = None
-    if has_loc:
-        localizer_mhz = _number(gp, "glide_path", "localizer_mhz", 1.0, required=True, unit="MHz")
-        if not any(abs(loc - localizer_mhz) < 0.001 for loc, _ in CHANNEL_PAIRS_MHZ):
-            raise SiteFileError(
-                "glide_path.localizer_mhz",
-                f"{localizer_mhz:g} MHz is not one of the 40 paired localizer channels "
-                "108.10-111.95 MHz (odd tenths, x.x0 or x.x5); or give frequency_mhz",
-            )
-    else:
-        low, high = GLIDE_PATH_BAND_MHZ
-        frequency_mhz = _number(
-            gp, "glide_path", "frequency_mhz", 1.0, required=True, at_least=low, at_most=high, unit="MHz"
-        )
-    array = gp.get("array")
-    if array is None:
-        raise SiteFileError("glide_path.array", "missing; " + _array_choices())
-    if not _is_choice(array, ARRAY_TYPES):
-        raise SiteFileError("glide_path.array", f"unknown array {_show(array)}; " + _array_choices())
-    target_rdh_m = _number(
-        gp,
-        "glide_path",
-        "target_rdh",
-        scale,
-        required=False,
-        above=_TARGET_RDH_LIMITS_M[0],
-        at_most=_TARGET_RDH_LIMITS_M[1],
-        unit=units,
-    )
-    category = gp.get("category", "I")
-    if not _is_choice(category, CATEGORIES):
-        raise SiteFileError("glide_path.category", f'must be "I", "II" or "III" (got {_show(category)})')
-
+    threshold, end, width_m, code = _runway(runway, scale, units)
+    angle_deg, localizer_mhz, frequency_mhz, array, target_rdh_m, category = _glide_path(doc, scale, units)
     mast = _mast(_table(doc, "mast"), scale, units, width_m, target_rdh_m)
     base_dir = base_dir if base_dir is not None else Path()
     survey_datum, undulation_m = _survey_datum(runway, scale, units)
@@ -506,6 +428,114 @@ def parse_site(doc: dict[str, Any], source: str = "", sha256: str = "", base_dir
         objects=_objects(doc.get("object", []), scale, units),
         areas=_areas(doc.get("areas"), scale, units),
     )
+
+
+def _units(doc: dict) -> tuple[str, float]:
+    """The site file's length unit and its size in metres."""
+    units = doc.get("units")
+    if units is None:
+        raise SiteFileError("units", 'missing; add units = "m" or units = "ft" at the top')
+    if not _is_choice(units, LENGTH_UNITS):
+        raise SiteFileError("units", f'must be "m" or "ft" (got {_show(units)})')
+    return units, LENGTH_UNITS[units]
+
+
+def _site_texts(doc: dict) -> tuple[str, str]:
+    """The ``[site]`` table: the site's name and notes."""
+    site = _table(doc, "site")
+    _only(site, "site", ("name", "notes"))
+    name = _text(site, "site", "name", required=True)
+    notes = _text(site, "site", "notes", required=False) or ""
+    return name, notes
+
+
+def _runway(runway: dict, scale: float, units: str) -> tuple[GeoPoint, GeoPoint, float, int | None]:
+    """The ``[runway]`` table: threshold, end, width and aerodrome code number (its datum aside)."""
+    _only(runway, "runway", ("threshold", "end", "width", "code", "vertical_datum", "geoid_undulation"))
+    threshold = _point(runway, "runway", "threshold", scale, units, elevation="required")
+    end = _point(runway, "runway", "end", scale, units, elevation="required")
+    if abs(threshold.lat_deg - end.lat_deg) < 1e-9 and abs(_wrap(threshold.lon_deg - end.lon_deg)) < 1e-9:
+        raise SiteFileError("runway.end", "is the same point as runway.threshold; give the far end")
+    width_m = _number(
+        runway,
+        "runway",
+        "width",
+        scale,
+        required=True,
+        above=_WIDTH_LIMITS_M[0],
+        at_most=_WIDTH_LIMITS_M[1],
+        unit=units,
+    )
+    code = runway.get("code")
+    if code is not None and (isinstance(code, bool) or not isinstance(code, int) or code not in (1, 2, 3, 4)):
+        raise SiteFileError("runway.code", f"must be the aerodrome code number 1, 2, 3 or 4 (got {_show(code)})")
+    return threshold, end, width_m, code
+
+
+def _glide_path(doc: dict, scale: float, units: str) -> tuple:
+    """The ``[glide_path]`` table: angle, localizer or glide path frequency, array, target RDH, category."""
+    gp = _table(doc, "glide_path")
+    _only(gp, "glide_path", ("angle_deg", "localizer_mhz", "frequency_mhz", "array", "target_rdh", "category"))
+    angle_deg = _number(
+        gp,
+        "glide_path",
+        "angle_deg",
+        1.0,
+        required=True,
+        at_least=ANGLE_LIMITS_DEG[0],
+        at_most=ANGLE_LIMITS_DEG[1],
+        unit="deg",
+    )
+    localizer_mhz, frequency_mhz = _frequencies(gp)
+    array = _array_type(gp)
+    target_rdh_m = _number(
+        gp,
+        "glide_path",
+        "target_rdh",
+        scale,
+        required=False,
+        above=_TARGET_RDH_LIMITS_M[0],
+        at_most=_TARGET_RDH_LIMITS_M[1],
+        unit=units,
+    )
+    category = gp.get("category", "I")
+    if not _is_choice(category, CATEGORIES):
+        raise SiteFileError("glide_path.category", f'must be "I", "II" or "III" (got {_show(category)})')
+    return angle_deg, localizer_mhz, frequency_mhz, array, target_rdh_m, category
+
+
+def _frequencies(gp: dict) -> tuple[float | None, float | None]:
+    """The localizer frequency or the glide path frequency, exactly one of them given. [MHz]"""
+    has_loc, has_gp = "localizer_mhz" in gp, "frequency_mhz" in gp
+    if has_loc == has_gp:
+        raise SiteFileError(
+            "glide_path",
+            "give exactly one of localizer_mhz and frequency_mhz" + (" (both are given)" if has_loc else ""),
+        )
+    if has_loc:
+        localizer_mhz = _number(gp, "glide_path", "localizer_mhz", 1.0, required=True, unit="MHz")
+        if not any(abs(loc - localizer_mhz) < 0.001 for loc, _ in CHANNEL_PAIRS_MHZ):
+            raise SiteFileError(
+                "glide_path.localizer_mhz",
+                f"{localizer_mhz:g} MHz is not one of the 40 paired localizer channels "
+                "108.10-111.95 MHz (odd tenths, x.x0 or x.x5); or give frequency_mhz",
+            )
+        return localizer_mhz, None
+    low, high = GLIDE_PATH_BAND_MHZ
+    frequency_mhz = _number(
+        gp, "glide_path", "frequency_mhz", 1.0, required=True, at_least=low, at_most=high, unit="MHz"
+    )
+    return None, frequency_mhz
+
+
+def _array_type(gp: dict) -> str:
+    """The array type, one of :data:`geo.radio.arrays.ARRAY_TYPES`."""
+    array = gp.get("array")
+    if array is None:
+        raise SiteFileError("glide_path.array", "missing; " + _array_choices())
+    if not _is_choice(array, ARRAY_TYPES):
+        raise SiteFileError("glide_path.array", f"unknown array {_show(array)}; " + _array_choices())
+    return array
 
 
 def _surfaces(table, scale: float, units: str, runway_code: int | None = None) -> SurfaceSpec:

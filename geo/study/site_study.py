@@ -381,6 +381,22 @@ def _solve_on_terrain(spec, runway, dem, side, setback, offset, lam, field_name,
     return nearest[0], nearest[2]
 
 
+@dataclass(frozen=True)
+class _Ground:
+    """Where the terrain step left the mast: its setback, the ground under it and the antenna heights."""
+
+    setback_m: float
+    base_m: float
+    base_source: str
+    heights_m: list[float]
+    plane_m: float
+    intercept_m: float
+    terrain: TerrainResult | None = None
+    profile: ApproachProfile | None = None
+    source: TerrainSource | None = None
+    dem_finding: checks.Finding | None = None
+
+
 @naming_site_file
 def run_study(spec: SiteSpec, before_surface=None) -> StudyResult:
     """Run one site study, on flat ground or on the DEM of ``spec.terrain``.
@@ -409,135 +425,30 @@ def run_study(spec: SiteSpec, before_surface=None) -> StudyResult:
     channel = channel_of(spec)
     lam = wavelength_m(channel.glide_path_mhz)
     runway = runway_of(spec)
-    frame = runway.frame
-    thr_elev = spec.threshold.elevation_m
     side, setback, offset, field_name, setback_source = _placement(spec, runway)
     solve = setback is None
-    file_base = spec.mast.base_elevation_m
-    terrain = profile = source = dem_finding = None
     if spec.terrain is None:
-        base_m, base_source = (file_base, "site file") if file_base is not None else (thr_elev, "threshold elevation")
-        if solve:
-            setback = setback_for_rdh_m(spec.target_rdh_m, base_m, spec.angle_deg, thr_elev)
-        _check_setback(setback, field_name, runway, spec.units)
-        heights = antenna_heights_m(spec.array, lam, spec.angle_deg)
-        plane_m = intercept_m = base_m
+        ground = _flat_ground(spec, runway, lam, setback, field_name, solve)
     else:
-        from geo.ground.dem import Dem
-
-        t = spec.terrain
-        with Dem.open(t) as dem, dem_extent_in_errors(dem):
-            if solve:
-                setback = setback_for_rdh_m(spec.target_rdh_m, thr_elev, spec.angle_deg, thr_elev)
-            else:
-                _check_setback(setback, field_name, runway)
-            mast_at = [] if solve else [(setback, _SIGN[side] * offset)]
-            dem_finding, dem_threshold = check_dem_covers_site(dem, frame, thr_elev, mast_at)
-            setback, terrain = _solve_on_terrain(spec, runway, dem, side, setback, offset, lam, field_name, solve)
-            terrain = terrain.result()  # the report's figures, for the setback kept only
-            profile = approach_profile(
-                dem,
-                frame,
-                runway.length_m,
-                terrain.rpi_elevation_m,
-                setback,
-                offset,
-                spec.angle_deg,
-                min(terrain.cell_size_m, 10.0),
-            )
-            source = TerrainSource(t.dem_path.name, dem.vertical_unit_source, dem.vertical_datum(), t.vertical_offset_m)
-            source = _dem_source_details(source, dem, frame, side, setback, offset, terrain, dem_threshold)
-        base_m, base_source = terrain.ground_at_mast_m, "DEM"
-        heights = terrain.heights_m
-        plane_m, intercept_m = terrain.plane.elevation_at_mast_m, terrain.rpi_elevation_m
-
-    sign = _SIGN[side]
+        ground = _dem_ground(spec, runway, lam, side, setback, offset, field_name, solve)
+    setback, terrain, heights = ground.setback_m, ground.terrain, ground.heights_m
     shifts = proximity_shifts_m(heights, offset)
     roles = array_type(spec.array).roles
-    antennas = []
-    for role, height, shift in zip(roles, heights, shifts):
-        lat, lon = frame.to_geographic(setback, sign * (offset - shift))
-        antennas.append(Antenna(role, height, shift, offset - shift, plane_m + height, lat, lon))
-    mast = Mast(
-        side,
-        setback,
-        offset,
-        base_m,
-        base_source,
-        setback_source,
-        antennas[0].lat_deg,
-        antennas[0].lon_deg,
-        plane_m,
-        file_base,
-    )
-
-    rdh = rdh_m(intercept_m, setback, spec.angle_deg, thr_elev)
-    over_threshold = path_height_over_threshold_m(intercept_m, setback, offset, spec.angle_deg, thr_elev)
-    try:
-        gpip_x = gpip_along_m(rdh, spec.angle_deg, runway.gradient)
-    except ValueError:
-        raise SiteFileError(
-            "runway.end.elevation",
-            "the runway falls faster than the path descends; the path "
-            "never meets it: check the elevations and the path angle",
-        ) from None
-    gpip_lat, gpip_lon = frame.to_geographic(gpip_x, 0.0)
-    gpip = Gpip(gpip_x, thr_elev + runway.gradient * gpip_x, gpip_lat, gpip_lon)
-
-    found = [
-        checks.check_channel(channel.glide_path_mhz, channel.localizer_mhz),
-        checks.check_angle(spec.angle_deg),
-        checks.check_rdh(rdh, spec.category, spec.runway_code, unit=spec.units),
-        *checks.check_typical_siting(setback, offset, unit=spec.units),
-        checks.check_length_unit(setback, offset, spec.units),
-    ]
-    if spec.target_rdh_m is not None and not solve:
-        found.append(checks.check_target_rdh(rdh, spec.target_rdh_m, unit=spec.units))
-    if solve and spec.target_rdh_m is not None:
-        found.append(checks.check_solved_setback(rdh, spec.target_rdh_m))
-    found.append(checks.check_gpip(gpip_x, runway.length_m, unit=spec.units))
+    antennas = _antennas(runway.frame, side, setback, offset, roles, ground, shifts)
+    mast = _mast(spec, side, setback, offset, setback_source, ground, antennas[0])
+    rdh, over_threshold, gpip = _path_over_runway(spec, runway, ground.intercept_m, setback, offset)
+    found = _siting_findings(spec, channel, runway, rdh, setback, offset, solve, gpip)
     if terrain is not None:
-        if file_base is not None:
-            found.append(checks.check_base_elevation(file_base, terrain.ground_at_mast_m, unit=spec.units))
-        found += checks.check_roughness(terrain.roughness, unit=spec.units)
-        plane_solve = checks.check_plane_solve(
-            terrain.solve_status, terrain.height_spread_mm, terrain.slope_bracket_deg, terrain.bracket_plane_slopes_deg
-        )
-        if plane_solve is not None:
-            found.append(plane_solve)
-        found.append(
-            checks.check_dem_resolution(source.cells_in_zone, terrain.cell_size_m, terrain.zone.max_half_width_m)
-        )
-        found.append(
-            checks.check_approach_clearance(
-                profile.min_clearance_m,
-                profile.min_clearance_along_m,
-                spec.terrain.min_clearance_m,
-                profile.approach_covered_m,
-                PROFILE_RANGE_M,
-                unit=spec.units,
-            )
-        )
+        found += _terrain_findings(spec, ground)
     gu, gw = (terrain.plane.forward_gradient, terrain.plane.lateral_gradient) if terrain else (0.0, 0.0)
     zones = reflection_zones(roles, heights, shifts, setback, offset, spec.angle_deg, lam, gu, gw)
-    covers = []
-    if spec.protected_areas:
-        covers = [zone_cover(z.shape.polygon, z.kind, spec.protected_areas) for z in zones if z.antenna == "all"]
-        found += [checks.check_zone_cover(c, unit=spec.units) for c in covers]
-    clearance = mast_clearance(
-        antennas[-1].offset_m,
-        antennas[-1].elevation_m + spec.surfaces.mast_allowance_m,
-        thr_elev + runway.gradient * setback,
-        spec.surfaces,
-        setback_m=setback,
-        runway_length_m=runway.length_m,
-        runway_gradient=runway.gradient,
-    )
+    covers = _zone_covers(spec, zones)
+    found += [checks.check_zone_cover(c, unit=spec.units) for c in covers]
+    clearance = _top_of_mast_clearance(spec, runway, setback, antennas[-1])
     found.append(checks.check_mast_clearance(clearance, spec.surfaces, unit=spec.units))
     feeds = _feeds(spec)
-    prediction, unshifted = _predictions(
-        spec, heights, shifts, feeds, lam, gu, gw, setback, offset, intercept_m - plane_m
-    )
+    intercept_z = ground.intercept_m - ground.plane_m
+    prediction, unshifted = _predictions(spec, heights, shifts, feeds, lam, gu, gw, setback, offset, intercept_z)
     found.append(checks.check_predicted_angle(prediction.path_angle_deg, spec.angle_deg))
     below, capture = _below_path(spec, heights, shifts, feeds, lam, gu, gw, prediction)
     found += checks.check_below_path(spec.array, below, capture)
@@ -545,12 +456,6 @@ def run_study(spec: SiteSpec, before_surface=None) -> StudyResult:
     if terrain is not None:
         families = _roughness_families(spec, terrain, lam, setback, offset)
         found.append(checks.check_roughness_families(families))
-
-    def in_order(findings):
-        if dem_finding is not None:  # the likely cause of every other odd height: shown first
-            findings = [dem_finding, *findings]
-        return [f for f in findings if f is not None]
-
     result = StudyResult(
         spec=spec,
         channel=channel,
@@ -561,11 +466,11 @@ def run_study(spec: SiteSpec, before_surface=None) -> StudyResult:
         rdh_m=rdh,
         path_height_over_threshold_m=over_threshold,
         gpip=gpip,
-        findings=in_order(found),
-        intercept_elevation_m=intercept_m,
+        findings=_in_order(found, ground.dem_finding),
+        intercept_elevation_m=ground.intercept_m,
         terrain=terrain,
-        profile=profile,
-        terrain_source=source,
+        profile=ground.profile,
+        terrain_source=ground.source,
         zones=zones,
         zone_covers=covers,
         prediction=prediction,
@@ -579,17 +484,203 @@ def run_study(spec: SiteSpec, before_surface=None) -> StudyResult:
     )
     if terrain is None or not spec.prediction.surface:
         return result
+    return _with_surface(result, found, ground, shifts, before_surface)
+
+
+def _flat_ground(spec, runway, lam, setback, field_name, solve) -> _Ground:
+    """The terrain step without a DEM: the ground is level at the mast's base elevation."""
+    thr_elev = spec.threshold.elevation_m
+    file_base = spec.mast.base_elevation_m
+    base_m, base_source = (file_base, "site file") if file_base is not None else (thr_elev, "threshold elevation")
+    if solve:
+        setback = setback_for_rdh_m(spec.target_rdh_m, base_m, spec.angle_deg, thr_elev)
+    _check_setback(setback, field_name, runway, spec.units)
+    heights = antenna_heights_m(spec.array, lam, spec.angle_deg)
+    return _Ground(setback, base_m, base_source, heights, base_m, base_m)
+
+
+def _dem_ground(spec, runway, lam, side, setback, offset, field_name, solve) -> _Ground:
+    """The terrain step on the DEM: its coverage, the reflecting plane (and setback) and the approach profile."""
+    from geo.ground.dem import Dem
+
+    frame = runway.frame
+    thr_elev = spec.threshold.elevation_m
+    t = spec.terrain
+    with Dem.open(t) as dem, dem_extent_in_errors(dem):
+        if solve:
+            setback = setback_for_rdh_m(spec.target_rdh_m, thr_elev, spec.angle_deg, thr_elev)
+        else:
+            _check_setback(setback, field_name, runway)
+        mast_at = [] if solve else [(setback, _SIGN[side] * offset)]
+        dem_finding, dem_threshold = check_dem_covers_site(dem, frame, thr_elev, mast_at)
+        setback, terrain = _solve_on_terrain(spec, runway, dem, side, setback, offset, lam, field_name, solve)
+        terrain = terrain.result()  # the report's figures, for the setback kept only
+        profile = approach_profile(
+            dem,
+            frame,
+            runway.length_m,
+            terrain.rpi_elevation_m,
+            setback,
+            offset,
+            spec.angle_deg,
+            min(terrain.cell_size_m, 10.0),
+        )
+        source = TerrainSource(t.dem_path.name, dem.vertical_unit_source, dem.vertical_datum(), t.vertical_offset_m)
+        source = _dem_source_details(source, dem, frame, side, setback, offset, terrain, dem_threshold)
+    return _Ground(
+        setback,
+        terrain.ground_at_mast_m,
+        "DEM",
+        terrain.heights_m,
+        terrain.plane.elevation_at_mast_m,
+        terrain.rpi_elevation_m,
+        terrain,
+        profile,
+        source,
+        dem_finding,
+    )
+
+
+def _antennas(frame, side, setback, offset, roles, ground, shifts) -> list[Antenna]:
+    """The antennas of the array, lowest first, each moved toward the runway by its proximity shift."""
+    sign = _SIGN[side]
+    antennas = []
+    for role, height, shift in zip(roles, ground.heights_m, shifts):
+        lat, lon = frame.to_geographic(setback, sign * (offset - shift))
+        antennas.append(Antenna(role, height, shift, offset - shift, ground.plane_m + height, lat, lon))
+    return antennas
+
+
+def _mast(spec, side, setback, offset, setback_source, ground, lowest) -> Mast:
+    """The mast where its lowest antenna stands, with its ground."""
+    return Mast(
+        side,
+        setback,
+        offset,
+        ground.base_m,
+        ground.base_source,
+        setback_source,
+        lowest.lat_deg,
+        lowest.lon_deg,
+        ground.plane_m,
+        spec.mast.base_elevation_m,
+    )
+
+
+def _path_over_runway(spec, runway, intercept_m, setback, offset) -> tuple[float, float, Gpip]:
+    """The RDH, the actual path over the threshold and the GPIP."""
+    thr_elev = spec.threshold.elevation_m
+    rdh = rdh_m(intercept_m, setback, spec.angle_deg, thr_elev)
+    over_threshold = path_height_over_threshold_m(intercept_m, setback, offset, spec.angle_deg, thr_elev)
+    try:
+        gpip_x = gpip_along_m(rdh, spec.angle_deg, runway.gradient)
+    except ValueError:
+        raise SiteFileError(
+            "runway.end.elevation",
+            "the runway falls faster than the path descends; the path "
+            "never meets it: check the elevations and the path angle",
+        ) from None
+    gpip_lat, gpip_lon = runway.frame.to_geographic(gpip_x, 0.0)
+    return rdh, over_threshold, Gpip(gpip_x, thr_elev + runway.gradient * gpip_x, gpip_lat, gpip_lon)
+
+
+def _siting_findings(spec, channel, runway, rdh, setback, offset, solve, gpip) -> list:
+    """The checks of the channel, the angle, the RDH, the siting and the GPIP."""
+    found = [
+        checks.check_channel(channel.glide_path_mhz, channel.localizer_mhz),
+        checks.check_angle(spec.angle_deg),
+        checks.check_rdh(rdh, spec.category, spec.runway_code, unit=spec.units),
+        *checks.check_typical_siting(setback, offset, unit=spec.units),
+        checks.check_length_unit(setback, offset, spec.units),
+    ]
+    if spec.target_rdh_m is not None and not solve:
+        found.append(checks.check_target_rdh(rdh, spec.target_rdh_m, unit=spec.units))
+    if solve and spec.target_rdh_m is not None:
+        found.append(checks.check_solved_setback(rdh, spec.target_rdh_m))
+    found.append(checks.check_gpip(gpip.along_m, runway.length_m, unit=spec.units))
+    return found
+
+
+def _terrain_findings(spec, ground) -> list:
+    """The checks of the DEM study: base elevation, roughness, plane solve, resolution, approach clearance."""
+    terrain, profile, file_base = ground.terrain, ground.profile, spec.mast.base_elevation_m
+    found = []
+    if file_base is not None:
+        found.append(checks.check_base_elevation(file_base, terrain.ground_at_mast_m, unit=spec.units))
+    found += checks.check_roughness(terrain.roughness, unit=spec.units)
+    plane_solve = checks.check_plane_solve(
+        terrain.solve_status, terrain.height_spread_mm, terrain.slope_bracket_deg, terrain.bracket_plane_slopes_deg
+    )
+    if plane_solve is not None:
+        found.append(plane_solve)
+    found.append(
+        checks.check_dem_resolution(ground.source.cells_in_zone, terrain.cell_size_m, terrain.zone.max_half_width_m)
+    )
+    found.append(
+        checks.check_approach_clearance(
+            profile.min_clearance_m,
+            profile.min_clearance_along_m,
+            spec.terrain.min_clearance_m,
+            profile.approach_covered_m,
+            PROFILE_RANGE_M,
+            unit=spec.units,
+        )
+    )
+    return found
+
+
+def _zone_covers(spec, zones) -> list[ZoneCover]:
+    """The part of each kind's zone for all antennas outside the protected areas (none without them)."""
+    if not spec.protected_areas:
+        return []
+    return [zone_cover(z.shape.polygon, z.kind, spec.protected_areas) for z in zones if z.antenna == "all"]
+
+
+def _top_of_mast_clearance(spec, runway, setback, top) -> MastClearance:
+    """The top of the mast (the upper antenna and the allowance) against the Annex 14 surfaces."""
+    return mast_clearance(
+        top.offset_m,
+        top.elevation_m + spec.surfaces.mast_allowance_m,
+        spec.threshold.elevation_m + runway.gradient * setback,
+        spec.surfaces,
+        setback_m=setback,
+        runway_length_m=runway.length_m,
+        runway_gradient=runway.gradient,
+    )
+
+
+def _in_order(findings, dem_finding) -> list:
+    """The findings as shown: the DEM's first, the checks that found nothing left out."""
+    if dem_finding is not None:  # the likely cause of every other odd height: shown first
+        findings = [dem_finding, *findings]
+    return [f for f in findings if f is not None]
+
+
+def _with_surface(result, found, ground, shifts, before_surface) -> StudyResult:
+    """The study with its surface prediction and its findings (``before_surface`` called first)."""
     from dataclasses import replace
 
     from geo.study.surface import surface_findings, surface_for_study
 
     if before_surface is not None:
         before_surface(result)
+    spec, mast = result.spec, result.mast
     surface = surface_for_study(
-        spec, runway, side, setback, offset, terrain, heights, shifts, feeds, lam, prediction, rdh
+        spec,
+        result.runway,
+        mast.side,
+        mast.setback_m,
+        mast.offset_m,
+        ground.terrain,
+        ground.heights_m,
+        shifts,
+        result.feeds,
+        result.wavelength_m,
+        result.prediction,
+        result.rdh_m,
     )
-    found += surface_findings(surface, spec.category, spec.units)
-    return replace(result, surface=surface, findings=in_order(found))
+    found = [*found, *surface_findings(surface, spec.category, spec.units)]
+    return replace(result, surface=surface, findings=_in_order(found, ground.dem_finding))
 
 
 def _feeds(spec: SiteSpec) -> tuple:
