@@ -225,125 +225,207 @@ class _Heights:
         return np.where(np.isfinite(d), d, np.inf)
 
 
+@dataclass
+class _PassState:
+    """One pass's state per candidate: evaluated points as rows (k, 5) (columns ``_S`` .. ``_M``), the rest (k,)."""
+
+    trial: np.ndarray  # next trial slope [deg]
+    prev: np.ndarray  # last point of the search
+    origin: np.ndarray  # first point of the pass
+    a: np.ndarray  # lower end of the bracket
+    b: np.ndarray  # upper end of the bracket
+    chosen: np.ndarray  # the point the candidate ended on
+    step: np.ndarray  # search step [deg]
+    direction: np.ndarray  # search direction, +1 or -1
+    other_tried: np.ndarray  # the other direction was searched
+    phase: np.ndarray  # 0 first, 1 search, 2 refine, 3 done
+    side: np.ndarray  # end replaced last: -1 a, +1 b
+    width_prev: np.ndarray  # the bracket's width (heights) at the last refining step [m]
+    slow: np.ndarray  # refining steps in a row that did not halve the bracket
+    evaluations: np.ndarray
+    status: np.ndarray
+
+    @classmethod
+    def start(cls, s0) -> _PassState:
+        """The state before the first evaluation, from the start slopes ``s0``. [deg]"""
+        k = s0.size
+        blank = np.full((k, 5), np.nan)
+        prev, origin, a, b, chosen = (blank.copy() for _ in range(5))
+        return cls(
+            trial=s0.astype(float).copy(),
+            prev=prev,
+            origin=origin,
+            a=a,
+            b=b,
+            chosen=chosen,
+            step=np.zeros(k),
+            direction=np.zeros(k),
+            other_tried=np.zeros(k, dtype=bool),
+            phase=np.zeros(k, dtype=np.int64),
+            side=np.zeros(k, dtype=np.int64),
+            width_prev=np.full(k, np.inf),
+            slow=np.zeros(k, dtype=np.int64),
+            evaluations=np.zeros(k, dtype=np.int64),
+            status=np.full(k, "", dtype=object),
+        )
+
+
+def _finish(st: _PassState, ids, state: str, rows) -> None:
+    """End candidates ``ids`` with ``state`` on the points ``rows``."""
+    st.phase[ids] = 3
+    st.status[ids] = state
+    st.chosen[ids] = rows
+
+
+def _finish_steep_or_falls(st: _PassState, live, sel, point) -> None:
+    """End the selected candidates on their points: ``"steep"`` where ``f < 0``, ``"falls"`` where ``f >= 0``."""
+    f = point[:, _F]
+    for which, state in ((sel & (f < 0), "steep"), (sel & (f >= 0), "falls")):
+        _finish(st, live[which], state, point[which])
+
+
+def _nearer_end(st: _PassState, ids) -> np.ndarray:
+    """Per candidate, the end of the bracket with the smaller mismatch (a on a tie)."""
+    return np.where((st.a[ids, _M] <= st.b[ids, _M])[:, None], st.a[ids], st.b[ids])
+
+
+def _evaluate_points(evaluate, heights: _Heights, st: _PassState, live, gw, index):
+    """Evaluate ``g`` at the live candidates' trial slopes: ``(trial, points (n, 5), no plane)``."""
+    t = st.trial[live]
+    gu, gw_fit = evaluate(t, gw[live], index[live])
+    st.evaluations[live] += 1
+    g = np.degrees(np.arctan(np.asarray(gu, dtype=float)))
+    point = np.column_stack([t, t - g, g, gw_fit, heights.gap(t, g)])
+    bad = ~np.isfinite(g) | ~np.isfinite(np.asarray(gw_fit, dtype=float))
+    return t, point, bad
+
+
+def _settle(st: _PassState, live, point, bad) -> np.ndarray:
+    """End the candidates without a plane and those settled; the others (mask over ``live``)."""
+    _finish(st, live[bad], "no-plane", point[bad])
+    settled = ~bad & (point[:, _M] <= SETTLED_M)
+    _finish(st, live[settled], "settled", point[settled])
+    st.a[live[settled]] = point[settled]
+    st.b[live[settled]] = point[settled]
+    return ~bad & ~settled
+
+
+def _first_step(st: _PassState, live, t, point, first, limits) -> np.ndarray:
+    """First point of the pass: step toward ``g(s)``; those that started on a limit, pointing past it."""
+    lowest, highest = limits
+    f = point[:, _F]
+    ids = live[first]
+    st.origin[ids] = st.prev[ids] = point[first]
+    st.direction[ids] = np.where(f[first] < 0, 1.0, -1.0)
+    st.step[ids] = np.maximum(np.abs(f[first]), MIN_STEP_DEG)
+    st.phase[ids] = 1
+    st.trial[ids] = np.clip(t[first] + st.direction[ids] * st.step[ids], lowest, highest)
+    return first & (st.trial[live] == t)
+
+
+def _search_step(st: _PassState, live, t, point, search, limits):
+    """Searching: a change of sign brackets the root, else step on, doubling: ``(crossed, stuck at a limit)``."""
+    lowest, highest = limits
+    crossed = search & (np.sign(point[:, _F]) != np.sign(st.prev[live, _F]))
+    ids = live[crossed]
+    lower = st.prev[ids, _S] < point[crossed, _S]
+    st.a[ids] = np.where(lower[:, None], st.prev[ids], point[crossed])
+    st.b[ids] = np.where(lower[:, None], point[crossed], st.prev[ids])
+    st.phase[ids] = 2
+    on = search & ~crossed
+    ids = live[on]
+    st.prev[ids] = point[on]
+    st.step[ids] *= 2.0
+    st.trial[ids] = np.clip(t[on] + st.direction[ids] * st.step[ids], lowest, highest)
+    return crossed, on & (st.trial[live] == t)
+
+
+def _turn_or_stop(st: _PassState, live, point, stuck, limits) -> None:
+    """A direction ran out at its limit: search the other way from the start, or end steep or falls."""
+    lowest, highest = limits
+    turn = stuck & ~st.other_tried[live]
+    ids = live[turn]
+    st.other_tried[ids] = True
+    st.direction[ids] = -st.direction[ids]
+    st.prev[ids] = st.origin[ids]
+    st.step[ids] = np.maximum(np.abs(st.origin[ids, _F]), MIN_STEP_DEG)
+    st.trial[ids] = np.clip(st.origin[ids, _S] + st.direction[ids] * st.step[ids], lowest, highest)
+    stuck_again = turn & (st.trial[live] == st.origin[live, _S])
+    _finish_steep_or_falls(st, live, (stuck & ~turn) | stuck_again, point)
+
+
+def _replace_ends(st: _PassState, live, point, refine) -> None:
+    """Refining: replace the end with the same sign (Illinois: halve the end kept twice)."""
+    ids = live[refine]
+    p = point[refine]
+    to_b = np.sign(p[:, _F]) == np.sign(st.b[ids, _F])
+    ib, ia = ids[to_b], ids[~to_b]
+    st.a[ib[st.side[ib] == 1], _F] *= 0.5
+    st.b[ia[st.side[ia] == -1], _F] *= 0.5
+    st.b[ib], st.a[ia] = p[to_b], p[~to_b]
+    st.side[ib], st.side[ia] = 1, -1
+
+
+def _stop_refining(st: _PassState, heights: _Heights, live, inside, spent):
+    """End on a narrow bracket (a jump) or the budget: the others' ``(ids, bracket width [m])``."""
+    ids = live[inside]
+    width = heights.gap(st.a[ids, _S], st.b[ids, _S])
+    narrow = width <= NARROW_M
+    over = spent[inside] & ~narrow
+    pick = _nearer_end(st, ids)
+    for sel, state in ((narrow, "bracket"), (over, "budget")):
+        _finish(st, ids[sel], state, pick[sel])
+    go = ~narrow & ~over
+    return ids[go], width[go]
+
+
+def _next_trial(st: _PassState, ids, width) -> None:
+    """The next trial inside the bracket: regula falsi, or a bisection when it is slow or falls outside."""
+    fa, fb, sa, sb = st.a[ids, _F], st.b[ids, _F], st.a[ids, _S], st.b[ids, _S]
+    falsi = sb - fb * (sb - sa) / (fb - fa)
+    st.slow[ids] = np.where(width > 0.5 * st.width_prev[ids], st.slow[ids] + 1, 0)
+    st.width_prev[ids] = width
+    middle = 0.5 * (sa + sb)
+    bisect = (st.slow[ids] >= 2) | ~((falsi > sa) & (falsi < sb))
+    st.slow[ids[bisect]] = 0
+    st.trial[ids] = np.where(bisect, middle, falsi)
+    no_room = (st.trial[ids] <= sa) | (st.trial[ids] >= sb)  # the floats between the ends are used up
+    pick = _nearer_end(st, ids)
+    _finish(st, ids[no_room], "bracket", pick[no_room])
+
+
+def _pass_result(st: _PassState, heights: _Heights) -> dict:
+    """The pass's answer per candidate: chosen point, bracket ends, spread [m], evaluations and status."""
+    served = np.isin(st.status, ("bracket", "budget"))
+    spread = np.where(served, heights.gap(st.a[:, _G], st.b[:, _G]), st.chosen[:, _M])
+    spread = np.where(np.isin(st.status, ("settled", "bracket", "budget")), spread, np.nan)
+    return {
+        "chosen": st.chosen,
+        "a": st.a,
+        "b": st.b,
+        "spread_m": spread,
+        "evaluations": st.evaluations,
+        "status": st.status,
+    }
+
+
 def _one_pass(evaluate, heights: _Heights, s0, gw, index, limits) -> dict:
     """Bracket and refine ``f(s) = s - g(s)`` with the lateral gradient held (see the module notes)."""
-    lowest, highest = limits
-    k = s0.size
-    blank = np.full((k, 5), np.nan)
-    prev, origin, a, b, chosen = (blank.copy() for _ in range(5))
-    trial = s0.astype(float).copy()
-    step = np.zeros(k)
-    direction = np.zeros(k)
-    other_tried = np.zeros(k, dtype=bool)
-    phase = np.zeros(k, dtype=np.int64)  # 0 first, 1 search, 2 refine, 3 done
-    side = np.zeros(k, dtype=np.int64)  # end replaced last: -1 a, +1 b
-    width_prev = np.full(k, np.inf)
-    slow = np.zeros(k, dtype=np.int64)
-    evaluations = np.zeros(k, dtype=np.int64)
-    status = np.full(k, "", dtype=object)
+    st = _PassState.start(s0)
     while True:
-        live = np.flatnonzero(phase < 3)
+        live = np.flatnonzero(st.phase < 3)
         if live.size == 0:
             break
-        t = trial[live]
-        gu, gw_fit = evaluate(t, gw[live], index[live])
-        evaluations[live] += 1
-        g = np.degrees(np.arctan(np.asarray(gu, dtype=float)))
-        point = np.column_stack([t, t - g, g, gw_fit, heights.gap(t, g)])
-        f = point[:, _F]
-
-        def finish(sel, state, pick, live=live):
-            ids = live[sel]
-            phase[ids] = 3
-            status[ids] = state
-            chosen[ids] = pick[sel] if pick is not None else chosen[ids]
-
-        bad = ~np.isfinite(g) | ~np.isfinite(np.asarray(gw_fit, dtype=float))
-        finish(bad, "no-plane", point)
-        settled = ~bad & (point[:, _M] <= SETTLED_M)
-        finish(settled, "settled", point)
-        a[live[settled]] = point[settled]
-        b[live[settled]] = point[settled]
-        rest = ~bad & ~settled
-        spent = rest & (evaluations[live] >= MAX_EVALUATIONS)
-
-        # First point of the pass: step toward g(s).
-        first = rest & (phase[live] == 0)
-        ids = live[first]
-        origin[ids] = prev[ids] = point[first]
-        direction[ids] = np.where(f[first] < 0, 1.0, -1.0)
-        step[ids] = np.maximum(np.abs(f[first]), MIN_STEP_DEG)
-        phase[ids] = 1
-        trial[ids] = np.clip(t[first] + direction[ids] * step[ids], lowest, highest)
-        stuck = first & (trial[live] == t)  # started on a limit, pointing past it
-        # Searching: a change of sign brackets the root; else step on, doubling.
-        search = rest & (phase[live] == 1) & ~first
-        crossed = search & (np.sign(f) != np.sign(prev[live, _F]))
-        ids = live[crossed]
-        lower = prev[ids, _S] < point[crossed, _S]
-        a[ids] = np.where(lower[:, None], prev[ids], point[crossed])
-        b[ids] = np.where(lower[:, None], point[crossed], prev[ids])
-        phase[ids] = 2
-        on = search & ~crossed
-        ids = live[on]
-        prev[ids] = point[on]
-        step[ids] *= 2.0
-        trial[ids] = np.clip(t[on] + direction[ids] * step[ids], lowest, highest)
-        stuck |= on & (trial[live] == t)
-        # A direction ran out at its limit: search the other way from the start, or stop.
-        turn = stuck & ~other_tried[live]
-        ids = live[turn]
-        other_tried[ids] = True
-        direction[ids] = -direction[ids]
-        prev[ids] = origin[ids]
-        step[ids] = np.maximum(np.abs(origin[ids, _F]), MIN_STEP_DEG)
-        trial[ids] = np.clip(origin[ids, _S] + direction[ids] * step[ids], lowest, highest)
-        stuck_again = turn & (trial[live] == origin[live, _S])
-        done_searching = (stuck & ~turn) | stuck_again
-        finish(done_searching & (f < 0), "steep", point)
-        finish(done_searching & (f >= 0), "falls", point)
-
-        # Refining: replace the end with the same sign (Illinois: halve the end kept twice).
-        refine = rest & (phase[live] == 2) & ~crossed
-        ids = live[refine]
-        p = point[refine]
-        to_b = np.sign(p[:, _F]) == np.sign(b[ids, _F])
-        ib, ia = ids[to_b], ids[~to_b]
-        a[ib[side[ib] == 1], _F] *= 0.5
-        b[ia[side[ia] == -1], _F] *= 0.5
-        b[ib], a[ia] = p[to_b], p[~to_b]
-        side[ib], side[ia] = 1, -1
-        # Stop on a narrow bracket (a jump) or the budget; else the next trial.
-        inside = rest & (phase[live] == 2)
-        ids = live[inside]
-        width = heights.gap(a[ids, _S], b[ids, _S])
-        narrow = width <= NARROW_M
-        over = spent[inside] & ~narrow
-        for sel, state in ((narrow, "bracket"), (over, "budget")):
-            pick = np.where((a[ids, _M] <= b[ids, _M])[:, None], a[ids], b[ids])
-            phase[ids[sel]] = 3
-            status[ids[sel]] = state
-            chosen[ids[sel]] = pick[sel]
-        go = ~narrow & ~over
-        ids, width = ids[go], width[go]
-        fa, fb, sa, sb = a[ids, _F], b[ids, _F], a[ids, _S], b[ids, _S]
-        falsi = sb - fb * (sb - sa) / (fb - fa)
-        slow[ids] = np.where(width > 0.5 * width_prev[ids], slow[ids] + 1, 0)
-        width_prev[ids] = width
-        middle = 0.5 * (sa + sb)
-        bisect = (slow[ids] >= 2) | ~((falsi > sa) & (falsi < sb))
-        slow[ids[bisect]] = 0
-        trial[ids] = np.where(bisect, middle, falsi)
-        no_room = (trial[ids] <= sa) | (trial[ids] >= sb)  # the floats between the ends are used up
-        pick = np.where((a[ids, _M] <= b[ids, _M])[:, None], a[ids], b[ids])
-        phase[ids[no_room]] = 3
-        status[ids[no_room]] = "bracket"
-        chosen[ids[no_room]] = pick[no_room]
+        t, point, bad = _evaluate_points(evaluate, heights, st, live, gw, index)
+        rest = _settle(st, live, point, bad)
+        spent = rest & (st.evaluations[live] >= MAX_EVALUATIONS)
+        first = rest & (st.phase[live] == 0)
+        stuck = _first_step(st, live, t, point, first, limits)
+        crossed, stuck_on = _search_step(st, live, t, point, rest & (st.phase[live] == 1) & ~first, limits)
+        _turn_or_stop(st, live, point, stuck | stuck_on, limits)
+        _replace_ends(st, live, point, rest & (st.phase[live] == 2) & ~crossed)
+        ids, width = _stop_refining(st, heights, live, rest & (st.phase[live] == 2), spent)
+        _next_trial(st, ids, width)
         # The budget also ends a search that found no bracket: keep the point, call it steep or falls.
-        searching_spent = spent & (phase[live] < 2)
-        finish(searching_spent & (f < 0), "steep", point)
-        finish(searching_spent & (f >= 0), "falls", point)
-    served = np.isin(status, ("bracket", "budget"))
-    spread = np.where(served, heights.gap(a[:, _G], b[:, _G]), chosen[:, _M])
-    spread = np.where(np.isin(status, ("settled", "bracket", "budget")), spread, np.nan)
-    return {"chosen": chosen, "a": a, "b": b, "spread_m": spread, "evaluations": evaluations, "status": status}
+        _finish_steep_or_falls(st, live, spent & (st.phase[live] < 2), point)
+    return _pass_result(st, heights)

@@ -104,6 +104,120 @@ class ZoneRows:
         )
 
 
+def _zone_rows_in_blocks(height, setback, offset, sign, angle_deg, wavelength_m, gu, gw, spacing_m, count) -> ZoneRows:
+    """:func:`zone_rows` block by block of ``_CHUNK`` candidates, rows padded to the widest block.
+
+    Keeps the (candidates x rows x receivers) arrays small enough for the cache.
+    """
+    parts = [
+        zone_rows(
+            height[k : k + _CHUNK],
+            setback[k : k + _CHUNK],
+            offset[k : k + _CHUNK],
+            sign[k : k + _CHUNK],
+            angle_deg,
+            wavelength_m,
+            gu[k : k + _CHUNK],
+            gw[k : k + _CHUNK],
+            spacing_m,
+            count,
+        )
+        for k in range(0, setback.size, _CHUNK)
+    ]
+    width = max(p.rows.shape[1] for p in parts)
+
+    def joined(name, fill):
+        return np.concatenate(
+            [np.pad(getattr(p, name), ((0, 0), (0, width - p.rows.shape[1])), constant_values=fill) for p in parts]
+        )
+
+    return ZoneRows(joined("rows", 0), joined("i_lo", 1), joined("i_hi", 0), joined("w_m", 0.0))
+
+
+def _zone_ellipses(height, setback, offset, angle_deg: float, wavelength_m: float, gu, gw):
+    """The exact first Fresnel ellipses of every antenna with every fit receiver, per candidate.
+
+    Returns
+    -------
+    centres : numpy.ndarray, shape (C, N, 2)
+        Centres (u, w); 0 where no zone. [m]
+    q : numpy.ndarray, shape (C, N, 2, 2)
+        Matrices of ``(p - c)^T Q (p - c) <= 1``; the identity where no zone. [1/m2]
+    det : numpy.ndarray, shape (C, N)
+        ``det(Q)``; 1 where no zone. [1/m4]
+    real : numpy.ndarray of bool, shape (C, N)
+        Whether the pair has a zone.
+    """
+    c = setback.size
+    # Every antenna with every receiver: (C, A * N) pairs, antenna by antenna.
+    receivers = np.tile(fit_receivers(setback, offset, angle_deg, gu, gw), (1, height.shape[1], 1))
+    n = receivers.shape[1]
+    ant = np.zeros((c, n, 3))
+    ant[:, :, 2] = np.repeat(height, FIT_RECEIVERS, axis=1)
+    centres, q = exact_ellipses(ant.reshape(-1, 3), receivers.reshape(-1, 3), wavelength_m)
+    centres, q = centres.reshape(c, n, 2), q.reshape(c, n, 2, 2)
+    det = q[..., 0, 0] * q[..., 1, 1] - q[..., 0, 1] ** 2
+    # A receiver at or below the plane (a trial plane steeper than the path near the mast) has no zone.
+    real = (receivers[..., 2] > 0.0) & (det > 0.0) & (q[..., 0, 0] > 0.0) & np.isfinite(centres).all(axis=-1)
+    centres = np.where(real[..., None], centres, 0.0)
+    q = np.where(real[..., None, None], q, np.eye(2))
+    det = np.where(real, det, 1.0)
+    return centres, q, det, real
+
+
+def _rows_crossed(centres, q, det, real, offset, sign, sp: float, count: int | None):
+    """The grid rows ``j`` (C, R) that the ellipses may cross (at least ``count``), and each row's ``w`` [m]."""
+    # Rows whose w = offset - sign * cross lies within each candidate's ellipses.
+    reach = np.sqrt(q[..., 0, 0] / det)
+    w_lo = np.where(real, centres[..., 1] - reach, np.inf).min(axis=1)
+    w_hi = np.where(real, centres[..., 1] + reach, -np.inf).max(axis=1)
+    some = np.isfinite(w_lo)
+    w_lo, w_hi = np.where(some, w_lo, offset), np.where(some, w_hi, offset)
+    cross_a, cross_b = sign * (offset - w_lo), sign * (offset - w_hi)
+    j0 = np.floor(np.minimum(cross_a, cross_b) / sp).astype(np.int64)
+    needed = int(math.ceil(np.max(w_hi - w_lo) / sp)) + 2
+    count = needed if count is None else max(count, needed)
+    rows = j0[:, None] + np.arange(count)[None, :]
+    w_rows = offset[:, None] - sign[:, None] * (sp * rows)
+    return rows, w_rows
+
+
+def _row_spans(centres, q, det, real, w_rows):
+    """On each row, the ``u`` interval (lo, hi) (C, R) the union of the ellipses spans; ``(inf, -inf)`` if none. [m]"""
+    # On the row w, ellipse (p - c)^T Q (p - c) <= 1 spans u = c_u - (q_uw/q_uu) dw +/- sqrt(g - b dw^2)
+    # with g = 1/q_uu and b = det(Q)/q_uu^2 (dw = w - c_w); empty where g < b dw^2.
+    # float32 here: near a zone's tips the half-length loses a few centimetres, far below a cell.
+    f4 = np.float32
+    alpha = (q[..., 0, 1] / q[..., 0, 0]).astype(f4)[:, None, :]
+    beta = (det / q[..., 0, 0] ** 2).astype(f4)[:, None, :]
+    gamma = np.where(real, 1.0 / q[..., 0, 0], -1.0).astype(f4)[:, None, :]  # -1: the row always misses
+    dw = w_rows.astype(f4)[:, :, None] - centres[:, None, :, 1].astype(f4)  # (C, R, N)
+    mid = centres[:, None, :, 0].astype(f4) - alpha * dw
+    dw *= dw
+    dw *= beta
+    np.subtract(gamma, dw, out=dw)  # now the squared half-length, negative where the row misses
+    missing = dw < 0.0
+    np.sqrt(np.maximum(dw, f4(0.0), out=dw), out=dw)
+    lo = np.where(missing, np.inf, mid - dw).min(axis=2).astype(np.float64)
+    mid += dw
+    mid[missing] = -np.inf
+    hi = mid.max(axis=2).astype(np.float64)
+    return lo, hi
+
+
+def _grid_columns(lo, hi, setback, sp: float):
+    """First and last grid column ``i`` (C, R) with its cell centre in ``u`` in [lo, hi]; ``i_lo > i_hi`` if none."""
+    # along = setback - u; column i = along / sp, cells whose centres are inside.
+    empty = ~np.isfinite(lo)
+    lo, hi = np.where(empty, 0.0, lo), np.where(empty, 0.0, hi)
+    i_lo = np.ceil((setback[:, None] - hi) / sp - 1e-9)
+    i_hi = np.floor((setback[:, None] - lo) / sp + 1e-9)
+    i_lo = np.where(empty, 1, i_lo).astype(np.int64)
+    i_hi = np.where(empty, 0, i_hi).astype(np.int64)
+    i_hi = np.where(i_hi < i_lo, i_lo - 1, i_hi)
+    return i_lo, i_hi
+
+
 def zone_rows(
     height_m,
     setback_m,
@@ -147,82 +261,11 @@ def zone_rows(
     height = np.asarray(height_m, dtype=float).reshape(setback.size, -1)
     sign = np.broadcast_to(np.asarray(sign, dtype=float), setback.shape)
     if setback.size > _CHUNK:  # keep the (candidates x rows x receivers) arrays small enough for the cache
-        parts = [
-            zone_rows(
-                height[k : k + _CHUNK],
-                setback[k : k + _CHUNK],
-                offset[k : k + _CHUNK],
-                sign[k : k + _CHUNK],
-                angle_deg,
-                wavelength_m,
-                gu[k : k + _CHUNK],
-                gw[k : k + _CHUNK],
-                spacing_m,
-                count,
-            )
-            for k in range(0, setback.size, _CHUNK)
-        ]
-        width = max(p.rows.shape[1] for p in parts)
-
-        def joined(name, fill):
-            return np.concatenate(
-                [np.pad(getattr(p, name), ((0, 0), (0, width - p.rows.shape[1])), constant_values=fill) for p in parts]
-            )
-
-        return ZoneRows(joined("rows", 0), joined("i_lo", 1), joined("i_hi", 0), joined("w_m", 0.0))
-    sp = spacing_m
-    c = setback.size
-    # Every antenna with every receiver: (C, A * N) pairs, antenna by antenna.
-    receivers = np.tile(fit_receivers(setback, offset, angle_deg, gu, gw), (1, height.shape[1], 1))
-    n = receivers.shape[1]
-    ant = np.zeros((c, n, 3))
-    ant[:, :, 2] = np.repeat(height, FIT_RECEIVERS, axis=1)
-    centres, q = exact_ellipses(ant.reshape(-1, 3), receivers.reshape(-1, 3), wavelength_m)
-    centres, q = centres.reshape(c, n, 2), q.reshape(c, n, 2, 2)
-    det = q[..., 0, 0] * q[..., 1, 1] - q[..., 0, 1] ** 2
-    # A receiver at or below the plane (a trial plane steeper than the path near the mast) has no zone.
-    real = (receivers[..., 2] > 0.0) & (det > 0.0) & (q[..., 0, 0] > 0.0) & np.isfinite(centres).all(axis=-1)
-    centres = np.where(real[..., None], centres, 0.0)
-    q = np.where(real[..., None, None], q, np.eye(2))
-    det = np.where(real, det, 1.0)
-    # Rows whose w = offset - sign * cross lies within each candidate's ellipses.
-    reach = np.sqrt(q[..., 0, 0] / det)
-    w_lo = np.where(real, centres[..., 1] - reach, np.inf).min(axis=1)
-    w_hi = np.where(real, centres[..., 1] + reach, -np.inf).max(axis=1)
-    some = np.isfinite(w_lo)
-    w_lo, w_hi = np.where(some, w_lo, offset), np.where(some, w_hi, offset)
-    cross_a, cross_b = sign * (offset - w_lo), sign * (offset - w_hi)
-    j0 = np.floor(np.minimum(cross_a, cross_b) / sp).astype(np.int64)
-    needed = int(math.ceil(np.max(w_hi - w_lo) / sp)) + 2
-    count = needed if count is None else max(count, needed)
-    rows = j0[:, None] + np.arange(count)[None, :]
-    w_rows = offset[:, None] - sign[:, None] * (sp * rows)
-    # On the row w, ellipse (p - c)^T Q (p - c) <= 1 spans u = c_u - (q_uw/q_uu) dw +/- sqrt(g - b dw^2)
-    # with g = 1/q_uu and b = det(Q)/q_uu^2 (dw = w - c_w); empty where g < b dw^2.
-    # float32 here: near a zone's tips the half-length loses a few centimetres, far below a cell.
-    f4 = np.float32
-    alpha = (q[..., 0, 1] / q[..., 0, 0]).astype(f4)[:, None, :]
-    beta = (det / q[..., 0, 0] ** 2).astype(f4)[:, None, :]
-    gamma = np.where(real, 1.0 / q[..., 0, 0], -1.0).astype(f4)[:, None, :]  # -1: the row always misses
-    dw = w_rows.astype(f4)[:, :, None] - centres[:, None, :, 1].astype(f4)  # (C, R, N)
-    mid = centres[:, None, :, 0].astype(f4) - alpha * dw
-    dw *= dw
-    dw *= beta
-    np.subtract(gamma, dw, out=dw)  # now the squared half-length, negative where the row misses
-    missing = dw < 0.0
-    np.sqrt(np.maximum(dw, f4(0.0), out=dw), out=dw)
-    lo = np.where(missing, np.inf, mid - dw).min(axis=2).astype(np.float64)
-    mid += dw
-    mid[missing] = -np.inf
-    hi = mid.max(axis=2).astype(np.float64)
-    # along = setback - u; column i = along / sp, cells whose centres are inside.
-    empty = ~np.isfinite(lo)
-    lo, hi = np.where(empty, 0.0, lo), np.where(empty, 0.0, hi)
-    i_lo = np.ceil((setback[:, None] - hi) / sp - 1e-9)
-    i_hi = np.floor((setback[:, None] - lo) / sp + 1e-9)
-    i_lo = np.where(empty, 1, i_lo).astype(np.int64)
-    i_hi = np.where(empty, 0, i_hi).astype(np.int64)
-    i_hi = np.where(i_hi < i_lo, i_lo - 1, i_hi)
+        return _zone_rows_in_blocks(height, setback, offset, sign, angle_deg, wavelength_m, gu, gw, spacing_m, count)
+    centres, q, det, real = _zone_ellipses(height, setback, offset, angle_deg, wavelength_m, gu, gw)
+    rows, w_rows = _rows_crossed(centres, q, det, real, offset, sign, spacing_m, count)
+    lo, hi = _row_spans(centres, q, det, real, w_rows)
+    i_lo, i_hi = _grid_columns(lo, hi, setback, spacing_m)
     return ZoneRows(rows, i_lo, i_hi, w_rows)
 
 

@@ -57,6 +57,7 @@ References
 from __future__ import annotations
 
 import contextlib
+import functools
 import math
 import threading
 from collections.abc import Callable
@@ -223,6 +224,396 @@ def _run(index: np.ndarray):
     return slice(index[0], index[-1] + 1) if index[-1] - index[0] + 1 == index.size else index
 
 
+@dataclass(frozen=True)
+class _Call:
+    """The constants of one kernel call, read by its chunks in any thread (see :func:`_pair_fields`)."""
+
+    src: np.ndarray  # (S, 3) sources [m]
+    rx: np.ndarray  # (R, 3) receivers [m], or unit directions with ``far``
+    wavelength_m: float
+    far: bool
+    dt: np.dtype  # precision of the pair work after the phase
+    two_sided: bool
+    homogeneous: np.ndarray  # (R, 4) receivers ``[q, 1]`` in wavelengths, or directions ``[d, 0]``
+    centres: np.ndarray  # (P, 3) facet centres in wavelengths (as given with ``far``)
+    group_of: np.ndarray  # (P,) group of each facet
+    every_facet: dict  # :func:`_source_terms`
+    lossy: bool
+    table: np.ndarray | None  # (4, 2049) -Gamma and its steps, per grazing angle of the table
+    per_rad: float | None  # table steps per radian
+    ht: np.ndarray | None  # (P,) tangent of each facet's horizon
+    tiny: np.generic  # ``_TINY`` in ``dt``
+    pair_weight: Callable | None
+    count_p: int
+    count_r: int
+    rows_per_chunk: int  # facets per chunk
+    size: int  # pairs per chunk, the size of a workspace's arrays
+    spaces: dict  # a :class:`_Workspace` per thread
+
+
+class _PairSpace:
+    """A thread's workspace seen through one chunk: arrays of (m receivers, p facets)."""
+
+    __slots__ = ("ws", "shape", "dt")
+
+    def __init__(self, ws: _Workspace, m: int, p: int, dt: np.dtype):
+        self.ws, self.shape, self.dt = ws, (m, p), dt
+
+    def take(self, name: str, dtype=None) -> np.ndarray:
+        """An uninitialised (m, p) array, receivers by facets (per-facet factors broadcast along rows)."""
+        return self.ws.take(name, self.shape, self.dt if dtype is None else dtype)
+
+
+def _gamma_table(relative_permittivity: float, conductivity_s_m: float | None, wavelength_m: float, dt):
+    """``-Gamma`` (real, imaginary) and its steps on ``_GAMMA_TABLE_RAD``, in ``dt``, and steps per radian."""
+    gamma = -reflection_coefficient_h(_GAMMA_TABLE_RAD, relative_permittivity, conductivity_s_m, wavelength_m)
+    table = np.stack([gamma.real, gamma.imag, np.r_[np.diff(gamma.real), 0.0], np.r_[np.diff(gamma.imag), 0.0]])
+    table = table.astype(dt)
+    per_rad = (_GAMMA_TABLE_RAD.size - 1) / _GAMMA_TABLE_RAD[-1]
+    return table, per_rad
+
+
+def _source_terms(facets: Facets, src: np.ndarray, k: float, dt, visible, lossy: bool) -> dict:
+    """Per source and facet, for every facet at once, in double precision, components first.
+
+    Computed once per call (a chunk takes its facets' columns): the same numbers as facet by
+    facet, without the fixed cost of some forty small array operations per chunk.
+    """
+    half_k = 0.5 * k
+    a, b = facets.edge_a_m.T, facets.edge_b_m.T  # (3, P)
+    normal = np.cross(a, b, axis=0)
+    area = np.sqrt(_dot(normal, normal))
+    n = normal / area
+    d1 = facets.centres_m.T[None, :, :] - src[:, :, None]  # (S, 3, P)
+    r1 = np.sqrt(_dot(d1, d1))
+    s1 = d1 / r1[:, None, :]
+    ns1 = _dot(s1, n)
+    lit = ns1 != 0.0 if facets.two_sided else ns1 < 0.0
+    if visible is not None:
+        lit &= visible
+    weight = area if facets.weights is None else area * facets.weights
+    terms = {"keep": np.any(lit, axis=0) & (weight != 0.0)}
+    terms["amp"] = np.where(lit, weight * np.exp(-1j * k * r1) / r1, 0.0)  # (S, P)
+    sx, sy = s1[:, 0], s1[:, 1]
+    h1 = np.hypot(sx, sy)
+    a1 = np.abs(ns1)
+    b1 = -np.sign(ns1) * (n[1] * sx - n[0] * sy)
+    # Per source, F_p h1 h2 = s1x P + s1y Q + c1 x + c2 y (see _pair_fields), divided by h1.
+    terms["coef"] = (np.stack([sx, sy, a1 * sx + b1 * sy, a1 * sy - b1 * sx], axis=1) / h1[:, None, :]).astype(dt)
+    terms["s1a"] = (half_k * _dot(s1, a)).astype(dt)
+    terms["s1b"] = (half_k * _dot(s1, b)).astype(dt)
+    if lossy:
+        terms["g1"] = np.arcsin(np.minimum(a1, 1.0)).astype(dt)  # the source's grazing angle
+    zero = np.zeros(n.shape[1])
+    terms["shared"] = np.stack([n, [n[1], -n[0], zero], half_k * a, half_k * b]).astype(dt)  # (4, 3, P)
+    return terms
+
+
+def _source_side(every_facet: dict, sl: slice, counted=None) -> dict | None:
+    """The terms of the facets of a chunk lit by some source (and ``counted``: with a pair weight other than 0)."""
+    keep = every_facet["keep"][sl]
+    rows = np.flatnonzero(keep if counted is None else keep & counted)
+    if rows.size == 0:
+        return None
+    idx = sl.start + rows
+    side = {"rows": rows, "amp": every_facet["amp"][:, idx], "coef": every_facet["coef"][:, :, idx]}
+    for name in ("s1a", "s1b", "g1"):
+        if name in every_facet:
+            side[name] = every_facet[name][:, idx]
+    side["shared"] = every_facet["shared"][:, :, idx]
+    return side
+
+
+def _homogeneous_rows(rows: np.ndarray, centres_about: np.ndarray) -> None:
+    """Complete rows ``[v, -v . c]`` (k, 4, p) from their ``v``.
+
+    Times ``[q, 1]`` (a point) they give ``v . (q - c)``, times ``[d, 0]`` (a direction) ``v . d``.
+    """
+    np.multiply(rows[:, 0], centres_about[0], out=rows[:, 3])
+    for i in (1, 2):
+        rows[:, 3] += rows[:, i] * centres_about[i]
+    np.negative(rows[:, 3], out=rows[:, 3])
+
+
+def _chunk_receivers(pair_weight, sl: slice, dt):
+    """``(receiver index, pair weights (p, m) or None, facets that count or None)``; None: no receiver counts."""
+    if pair_weight is None:
+        return slice(None), None, None
+    cols, pair = pair_weight(sl)
+    cols = np.asarray(cols, dtype=np.int64)
+    if cols.size == 0:
+        return None
+    pair = np.asarray(pair, dtype=dt)
+    counted = np.any(pair != 0.0, axis=1)  # facets that count for some receiver
+    return cols, pair, counted
+
+
+def _receiver_products(call: _Call, space: _PairSpace, idx: np.ndarray, shared: np.ndarray, cols):
+    """The products shared by the sources, ``v . (q - c)`` (7, m, p), about the chunk's middle.
+
+    Returns the centres ``c`` (3, p), the receivers ``q`` (m, 4) and the centres ``c_about`` (3, p)
+    about the middle (in wavelengths, as given with ``far``), and the products for ``x, y, z``,
+    ``n``, ``h2 (n . e_r)``, ``k a / 2`` and ``k b / 2`` (the receiver's half of the sinc).
+    """
+    dt, p = call.dt, idx.size
+    c = call.centres[idx].T  # (3, p)
+    middle = c.mean(axis=1)  # products about the chunk's middle, where single precision keeps its digits
+    q = call.homogeneous[cols] if call.far else call.homogeneous[cols] - np.r_[middle, 0.0]
+    q = q.astype(dt)
+    c_about = (c - middle[:, None]).astype(dt)
+    vectors = space.ws.take("vectors", (7, 4, p), dt)
+    vectors[:3, :3] = np.eye(3, dtype=dt)[:, :, None]
+    vectors[3:, :3] = shared
+    _homogeneous_rows(vectors, c_about)
+    lin = space.ws.take("lin", (7, space.shape[0], p), dt)
+    for row, rows_k in zip(lin, vectors):
+        np.matmul(q, rows_k, out=row)
+    return c, q, c_about, lin
+
+
+def _receiver_range(call: _Call, space: _PairSpace, c: np.ndarray, cols, ra: np.ndarray, rb: np.ndarray):
+    """The phase ``r2`` in turns (m, p), double precision, and ``1 / r2`` (None with ``far``). [1/wavelength]
+
+    A far receiver's phase is ``-d . c`` instead. Near receivers' sinc halves ``ra, rb`` become per unit range.
+    """
+    f64 = np.float64
+    turns = space.take("turns", f64)
+    if call.far:
+        np.matmul(call.rx[cols] * (-1.0 / call.wavelength_m), c, out=turns)  # exp(-j k r2) -> exp(+j k d . c)
+        return turns, None
+    # r2 in turns, from the differences in double precision (each pair on its own)
+    whole = space.take("whole", f64)
+    dx, dy, dz = space.take("dx", f64), space.take("dy", f64), space.take("dz", f64)
+    for i, d in enumerate((dx, dy, dz)):
+        np.subtract(call.homogeneous[cols, i][:, None], c[i][None, :], out=d)
+    np.multiply(dx, dx, out=turns)
+    np.multiply(dy, dy, out=whole)
+    turns += whole
+    np.multiply(dz, dz, out=whole)
+    turns += whole
+    np.sqrt(turns, out=turns)
+    inverse_r2 = space.take("inverse_r2")
+    np.divide(1.0, turns, out=inverse_r2)
+    ra *= inverse_r2
+    rb *= inverse_r2
+    return turns, inverse_r2
+
+
+def _receiver_weights(call: _Call, space: _PairSpace, idx: np.ndarray, lin: np.ndarray, inverse_r2, pair):
+    """The wave's amplitude per pair (m, p): ``1 / (r2 rho)``, 0 where hidden or below a ground facet.
+
+    Also turns the products for ``n`` and ``h2 (n . e_r)`` by ``sign(N)`` on two-sided facets.
+    """
+    x, y, z, nl, el = lin[:5]
+    tmp, wa = space.take("tmp"), space.take("wa")
+    # rho = h2 times the range: the 1 / h2 of the coupling and the wave's 1 / r2 are 1 / (r2 rho / r2).
+    np.multiply(x, x, out=wa)
+    np.multiply(y, y, out=tmp)
+    wa += tmp
+    np.sqrt(wa, out=wa)
+    mask = space.take("mask", np.bool_)
+    if call.ht is not None:
+        np.multiply(wa, call.ht[idx][None, :], out=tmp)
+        np.greater(z, tmp, out=mask)
+    np.divide(1.0 if call.far else inverse_r2, wa, out=wa)  # 1 / (r2 h2) times 1 / r2 (spherical wave)
+    if call.ht is not None:
+        wa *= mask
+    if not call.two_sided:
+        np.greater(nl, 0.0, out=mask)
+        wa *= mask  # a ground facet radiates only upward
+    else:  # sign(N) on the products with n and e_r (module notes: P, Q)
+        np.copysign(1.0, nl, out=tmp)
+        nl *= tmp
+        el *= tmp
+    if pair is not None:
+        wa *= pair
+    return wa
+
+
+def _receiver_wave(space: _PairSpace, turns: np.ndarray, wa: np.ndarray):
+    """The receiver's wave ``wa exp(-j 2 pi turns)`` (real, imaginary), each (m, p); reduces ``turns`` to one turn."""
+    whole = space.take("whole", np.float64)
+    # The phase reduced to one turn in double precision, then in dt: exp(-j 2 pi turns).
+    np.rint(turns, out=whole)
+    turns -= whole
+    phase = space.take("phase")
+    np.multiply(turns, -2.0 * math.pi, out=phase)
+    wave_re, wave_im = space.take("wave_re"), space.take("wave_im")
+    np.cos(phase, out=wave_re)
+    wave_re *= wa
+    np.sin(phase, out=wave_im)
+    wave_im *= wa
+    return wave_re, wave_im
+
+
+def _receiver_grazing(call: _Call, space: _PairSpace, nl: np.ndarray, inverse_r2) -> np.ndarray:
+    """The grazing angle toward the receiver, ``arcsin |n . r2|`` (m, p). [rad]"""
+    g2 = space.take("g2")
+    np.abs(nl, out=g2)
+    if not call.far:
+        g2 *= inverse_r2
+    np.minimum(g2, 1.0, out=g2)
+    np.arcsin(g2, out=g2)
+    return g2
+
+
+def _group_members(groups: np.ndarray):
+    """The groups of a chunk's facets and, per group, its facets (a slice where one run)."""
+    local, inverse = np.unique(groups, return_inverse=True)
+    members_of = [slice(None)]
+    if local.size > 1:
+        members_of = [_run(np.flatnonzero(inverse == g)) for g in range(local.size)]
+    return local, members_of
+
+
+def _linear_coupling(q, own, per_source, c_about, cs, nl, el, coupling, tmp) -> None:
+    """One source's coupling before the sinc factors, ``coupling = sign(N) (N' G1 + E' G2) / r + G3`` (m, p).
+
+    ``own`` (3, 4, p) and ``per_source`` (3, m, p) are work arrays for the rows and products ``G1, G2, G3``.
+    """
+    own[:, 2] = 0.0
+    own[0, 0], own[0, 1], own[1, 0], own[2, 0], own[2, 1] = cs[0], cs[1], cs[1], cs[2], cs[3]
+    np.negative(cs[0], out=own[1, 1])
+    _homogeneous_rows(own, c_about)
+    for row, rows_k in zip(per_source, own):
+        np.matmul(q, rows_k, out=row)
+    g_1, g_2, g_3 = per_source
+    np.multiply(nl, g_1, out=coupling)
+    np.multiply(el, g_2, out=tmp)
+    coupling += tmp
+    coupling += g_3
+
+
+def _sinc_factors(coupling, receiver_halves, source_halves, u, v, tiny) -> None:
+    """``coupling *= S(g . a) S(g . b)``, ``S(t) = sin(t / 2) / (t / 2)``, ``t / 2 = s1 . e - r2 . e``."""
+    for r_e, s_e in zip(receiver_halves, source_halves):
+        np.subtract(s_e[None, :], r_e, out=u)
+        np.abs(u, out=u)
+        u += tiny
+        np.sin(u, out=v)
+        coupling *= v
+        coupling /= u
+
+
+def _fresnel_coefficient(call: _Call, space: _PairSpace, g2, g1_s, u):
+    """``-Gamma`` (real, imaginary) at the mean grazing angle of each pair (module notes), from the table.
+
+    ``u`` is a work array (m, p).
+    """
+    np.add(g2, g1_s[None, :], out=u)
+    u *= 0.5 * call.per_rad
+    at = space.take("at", np.intp)
+    np.copyto(at, u, casting="unsafe")  # floor: u >= 0
+    np.minimum(at, _GAMMA_TABLE_RAD.size - 2, out=at)
+    u -= at
+    table = call.table
+    g_re, g_im = space.take("g_re"), space.take("g_im")
+    np.multiply(table[2][at], u, out=g_re)
+    g_re += table[0][at]
+    np.multiply(table[3][at], u, out=g_im)
+    g_im += table[1][at]
+    return g_re, g_im
+
+
+def _lossy_terms(g_re, g_im, coupling, wave, terms, tmp) -> None:
+    """``terms = -Gamma F`` times the wave (real, imaginary); ``g_re, g_im`` become ``-Gamma F``."""
+    wave_re, wave_im = wave
+    g_re *= coupling
+    g_im *= coupling
+    np.multiply(g_re, wave_re, out=terms[0])
+    np.multiply(g_im, wave_im, out=tmp)
+    terms[0] -= tmp
+    np.multiply(g_re, wave_im, out=terms[1])
+    np.multiply(g_im, wave_re, out=tmp)
+    terms[1] += tmp
+
+
+def _add_groups(result_s: np.ndarray, terms: np.ndarray, amp_s: np.ndarray, members_of: list, dt) -> None:
+    """Set one source's fields per group (g, m): the pair terms summed over the facets, times their source factors."""
+    factor = np.stack([amp_s.real, amp_s.imag], axis=1).astype(dt)  # (p, 2)
+    for g, members in enumerate(members_of):
+        summed = (terms[:, :, members] @ factor[members]).astype(float)  # (2, m, 2)
+        result_s[g].real = summed[0, :, 0] - summed[1, :, 1]
+        result_s[g].imag = summed[0, :, 1] + summed[1, :, 0]
+
+
+def _source_fields(call: _Call, space: _PairSpace, side: dict, q, c_about, lin, wave, g2, members_of, result) -> None:
+    """Each source's fields of a chunk, summed per group, into ``result`` (S, g, m) (sources lighting none: 0)."""
+    dt, (m, p) = call.dt, space.shape
+    nl, el, ra, rb = lin[3:]
+    tmp, coupling, u, v = space.take("tmp"), space.take("coupling"), space.take("u"), space.take("v")
+    terms = space.ws.take("terms", (2, m, p), dt)
+    per_source = space.ws.take("per_source", (3, m, p), dt)
+    own = space.ws.take("own", (3, 4, p), dt)
+    for s in range(call.src.shape[0]):
+        amp_s = side["amp"][s]
+        if not np.any(amp_s):
+            continue
+        _linear_coupling(q, own, per_source, c_about, side["coef"][s], nl, el, coupling, tmp)
+        _sinc_factors(coupling, (ra, rb), (side["s1a"][s], side["s1b"][s]), u, v, call.tiny)
+        if call.lossy:
+            g_re, g_im = _fresnel_coefficient(call, space, g2, side["g1"][s], u)
+            _lossy_terms(g_re, g_im, coupling, wave, terms, tmp)
+        else:
+            np.multiply(coupling, wave[0], out=terms[0])
+            np.multiply(coupling, wave[1], out=terms[1])
+        _add_groups(result[s], terms, amp_s, members_of, dt)
+
+
+def _chunk(call: _Call, start: int):
+    """The fields of the chunk of facets from ``start``: ``(groups, receiver index, fields (S, g, m))``.
+
+    None when no facet of the chunk is lit and counts for some receiver.
+    """
+    sl = slice(start, min(start + call.rows_per_chunk, call.count_p))
+    picked = _chunk_receivers(call.pair_weight, sl, call.dt)
+    if picked is None:
+        return None
+    cols, pair, counted = picked
+    side = _source_side(call.every_facet, sl, counted)
+    if side is None:
+        return None
+    if pair is not None:
+        pair = np.ascontiguousarray(pair[side["rows"]].T)
+    idx = sl.start + side["rows"]
+    m = call.count_r if pair is None else cols.size
+    ws = call.spaces.setdefault(threading.get_ident(), _Workspace(call.size))
+    space = _PairSpace(ws, m, idx.size, call.dt)
+    c, q, c_about, lin = _receiver_products(call, space, idx, side["shared"], cols)
+    nl, el, ra, rb = lin[3:]  # x, y, z (lin[:3]): r2 times the range in turns (1 for far receivers)
+    turns, inverse_r2 = _receiver_range(call, space, c, cols, ra, rb)
+    wa = _receiver_weights(call, space, idx, lin, inverse_r2, pair)
+    wave = _receiver_wave(space, turns, wa)
+    g2 = _receiver_grazing(call, space, nl, inverse_r2) if call.lossy else None
+    if not call.far:  # x, y, z, n . r2 and h2 (n . e_r) were times the range
+        nl *= inverse_r2
+        el *= inverse_r2
+    local, members_of = _group_members(call.group_of[idx])
+    result = np.zeros((call.src.shape[0], local.size, m), dtype=complex)
+    _source_fields(call, space, side, q, c_about, lin, wave, g2, members_of, result)
+    return local, cols, result
+
+
+def _thread_count(threads: int | None, chunks: int) -> int:
+    """The worker threads of a call: ``threads`` as given, or the default (:func:`_pair_fields`) within every limit."""
+    if threads is None:
+        threads = _THREADS if threading.current_thread() is threading.main_thread() and chunks > 1 else 1
+        if _LIMITS and threads > 1:  # every limit in force: the process's and each block's
+            threads = max(1, min(threads, *(int(limit()) for limit in _LIMITS)))
+    return threads
+
+
+def _add_chunks(out: np.ndarray, parts) -> None:
+    """Add the chunks' fields to ``out`` (S, G, R), in chunk order: the same sum whatever the threads."""
+    for part in parts:
+        if part is not None:
+            local, cols, result = part
+            if isinstance(cols, slice):
+                out[:, local, :] += result
+            else:
+                out[np.ix_(np.arange(out.shape[0]), local, cols)] += result
+
+
 def _pair_fields(
     sources_m,
     facets: Facets,
@@ -320,263 +711,46 @@ def _pair_fields(
     if count_p == 0 or count_r == 0 or count_g == 0:
         return out
     dt = np.dtype(dtype)
-    two_sided = facets.two_sided
     # Lengths in wavelengths for points (so r2 is in turns), as given for far directions.
     unit = 1.0 if far else 1.0 / wavelength_m
-    homogeneous = np.column_stack([rx * unit, np.full(count_r, 0.0 if far else 1.0)])
-    centres = facets.centres_m * unit
     visible = None if source_visible is None else np.asarray(source_visible, dtype=bool)
-    half_k = 0.5 * k
     lossy = relative_permittivity is not None
+    table, per_rad = None, None
     if lossy:
-        gamma = -reflection_coefficient_h(_GAMMA_TABLE_RAD, relative_permittivity, conductivity_s_m, wavelength_m)
-        table = np.stack([gamma.real, gamma.imag, np.r_[np.diff(gamma.real), 0.0], np.r_[np.diff(gamma.imag), 0.0]])
-        table = table.astype(dt)
-        per_rad = (_GAMMA_TABLE_RAD.size - 1) / _GAMMA_TABLE_RAD[-1]
-
-    def source_terms() -> dict:
-        """Per source and facet, for every facet at once, in double precision, components first.
-
-        Computed once per call (a chunk takes its facets' columns): the same numbers as facet by
-        facet, without the fixed cost of some forty small array operations per chunk.
-        """
-        a, b = facets.edge_a_m.T, facets.edge_b_m.T  # (3, P)
-        normal = np.cross(a, b, axis=0)
-        area = np.sqrt(_dot(normal, normal))
-        n = normal / area
-        d1 = facets.centres_m.T[None, :, :] - src[:, :, None]  # (S, 3, P)
-        r1 = np.sqrt(_dot(d1, d1))
-        s1 = d1 / r1[:, None, :]
-        ns1 = _dot(s1, n)
-        lit = ns1 != 0.0 if two_sided else ns1 < 0.0
-        if visible is not None:
-            lit &= visible
-        weight = area if facets.weights is None else area * facets.weights
-        terms = {"keep": np.any(lit, axis=0) & (weight != 0.0)}
-        terms["amp"] = np.where(lit, weight * np.exp(-1j * k * r1) / r1, 0.0)  # (S, P)
-        sx, sy = s1[:, 0], s1[:, 1]
-        h1 = np.hypot(sx, sy)
-        a1 = np.abs(ns1)
-        b1 = -np.sign(ns1) * (n[1] * sx - n[0] * sy)
-        # Per source, F_p h1 h2 = s1x P + s1y Q + c1 x + c2 y (see above), divided by h1.
-        terms["coef"] = (np.stack([sx, sy, a1 * sx + b1 * sy, a1 * sy - b1 * sx], axis=1) / h1[:, None, :]).astype(dt)
-        terms["s1a"] = (half_k * _dot(s1, a)).astype(dt)
-        terms["s1b"] = (half_k * _dot(s1, b)).astype(dt)
-        if lossy:
-            terms["g1"] = np.arcsin(np.minimum(a1, 1.0)).astype(dt)  # the source's grazing angle
-        zero = np.zeros(n.shape[1])
-        terms["shared"] = np.stack([n, [n[1], -n[0], zero], half_k * a, half_k * b]).astype(dt)  # (4, 3, P)
-        return terms
-
-    every_facet = source_terms()
-
-    def source_side(sl: slice, counted=None) -> dict | None:
-        """The terms of the facets of a chunk lit by some source (and ``counted``: with a pair weight other than 0)."""
-        keep = every_facet["keep"][sl]
-        rows = np.flatnonzero(keep if counted is None else keep & counted)
-        if rows.size == 0:
-            return None
-        idx = sl.start + rows
-        side = {"rows": rows, "amp": every_facet["amp"][:, idx], "coef": every_facet["coef"][:, :, idx]}
-        for name in ("s1a", "s1b", "g1"):
-            if name in every_facet:
-                side[name] = every_facet[name][:, idx]
-        side["shared"] = every_facet["shared"][:, :, idx]
-        return side
-
-    ht = None if horizon_tan is None else np.asarray(horizon_tan, dtype=dt)
-    tiny = dt.type(_TINY)
+        table, per_rad = _gamma_table(relative_permittivity, conductivity_s_m, wavelength_m, dt)
     rows_per_chunk = max(1, _PAIRS_PER_CHUNK // count_r)
-    size = rows_per_chunk * count_r
-    spaces: dict = {}
-
-    def homogeneous_rows(rows: np.ndarray, centres_about: np.ndarray) -> None:
-        """Complete rows ``[v, -v . c]`` (k, 4, p) from their ``v``.
-
-        Times ``[q, 1]`` (a point) they give ``v . (q - c)``, times ``[d, 0]`` (a direction) ``v . d``.
-        """
-        np.multiply(rows[:, 0], centres_about[0], out=rows[:, 3])
-        for i in (1, 2):
-            rows[:, 3] += rows[:, i] * centres_about[i]
-        np.negative(rows[:, 3], out=rows[:, 3])
-
-    def chunk(start: int):
-        sl = slice(start, min(start + rows_per_chunk, count_p))
-        cols, pair, counted = slice(None), None, None
-        if pair_weight is not None:
-            cols, pair = pair_weight(sl)
-            cols = np.asarray(cols, dtype=np.int64)
-            if cols.size == 0:
-                return None
-            pair = np.asarray(pair, dtype=dt)
-            counted = np.any(pair != 0.0, axis=1)  # facets that count for some receiver
-        side = source_side(sl, counted)
-        if side is None:
-            return None
-        rows, amp, coef = side["rows"], side["amp"], side["coef"]
-        if pair is not None:
-            pair = np.ascontiguousarray(pair[rows].T)
-        idx = sl.start + rows
-        p, m = idx.size, (count_r if pair is None else cols.size)
-        ws = spaces.setdefault(threading.get_ident(), _Workspace(size))
-        f64 = np.float64
-
-        def take(name, dtype=dt):
-            return ws.take(name, (m, p), dtype)  # receivers by facets: per-facet factors broadcast along rows
-
-        tmp = take("tmp")
-        c = centres[idx].T  # (3, p)
-        middle = c.mean(axis=1)  # products about the chunk's middle, where single precision keeps its digits
-        q = homogeneous[cols] if far else homogeneous[cols] - np.r_[middle, 0.0]
-        q = q.astype(dt)
-        c_about = (c - middle[:, None]).astype(dt)
-        # Shared by the sources: x, y, z; n; h2 (n . e_r); k a / 2, k b / 2 (the receiver's half of the sinc).
-        vectors = ws.take("vectors", (7, 4, p), dt)
-        vectors[:3, :3] = np.eye(3, dtype=dt)[:, :, None]
-        vectors[3:, :3] = side["shared"]
-        homogeneous_rows(vectors, c_about)
-        lin = ws.take("lin", (7, m, p), dt)
-        for row, rows_k in zip(lin, vectors):
-            np.matmul(q, rows_k, out=row)
-        x, y, z, nl, el, ra, rb = lin  # x, y, z: r2 times the range in turns (1 for far receivers)
-        turns, whole, wa = take("turns", f64), take("whole", f64), take("wa")
-        if far:
-            np.matmul(rx[cols] * (-1.0 / wavelength_m), c, out=turns)  # exp(-j k r2) -> exp(+j k d . c)
-        else:  # r2 in turns, from the differences in double precision (each pair on its own)
-            dx, dy, dz = take("dx", f64), take("dy", f64), take("dz", f64)
-            for i, d in enumerate((dx, dy, dz)):
-                np.subtract(homogeneous[cols, i][:, None], c[i][None, :], out=d)
-            np.multiply(dx, dx, out=turns)
-            np.multiply(dy, dy, out=whole)
-            turns += whole
-            np.multiply(dz, dz, out=whole)
-            turns += whole
-            np.sqrt(turns, out=turns)
-            inverse_r2 = take("inverse_r2")
-            np.divide(1.0, turns, out=inverse_r2)
-            ra *= inverse_r2
-            rb *= inverse_r2
-        # rho = h2 times the range: the 1 / h2 of the coupling and the wave's 1 / r2 are 1 / (r2 rho / r2).
-        np.multiply(x, x, out=wa)
-        np.multiply(y, y, out=tmp)
-        wa += tmp
-        np.sqrt(wa, out=wa)
-        mask = take("mask", np.bool_)
-        if ht is not None:
-            np.multiply(wa, ht[idx][None, :], out=tmp)
-            np.greater(z, tmp, out=mask)
-        np.divide(1.0 if far else inverse_r2, wa, out=wa)  # 1 / (r2 h2) times 1 / r2 (spherical wave)
-        if ht is not None:
-            wa *= mask
-        if not two_sided:
-            np.greater(nl, 0.0, out=mask)
-            wa *= mask  # a ground facet radiates only upward
-        else:  # sign(N) on the products with n and e_r (module notes: P, Q)
-            np.copysign(1.0, nl, out=tmp)
-            nl *= tmp
-            el *= tmp
-        if pair is not None:
-            wa *= pair
-        # The phase reduced to one turn in double precision, then in dt: exp(-j 2 pi turns).
-        np.rint(turns, out=whole)
-        turns -= whole
-        phase = take("phase")
-        np.multiply(turns, -2.0 * math.pi, out=phase)
-        wave_re, wave_im = take("wave_re"), take("wave_im")
-        np.cos(phase, out=wave_re)
-        wave_re *= wa
-        np.sin(phase, out=wave_im)
-        wave_im *= wa
-        if lossy:
-            g2 = take("g2")
-            np.abs(nl, out=g2)
-            if not far:
-                g2 *= inverse_r2
-            np.minimum(g2, 1.0, out=g2)
-            np.arcsin(g2, out=g2)
-        if not far:  # x, y, z, n . r2 and h2 (n . e_r) were times the range
-            nl *= inverse_r2
-            el *= inverse_r2
-        local, inverse = np.unique(group_of[idx], return_inverse=True)
-        members_of = [slice(None)]
-        if local.size > 1:
-            members_of = [_run(np.flatnonzero(inverse == g)) for g in range(local.size)]
-        result = np.zeros((src.shape[0], local.size, m), dtype=complex)
-        coupling, u, v = take("coupling"), take("u"), take("v")
-        terms = ws.take("terms", (2, m, p), dt)
-        per_source = ws.take("per_source", (3, m, p), dt)
-        g_1, g_2, g_3 = per_source
-        for s in range(src.shape[0]):
-            amp_s = amp[s]
-            if not np.any(amp_s):
-                continue
-            cs = coef[s]
-            own = ws.take("own", (3, 4, p), dt)
-            own[:, 2] = 0.0
-            own[0, 0], own[0, 1], own[1, 0], own[2, 0], own[2, 1] = cs[0], cs[1], cs[1], cs[2], cs[3]
-            np.negative(cs[0], out=own[1, 1])
-            homogeneous_rows(own, c_about)
-            for row, rows_k in zip(per_source, own):
-                np.matmul(q, rows_k, out=row)
-            np.multiply(nl, g_1, out=coupling)
-            np.multiply(el, g_2, out=tmp)
-            coupling += tmp
-            coupling += g_3
-            # S(t) = sin(t / 2) / (t / 2), t / 2 = s1 . e - r2 . e
-            for r_e, s_e in ((ra, side["s1a"]), (rb, side["s1b"])):
-                np.subtract(s_e[s][None, :], r_e, out=u)
-                np.abs(u, out=u)
-                u += tiny
-                np.sin(u, out=v)
-                coupling *= v
-                coupling /= u
-            if lossy:  # Fresnel coefficient at the mean grazing angle (module notes)
-                np.add(g2, side["g1"][s][None, :], out=u)
-                u *= 0.5 * per_rad
-                at = take("at", np.intp)
-                np.copyto(at, u, casting="unsafe")  # floor: u >= 0
-                np.minimum(at, _GAMMA_TABLE_RAD.size - 2, out=at)
-                u -= at
-                g_re, g_im = take("g_re"), take("g_im")
-                np.multiply(table[2][at], u, out=g_re)
-                g_re += table[0][at]
-                np.multiply(table[3][at], u, out=g_im)
-                g_im += table[1][at]
-                g_re *= coupling
-                g_im *= coupling
-                np.multiply(g_re, wave_re, out=terms[0])
-                np.multiply(g_im, wave_im, out=tmp)
-                terms[0] -= tmp
-                np.multiply(g_re, wave_im, out=terms[1])
-                np.multiply(g_im, wave_re, out=tmp)
-                terms[1] += tmp
-            else:
-                np.multiply(coupling, wave_re, out=terms[0])
-                np.multiply(coupling, wave_im, out=terms[1])
-            factor = np.stack([amp_s.real, amp_s.imag], axis=1).astype(dt)  # (p, 2)
-            for g, members in enumerate(members_of):
-                summed = (terms[:, :, members] @ factor[members]).astype(float)  # (2, m, 2)
-                result[s, g].real = summed[0, :, 0] - summed[1, :, 1]
-                result[s, g].imag = summed[0, :, 1] + summed[1, :, 0]
-        return local, cols, result
-
+    call = _Call(
+        src=src,
+        rx=rx,
+        wavelength_m=wavelength_m,
+        far=far,
+        dt=dt,
+        two_sided=facets.two_sided,
+        homogeneous=np.column_stack([rx * unit, np.full(count_r, 0.0 if far else 1.0)]),
+        centres=facets.centres_m * unit,
+        group_of=group_of,
+        every_facet=_source_terms(facets, src, k, dt, visible, lossy),
+        lossy=lossy,
+        table=table,
+        per_rad=per_rad,
+        ht=None if horizon_tan is None else np.asarray(horizon_tan, dtype=dt),
+        tiny=dt.type(_TINY),
+        pair_weight=pair_weight,
+        count_p=count_p,
+        count_r=count_r,
+        rows_per_chunk=rows_per_chunk,
+        size=rows_per_chunk * count_r,
+        spaces={},
+    )
     starts = range(0, count_p, rows_per_chunk)
-    if threads is None:
-        threads = _THREADS if threading.current_thread() is threading.main_thread() and len(starts) > 1 else 1
-        if _LIMITS and threads > 1:  # every limit in force: the process's and each block's
-            threads = max(1, min(threads, *(int(limit()) for limit in _LIMITS)))
+    threads = _thread_count(threads, len(starts))
+    chunk = functools.partial(_chunk, call)
     if threads > 1:
         with ThreadPoolExecutor(max_workers=threads) as pool:
             parts = list(pool.map(chunk, starts))
     else:
         parts = map(chunk, starts)
-    for part in parts:  # in chunk order: the same sum whatever the threads
-        if part is not None:
-            local, cols, result = part
-            if isinstance(cols, slice):
-                out[:, local, :] += result
-            else:
-                out[np.ix_(np.arange(src.shape[0]), local, cols)] += result
+    _add_chunks(out, parts)
     scale = -1j * k / (4.0 * math.pi) * unit
     return scale * out
 
