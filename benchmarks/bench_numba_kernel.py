@@ -71,7 +71,7 @@ import numpy as np
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
 
-from geo.optics.kernel import _GAMMA_TABLE_RAD, _GROUND_PAIRS_PER_CHUNK, Facets, ground_fields  # noqa: E402
+from geo.optics.kernel import _GAMMA_TABLE_RAD, _PAIRS_PER_CHUNK, Facets, ground_fields  # noqa: E402
 from geo.radio.reflection import reflection_coefficient_h  # noqa: E402
 
 HAVE_NUMBA = importlib.util.find_spec("numba") is not None
@@ -264,7 +264,7 @@ def numba_ground_fields(
     if pair_weight is None:
         sums(np.arange(n_rx, dtype=np.int64), np.empty((0, 0)), 0, len(facets), *tail)
     else:
-        chunk = max(1, _GROUND_PAIRS_PER_CHUNK // max(n_rx, 1))  # the chunks of ground_fields
+        chunk = max(1, _PAIRS_PER_CHUNK // max(n_rx, 1))  # the chunks of ground_fields
         for start in range(0, len(facets), chunk):
             sl = slice(start, start + chunk)
             if not np.any(lit_any[sl]):
