@@ -1,5 +1,6 @@
 """Paths and texts shared by tests (invented test values)."""
 
+import dataclasses
 import subprocess
 import sys
 from pathlib import Path
@@ -45,6 +46,26 @@ side = "right"
 offset = 400
 setback = 1000
 """
+
+
+#: A site file's table that turns the surface prediction off, for the tests that do not look at it: it is
+#: the study's slowest part (most of a study's time on the demo; tests/optics/test_surface_*.py test it).
+NO_SURFACE = "\n[prediction]\nsurface = false\n"
+
+
+def without_surface(spec):
+    """The site ``spec`` with the surface prediction off (``prediction.surface = false``)."""
+    return dataclasses.replace(spec, prediction=dataclasses.replace(spec.prediction, surface=False))
+
+
+def demo_site_without_surface(folder: Path) -> Path:
+    """The demo site file copied into ``folder``, its DEM named by absolute path, the surface prediction off."""
+    text = DEMO_SITE.read_text(encoding="utf-8")
+    dem = (DEMO_SITE.parent / "dem.tif").as_posix()
+    assert 'dem = "dem.tif"' in text and "[prediction]" not in text
+    path = Path(folder) / "demo_site.toml"
+    path.write_text(text.replace('dem = "dem.tif"', f'dem = "{dem}"') + NO_SURFACE, encoding="utf-8")
+    return path
 
 
 def on_a_terminal(*args):

@@ -14,7 +14,9 @@ reported slope (Annex 10 / FAA image-array formula), RDH from :func:`geo.airfiel
 RPI (Annex 10 3.1.1 geometry), the reported samples inside the zone drawn independently as a shapely
 union of the exact Fresnel ellipses (:func:`geo.ground.terrain.fit_zone`), and the sweep (prefix sums over
 row intervals) against the single study (least squares on samples) at the same positions. The
-setback solved for a target RDH ends too, at the target or with a finding saying how far.
+setback solved for a target RDH ends too, at the target or with a finding saying how far. The site
+files turn the surface prediction off: nothing here looks at it (tests/optics/test_surface_real_dem.py
+runs it on this DEM).
 """
 
 from __future__ import annotations
@@ -25,6 +27,7 @@ import time
 import numpy as np
 import pytest
 from jacksboro import NODATA, jacksboro_sheet, site_text, write_raster
+from tests_support import NO_SURFACE
 
 from geo.airfield.path import rdh_m
 from geo.errors import SiteFileError, TerrainError
@@ -117,7 +120,7 @@ def _site_texts(dems) -> list[dict]:
             threshold, end = (lat, lon, z_thr), (end_lat, end_lon, z_end)
             site["text"] = site_text(
                 path, f"Jacksboro fictional runway {r}", threshold, end, site["array"], site["side"],
-                site["offset"], site["setback"],
+                site["offset"], site["setback"], NO_SURFACE,
             )  # fmt: skip
             sites.append(site)
     return sites
