@@ -144,7 +144,11 @@ def long_functions(paths, base: Path = ROOT, limit: int = MAX_FUNCTION_LINES) ->
                 continue
             lines = node.end_lineno - node.lineno + 1
             first = node.body[0]
-            if isinstance(first, ast.Expr) and isinstance(first.value, ast.Constant) and isinstance(first.value.value, str):
+            if (
+                isinstance(first, ast.Expr)
+                and isinstance(first.value, ast.Constant)
+                and isinstance(first.value.value, str)
+            ):
                 lines -= first.end_lineno - first.lineno + 1
             if lines > limit:
                 found.append(f"{path.relative_to(base)}:{node.lineno} {node.name} ({lines} lines)")
@@ -212,7 +216,9 @@ def test_the_checks_find_a_planted_circle_an_upward_import_and_a_long_function(t
     graph = import_graph(top)
     assert circles(graph) == [["geo.radio.a", "geo.radio.b"]]
     problems = wrong_way(graph)
-    assert "geo.airfield.frame imports geo.ground.dem: against the order " + " -> ".join(STAGES) + " -> root" in problems
+    assert (
+        "geo.airfield.frame imports geo.ground.dem: against the order " + " -> ".join(STAGES) + " -> root" in problems
+    )
     assert "geo.stray belongs to no stage (stages: " + ", ".join(STAGES) + ")" in problems
     assert not any(p.startswith("geo.ground.dem") for p in problems)  # down to the root is allowed
     assert long_functions([top / "geo/long.py"], top) == [f"geo/long.py:1 f ({MAX_FUNCTION_LINES + 2} lines)"]
