@@ -68,14 +68,33 @@ def demo_site_without_surface(folder: Path) -> Path:
     return path
 
 
-def on_a_terminal(*args):
-    """Run mastplan with stderr on a pseudo-terminal; return (exit code, what the terminal showed)."""
+#: Run before mastplan by ``on_a_terminal(..., ticking_clock=True)``: click's progress bar reads a clock that
+#: advances one second at each reading. click shows the time left only once a second has passed since its
+#: last estimate (``click._termui_impl.ProgressBar.make_step``), so without it the time left appears or not
+#: by the machine's speed; with it, it appears at the first step whatever the speed.
+_TICKING_CLOCK = """
+import itertools, time, types
+import click._termui_impl
+ticks = itertools.count(time.time())
+click._termui_impl.time = types.SimpleNamespace(time=lambda: float(next(ticks)))
+from cli.main import entry
+entry()
+"""
+
+
+def on_a_terminal(*args, ticking_clock: bool = False):
+    """Run mastplan with stderr on a pseudo-terminal; return (exit code, what the terminal showed).
+
+    ``ticking_clock``: click's progress bar reads a clock that advances a second at each reading
+    (:data:`_TICKING_CLOCK`), so that it shows the time left from its first step.
+    """
     import os
     import pty
 
+    command = ["-c", _TICKING_CLOCK] if ticking_clock else ["-m", "cli.main"]
     master, slave = pty.openpty()
     proc = subprocess.run(
-        [sys.executable, "-m", "cli.main", *map(str, args)], stdout=subprocess.PIPE, stderr=slave, timeout=300
+        [sys.executable, *command, *map(str, args)], stdout=subprocess.PIPE, stderr=slave, timeout=300
     )
     os.close(slave)
     data = b""
