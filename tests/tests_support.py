@@ -1,8 +1,10 @@
 """Paths and texts shared by tests (invented test values)."""
 
 import dataclasses
+import os
 import subprocess
 import sys
+import time
 from pathlib import Path
 
 DEMO_SITE = Path(__file__).resolve().parents[1] / "demo_airfield" / "site.toml"
@@ -108,6 +110,12 @@ def on_a_terminal(*args, ticking_clock: bool = False):
         data += chunk
     os.close(master)
     return proc.returncode, data
+
+
+def wait_for_path(path: str) -> None:
+    """Return once ``path`` exists: a task that keeps a writer process busy until the test creates it."""
+    while not os.path.exists(path):
+        time.sleep(0.01)
 
 
 def file_digests(folder: Path) -> dict:
