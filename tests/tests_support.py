@@ -112,6 +112,32 @@ def on_a_terminal(*args, ticking_clock: bool = False):
     return proc.returncode, data
 
 
+def computed_once(tmp_path_factory, name: str, compute):
+    """``compute()``, computed by one pytest-xdist worker of the session and shared with the others.
+
+    For a costly fixture of a module whose tests the workers may share between them (``--dist
+    worksteal``): the first worker to need it computes it and leaves it pickled beside the workers'
+    temporary folders; a worker that needs it meanwhile waits on the file lock until it is there.
+    Without xdist it is simply computed. The value must pickle and not refer to a worker's state.
+    """
+    import fcntl
+    import pickle
+
+    if not os.environ.get("PYTEST_XDIST_WORKER"):
+        return compute()
+    shared = tmp_path_factory.getbasetemp().parent  # one folder per session, above each worker's own
+    path = shared / f"{name}.pickle"
+    with open(shared / f"{name}.lock", "w") as lock:
+        fcntl.flock(lock, fcntl.LOCK_EX)
+        if path.exists():
+            return pickle.loads(path.read_bytes())
+        value = compute()
+        partial = path.with_suffix(".partial")
+        partial.write_bytes(pickle.dumps(value))
+        partial.replace(path)
+        return value
+
+
 def wait_for_path(path: str) -> None:
     """Return once ``path`` exists: a task that keeps a writer process busy until the test creates it."""
     while not os.path.exists(path):

@@ -27,7 +27,7 @@ import time
 import numpy as np
 import pytest
 from jacksboro import NODATA, jacksboro_sheet, site_text, write_raster
-from tests_support import NO_SURFACE
+from tests_support import NO_SURFACE, computed_once
 
 from geo.airfield.path import rdh_m
 from geo.errors import SiteFileError, TerrainError
@@ -48,9 +48,8 @@ RUNWAY_M = 2500.0
 LEGITIMATE = ("too close to the", "off the DEM or on nodata", "falls more than")
 
 
-@pytest.fixture(scope="session")
-def jacksboro_dems(tmp_path_factory):
-    """The sample DEM at every relief scale, as (crs, scale) -> GeoTIFF path, written once."""
+def _jacksboro_dems(tmp_path_factory):
+    """The sample DEM at every relief scale, as (crs, scale) -> GeoTIFF path."""
     from rasterio.warp import Resampling, calculate_default_transform, reproject
 
     folder = tmp_path_factory.mktemp("jacksboro")
@@ -132,8 +131,14 @@ def _full_study(site) -> bool:
 
 
 @pytest.fixture(scope="session")
-def real_sites(jacksboro_dems):
-    """Every site's terrain analysis (or its error), analysed once; every fifth also studied and swept."""
+def real_sites(tmp_path_factory):
+    """Every site's terrain analysis (or its error), analysed once in the session (also when the tests of
+    this module run in two xdist workers); every fifth also studied and swept."""
+    return computed_once(tmp_path_factory, "real_terrain_sites", lambda: _analyse_sites(tmp_path_factory))
+
+
+def _analyse_sites(tmp_path_factory) -> list[dict]:
+    jacksboro_dems = _jacksboro_dems(tmp_path_factory)
     folder = jacksboro_dems["folder"]
     out = []
     start = time.perf_counter()
