@@ -15,8 +15,12 @@ $(BIN)/.installed: pyproject.toml
 demo: $(BIN)/.installed
 	$(BIN)/mastplan demo --out out/demo --overwrite
 
+# The suite on every core with pytest-xdist (-n auto: one worker per CPU). --dist worksteal gives each
+# worker one half of the tests in order (so a module's shared fixtures are mostly made once) and lets
+# an idle worker take tests from the other's queue. benchmarks/bench_tests_loaded.py reads this line.
+# In one process: .venv/bin/python -m pytest.
 test: $(BIN)/.installed
-	$(BIN)/python -m pytest
+	$(BIN)/python -m pytest -n auto --dist worksteal
 
 lint: $(BIN)/.installed
 	$(BIN)/ruff check geo cli tests benchmarks demo_airfield

@@ -1,4 +1,8 @@
-"""The command line: exit codes, one-line messages, no tracebacks."""
+"""The command line: exit codes, one-line messages, no tracebacks.
+
+Tests that run the demo for its exit codes, file names or sweep rows take it without the surface
+prediction (``demo_site_without_surface``); `mastplan demo` itself runs whole.
+"""
 
 import json
 import re
@@ -7,7 +11,7 @@ import sys
 
 import pytest
 from click.testing import CliRunner
-from tests_support import on_a_terminal
+from tests_support import demo_site_without_surface, on_a_terminal
 
 from cli.main import main
 
@@ -46,10 +50,11 @@ def test_bad_site_file_exits_2_with_one_line(tmp_path, write_site, site_text, ol
 
 def test_existing_output_is_refused_without_overwrite(tmp_path, write_site, site_text):
     site = write_site(site_text)
-    assert _run("run", str(site), "--out", str(tmp_path / "r")).exit_code == 0
-    res = _run("run", str(site), "--out", str(tmp_path / "r"))
+    only = ("--outputs", "summary")  # what is written does not matter here: whether the folder is replaced
+    assert _run("run", str(site), "--out", str(tmp_path / "r"), *only).exit_code == 0
+    res = _run("run", str(site), "--out", str(tmp_path / "r"), *only)
     assert res.exit_code == 2 and "--overwrite" in res.output
-    assert _run("run", str(site), "--out", str(tmp_path / "r"), "--overwrite").exit_code == 0
+    assert _run("run", str(site), "--out", str(tmp_path / "r"), "--overwrite", *only).exit_code == 0
 
 
 def test_missing_site_file_exits_2(tmp_path):
@@ -84,11 +89,18 @@ def test_bad_input_in_a_real_process_has_no_traceback(tmp_path, write_site, site
 def test_a_real_process_keeps_its_exit_status_and_its_whole_output(tmp_path):
     # The console command ends without the interpreter's teardown (cli.main.entry): the status of
     # --fail-on (1: the demo has warnings, see its summary.json) and every printed line must still
-    # reach the caller through pipes.
-    from demo_airfield import SITE_FILE
-
+    # reach the caller through pipes. (The demo's warnings do not come from its surface prediction.)
     out = tmp_path / "r"
-    args = ["run", str(SITE_FILE), "--out", str(out), "--outputs", "summary", "--fail-on", "warning"]
+    args = [
+        "run",
+        str(demo_site_without_surface(tmp_path)),
+        "--out",
+        str(out),
+        "--outputs",
+        "summary",
+        "--fail-on",
+        "warning",
+    ]
     proc = subprocess.run([sys.executable, "-m", "cli.main", *args], capture_output=True, text=True, timeout=120)
     assert proc.returncode == 1, proc.stderr
     assert proc.stdout.rstrip().endswith(f"Results written to {out}")
@@ -111,9 +123,8 @@ def test_demo_dem_script_reproduces_the_committed_raster(tmp_path):
 
 
 def test_no_plots_option_skips_only_the_pictures(tmp_path):
-    from demo_airfield import SITE_FILE
-
-    res = _run("run", str(SITE_FILE), "--out", str(tmp_path / "r"), "--no-plots", "-q")
+    site = demo_site_without_surface(tmp_path)  # the same files with or without the surface prediction
+    res = _run("run", str(site), "--out", str(tmp_path / "r"), "--no-plots", "-q")
     assert res.exit_code == 0, res.output
     names = sorted(p.name for p in (tmp_path / "r").iterdir())
     assert names == [
@@ -129,12 +140,10 @@ def test_no_plots_option_skips_only_the_pictures(tmp_path):
 
 
 def test_sweep_command_writes_the_table_candidates_and_the_best_study(tmp_path):
-    from demo_airfield import SITE_FILE
-
     out = tmp_path / "sweep"
     res = _run(
         "sweep",
-        str(SITE_FILE),
+        str(demo_site_without_surface(tmp_path)),
         "--out",
         str(out),
         "--setback",
@@ -187,7 +196,8 @@ def test_run_fail_on_exits_1_when_a_finding_is_that_bad(
     tmp_path, write_site, site_text, level, category, code, message
 ):
     site = write_site(site_text.replace("[glide_path]\n", f'[glide_path]\ncategory = "{category}"\n'))
-    res = CliRunner().invoke(main, ["run", str(site), "--out", str(tmp_path / "r"), "-q", "--fail-on", level])
+    args = ["run", str(site), "--out", str(tmp_path / "r"), "--outputs", "summary", "-q", "--fail-on", level]
+    res = CliRunner().invoke(main, args)
     assert res.exit_code == code, res.output
     assert (tmp_path / "r" / "summary.json").exists()  # written all the same
     if message:
@@ -208,9 +218,19 @@ def test_sweep_fail_on_when_no_candidate_is_feasible(tmp_path):
 
 
 def test_sweep_shows_progress_only_on_a_terminal(tmp_path):
-    from demo_airfield import SITE_FILE
-
-    args = ["sweep", SITE_FILE, "--setback", "280", "340", "30", "--offset", "100", "150", "50", "--no-plots"]
+    args = [
+        "sweep",
+        demo_site_without_surface(tmp_path),
+        "--setback",
+        "280",
+        "340",
+        "30",
+        "--offset",
+        "100",
+        "150",
+        "50",
+        "--no-plots",
+    ]
     code, shown = on_a_terminal(*args, "--out", tmp_path / "s1")
     # click's bar, full at the end: "[#####]  26/26" (steps of the terrain work on both sides).
     assert code == 0 and b"Sweeping candidates" in shown and re.search(rb"\[#+\]\s+(\d+)/\1", shown)
@@ -223,11 +243,21 @@ def test_sweep_shows_progress_only_on_a_terminal(tmp_path):
 def test_sweep_reasons_name_the_iev_criterion_in_capitals(tmp_path):
     import csv
 
-    from demo_airfield import SITE_FILE
-
     # Near the IEV limit (IEC 60050-705, IEV 705-04-15: the demo study's zone RMS is 0.161 m against a
     # 0.179 m limit); further from the threshold some candidates' zones are rough by it.
-    args = ["sweep", str(SITE_FILE), "--setback", "330", "360", "10", "--offset", "100", "125", "25", "--no-plots"]
+    args = [
+        "sweep",
+        str(demo_site_without_surface(tmp_path)),
+        "--setback",
+        "330",
+        "360",
+        "10",
+        "--offset",
+        "100",
+        "125",
+        "25",
+        "--no-plots",
+    ]
     res = CliRunner().invoke(main, [*args, "--criterion", "iev", "--side", "right", "-q", "--out", str(tmp_path / "s")])
     assert res.exit_code == 0, res.output
     reasons = [r["reasons"] for r in csv.DictReader((tmp_path / "s" / "sweep.csv").open())]

@@ -1,5 +1,7 @@
 """No lost work (runs killed midway), reproducible outputs."""
 
+import os
+import shutil
 import signal
 import subprocess
 import sys
@@ -7,69 +9,114 @@ import time
 from pathlib import Path
 
 import pytest
-from tests_support import DEMO_SITE, file_digests
+from tests_support import DEMO_SITE, demo_site_without_surface, file_digests
 
 
 def _start(out: Path):
-    return subprocess.Popen(
-        [sys.executable, "-m", "cli.main", "run", str(DEMO_SITE), "--out", str(out), "--overwrite", "-q"],
-        stdout=subprocess.PIPE,
-        stderr=subprocess.PIPE,
-        text=True,
+    """``mastplan run`` of the demo over ``out``, with SIGINT as an interactive shell gives it to a command.
+
+    A suite started in the background by a non-interactive shell (``pytest &`` in a script) has SIGINT
+    ignored, and a child inherits an ignored signal: SIGINT would not stop the run. A handler set here
+    instead is reset to the default in the child when it starts, so the run sees SIGINT as after Ctrl-C.
+    """
+    previous = signal.signal(signal.SIGINT, signal.default_int_handler)
+    try:
+        return subprocess.Popen(
+            [sys.executable, "-m", "cli.main", "run", str(DEMO_SITE), "--out", str(out), "--overwrite", "-q"],
+            stdout=subprocess.PIPE,
+            stderr=subprocess.PIPE,
+            text=True,
+        )
+    finally:
+        signal.signal(signal.SIGINT, previous)
+
+
+def _midway(parent: Path, out: Path, earlier_inode: int) -> bool:
+    """The run has made its temporary folder and not yet begun to replace the earlier results."""
+    return (
+        bool(list(parent.glob(".out.partial-*")))
+        and out.stat().st_ino == earlier_inode
+        and not list(parent.glob(".out.old-*"))
     )
 
 
-def _wait_for_partial(parent: Path, proc, timeout: float = 60.0) -> bool:
-    end = time.monotonic() + timeout
-    while time.monotonic() < end and proc.poll() is None:
+def _frozen_midway(proc, parent: Path, out: Path, earlier_inode: int) -> bool:
+    """Wait for the run to be midway and stop it there (SIGSTOP), so that a signal sent next lands midway.
+
+    Polls for the state (its temporary folder beside ``out``), stops the process, waits until it has
+    stopped, and checks the state again: the process cannot move on meanwhile. Returns False when the
+    run got past it first (it is then let go on and waited for); the caller runs it again.
+    """
+    while proc.poll() is None:
         if list(parent.glob(".out.partial-*")):
-            return True
-        time.sleep(0.01)
+            proc.send_signal(signal.SIGSTOP)
+            info = os.waitid(os.P_PID, proc.pid, os.WSTOPPED | os.WEXITED | os.WNOWAIT)
+            if info.si_code == os.CLD_STOPPED and _midway(parent, out, earlier_inode):
+                return True
+            proc.send_signal(signal.SIGCONT)
+            proc.communicate(timeout=300)
+            return False
+        time.sleep(0.005)  # polling the folder: no clock decides anything
+    proc.communicate(timeout=300)
     return False
 
 
-@pytest.fixture
-def earlier(tmp_path):
-    out = tmp_path / "out"
-    subprocess.run(
-        [sys.executable, "-m", "cli.main", "run", str(DEMO_SITE), "--out", str(out), "-q", "--no-plots"], check=True
-    )
-    return out, file_digests(out)
+def _started_and_frozen_midway(parent: Path, earlier_results: Path, attempts: int = 3):
+    """The earlier results copied to ``parent / "out"``, a run over them started and stopped midway."""
+    out = parent / "out"
+    for _ in range(attempts):
+        shutil.rmtree(out, ignore_errors=True)
+        shutil.copytree(earlier_results, out)
+        proc = _start(out)
+        if _frozen_midway(proc, parent, out, out.stat().st_ino):
+            return proc, out
+    pytest.fail(f"the run was never caught midway in {attempts} runs")
+
+
+@pytest.fixture(scope="module")
+def earlier_results(tmp_path_factory):
+    """The demo's results, written once by a real process (``mastplan demo``); the tests take copies, and
+    the reproducibility test compares a second run with them."""
+    out = tmp_path_factory.mktemp("earlier") / "out"
+    subprocess.run([sys.executable, "-m", "cli.main", "demo", "--out", str(out), "-q"], check=True)
+    return out
 
 
 @pytest.mark.parametrize("how", [signal.SIGTERM, signal.SIGINT])
-def test_a_run_stopped_midway_leaves_the_earlier_results_and_no_partial_folder(tmp_path, earlier, how):
-    out, before = earlier
-    proc = _start(out)
-    assert _wait_for_partial(tmp_path, proc), "the run never began writing"
-    proc.send_signal(how)
-    _, err = proc.communicate(timeout=60)
-    assert proc.returncode in (130, 143) and "earlier results are untouched" in err and "Traceback" not in err
+def test_a_run_stopped_midway_leaves_the_earlier_results_and_no_partial_folder(tmp_path, earlier_results, how):
+    before = file_digests(earlier_results)
+    proc, out = _started_and_frozen_midway(tmp_path, earlier_results)
+    proc.send_signal(how)  # pending while the process is stopped: it lands midway
+    proc.send_signal(signal.SIGCONT)
+    _, err = proc.communicate(timeout=300)
+    assert proc.returncode in (130, 143), (proc.returncode, err)
+    assert "earlier results are untouched" in err and "Traceback" not in err
     assert file_digests(out) == before
     assert not list(tmp_path.glob(".out.*"))
 
 
-def test_a_run_killed_outright_is_cleaned_up_by_the_next(tmp_path, earlier):
-    out, before = earlier
-    proc = _start(out)
-    assert _wait_for_partial(tmp_path, proc)
+def test_a_run_killed_outright_is_cleaned_up_by_the_next(tmp_path, earlier_results):
+    before = file_digests(earlier_results)
+    proc, out = _started_and_frozen_midway(tmp_path, earlier_results)
     proc.kill()  # SIGKILL: nothing can clean up now
-    proc.wait(timeout=60)
+    proc.wait(timeout=300)
     assert file_digests(out) == before  # the earlier results are still whole
+    assert list(tmp_path.glob(".out.partial-*"))  # and the killed run's temporary folder is left
+    # The next run (the demo without its surface prediction, the quicker study) removes it.
+    site = demo_site_without_surface(tmp_path)
     subprocess.run(
-        [sys.executable, "-m", "cli.main", "run", str(DEMO_SITE), "--out", str(out), "--overwrite", "-q", "--no-plots"],
+        [sys.executable, "-m", "cli.main", "run", str(site), "--out", str(out), "--overwrite", "-q", "--no-plots"],
         check=True,
     )
     assert not list(tmp_path.glob(".out.*"))  # the killed run's temporary folder is gone
     assert (out / "summary.json").exists()
 
 
-def test_same_inputs_give_byte_identical_outputs(tmp_path):
-    for name in ("a", "b"):
-        subprocess.run([sys.executable, "-m", "cli.main", "demo", "--out", str(tmp_path / name), "-q"], check=True)
-    a, b = file_digests(tmp_path / "a"), file_digests(tmp_path / "b")
+def test_same_inputs_give_byte_identical_outputs(tmp_path, earlier_results):
+    subprocess.run([sys.executable, "-m", "cli.main", "demo", "--out", str(tmp_path / "b"), "-q"], check=True)
+    a, b = file_digests(earlier_results), file_digests(tmp_path / "b")
     assert a == b and len(a) >= 15
     import json
 
-    summary = json.loads((tmp_path / "a" / "summary.json").read_text())
+    summary = json.loads((earlier_results / "summary.json").read_text())
     assert summary["tool"]["version"] and len(summary["input"]["sha256"]) == 64

@@ -8,13 +8,20 @@ import re
 import numpy as np
 import pytest
 from click.testing import CliRunner
-from tests_support import DEMO_SITE, FEET_SITE
+from tests_support import FEET_SITE, demo_site_without_surface
 
 from cli.main import main
 
 
 def _run(*args):
     return CliRunner().invoke(main, [str(a) for a in args])
+
+
+@pytest.fixture(scope="module")
+def demo_site(tmp_path_factory):
+    """The demo site file with the surface prediction off: the sweep has none, and of its best candidate's
+    study these tests read the map's ranking and the setback solve only."""
+    return demo_site_without_surface(tmp_path_factory.mktemp("site"))
 
 
 def _rows(folder):
@@ -50,9 +57,9 @@ def test_bad_range_in_the_file_unit(tmp_path, write_site):
 
 
 @pytest.fixture(scope="module")
-def demo_default(tmp_path_factory):
+def demo_default(tmp_path_factory, demo_site):
     out = tmp_path_factory.mktemp("sweep") / "demo"
-    res = _run("sweep", DEMO_SITE, "--out", out, "--no-plots")
+    res = _run("sweep", demo_site, "--out", out, "--no-plots")
     assert res.exit_code == 0, res.output
     return out, res.output
 
@@ -97,10 +104,10 @@ def test_ties_are_broken_and_explained():
     assert "less cut + fill" in notes[0] and notes[1] == "" and notes[3] == "feasible after the computed grading"
 
 
-def test_near_feasible_candidates_with_their_grading(tmp_path):
+def test_near_feasible_candidates_with_their_grading(tmp_path, demo_site):
     # A small grid, so that fewer than ten candidates are feasible and the near-feasible ones are listed.
     grid = ("--setback", 330, 360, 10, "--offset", 100, 150, 25)
-    res = _run("sweep", DEMO_SITE, "--out", tmp_path / "iev", "--criterion", "iev", "--no-plots", *grid)
+    res = _run("sweep", demo_site, "--out", tmp_path / "iev", "--criterion", "iev", "--no-plots", *grid)
     assert res.exit_code == 0, res.output
     summary = json.loads((tmp_path / "iev" / "summary.json").read_text())
     near = summary["near_feasible"]
@@ -113,17 +120,17 @@ def test_near_feasible_candidates_with_their_grading(tmp_path):
     assert f"fill {first['fill_m3']:,.0f} m3" in res.output
 
 
-def test_solved_setbacks_agree_with_the_study_solver(tmp_path):
+def test_solved_setbacks_agree_with_the_study_solver(tmp_path, demo_site):
     from geo.site.site_file import MastSpec, load_site
     from geo.study.site_study import run_study
 
     out = tmp_path / "solve"
-    res = _run("sweep", DEMO_SITE, "--out", out, "--solve-setback", "--offset", 100, 125, 25, "--side", "both")
+    res = _run("sweep", demo_site, "--out", out, "--solve-setback", "--offset", 100, 125, 25, "--side", "both")
     assert res.exit_code == 0, res.output
     rows = _rows(out)
     assert len(rows) == 4
     assert json.loads((out / "summary.json").read_text())["options"]["setbacks_solved_for_target_rdh"] is True
-    spec = load_site(DEMO_SITE)
+    spec = load_site(demo_site)
     for r in rows:
         assert float(r["rdh_m"]) == pytest.approx(spec.target_rdh_m, abs=0.01)
         # Independent method: the single-site study's own setback solve (its zone polygon and sample grid).
@@ -131,13 +138,13 @@ def test_solved_setbacks_agree_with_the_study_solver(tmp_path):
         study = run_study(one)
         # RDH agrees within 1 cm between sweep and study (tests/test_sweep.py): 0.01 / tan 3 deg = 0.19 m.
         assert float(r["setback_m"]) == pytest.approx(study.mast.setback_m, abs=0.3)
-    bad = _run("sweep", DEMO_SITE, "--out", tmp_path / "x", "--solve-setback", "--setback", 200, 300, 10)
+    bad = _run("sweep", demo_site, "--out", tmp_path / "x", "--solve-setback", "--setback", 200, 300, 10)
     assert bad.exit_code == 2 and "--solve-setback" in bad.output
 
 
-def test_a_mast_in_the_obstacle_free_zone_is_infeasible(tmp_path):
+def test_a_mast_in_the_obstacle_free_zone_is_infeasible(tmp_path, demo_site):
     out = tmp_path / "ofz"
-    res = _run("sweep", DEMO_SITE, "--out", out, "--setback", 300, 310, 10, "--offset", 60, 120, 20, "--no-plots")
+    res = _run("sweep", demo_site, "--out", out, "--setback", 300, 310, 10, "--offset", 60, 120, 20, "--no-plots")
     assert res.exit_code == 0, res.output
     for r in _rows(out):
         lateral = float(r["offset_m"]) - float(r["upper_shift_m"])

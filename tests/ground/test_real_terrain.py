@@ -14,7 +14,9 @@ reported slope (Annex 10 / FAA image-array formula), RDH from :func:`geo.airfiel
 RPI (Annex 10 3.1.1 geometry), the reported samples inside the zone drawn independently as a shapely
 union of the exact Fresnel ellipses (:func:`geo.ground.terrain.fit_zone`), and the sweep (prefix sums over
 row intervals) against the single study (least squares on samples) at the same positions. The
-setback solved for a target RDH ends too, at the target or with a finding saying how far.
+setback solved for a target RDH ends too, at the target or with a finding saying how far. The site
+files turn the surface prediction off: nothing here looks at it (tests/optics/test_surface_real_dem.py
+runs it on this DEM).
 """
 
 from __future__ import annotations
@@ -25,6 +27,7 @@ import time
 import numpy as np
 import pytest
 from jacksboro import NODATA, jacksboro_sheet, site_text, write_raster
+from tests_support import NO_SURFACE, computed_once
 
 from geo.airfield.path import rdh_m
 from geo.errors import SiteFileError, TerrainError
@@ -45,9 +48,8 @@ RUNWAY_M = 2500.0
 LEGITIMATE = ("too close to the", "off the DEM or on nodata", "falls more than")
 
 
-@pytest.fixture(scope="session")
-def jacksboro_dems(tmp_path_factory):
-    """The sample DEM at every relief scale, as (crs, scale) -> GeoTIFF path, written once."""
+def _jacksboro_dems(tmp_path_factory):
+    """The sample DEM at every relief scale, as (crs, scale) -> GeoTIFF path."""
     from rasterio.warp import Resampling, calculate_default_transform, reproject
 
     folder = tmp_path_factory.mktemp("jacksboro")
@@ -117,7 +119,7 @@ def _site_texts(dems) -> list[dict]:
             threshold, end = (lat, lon, z_thr), (end_lat, end_lon, z_end)
             site["text"] = site_text(
                 path, f"Jacksboro fictional runway {r}", threshold, end, site["array"], site["side"],
-                site["offset"], site["setback"],
+                site["offset"], site["setback"], NO_SURFACE,
             )  # fmt: skip
             sites.append(site)
     return sites
@@ -129,8 +131,14 @@ def _full_study(site) -> bool:
 
 
 @pytest.fixture(scope="session")
-def real_sites(jacksboro_dems):
-    """Every site's terrain analysis (or its error), analysed once; every fifth also studied and swept."""
+def real_sites(tmp_path_factory):
+    """Every site's terrain analysis (or its error), analysed once in the session (also when the tests of
+    this module run in two xdist workers); every fifth also studied and swept."""
+    return computed_once(tmp_path_factory, "real_terrain_sites", lambda: _analyse_sites(tmp_path_factory))
+
+
+def _analyse_sites(tmp_path_factory) -> list[dict]:
+    jacksboro_dems = _jacksboro_dems(tmp_path_factory)
     folder = jacksboro_dems["folder"]
     out = []
     start = time.perf_counter()

@@ -5,7 +5,7 @@ import math
 
 import numpy as np
 import pytest
-from tests_support import DEMO_SITE
+from tests_support import DEMO_SITE, without_surface
 
 from geo.ground.roughness import (
     far_field_grazing_deg,
@@ -75,11 +75,17 @@ def test_families_on_flat_ground_without_a_fitted_zone():
         assert [v.limit_m for v in f.verdicts] == [v.limit_m for v in roughness_verdicts(0.1, lam, f.grazing_deg)]
 
 
-def test_demo_families_measured():
+@pytest.fixture(scope="module")
+def demo_study():
+    """The demo study, without the surface prediction (the roughness families do not depend on it)."""
     from geo.site.site_file import load_site
     from geo.study.site_study import run_study
 
-    result = run_study(load_site(DEMO_SITE))
+    return run_study(without_surface(load_site(DEMO_SITE)))
+
+
+def test_demo_families_measured(demo_study):
+    result = demo_study
     t, m = result.terrain, result.mast
     fam = roughness_by_family(
         t.plane.rms_residual_m,
@@ -120,12 +126,10 @@ def test_demo_families_measured():
     assert strictest_family(fam).grazing_deg == max(f.grazing_deg for f in fam if f.judged)
 
 
-def test_demo_summary_and_finding_name_the_strictest_family():
+def test_demo_summary_and_finding_name_the_strictest_family(demo_study):
     from geo.outputs.summary import summary_dict
-    from geo.site.site_file import load_site
-    from geo.study.site_study import run_study
 
-    result = run_study(load_site(DEMO_SITE))
+    result = demo_study
     rows = summary_dict(result)["terrain"]["roughness_by_family"]
     assert [r["family"] for r in rows] == [f.name for f in result.roughness_families]
     strictest = [r for r in rows if r["strictest"]]

@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from tests_support import file_digests
+from tests_support import file_digests, wait_for_path
 
 from geo.outputs.background import BackgroundWriter
 from geo.outputs.write import write_study
@@ -33,21 +33,26 @@ def test_every_worker_ends_when_stopped():
     assert not any(proc.is_alive() for proc in procs)
 
 
-def test_busy_says_whether_a_task_still_runs_and_wait_keeps_its_error():
+def test_busy_says_whether_a_task_still_runs_and_wait_keeps_its_error(tmp_path):
     # BackgroundWriter.busy polls without waiting (cli.run keeps the optics kernel on one thread
-    # while it is True); an error reported meanwhile is still raised by wait().
+    # while it is True); an error reported meanwhile is still raised by wait(). The first task runs
+    # until the test creates a file, so it is still running when busy() is asked, however slow the
+    # machine (a task of one second could end first on a loaded one).
     import time
 
     import pytest
 
+    release = tmp_path / "release"
     with BackgroundWriter(["plots"]) as writer:
         assert not writer.busy()
-        writer.submit(time.sleep, 1.0, output="plots")
+        writer.submit(wait_for_path, str(release), output="plots")
         assert writer.busy()
         writer.submit(int, "not a number", output="plots")
-        deadline = time.monotonic() + 30.0
+        assert writer.busy()
+        release.touch()
+        deadline = time.monotonic() + 300.0  # only against a hang: both tasks end at once now
         while writer.busy() and time.monotonic() < deadline:
-            time.sleep(0.05)
+            time.sleep(0.02)
         assert not writer.busy()
         with pytest.raises(ValueError):
             writer.wait()

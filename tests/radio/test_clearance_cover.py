@@ -4,6 +4,7 @@ import numpy as np
 import pytest
 from dem_helpers import box_around, write_dem
 from pyproj import Geod, Transformer
+from tests_support import NO_SURFACE
 
 from geo.site.site_file import load_site
 from geo.study.findings import check_approach_clearance
@@ -18,7 +19,9 @@ def _flat(x, y):
 
 
 def _site(site_text, dem_name, extra=""):
-    return site_text.replace("base_elevation = 511.2\n", "") + f'\n[terrain]\ndem = "{dem_name}"\n{extra}'
+    """The test site on a DEM, the surface prediction off (the profile and its clearance do not depend on it)."""
+    text = site_text.replace("base_elevation = 511.2\n", "") + f'\n[terrain]\ndem = "{dem_name}"\n{extra}'
+    return text + NO_SURFACE
 
 
 def _reach_m(crs, west, north, n, cell, lat=-35.41, lon=148.92, end=(-35.42, 148.95)):
