@@ -136,7 +136,7 @@ def test_solved_setbacks_agree_with_the_study_solver(tmp_path, demo_site):
         # Independent method: the single-site study's own setback solve (its zone polygon and sample grid).
         one = dataclasses.replace(spec, mast=MastSpec(side=r["side"], offset_m=float(r["offset_m"]), setback_m=None))
         study = run_study(one)
-        # RDH agrees within 1 cm between sweep and study (tests/test_sweep.py): 0.01 / tan 3 deg = 0.19 m.
+        # RDH agrees within 1 cm between sweep and study (tests/study/test_sweep.py): 0.01 / tan 3 deg = 0.19 m.
         assert float(r["setback_m"]) == pytest.approx(study.mast.setback_m, abs=0.3)
     bad = _run("sweep", demo_site, "--out", tmp_path / "x", "--solve-setback", "--setback", 200, 300, 10)
     assert bad.exit_code == 2 and "--solve-setback" in bad.output

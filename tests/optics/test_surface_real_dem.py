@@ -191,7 +191,7 @@ def test_plane_in_place_of_the_dem_gives_image_theory(studies):
     # study's own plane fitted to the real ground (tilted forward and across), the difference method
     # gives image theory back exactly (its bracket vanishes facet by facet), and the raw integral
     # within its stated tolerance (geo.optics.surface_prediction notes: 0.086 deg over a flat plane at zone
-    # factor 3; tests/test_surface_prediction.py bounds it by 0.1 deg).
+    # factor 3; tests/optics/test_surface_prediction.py bounds it by 0.1 deg).
     r = studies["smooth"]
     model, _ = _pieces(r)
     image = r.prediction
