@@ -90,7 +90,6 @@ def on_a_terminal(*args, ticking_clock: bool = False):
     ``ticking_clock``: click's progress bar reads a clock that advances a second at each reading
     (:data:`_TICKING_CLOCK`), so that it shows the time left from its first step.
     """
-    import os
     import pty
 
     command = ["-c", _TICKING_CLOCK] if ticking_clock else ["-m", "cli.main"]
