@@ -369,7 +369,36 @@ class SurfaceGrid:
         return best.ravel()
 
 
-def surface_grid(limits: AreaLimits, heights, wavelength_m: float, cell_m: float, antennas_m, receivers_m, refine=1.0):
+def _split(nodes: np.ndarray, parts: np.ndarray) -> np.ndarray:
+    """Each interval of ``nodes`` cut into ``parts[i]`` equal ones. [m]"""
+    pieces = [np.linspace(lo, hi, int(n) + 1)[:-1] for lo, hi, n in zip(nodes[:-1], nodes[1:], parts)]
+    return np.concatenate([*pieces, nodes[-1:]])
+
+
+def _detail_parts(deviation_m: np.ndarray, tolerance_m: float, most: int) -> np.ndarray:
+    """Parts per interval so that the deviation from linear, falling as the square of the side, meets the tolerance."""
+    dev = np.nan_to_num(deviation_m, nan=0.0)
+    need = np.sqrt(np.maximum(dev, 0.0) / tolerance_m)
+    parts = 2.0 ** np.ceil(np.log2(np.maximum(need, 1.0)))
+    return np.minimum(parts, most).astype(int)
+
+
+def _deviations(heights, u, w, z):
+    """Largest departure of the ground from the line between neighbouring nodes, per interval along and across. [m]"""
+    uu, ww = np.meshgrid((u[:-1] + u[1:]) / 2.0, w)
+    mid_u = np.asarray(heights(uu.ravel(), ww.ravel()), float).reshape(uu.shape) - (z[:, :-1] + z[:, 1:]) / 2.0
+    uu, ww = np.meshgrid(u, (w[:-1] + w[1:]) / 2.0)
+    mid_w = np.asarray(heights(uu.ravel(), ww.ravel()), float).reshape(uu.shape) - (z[:-1, :] + z[1:, :]) / 2.0
+    with np.errstate(all="ignore"):
+        along = np.nanmax(np.abs(np.where(np.isfinite(mid_u), mid_u, 0.0)), axis=0) if w.size else np.zeros(u.size - 1)
+        across = np.nanmax(np.abs(np.where(np.isfinite(mid_w), mid_w, 0.0)), axis=1) if u.size else np.zeros(w.size - 1)
+    return along, across
+
+
+def surface_grid(
+    limits: AreaLimits, heights, wavelength_m: float, cell_m: float, antennas_m, receivers_m, refine=1.0,
+    detail_tolerance_m: float | None = None, most_parts: int = 4,
+):  # fmt: skip
     """Nodes graded by the pi/8 rule (see the module notes) and the ground on them.
 
     Parameters
@@ -384,7 +413,16 @@ def surface_grid(limits: AreaLimits, heights, wavelength_m: float, cell_m: float
     antennas_m, receivers_m : array_like
         (u, w, Z) of the antennas and the receivers (for the distance to the nearest one). [m]
     refine : float
-        Divides every facet side (the doubled-sampling check uses 2).
+        Divides every facet side (the doubled-sampling check uses 2). Where ``detail_tolerance_m``
+        is given, the grid of ``refine`` 1 is cut into ``refine`` equal parts per interval (so
+        that the finer grids hold the coarser one's nodes).
+    detail_tolerance_m : float, optional
+        Where the ground between two neighbouring nodes departs from the straight line between
+        them by more than this (a ditch, a bank), the interval along or across is cut into up to
+        ``most_parts`` equal parts, so that the departure, which falls as the square of the side
+        [3]_, meets it: the facets are refined where the ground asks for it, not everywhere. [m]
+    most_parts : int
+        The most parts an interval is cut into for detail.
 
     Returns
     -------
@@ -402,15 +440,25 @@ def surface_grid(limits: AreaLimits, heights, wavelength_m: float, cell_m: float
             return min(r_ant, r_rx)
         return max(abs(x), h_low)
 
+    base = 1.0 if detail_tolerance_m is not None else refine
+
     def side(axis):
         largest = max(cell_m, _FINEST_CELL_M)
-        return lambda x: min(math.sqrt(wavelength_m * nearest(x, axis) / _PHASE_DIVISOR), largest) / refine
+        return lambda x: min(math.sqrt(wavelength_m * nearest(x, axis) / _PHASE_DIVISOR), largest) / base
 
     u = graded_nodes(limits.u0_m, limits.u1_m, side(0))
     w_pos = graded_nodes(0.0, max(limits.w1_m, 0.0), side(1))
     w_neg = -graded_nodes(0.0, max(-limits.w0_m, 0.0), side(1))[::-1]
     w = np.concatenate([w_neg[:-1], w_pos])
     w = w[(w >= limits.w0_m - 1e-9) & (w <= limits.w1_m + 1e-9)]
+    uu, ww = np.meshgrid(u, w)
+    z = np.asarray(heights(uu.ravel(), ww.ravel()), dtype=float).reshape(uu.shape)
+    if detail_tolerance_m is None:
+        return SurfaceGrid(u, w, z, limits)
+    along, across = _deviations(heights, u, w, z)
+    times = max(int(round(refine)), 1)
+    u = _split(u, _detail_parts(along, detail_tolerance_m, most_parts) * times)
+    w = _split(w, _detail_parts(across, detail_tolerance_m, most_parts) * times)
     uu, ww = np.meshgrid(u, w)
     z = np.asarray(heights(uu.ravel(), ww.ravel()), dtype=float).reshape(uu.shape)
     return SurfaceGrid(u, w, z, limits)

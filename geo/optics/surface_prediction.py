@@ -21,19 +21,28 @@ image theory comes back exactly; the raw integral ``direct + PO(surface)`` is ke
 flat plane it misses the path angle by 0.086 deg with the zones scaled 3 times, 0.030 deg with 6:
 the taper over a few Fresnel zones converges slowly).
 
-**Receivers.** The designed path at the points of ``path.csv`` (10 NM to the threshold; the
-integral is taken at points at least ``PATH_STEP_M`` apart and the DDM difference to image theory
-is interpolated linearly between them), and distant receivers (plane waves) in elevation windows
-around the image theory's path and half-sectors, where a cubic through the samples around each
-crossing gives the surface's path angle and half-sectors. Their areas are the zones of receivers
-at ``FAR_RANGE_M``.
+**Receivers.** The designed path sampled evenly from 10 NM to the threshold, at most
+``APPROACH_STEP_M`` (20 m) apart, so that the structure is measured on the samples the integral
+gives (not on an interpolation between sparse ones), and distant receivers (plane waves) in
+elevation windows around the image theory's path and half-sectors, where a cubic through the
+samples around each crossing gives the far-field path angle and half-sectors. Their areas are the
+zones of receivers at ``FAR_RANGE_M``. Where aircraft fly, the path angle is the elevation of a
+straight line through the path heights between 2 and 10 NM (``fitted_angle_deg``); the far-field
+angle is kept beside it for comparison.
 
-**Convergence.** The far-field windows and a few path points are computed again with the facet
-sides halved (sampling doubled) and with the zones scaled twice as far (area doubled); the
-changes of path angle, half-sectors and DDM are reported. With one facet per DEM cell the facets
-resample the DEM (their corners are not its posts), so a DEM with cell-scale roughness moves the
-path angle by about 0.01 deg when the sampling doubles (the demo); where doubling the area moves
-it, the ground beyond the zones departs from the plane and matters (the real-DEM exploration).
+**The DEM's noise.** A DEM's posts carry centimetres of noise, which the facets would follow as
+geometry (finer facets tilt with it, its bumps cast shadows at grazing incidence): the demo's
+3 cm noise moves the path angle by 0.006 deg between facets 2 and 4 times finer than the cell.
+By default it is shrunk out of the surface (:mod:`geo.ground.denoise`) and the RMS height taken
+out is given to the Ament factor on the reflected field (``noise="geometry"`` keeps it).
+
+**Convergence.** From one facet per DEM cell, the far-field windows and a few path points are
+computed again with the facet sides halved; while that moves the angles by more than
+``ANGLE_TOLERANCE_DEG`` or the DDM by more than ``DDM_TOLERANCE``, the whole prediction is taken
+at the finer sampling and checked again, up to the cost limit (``MAX_REFINE``, ``MAX_FACETS``).
+Then the zones are scaled twice as far (area doubled) once: where that moves the result, the
+ground beyond the integration area departs from the plane and matters. ``converged`` records
+every step, the verdict and, if not converged, which check failed and why.
 
 A prediction, to be confirmed by flight inspection.
 
@@ -48,21 +57,35 @@ References
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field, replace
+from dataclasses import dataclass, field
 
 import numpy as np
 
+from geo.ground.denoise import denoise_heights
 from geo.optics.kernel import ground_fields
 from geo.optics.surface_facets import SurfaceGrid, area_limits, surface_grid
 from geo.radio.prediction import ArrayModel, PathPrediction, ddm
+from geo.radio.reflection import coherent_roughness_factor
 from geo.radio.structure import BEND_FILTER, SegmentBends, bends, segment_bends
 
 __all__ = ["FAR_RANGE_M", "SurfacePrediction", "predict_surface", "surface_fields", "surface_far_ddm"]
 
 #: Range of the far-field receivers (from the foot of the mast). [m]
 FAR_RANGE_M = 200_000.0
-#: Smallest spacing of the path points the integral is taken at. [m]
-PATH_STEP_M = 20.0
+#: Largest spacing of the approach samples the integral is taken at (evenly, 10 NM to the threshold). [m]
+APPROACH_STEP_M = 20.0
+#: The path angle where aircraft fly: a straight line through the path heights between these
+#: distances before the threshold (2 and 10 NM). [m]
+FIT_FROM_M = 2 * 1852.0
+FIT_TO_M = 10 * 1852.0
+#: Cost limit of the convergence: facet sides at most this many times finer than the DEM cell, and
+#: at most this many facets in one grid.
+MAX_REFINE = 4.0
+MAX_FACETS = 450_000
+#: Facets follow the ground's detail: an interval whose ground departs from linear by more than
+#: lambda / (DETAIL_DIVISOR sin psi) is cut into up to DETAIL_PARTS parts (32: the Fraunhofer criterion).
+DETAIL_DIVISOR = 64.0
+DETAIL_PARTS = 4
 #: Half-width of the far-field windows, as a fraction of theta, and points per window.
 _WINDOW = 0.06
 _WINDOW_POINTS = 9
@@ -70,7 +93,7 @@ _WINDOW_POINTS = 9
 _CHECK_PATH_POINTS = 6
 #: Convergence tolerances: those of the flat-plane check of issue 11 (0.002 deg; 1 % of 0.0875 DDM).
 ANGLE_TOLERANCE_DEG = 0.002
-DDM_TOLERANCE = 0.01 * 0.0875
+DDM_TOLERANCE = 0.001
 #: The zones are scaled by this to make the integration area (see geo.optics.surface_facets).
 ZONE_FACTOR = 3.0
 VISIBILITY_NOTE = (
@@ -110,6 +133,23 @@ class SurfacePrediction:
     below_path : geo.radio.below_path.BelowPathCheck, str or None
         The DDM below the path over the surface (far field; course signal); a str says why it was
         not computed.
+    fitted_angle_deg : float
+        The path angle where aircraft fly: the elevation of a straight line through ``path_z_m``
+        between ``fit_range_m`` before the threshold (the far-field ``path_angle_deg`` at
+        ``FAR_RANGE_M`` is kept for comparison). [deg]
+    fit_range_m : tuple of float
+        [m]
+    approach_along_m, approach_ddm, approach_ddm_image : numpy.ndarray
+        The even samples the integral is taken at (at most ``APPROACH_STEP_M`` apart), the DDM
+        over the surface and by image theory there. [m], [-], [-]
+    noise : {"roughness", "geometry"}
+        How the DEM's cell-scale noise was treated (:mod:`geo.ground.denoise`).
+    noise_sigma_m, roughness_m : float
+        The noise level estimated and the RMS height taken out of the geometry, given to the
+        Ament factor. [m]
+    unshadowed : dict or None
+        Far-field path angle and half-sectors with no terrain shadowing, at one facet per DEM
+        cell (the first sampling). [deg]
     """
 
     path_angle_deg: float
@@ -130,6 +170,15 @@ class SurfacePrediction:
     method: str = "difference"
     notes: tuple = (VISIBILITY_NOTE, BEND_FILTER)
     below_path: object = None
+    fitted_angle_deg: float = math.nan
+    fit_range_m: tuple = (FIT_FROM_M, FIT_TO_M)
+    approach_along_m: np.ndarray | None = None
+    approach_ddm: np.ndarray | None = None
+    approach_ddm_image: np.ndarray | None = None
+    noise: str = "roughness"
+    noise_sigma_m: float | None = None
+    roughness_m: float = 0.0
+    unshadowed: dict | None = None
 
 
 def _plane_z(model: ArrayModel, u, w):
@@ -150,6 +199,7 @@ def surface_fields(
     visibility: bool = True,
     rx_index=None,
     far: bool = False,
+    roughness_m: float = 0.0,
 ) -> tuple[np.ndarray, np.ndarray]:
     """CSB and SBO fields at receivers over the surface of ``grid`` (see the module notes).
 
@@ -170,6 +220,10 @@ def surface_fields(
     far : bool
         ``receivers_m`` are unit directions of distant receivers; the fields are in the units of
         :meth:`ArrayModel.far_fields`.
+    roughness_m : float
+        RMS height of roughness not in the geometry: the reflected field (image and bracket) is
+        scaled by the Ament factor at each receiver's grazing angle seen from the mast's foot
+        (:func:`geo.radio.reflection.coherent_roughness_factor`; method "difference" only). [m]
 
     Returns
     -------
@@ -197,13 +251,8 @@ def surface_fields(
         # the same weights for the surface and the plane: their facets share (u, w)
         options["pair_weight"] = _receiver_weights(grid.limits, facets.centres_m, rx_index)
     po = ground_fields(model.positions_m, facets, rx, *consts, source_visible=vis, horizon_tan=horizon, **options)
-    k = 2.0 * math.pi / model.wavelength_m
     if method == "raw":
-        if far:
-            direct = np.exp(1j * k * model.positions_m @ rx.T)
-        else:
-            r = np.linalg.norm(rx[None, :, :] - model.positions_m[:, None, :], axis=2)
-            direct = np.exp(-1j * k * r) / r
+        direct = _direct(model, rx, far)
         return model.csb @ (direct + po), model.sbo @ (direct + po)
     if method != "difference":
         raise ValueError(f"method {method!r} is not one of 'difference', 'raw'")
@@ -214,7 +263,25 @@ def surface_fields(
         csb, sbo = model.far_fields(elevation)
     else:
         csb, sbo = model.fields(rx)
-    return csb + model.csb @ po, sbo + model.sbo @ po
+    if roughness_m <= 0.0:
+        return csb + model.csb @ po, sbo + model.sbo @ po
+    grazing = np.arcsin(np.clip(rx[:, 2], -1.0, 1.0)) if far else np.arctan2(rx[:, 2], np.hypot(rx[:, 0], rx[:, 1]))
+    keep = coherent_roughness_factor(roughness_m, grazing, model.wavelength_m)
+    direct = _direct(model, rx, far)
+    csb_direct, sbo_direct = model.csb @ direct, model.sbo @ direct
+    return (
+        csb_direct + keep * (csb - csb_direct + model.csb @ po),
+        sbo_direct + keep * (sbo - sbo_direct + model.sbo @ po),
+    )
+
+
+def _direct(model: ArrayModel, rx: np.ndarray, far: bool) -> np.ndarray:
+    """Direct waves of each antenna at the receivers (S, R), in the units of ``fields`` / ``far_fields``."""
+    k = 2.0 * math.pi / model.wavelength_m
+    if far:
+        return np.exp(1j * k * model.positions_m @ rx.T)
+    r = np.linalg.norm(rx[None, :, :] - model.positions_m[:, None, :], axis=2)
+    return np.exp(-1j * k * r) / r
 
 
 def _receiver_weights(limits, centres_m, rx_index):
@@ -375,38 +442,178 @@ def surface_far_ddm(
     return ddm(c, s, sbo_scale)
 
 
-def _path_subset(along_m):
-    """Indices of path points at least PATH_STEP_M apart (the first and last always kept)."""
-    keep = [0]
-    for i in range(1, along_m.size):
-        if along_m[i] - along_m[keep[-1]] >= PATH_STEP_M:
-            keep.append(i)
-    if keep[-1] != along_m.size - 1:
-        keep.append(along_m.size - 1)
-    return np.asarray(keep)
+def _approach_points(image: PathPrediction, setback_m: float, offset_m: float):
+    """The designed path sampled evenly, at most ``APPROACH_STEP_M`` apart, from 10 NM to the threshold.
+
+    Returns the distances (negative on the approach) and the receivers (u, w, Z). [m]
+    """
+    along = image.along_m
+    count = int(math.ceil((along[-1] - along[0]) / APPROACH_STEP_M)) + 1
+    dense = np.linspace(along[0], along[-1], count)
+    z = np.interp(dense, along, image.nominal_z_m)  # the designed path is a straight line: exact
+    return dense, np.column_stack([setback_m - dense, np.full(dense.size, offset_m), z])
 
 
-def _grid(model, heights, cell_m, receivers, refine=1.0, zone_factor=ZONE_FACTOR):
+def _grid(model, heights, cell_m, receivers, refine=1.0, zone_factor=ZONE_FACTOR, detail=True):
+    """The graded grid of the receivers' areas; ``detail``: refined where the ground departs from linear."""
     lam = model.wavelength_m
     ants = _above_plane(model, model.positions_m)
     limits = area_limits(ants, _above_plane(model, receivers), lam, zone_factor)
-    return surface_grid(limits, heights, lam, cell_m, model.positions_m, receivers, refine)
+    tolerance = _detail_tolerance_m(model, receivers) if detail else None
+    return surface_grid(limits, heights, lam, cell_m, model.positions_m, receivers, refine, tolerance, DETAIL_PARTS)
 
 
-def _evaluate(model, grid, receivers, index, n_path, windows, scale, method, visibility, zone_index=None):
-    """DDM at the path receivers and the sector, for ``receivers[index]``.
+def _detail_tolerance_m(model, receivers) -> float:
+    """Departure from linear that the facets must follow: lambda / (32 sin psi) at the steepest receiver. [m]
 
-    ``zone_index``: each one's place among the receivers ``grid`` was made for (``index`` when
-    the grid was made for all of them).
+    The Fraunhofer criterion of a smooth surface (Ulaby, Moore and Fung 1982, from memory), for
+    the largest grazing angle seen from the mast's foot among the receivers.
     """
-    zone_index = index if zone_index is None else np.asarray(zone_index)
-    path = index < n_path
-    c, s = surface_fields(model, grid, receivers[index[path]], method, visibility, rx_index=zone_index[path])
+    rx = np.atleast_2d(receivers)
+    sin_psi = np.max(rx[:, 2] / np.maximum(np.hypot(rx[:, 0], rx[:, 2]), 1e-9))
+    return model.wavelength_m / (DETAIL_DIVISOR * max(float(sin_psi), 1e-3))
+
+
+@dataclass
+class _Job:
+    """What every evaluation of one prediction shares."""
+
+    model: ArrayModel
+    heights: object
+    cell_m: float
+    receivers: np.ndarray  # path points, then the far-field directions times FAR_RANGE_M
+    n_path: int
+    windows: np.ndarray
+    scale: float
+    method: str
+    visibility: bool
+    roughness_m: float = 0.0
+
+
+def _evaluate(job: _Job, index, refine=1.0, zone_factor=ZONE_FACTOR, visibility=None):
+    """DDM at the path receivers among ``receivers[index]`` and the sector from its far ones.
+
+    The grid covers the areas of ``receivers[index]`` only. Returns (ddm, sector, facets).
+    """
+    index = np.asarray(index)
+    vis = job.visibility if visibility is None else visibility
+    grid = _grid(job.model, job.heights, job.cell_m, job.receivers[index], refine, zone_factor)
+    local = np.arange(index.size)
+    path = index < job.n_path
+    options = dict(method=job.method, visibility=vis, roughness_m=job.roughness_m)
+    c = s = np.zeros(0, complex)
+    if path.any():
+        c, s = surface_fields(job.model, grid, job.receivers[index[path]], rx_index=local[path], **options)
     far_index = index[~path]
-    far_elev = windows.ravel()[far_index - n_path]
-    directions = receivers[far_index] / FAR_RANGE_M
-    c_far, s_far = surface_fields(model, grid, directions, method, visibility, rx_index=zone_index[~path], far=True)
-    return ddm(c, s, scale), _sector(far_elev.reshape(3, -1), ddm(c_far, s_far, scale))
+    far_elev = job.windows.ravel()[far_index - job.n_path]
+    directions = job.receivers[far_index] / FAR_RANGE_M
+    c_far, s_far = surface_fields(job.model, grid, directions, rx_index=local[~path], far=True, **options)
+    _SHADING_CACHE.clear()
+    sector = _sector(far_elev.reshape(3, -1), ddm(c_far, s_far, job.scale)) if far_index.size else ()
+    return ddm(c, s, job.scale), sector, (grid.u_m.size - 1) * (grid.w_m.size - 1), grid
+
+
+def _checked(job: _Job, chosen):
+    """Receivers of the convergence checks: ``chosen`` path points and every other far elevation."""
+    far_index = job.n_path + np.arange(job.windows.size).reshape(job.windows.shape)[:, ::2].ravel()
+    return np.concatenate([chosen, far_index])
+
+
+def _change(job, chosen, ddm_base, sector_base, refine, zone_factor):
+    """Changes of the angles and the DDM of the checked receivers at ``refine`` / ``zone_factor``."""
+    index = _checked(job, chosen)
+    again, other, facets, _ = _evaluate(job, index, refine, zone_factor)
+    found = all(math.isfinite(v) for v in (*other, *sector_base))
+    ddm_change = float(np.max(np.abs(again[: chosen.size] - ddm_base[chosen]))) if chosen.size else 0.0
+    return {
+        "refine": refine,
+        "zone_factor": zone_factor,
+        "facets": facets,
+        # None: a crossing fell outside the check's windows (the angles moved more than 0.06 theta)
+        "path_angle_change_deg": abs(other[0] - sector_base[0]) if found else None,
+        "half_sector_change_deg": max(abs(other[1] - sector_base[1]), abs(other[2] - sector_base[2]))
+        if found
+        else None,
+        "ddm_change_max": ddm_change,
+        "path_points_checked": int(chosen.size),
+    }
+
+
+def _within(change: dict) -> bool:
+    angles = (change["path_angle_change_deg"], change["half_sector_change_deg"])
+    return all(a is not None and a <= ANGLE_TOLERANCE_DEG for a in angles) and change["ddm_change_max"] <= DDM_TOLERANCE
+
+
+def _refined(job: _Job, along_dense, check: bool, zone_factor: float):
+    """The prediction at the coarsest sampling that doubling no longer moves (see the module notes).
+
+    From one facet per DEM cell (``refine`` 1), the checked receivers are computed with the facet
+    sides halved; while that moves the angles by more than ``ANGLE_TOLERANCE_DEG`` or the DDM by
+    more than ``DDM_TOLERANCE``, the whole prediction is taken at the finer sampling and checked
+    again; a check finer than ``MAX_REFINE`` times the cell, or a grid beyond ``MAX_FACETS`` facets,
+    is not made (the cost limit). The area doubled is checked once, at the first sampling.
+    Returns (ddm, sector, facets, grid, converged).
+    """
+    everything = np.arange(job.receivers.shape[0])
+    refine = 1.0
+    ddm_path, sector, facets, grid = _evaluate(job, everything, refine, zone_factor)
+    if not check:
+        return ddm_path, sector, facets, grid, {}
+    beyond = np.flatnonzero(along_dense <= -1852.0)
+    chosen = beyond[np.linspace(0, beyond.size - 1, min(_CHECK_PATH_POINTS, beyond.size)).astype(int)]
+    # The area is checked at the first sampling: what the ground beyond adds hardly depends on it.
+    area = _change(job, chosen, ddm_path, sector, refine, 2.0 * zone_factor)
+    steps, reason = [], None
+    while True:
+        step = _change(job, chosen, ddm_path, sector, 2.0 * refine, zone_factor)
+        steps.append(step)
+        if _within(step):
+            break
+        if 4.0 * refine > MAX_REFINE or 4.0 * facets > MAX_FACETS:
+            reason = (
+                f"the cost limit: the next check needs facets {4.0 * refine:g} times finer than the DEM cell "
+                f"(about {16 * facets:,} facets), beyond the limit of {MAX_REFINE:g} times or {MAX_FACETS:,} facets"
+            )
+            break
+        refine *= 2.0
+        ddm_path, sector, facets, grid = _evaluate(job, everything, refine, zone_factor)
+    sampling_ok, area_ok = _within(steps[-1]), _within(area)
+    if sampling_ok and not area_ok:
+        reason = "the area: doubling it moves the result, so the ground beyond it departs from the plane and matters"
+    elif not sampling_ok and reason is None:
+        reason = "the sampling: a crossing left the check's windows"
+    converged = {
+        "refine": refine,
+        "sampling_steps": steps,
+        "sampling_doubled": steps[-1],
+        "area_doubled": area,
+        "converged": bool(sampling_ok and area_ok),
+        "not_converged_because": reason,
+        "tolerances": {"angle_deg": ANGLE_TOLERANCE_DEG, "ddm": DDM_TOLERANCE},
+        "cost_limit": {"refine": MAX_REFINE, "facets": MAX_FACETS},
+    }
+    return ddm_path, sector, facets, grid, converged
+
+
+def _fitted_angle(along_m, path_z_m) -> tuple[float, float, float]:
+    """Path angle from a straight line through the path heights from FIT_FROM_M to FIT_TO_M. [deg]
+
+    Returns (angle, intercept at the threshold, slope); the heights are taken against the
+    horizontal distance before the threshold, so the angle is the elevation of that line.
+    """
+    part = (along_m <= -FIT_FROM_M) & (along_m >= -FIT_TO_M)
+    slope, intercept = np.polyfit(-along_m[part], path_z_m[part], 1)
+    return math.degrees(math.atan(slope)), float(intercept), float(slope)
+
+
+def _path_heights(model, points, ddm_image, difference, scale, image_path_z):
+    """First-order path heights: the image path moved by the DDM difference over the DDM slope. [m]"""
+    dz = 0.05 * np.maximum(np.abs(points[:, 2]), 1.0)
+    up = np.column_stack([0.0 * dz, 0.0 * dz, dz])
+    c_hi, s_hi = model.fields(points + up)
+    c_lo, s_lo = model.fields(points - up)
+    slope = (ddm(c_hi, s_hi, scale) - ddm(c_lo, s_lo, scale)) / (2 * dz)
+    return image_path_z - difference / np.where(slope != 0.0, slope, -np.inf)
 
 
 def predict_surface(
@@ -422,6 +629,7 @@ def predict_surface(
     visibility: bool = True,
     check: bool = True,
     zone_factor: float = ZONE_FACTOR,
+    noise: str = "roughness",
 ) -> SurfacePrediction:
     """Predict the path over the surface (see the module notes).
 
@@ -445,108 +653,75 @@ def predict_surface(
     visibility : bool
         Terrain shadowing.
     check : bool
-        Run the convergence check (sampling doubled, area doubled).
+        Refine until converged (sampling doubled, area doubled; see :func:`_refined`).
     zone_factor : float
         Each receiver's area: its first Fresnel zones scaled by this (:func:`area_limits`).
+    noise : {"roughness", "geometry"}
+        The DEM's cell-scale noise shrunk out of the surface and counted as roughness (the Ament
+        factor, :mod:`geo.ground.denoise`), or kept as geometry.
 
     Returns
     -------
     SurfacePrediction
     """
-    along = image.along_m
-    points = np.column_stack([setback_m - along, np.full(along.size, offset_m), image.nominal_z_m])
-    subset = _path_subset(along)
+    if noise not in ("roughness", "geometry"):
+        raise ValueError(f"noise {noise!r} is not one of 'roughness', 'geometry'")
+    surface_heights = denoise_heights(heights, cell_m) if noise == "roughness" else heights
+    dense, points = _approach_points(image, setback_m, offset_m)
     windows = _windows(image, angle_deg)
-    receivers = np.vstack([points[subset], _far_receivers(windows.ravel())])
-    n_path = subset.size
-    grid = _grid(model, heights, cell_m, receivers, zone_factor=zone_factor)
-    scale = image.sbo_scale
-    everything = np.arange(receivers.shape[0])
-    ddm_sub, sector = _evaluate(model, grid, receivers, everything, n_path, windows, scale, method, visibility)
-    wide = not all(math.isfinite(v) for v in sector)
-    if wide:
-        sector = _wide_sector(model, heights, cell_m, image, angle_deg, scale, method, visibility, zone_factor)
-    difference = np.interp(along, along[subset], ddm_sub - image.ddm_nominal[subset])
-    ddm_surface = image.ddm_nominal + difference
-
-    # First-order path heights: move the image path by the DDM difference over the DDM slope.
-    dz = 0.05 * np.maximum(np.abs(image.nominal_z_m), 1.0)
-    up = np.column_stack([0.0 * dz, 0.0 * dz, dz])
-    c_hi, s_hi = model.fields(points + up)
-    c_lo, s_lo = model.fields(points - up)
-    slope = (ddm(c_hi, s_hi, scale) - ddm(c_lo, s_lo, scale)) / (2 * dz)
-    path_z = image.path_z_m - difference / np.where(slope != 0.0, slope, -np.inf)
-    far_part = (along <= -2 * 1852.0) & (along >= -10 * 1852.0)
-    slope_fit, intercept = np.polyfit(-along[far_part], path_z[far_part], 1)
-
-    grid_m, bend = bends(-along, ddm_surface)
+    receivers = np.vstack([points, _far_receivers(windows.ravel())])
+    job = _Job(model, surface_heights, cell_m, receivers, dense.size, windows, image.sbo_scale, method, visibility)
+    if noise == "roughness":  # the noise level is set at the first sampling: sample once before the runs
+        surface_heights(np.linspace(0.0, 1000.0, 201), np.zeros(201))
+        job.roughness_m = float(surface_heights.removed_rms_m)
+    ddm_dense, sector, facets, grid, converged = _refined(job, dense, check, zone_factor)
+    if not all(math.isfinite(v) for v in sector):
+        sector = _wide_sector(
+            model, surface_heights, cell_m, image, angle_deg, job.scale, method, visibility, zone_factor
+        )
+    c, s = model.fields(points)
+    ddm_dense_image = ddm(c, s, job.scale)
+    difference = ddm_dense - ddm_dense_image
+    image_path_z = np.interp(dense, image.along_m, image.path_z_m)
+    path_z = _path_heights(model, points, ddm_dense_image, difference, job.scale, image_path_z)
+    fitted, intercept, slope = _fitted_angle(dense, path_z)
+    grid_m, bend = bends(-dense, ddm_dense)
     structure = segment_bends(segments, grid_m, bend)
-
-    converged = {}
-    if check:
-        if wide and all(math.isfinite(v) for v in sector):  # the check's windows about the surface's own roots
-            path, below, above = sector
-            found = replace(image, path_angle_deg=path, half_sector_below_deg=below, half_sector_above_deg=above)
-            windows = _windows(found, angle_deg)
-            receivers = np.vstack([points[subset], _far_receivers(windows.ravel())])
-        converged = _convergence(
-            model, heights, cell_m, receivers, subset, along, n_path, windows, scale, ddm_sub, sector, method,
-            visibility, zone_factor,
-        )  # fmt: skip
-    _SHADING_CACHE.clear()  # let the grids go
+    unshadowed = _unshadowed(job, zone_factor) if visibility else None
     u, w = grid.u_m, grid.w_m
     return SurfacePrediction(
         sector[0],
         sector[1],
         sector[2],
-        along,
-        ddm_surface,
+        image.along_m,
+        image.ddm_nominal + np.interp(image.along_m, dense, difference),
         image.ddm_nominal,
-        path_z,
-        (float(intercept), float(slope_fit)),
+        np.interp(image.along_m, dense, path_z),
+        (intercept, slope),
         structure,
         grid_m,
         bend,
         converged,
-        (u.size - 1) * (w.size - 1),
+        facets,
         (float(u[0]), float(u[-1]), float(w[0]), float(w[-1])),
         float(np.mean(~np.isfinite(grid.z_m))),
         method,
+        below_path=None,
+        fitted_angle_deg=fitted,
+        fit_range_m=(FIT_FROM_M, FIT_TO_M),
+        approach_along_m=dense,
+        approach_ddm=ddm_dense,
+        approach_ddm_image=ddm_dense_image,
+        noise=noise,
+        noise_sigma_m=getattr(surface_heights, "noise_sigma_m", None),
+        roughness_m=job.roughness_m,
+        unshadowed=unshadowed,
     )
 
 
-def _convergence(
-    model, heights, cell_m, receivers, subset, along, n_path, windows, scale, ddm_sub, sector, method, vis, zone_factor
-):
-    """Path angle, half-sectors and DDM beyond 1 NM again with the sampling doubled and the area doubled.
-
-    Converged when every change is within the flat-plane tolerances of the checks: 0.002 deg
-    for the angles, and 1 % of the half-sector DDM (0.000875) for the DDM. The far-field windows
-    are taken at every other elevation; the grids cover the areas of the checked receivers only.
-    """
-    beyond = np.flatnonzero(along[subset] <= -1852.0)
-    chosen = beyond[np.linspace(0, beyond.size - 1, min(_CHECK_PATH_POINTS, beyond.size)).astype(int)]
-    far_index = n_path + np.arange(windows.size).reshape(windows.shape)[:, ::2].ravel()
-    index = np.concatenate([chosen, far_index])
-    base_far_sector = sector
-    out = {}
-    ok = True
-    for name, refine, factor in (("sampling_doubled", 2.0, zone_factor), ("area_doubled", 1.0, 2.0 * zone_factor)):
-        grid = _grid(model, heights, cell_m, receivers[index], refine, factor)  # the checked receivers' areas
-        local = np.arange(index.size)
-        again, other = _evaluate(model, grid, receivers, index, n_path, windows, scale, method, vis, local)
-        angle_change = max(abs(a - b) for a, b in zip(other, base_far_sector))
-        ddm_change = float(np.max(np.abs(again - ddm_sub[chosen]))) if chosen.size else 0.0
-        found = all(math.isfinite(v) for v in (*other, *base_far_sector))
-        out[name] = {
-            "facets": (grid.u_m.size - 1) * (grid.w_m.size - 1),
-            # None: a crossing fell outside the check's windows (the angles moved more than 0.06 theta)
-            "path_angle_change_deg": abs(other[0] - sector[0]) if found else None,
-            "half_sector_change_deg": max(abs(other[1] - sector[1]), abs(other[2] - sector[2])) if found else None,
-            "ddm_change_max": ddm_change,
-            "path_points_checked": int(chosen.size),
-        }
-        ok &= bool(found and angle_change <= ANGLE_TOLERANCE_DEG and ddm_change <= DDM_TOLERANCE)
-    out["converged"] = ok
-    out["tolerances"] = {"angle_deg": ANGLE_TOLERANCE_DEG, "ddm": DDM_TOLERANCE}
-    return out
+def _unshadowed(job: _Job, zone_factor: float) -> dict:
+    """Path angle and half-sectors (far field) with no terrain shadowing, at one facet per DEM cell. [deg]"""
+    far = job.n_path + np.arange(job.windows.size)
+    _, sector, _, _ = _evaluate(job, far, 1.0, zone_factor, visibility=False)
+    keys = ("path_angle_deg", "half_sector_below_deg", "half_sector_above_deg")
+    return dict(zip(keys, (float(v) for v in sector)))

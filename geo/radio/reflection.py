@@ -7,13 +7,16 @@ References
        through the complex permittivity).
 .. [2] ITU-R Recommendation P.527, "Electrical characteristics of the surface of the Earth"
        (complex relative permittivity ``eps_r - j 60 lambda sigma``; typical ground values).
+.. [3] Ament, W. S., "Toward a theory of reflection by a rough surface", Proc. IRE 41 (1953)
+       142-146; Beckmann, P. and Spizzichino, A., *The Scattering of Electromagnetic Waves from
+       Rough Surfaces*, Pergamon, 1963, ch. 5 (the coherent reflection of a Gaussian surface).
 """
 
 from __future__ import annotations
 
 import numpy as np
 
-__all__ = ["reflection_coefficient_h"]
+__all__ = ["coherent_roughness_factor", "reflection_coefficient_h"]
 
 
 def reflection_coefficient_h(
@@ -45,3 +48,29 @@ def reflection_coefficient_h(
     root = np.sqrt(eps - np.cos(psi) ** 2 + 0j)
     s = np.sin(psi)
     return (s - root) / (s + root)
+
+
+def coherent_roughness_factor(sigma_m: float, grazing_rad, wavelength_m: float):
+    """Share of the specular (coherent) reflected field left by roughness of RMS height ``sigma``.
+
+    Parameters
+    ----------
+    sigma_m : float
+        RMS height of the roughness (Gaussian heights). [m]
+    grazing_rad : array_like
+        Grazing angle of the specular reflection. [rad]
+    wavelength_m : float
+        [m]
+
+    Returns
+    -------
+    numpy.ndarray
+        ``exp(-2 (2 pi sigma sin psi / lambda)^2)`` [3]_: 1 for a smooth surface.
+
+    Examples
+    --------
+    >>> float(coherent_roughness_factor(0.0, 0.05, 0.9))
+    1.0
+    """
+    g = 2.0 * np.pi * sigma_m * np.sin(np.asarray(grazing_rad, float)) / wavelength_m
+    return np.exp(-2.0 * g * g)

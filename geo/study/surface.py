@@ -152,7 +152,7 @@ def surface_findings(surface: SurfacePrediction, category: str, unit: str = "m")
         )
     conv = surface.converged
     if conv and not conv.get("converged", False):
-        checks = [v for v in conv.values() if isinstance(v, dict) and "facets" in v]
+        checks = [conv["sampling_doubled"], conv["area_doubled"]]
         moves = [v["path_angle_change_deg"] for v in checks]
         ddm = max(v["ddm_change_max"] for v in checks)
         angle = f"by up to {max(moves):.4f} deg" if all(m is not None for m in moves) else "by more than 0.06 theta"
@@ -160,9 +160,10 @@ def surface_findings(surface: SurfacePrediction, category: str, unit: str = "m")
             Finding(
                 "surface-convergence",
                 "info",
-                f"Surface prediction: doubling the sampling or the area moves the path angle {angle} and the "
-                f"DDM beyond 1 NM by up to {ddm:.4f}; read its angles to that precision. Where doubling the "
-                "area moves it, the ground beyond the integration area departs from the plane and matters.",
+                f"Surface prediction not converged at facets {conv['refine']:g} times finer than the DEM cell, "
+                f"stopped by {conv['not_converged_because']}: a further doubling of the sampling or of the area "
+                f"moves the path angle {angle} and the DDM beyond 1 NM by up to {ddm:.4f}; read its angles to "
+                "that precision.",
             )
         )
     return out
