@@ -55,7 +55,7 @@ import numpy as np
 from geo.optics.kernel import ground_fields
 from geo.optics.surface_facets import SurfaceGrid, area_limits, surface_grid
 from geo.radio.prediction import ArrayModel, PathPrediction, ddm
-from geo.radio.structure import BEND_FILTER, SegmentBends, bends, segment_bends
+from geo.radio.structure import BEND_FILTER, SegmentBends, segment_structure
 
 __all__ = ["FAR_RANGE_M", "SurfacePrediction", "predict_surface", "surface_fields", "surface_far_ddm"]
 
@@ -479,8 +479,7 @@ def predict_surface(
     far_part = (along <= -2 * 1852.0) & (along >= -10 * 1852.0)
     slope_fit, intercept = np.polyfit(-along[far_part], path_z[far_part], 1)
 
-    grid_m, bend = bends(-along, ddm_surface)
-    structure = segment_bends(segments, grid_m, bend)
+    structure, grid_m, bend = segment_structure(segments, -along, ddm_surface, image.ddm_nominal)
 
     converged = {}
     if check:
