@@ -3,22 +3,24 @@
 For each object (``[[object]]`` of the site file, or three generic classes), each heading and
 each position of a grid around the mast, the object's scattered field (:mod:`geo.optics.objects`,
 :mod:`geo.optics.scatter_paths`) adds to the CSB and SBO of every antenna with its feeds. The
-disturbance at a receiver on the designed straight path is the bend amplitude
+disturbance is the change of ``DDM = 2 k Re(S / C)`` (module notes of :mod:`geo.radio.prediction`)
+it causes along the designed straight path, at receivers at most 20 m apart, measured as flight
+inspection measures bends (:mod:`geo.radio.structure`: the recorder's filter, then per approach
+segment of :mod:`geo.radio.structure_limits` about a straight line or the mean of the segment, 95 %
+amplitude). The rule is linear in the DDM, so the bends of the disturbed path are those of the
+undisturbed one plus those of the change: the change alone is the object's share. Where the
+object's carrier outweighs the array's at a receiver, the position's share is infinite.
 
-    dDDM = 2 k |dS - (S / C) dC| / (|C| - |dC|)
+:func:`bend_amplitude` keeps the envelope ``2 k |dS - (S / C) dC| / (|C| - |dC|)``, the largest DDM
+change at one receiver as the scattered phase turns: an upper bound of the change, no longer the
+measure of the areas.
 
-the largest change of ``DDM = 2 k Re(S / C)`` (module notes of :mod:`geo.radio.prediction`) as the
-phase of the scattered wave against the direct one turns: an upper bound, reached to first order
-in ``dC / C`` (the phase turns along the approach as the path lengths change; the change at any
-one receiver lies within it). Per approach segment (:mod:`geo.radio.structure_limits`) the largest
-disturbance is compared with the segment's structure limit at each receiver.
-
-A position is **critical** when the disturbance exceeds ``critical_share`` of the limit somewhere
-on the path, **sensitive** above ``sensitive_share``; positions where the object would stand
-against the mast count as both. The areas are the union of the grid cells (squares of the grid
-spacing centred on the positions) over the object's headings: a cell union, not a contour, so
-the outline shows the grid it came from. Ground: the reflecting plane of the study (flat ground,
-or the plane fitted to the DEM).
+A position is **critical** when the disturbance's 95 % bend exceeds ``critical_share`` of the limit
+in some segment (the 95th percentile of ``|bend| / limit``), **sensitive** above
+``sensitive_share``; positions where the object would stand against the mast count as both. The
+areas are the union of the grid cells (squares of the grid spacing centred on the positions) over
+the object's headings: a cell union, not a contour, so the outline shows the grid it came from.
+Ground: the reflecting plane of the study (flat ground, or the plane fitted to the DEM).
 
 The antenna elements are isotropic, as the predicted path takes them, unless ``[areas]`` gives
 their front-to-back ratio (:func:`element_pattern`, weighting the illumination of the objects).
@@ -46,7 +48,9 @@ import numpy as np
 from geo.optics.kernel import Facets
 from geo.optics.objects import GENERIC_OBJECTS, object_facets, object_half_diagonal_m
 from geo.optics.scatter_paths import four_path_field
-from geo.radio.prediction import ArrayModel
+from geo.radio.bend_filter import MAX_GAP_M
+from geo.radio.prediction import ArrayModel, ddm
+from geo.radio.structure import structure_arrays
 from geo.radio.structure_limits import COVERAGE_M, Segment, structure_segments
 from geo.site.site_file import AreaSpec, ObjectSpec
 
@@ -71,8 +75,8 @@ AREAS_CAUTION = (
     "Derived critical and sensitive areas are a planning aid beside the authority's rules and flight "
     "inspection, never in place of them."
 )
-#: Positions evaluated together (bounds memory: about 20 facets x 300 receivers x 16 bytes x 20 arrays each).
-_POSITIONS_PER_CHUNK = 100
+#: Position-receiver pairs evaluated together (bounds memory: about 20 facets x 16 bytes x 20 arrays each).
+_PAIRS_PER_CHUNK = 30_000
 #: Clearance around the mast inside which an object counts as standing against it. [m]
 _MAST_CLEARANCE_M = 2.0
 
@@ -117,9 +121,11 @@ class ObjectDisturbance:
     at_mast : numpy.ndarray of bool, shape (G,)
         The object would stand against the mast there (not computed; inside both areas).
     segment_ddm : dict of str to numpy.ndarray, shape (G, S)
-        Per heading, the largest disturbance per segment (NaN at the mast).
+        Per heading, the 95 % bend of the disturbance per segment (NaN at the mast, inf where the
+        object's carrier outweighs the array's). [DDM]
     share : dict of str to numpy.ndarray, shape (G,)
-        Per heading, the largest disturbance over the path as a share of the limit (inf at the mast).
+        Per heading, the largest over the segments of the 95th percentile of ``|bend| / limit``
+        (inf at the mast).
     """
 
     obj: ObjectSpec
@@ -219,14 +225,20 @@ def array_model(result) -> ArrayModel:
     )
 
 
-def path_receivers(result, model: ArrayModel, segments: list[Segment], count: int = 300) -> PathReceivers:
-    """``count`` receivers on the designed straight path over the segments, spaced evenly in log range."""
+def path_receivers(result, model: ArrayModel, segments: list[Segment], count: int | None = None) -> PathReceivers:
+    """Receivers on the designed straight path over the segments, evenly spaced.
+
+    ``count`` receivers, by default as few as keep them at most ``MAX_GAP_M`` (20 m) apart, the
+    spacing the structure rule asks for (:mod:`geo.radio.structure`); fewer are allowed (checks).
+    """
     mast = result.mast
     theta = math.radians(result.spec.angle_deg)
     intercept_z = result.intercept_elevation_m - mast.plane_elevation_m
     end = max(min(s.to_m for s in segments), 0.0)
-    u = np.geomspace(mast.setback_m + end, mast.setback_m + COVERAGE_M, count)
-    before = np.clip(u - mast.setback_m, end, COVERAGE_M)  # the ends exactly on the segment ends
+    if count is None:
+        count = int(math.ceil((COVERAGE_M - end) / MAX_GAP_M)) + 1
+    before = np.linspace(end, COVERAGE_M, count)  # the ends exactly on the segment ends
+    u = mast.setback_m + before
     points = np.column_stack([u, np.full(count, mast.offset_m), intercept_z + u * math.tan(theta)])
     csb, sbo = model.fields(points)
     limit = np.full(count, np.nan)
@@ -372,17 +384,25 @@ def disturbance(
     refine: float = 1.0,
     front_to_back_db: float = 0.0,
 ) -> tuple[np.ndarray, np.ndarray]:
-    """Largest disturbance per segment (G, S) and largest share of the limit (G,) at positions (u, w)."""
+    """95 % bend of the disturbance per segment (G, S) and its largest share of the limit (G,) at (u, w).
+
+    The change of the DDM along the path (exact, no linearisation) measured by
+    :func:`geo.radio.structure.structure_arrays` (module notes); infinite where the object's carrier
+    outweighs the array's at a receiver of the segment.
+    """
     d_csb, d_sbo = object_fields(model, obj, heading, u, w, receivers.points_m, refine, front_to_back_db)
-    bend = bend_amplitude(receivers.csb, receivers.sbo, d_csb, d_sbo, receivers.sbo_scale)
-    per_segment = np.full((bend.shape[0], len(segments)), np.nan)
+    c, s, k = receivers.csb, receivers.sbo, receivers.sbo_scale
+    swamped = np.abs(d_csb) >= np.abs(c)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        change = np.where(swamped, 0.0, ddm(c + d_csb, s + d_sbo, k) - ddm(c, s, k))
+    found = structure_arrays(segments, receivers.before_threshold_m, change)
+    per_segment = found.bend_95_ddm
+    ratio = found.ratio_95.copy()
     for i in range(len(segments)):
-        inside = receivers.segment == i
-        if inside.any():
-            per_segment[:, i] = bend[:, inside].max(axis=1)
-    valid = receivers.segment >= 0
-    share = (bend[:, valid] / receivers.limit_ddm[valid]).max(axis=1)
-    return per_segment, share
+        hit = swamped[:, segments[i].contains(receivers.before_threshold_m)].any(axis=1)
+        per_segment[hit, i] = np.inf
+        ratio[hit, i] = np.inf
+    return per_segment, np.nanmax(ratio, axis=1)
 
 
 def cell_union(u, w, mask, step_m: float):
@@ -397,7 +417,7 @@ def cell_union(u, w, mask, step_m: float):
     return shapely.union_all(cells).simplify(0.0)
 
 
-def derive_areas(result, progress=None, receivers_count: int = 300, workers: int | None = None) -> AreasResult:
+def derive_areas(result, progress=None, receivers_count: int | None = None, workers: int | None = None) -> AreasResult:
     """Disturbance maps and derived areas for every object of a study's site.
 
     Parameters
@@ -405,8 +425,8 @@ def derive_areas(result, progress=None, receivers_count: int = 300, workers: int
     result : StudyResult
     progress : callable, optional
         ``progress(done, total)`` after each chunk of positions.
-    receivers_count : int
-        Receivers on the designed path.
+    receivers_count : int, optional
+        Receivers on the designed path (default: at most 20 m apart, :func:`path_receivers`).
     workers : int, optional
         Threads (default: the processor count, at most 4).
 
@@ -422,11 +442,12 @@ def derive_areas(result, progress=None, receivers_count: int = 300, workers: int
     receivers = path_receivers(result, model, segments, receivers_count)
     u, w = position_grid(result, settings)
     jobs = []
+    chunk = max(_PAIRS_PER_CHUNK // receivers.before_threshold_m.size, 1)
     for k, obj in enumerate(objects):
         for heading in obj.headings:
             free = np.flatnonzero(~_at_mast(obj, heading, model, u, w))
-            for start in range(0, free.size, _POSITIONS_PER_CHUNK):
-                jobs.append((k, heading, free[start : start + _POSITIONS_PER_CHUNK]))
+            for start in range(0, free.size, chunk):
+                jobs.append((k, heading, free[start : start + chunk]))
     segment_ddm = {(k, h): np.full((u.size, len(segments)), np.nan) for k, o in enumerate(objects) for h in o.headings}
     share = {(k, h): np.full(u.size, np.inf) for k, o in enumerate(objects) for h in o.headings}
 

@@ -66,7 +66,7 @@ from geo.optics.kernel import ground_fields
 from geo.optics.surface_facets import SurfaceGrid, area_limits, surface_grid
 from geo.radio.prediction import ArrayModel, PathPrediction, ddm
 from geo.radio.reflection import coherent_roughness_factor
-from geo.radio.structure import BEND_FILTER, SegmentBends, bends, segment_bends
+from geo.radio.structure import BEND_FILTER, SegmentBends, segment_structure
 
 __all__ = ["FAR_RANGE_M", "SurfacePrediction", "predict_surface", "surface_fields", "surface_far_ddm"]
 
@@ -685,8 +685,7 @@ def predict_surface(
     image_path_z = np.interp(dense, image.along_m, image.path_z_m)
     path_z = _path_heights(model, points, ddm_dense_image, difference, job.scale, image_path_z)
     fitted, intercept, slope = _fitted_angle(dense, path_z)
-    grid_m, bend = bends(-dense, ddm_dense)
-    structure = segment_bends(segments, grid_m, bend)
+    structure, grid_m, bend = segment_structure(segments, -dense, ddm_dense, ddm_dense_image)
     unshadowed = _unshadowed(job, zone_factor) if visibility else None
     u, w = grid.u_m, grid.w_m
     return SurfacePrediction(

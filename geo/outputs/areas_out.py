@@ -28,10 +28,12 @@ __all__ = [
 MODEL_TEXT = (
     "Each object is three plates through its middle (side, end, top) scattering by physical optics, "
     "with the four ground paths over the study's reflecting plane; its field adds to the CSB and SBO "
-    "of every antenna. Disturbance: the bend amplitude 2 k |dS - (S/C) dC| / (|C| - |dC|) on the "
-    "designed straight path, the largest DDM change as the scattered phase turns (an upper bound). "
-    "Areas: union of grid cells where the disturbance exceeds the share of the structure limit "
-    "somewhere on the path, over the object's headings; positions against the mast count as both."
+    "of every antenna. Disturbance: the change of the DDM it causes along the designed straight path "
+    "(receivers 20 m apart), measured as flight inspection measures bends: the recorder's filter, then per "
+    "segment about a straight line (coverage limit to A, A to B) or the mean (nearer the threshold), 95 % "
+    "amplitude (from memory of ICAO Annex 10 Vol I Attachment C). "
+    "Areas: union of grid cells where that 95 % bend exceeds the share of the structure limit "
+    "in some segment, over the object's headings; positions against the mast count as both."
 )
 
 
@@ -143,7 +145,7 @@ def plot_disturbance(areas: AreasResult, index: int, path: Path) -> None:
         norm=LogNorm(low, high),
         interpolation="nearest",
     )
-    fig.colorbar(image, ax=ax, label="largest disturbance / structure limit (worst heading)", shrink=0.8)
+    fig.colorbar(image, ax=ax, label="largest 95 % bend / structure limit (worst heading)", shrink=0.8)
     for area in areas.areas:
         if area.object_name != d.obj.name or area.polygon.is_empty:
             continue

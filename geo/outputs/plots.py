@@ -317,8 +317,6 @@ def plot_path(result: StudyResult, path: Path) -> None:
 
 def plot_surface_structure(result: StudyResult, path: Path) -> None:
     """DDM on the designed path over the DEM surface beside image theory, and the bends against the limits."""
-    from geo.radio.structure import BEND_WINDOW_M
-
     sp = result.surface
     fig, axes = _figure(11, 8.5, rows=2)
     fig.subplots_adjust(left=0.08, right=0.97, top=0.95, bottom=0.07, hspace=0.3)
@@ -340,8 +338,9 @@ def plot_surface_structure(result: StudyResult, path: Path) -> None:
         x = np.array([seg.from_m, seg.to_m]) / 1852.0
         for sign in (1.0, -1.0):
             ax.plot(x, [sign * seg.limit_ddm] * 2, color="#c92a2a", ls="--", lw=1)
+        departure = "" if seg.departure_95_ddm is None else f", departure {seg.departure_95_ddm:.4f}"
         ax.annotate(
-            f"{seg.segment}: 95 % {seg.bend_95_ddm:.4f}",
+            f"{seg.segment}: 95 % {seg.bend_95_ddm:.4f}{departure}",
             (x.mean(), seg.limit_ddm),
             xytext=(0, 4),
             textcoords="offset points",
@@ -350,7 +349,7 @@ def plot_surface_structure(result: StudyResult, path: Path) -> None:
         )
     _log_reversed_x(ax)
     ax.set_xlabel("distance before the threshold [NM]")
-    ax.set_ylabel(f"bend: DDM minus its {BEND_WINDOW_M:.0f} m quadratic fit")
+    ax.set_ylabel("bend: filtered DDM minus the segment's line or mean")
     _title(ax, "path bends against the Annex 10 limits (dashed; values from memory, confirm the edition)")
     ax.legend(fontsize=8)
     ax.grid(alpha=0.3)

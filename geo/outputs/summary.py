@@ -413,6 +413,10 @@ def surface_dict(result: StudyResult) -> dict:
                 "limit_ddm": s.limit_ddm,
                 "bend_95_ddm": s.bend_95_ddm,
                 "pass": s.passed,
+                "departure_95_ddm": s.departure_95_ddm,
+                "reference": s.reference,
+                "largest_gap_m": s.largest_gap_m,
+                "well_sampled": s.well_sampled,
             }
             for s in sp.structure
         ],

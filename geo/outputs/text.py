@@ -79,7 +79,9 @@ def surface_lines(result: StudyResult) -> list[str]:
     base = result.mast.plane_elevation_m - result.spec.threshold.elevation_m
     worst = max(sp.structure, key=lambda s: s.bend_95_ddm / s.limit_ddm) if sp.structure else None
     bends = (
-        f"largest 95 % bend {worst.bend_95_ddm:.4f} DDM ({worst.segment}, limit {worst.limit_ddm:.3f})"
+        f"largest 95 % bend {worst.bend_95_ddm:.4f} DDM ({worst.segment}, limit {worst.limit_ddm:.3f}"
+        + ("" if worst.departure_95_ddm is None else f"; 95 % departure from image theory {worst.departure_95_ddm:.4f}")
+        + ")"
         if worst
         else "no segment"
     )

@@ -20,6 +20,7 @@ import numpy as np
 
 from geo.optics.surface_prediction import AreaTooLarge, SurfacePrediction, predict_surface, surface_far_ddm
 from geo.radio.below_path import check_below_path, sampled_ddm
+from geo.radio.bend_filter import MAX_GAP_M
 from geo.radio.structure_limits import LIMITS_SOURCE, structure_segments
 from geo.study.findings import Finding, below_path_words
 from geo.units import format_length
@@ -128,6 +129,13 @@ def surface_findings(surface: SurfacePrediction, category: str, unit: str = "m")
             f"against {seg.limit_ddm:.3f} DDM for Category "
             f"{category} ({LIMITS_SOURCE}; physical-optics prediction, confirmed only by flight inspection)."
         )
+        if seg.departure_95_ddm is not None:
+            words += f" 95 % departure from image theory's path: {seg.departure_95_ddm:.4f} DDM."
+        if not seg.well_sampled:
+            words += (
+                f" The path was sampled up to {format_length(seg.largest_gap_m, unit, 0)} apart there (more than "
+                f"{format_length(MAX_GAP_M, unit, 0)}): short bends may be missed."
+            )
         out.append(Finding("surface-structure", "pass" if seg.passed else "warning", words))
     if isinstance(surface.below_path, str):
         out.append(

@@ -30,7 +30,7 @@ def flat():
     result = run_study(spec)
     segments = structure_segments(spec.category, result.rdh_m, spec.angle_deg)
     model = array_model(result)
-    return result, segments, model, path_receivers(result, model, segments, 300)
+    return result, segments, model, path_receivers(result, model, segments)
 
 
 def test_receivers_lie_on_the_designed_path_with_its_limits(flat):
@@ -62,13 +62,19 @@ def test_a_symmetric_site_gives_a_symmetric_disturbance():
 def test_disturbance_falls_with_distance_behind_the_mast(flat, obj):
     # The bistatic radar equation (Knott et al., Radar Cross Section, ch. 2 and 5): the scattered
     # field falls as 1 / r with the object's distance from the antennas. From 100 m to 800 m behind
-    # the mast (a factor 8) it falls at least by half here (the pattern and ground paths also change).
+    # the mast (a factor 8) its envelope on the path falls at least by half here (the pattern and
+    # ground paths also change). The measured 95 % bend (geo.radio.structure) depends besides on how
+    # fast the scattered phase turns along the path (the segment's line or mean takes slow bends
+    # away), so of it we ask only that it falls from 100 m to 800 m.
     result, segments, model, rc = flat
     d = np.array([100.0, 200.0, 400.0, 800.0])
     for heading in obj.headings:
+        dc, ds = object_fields(model, obj, heading, -d, np.zeros(d.size), rc.points_m)
+        envelope = bend_amplitude(rc.csb, rc.sbo, dc, ds, rc.sbo_scale).max(axis=1)
+        assert envelope[-1] < 0.5 * envelope[0]
+        assert envelope[-1] < envelope[1]
         _, share = disturbance(model, rc, segments, obj, heading, -d, np.zeros(d.size))
-        assert share[-1] < 0.5 * share[0]
-        assert share[-1] < share[1]
+        assert share[-1] < share[0]
 
 
 def test_bend_amplitude_bounds_the_sampled_change_and_is_reached(flat):
@@ -156,9 +162,13 @@ def test_left_and_right_masts_give_mirrored_areas(flat):
     for a, b in zip(right.areas, left.areas):
         assert a.polygon.equals(b.polygon)
     frame = result.runway.frame
+
+    def outline(geometry):  # every exterior ring's corners, of a Polygon or a MultiPolygon
+        polygons = geometry["coordinates"] if geometry["type"] == "MultiPolygon" else [geometry["coordinates"]]
+        return np.vstack([np.array(p[0]) for p in polygons])
+
     for fa, fb in zip(derived_areas_layer(right)["features"], derived_areas_layer(left)["features"]):
-        ra = np.array(fa["geometry"]["coordinates"][0])
-        rb = np.array(fb["geometry"]["coordinates"][0])
+        ra, rb = outline(fa["geometry"]), outline(fb["geometry"])
         along_a, cross_a = frame.to_plane(ra[:, 1], ra[:, 0])
         along_b, cross_b = frame.to_plane(rb[:, 1], rb[:, 0])
         pa = np.column_stack([along_a, cross_a])

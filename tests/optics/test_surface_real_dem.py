@@ -31,7 +31,7 @@ from jacksboro import jacksboro_sheet, site_text
 from geo.ground.dem import Dem
 from geo.optics.surface_prediction import ANGLE_TOLERANCE_DEG, DDM_TOLERANCE, predict_surface, surface_far_ddm
 from geo.radio.below_path import BelowPathCheck
-from geo.radio.structure import bends
+from geo.radio.structure import segment_structure
 from geo.radio.structure_limits import structure_segments
 from geo.site.site_file import load_site
 from geo.study.array_setup import array_model
@@ -200,8 +200,9 @@ def test_plane_in_place_of_the_dem_gives_image_theory(studies):
     assert exact.path_angle_deg == pytest.approx(image.path_angle_deg, abs=1e-6)
     assert exact.half_sector_below_deg == pytest.approx(image.half_sector_below_deg, abs=1e-6)
     assert exact.half_sector_above_deg == pytest.approx(image.half_sector_above_deg, abs=1e-6)
-    _, image_bends = bends(-image.along_m, image.ddm_nominal)
-    assert np.max(np.abs(exact.bend_ddm - image_bends)) <= 1e-12
+    image_bends = _image_bends(r)
+    assert np.array_equal(np.isnan(exact.bend_ddm), np.isnan(image_bends))  # NaN outside the segments
+    assert np.nanmax(np.abs(exact.bend_ddm - image_bends)) <= 1e-12
     raw = _predict(r, _plane_heights(model), method="raw")
     raw_error = abs(raw.path_angle_deg - image.path_angle_deg)
     print(f"\nreal plane: raw integral misses image theory's path angle by {raw_error:.4f} deg")
@@ -219,21 +220,21 @@ def test_relief_scaled_toward_zero_converges_to_image_theory(studies):
     image = r.prediction
     model, _ = _pieces(r)
     plane = _plane_heights(model)
-    _, image_bends = bends(-image.along_m, image.ddm_nominal)
+    image_bends = _image_bends(r)
     found = {1.0: r.surface}
     with Dem.open(r.spec.terrain) as dem:
         ground = _dem_heights(r, dem)
         for s in (0.25, 0.125, 0.0625):
             found[s] = _predict(r, lambda u, w, s=s: plane(u, w) + s * (ground(u, w) - plane(u, w)))
     moves = {s: abs(p.path_angle_deg - image.path_angle_deg) for s, p in found.items()}
-    excess = {s: p.bend_ddm - image_bends for s, p in found.items()}
+    excess = {s: np.nan_to_num(p.bend_ddm - image_bends) for s, p in found.items()}  # 0 outside the segments
     change = {s: p.ddm_nominal - image.ddm_nominal for s, p in found.items()}
     print(
         "\nreal relief scaled: path angle minus image "
         + ", ".join(f"s={s:g}: {found[s].path_angle_deg - image.path_angle_deg:+.5f} deg" for s in sorted(found))
         + "; bends 95 % (B to C) "
         + ", ".join(f"s={s:g}: {found[s].structure[-1].bend_95_ddm:.5f}" for s in sorted(found))
-        + f" (image theory's own {_image_bend_95(r, image_bends):.5f})"
+        + f" (image theory's own {_image_bend_95(r):.5f})"
     )
     scales = sorted(found)
     assert all(moves[a] < moves[b] for a, b in zip(scales, scales[1:]))
@@ -244,13 +245,20 @@ def test_relief_scaled_toward_zero_converges_to_image_theory(studies):
     assert moves[0.0625] < 0.1 * moves[1.0]
 
 
-def _image_bend_95(result, image_bends) -> float:
-    """The 95 % bend amplitude of image theory's own DDM in the last segment (the filter's residual)."""
-    from geo.radio.structure import segment_bends
-
+def _image_structure(result):
+    """Image theory's own DDM measured by the flight-inspection rule of geo.radio.structure."""
     _, segments = _pieces(result)
-    grid_m, _ = bends(-result.prediction.along_m, result.prediction.ddm_nominal)
-    return segment_bends(segments, grid_m, image_bends)[-1].bend_95_ddm
+    return segment_structure(segments, -result.prediction.along_m, result.prediction.ddm_nominal)
+
+
+def _image_bends(result) -> np.ndarray:
+    """The bends of image theory's own DDM on the rule's grid (NaN outside the segments)."""
+    return _image_structure(result).bend_ddm
+
+
+def _image_bend_95(result) -> float:
+    """The 95 % bend amplitude of image theory's own DDM in the last segment (the rule's residual)."""
+    return _image_structure(result).segments[-1].bend_95_ddm
 
 
 def test_convergence_check_on_rough_real_ground_reports_finite_changes(studies):
