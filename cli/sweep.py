@@ -97,6 +97,16 @@ def _surveyed_side(spec) -> str:
     metavar="LOW HIGH",
     help="Feasible RDH, in the site file's units. [default: Annex 10 for the category and code]",
 )
+@click.option(
+    "--surface-top",
+    type=click.IntRange(min=0),
+    default=10,
+    show_default=True,
+    metavar="N",
+    help="Re-judge the N best feasible candidates by the surface prediction over the DEM (path angle, "
+    "half-sectors, RDH, bends) and rank those failing over the surface lower; 0 for none. Only with a DEM and "
+    "prediction.surface on.",
+)
 @overwrite_option
 @plots_option
 @fail_on_option
@@ -111,6 +121,7 @@ def sweep(
     solve_setback: bool,
     criterion: str,
     rdh_band,
+    surface_top: int,
     overwrite: bool,
     plots: bool,
     fail_on: str | None,
@@ -132,6 +143,7 @@ def sweep(
     from geo.study.solved_setbacks import solve_setbacks
     from geo.study.sweep import SweepOptions, best_site, run_sweep
     from geo.study.sweep_choice import RANK_TEXT, add_ranks
+    from geo.study.sweep_surface import SURFACE_RANK_TEXT, rejudge_over_surface, surface_skip_reason
     from geo.units import from_unit
 
     spec = load_site(site)
@@ -145,7 +157,12 @@ def sweep(
     low, high, _, _ = rdh_band_m(spec.category, spec.runway_code)
     band = (from_unit(rdh_band[0], unit), from_unit(rdh_band[1], unit)) if rdh_band else (low, high)
     options = SweepOptions(
-        setbacks, offsets, ("left", "right") if side == "both" else (side,), band, roughness_criterion=criterion
+        setbacks,
+        offsets,
+        ("left", "right") if side == "both" else (side,),
+        band,
+        roughness_criterion=criterion,
+        surface_top=surface_top,
     )
     with progress_bar("Sweeping candidates", quiet) as progress:
         if solve_setback:
@@ -153,6 +170,8 @@ def sweep(
         else:
             result = run_sweep(spec, options, progress=progress)
     add_ranks(result, options, spec)
+    with progress_bar("Re-judging over the surface", quiet) as progress:
+        rejudged = rejudge_over_surface(spec, result, options, progress=progress)
     best_spec = best_site(spec, result)
     best = run_study(best_spec) if best_spec is not None else None
     folder = write_sweep(spec, result, options, best, out_dir, overwrite=overwrite, plots=plots)
@@ -160,6 +179,11 @@ def sweep(
         click.echo(sweep_text(spec, result, options, folder / "best" if best is not None else None))
         click.echo(f"Score: {SCORE_TEXT}")
         click.echo(f"Ranking: {RANK_TEXT}")
+        skipped = surface_skip_reason(spec, options)
+        if skipped is None:
+            click.echo(f"Re-judged over the DEM surface: {rejudged} candidate(s); {SURFACE_RANK_TEXT}")
+        else:
+            click.echo(f"Re-judged over the DEM surface: none ({skipped}).")
         click.echo(f"Results written to {folder}")
     if fail_on is not None:
         if best is None:

@@ -45,6 +45,7 @@ _EXPORTS = {
     "SweepResult": "geo.study.sweep",
     "run_sweep": "geo.study.sweep",
     "solve_setbacks": "geo.study.solved_setbacks",
+    "rejudge_over_surface": "geo.study.sweep_surface",
     "AreasResult": "geo.optics.areas",
     "derive_areas": "geo.optics.areas",
     "write_study": "geo.outputs.write",

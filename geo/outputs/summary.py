@@ -431,5 +431,93 @@ def surface_dict(result: StudyResult) -> dict:
         if isinstance(sp.below_path, str)
         else ({"computed": True, **_below_path_check(sp.below_path)} if sp.below_path is not None else None),
         "notes": list(sp.notes),
+        "against_limits": surface_limits_dict(result.surface_sector),
+        "ground_beyond_area": ground_beyond_dict(result.ground_beyond),
         "caution": "A physical-optics prediction over the DEM as given; confirmed only by flight inspection.",
+    }
+
+
+def _judged_dict(fig) -> dict:
+    """One judged figure: value, nominal, and per limit its interval, margin and share left (unit in the keys)."""
+
+    def number(value):
+        return value if math.isfinite(value) else None
+
+    suffix = {"deg": "_deg", "m": "_m"}.get(fig.unit, "")
+    return {
+        f"value{suffix}": number(fig.value),
+        f"nominal{suffix}": fig.nominal,
+        "severity": fig.severity,
+        "limits": [
+            {
+                "kind": b.kind,
+                f"low{suffix}": b.low,
+                f"high{suffix}": b.high,
+                f"margin{suffix}": number(fig.margin(b)),
+                "share_of_allowance_left": number(fig.share_left(b)),
+                "severity_outside": b.broken,
+                "warns_when_near": b.warn_near,
+                "source": b.source,
+            }
+            for b in fig.bounds
+        ],
+    }
+
+
+def surface_limits_dict(sector) -> dict | None:
+    """The surface path's angle, half-sectors, asymmetry and RDH against their limits (metre keys)."""
+    from geo.study.surface_sector import ASYMMETRY_LIMIT, SURFACE_CAUTION, WARN_SHARE_LEFT
+
+    if sector is None:
+        return None
+    theta = sector.design_angle_deg
+    figures = {f.name: _judged_dict(f) for f in sector.figures}
+    figures["path_angle"].update(
+        fitted_from=sector.fitted_source,
+        fit_from_m=sector.fit_range_m[0],
+        fit_to_m=sector.fit_range_m[1],
+        far_field_deg=_finite(sector.far_angle_deg),
+        error_deg=_finite(sector.fitted_angle_deg - theta),
+        error_fraction_of_theta=_finite((sector.fitted_angle_deg - theta) / theta),
+    )
+    for name in ("half_sector_below", "half_sector_above"):
+        value = sector.figure(name).value
+        figures[name]["fraction_of_theta"] = _finite(value / theta)
+    figures["asymmetry"]["definition"] = "(above - below) / (above + below) of the half-sectors"
+    figures["asymmetry"]["limit"] = ASYMMETRY_LIMIT
+    figures["rdh"]["image_prediction_rdh_m"] = sector.image_rdh_m
+    return {
+        **figures,
+        "worst_bend_share_of_limit": _finite(sector.worst_bend_share),
+        "severity": sector.severity,
+        "margins": "margin: distance from the value to the end of the limit on its side of the nominal (negative "
+        "beyond it); share_of_allowance_left: the margin over the distance from the nominal to that end",
+        "warning_share_left": WARN_SHARE_LEFT,
+        "warning_rule": f"a warning where less than {WARN_SHARE_LEFT:.0%} of an allowance is left (our choice)",
+        "caution": SURFACE_CAUTION[0].upper() + SURFACE_CAUTION[1:] + ".",
+    }
+
+
+def ground_beyond_dict(beyond) -> dict | None:
+    """The ground beyond the integration area against the reflecting plane (metre keys)."""
+    if beyond is None:
+        return None
+    found = beyond.samples > 0
+    return {
+        "from_before_threshold_m": beyond.from_u_m - beyond.setback_m,
+        "to_before_threshold_m": beyond.to_u_m - beyond.setback_m,
+        "meant_to_reach_before_threshold_m": beyond.reach_u_m - beyond.setback_m,
+        "samples": beyond.samples,
+        "largest_departure_m": beyond.largest_m if found else None,
+        "largest_before_threshold_m": beyond.largest_u_m - beyond.setback_m if found else None,
+        "largest_from_centre_line_m": beyond.offset_m - beyond.largest_w_m if found else None,
+        "first_beyond_limit_before_threshold_m": None
+        if beyond.first_beyond_u_m is None
+        else beyond.first_beyond_u_m - beyond.setback_m,
+        "limit_m": beyond.limit_m,
+        "grazing_angle_deg": beyond.grazing_deg,
+        "beyond_limit": beyond.beyond_limit,
+        "rule": "Rayleigh criterion lambda / (8 sin psi) at the path's grazing angle over the plane "
+        "(Beckmann and Spizzichino 1963); sampled on lines from the mast's line to the centre line",
+        "why": "the surface prediction counts the ground beyond its integration area as the reflecting plane",
     }

@@ -11,6 +11,7 @@ import numpy as np
 from geo.site.site_file import SiteSpec
 from geo.study.sweep import SweepResult
 from geo.study.sweep_choice import RANK_TEXT, near_feasible
+from geo.study.sweep_surface import NOT_JUDGED, SURFACE_RANK_TEXT, surface_skip_reason
 from geo.units import M_PER_YD, format_length, format_number, format_volume, to_unit, with_foot_twins
 from geo.version import __version__
 
@@ -114,6 +115,7 @@ def sweep_summary(spec: SiteSpec, sweep: SweepResult, options) -> dict:
             "grid_spacing_m": sweep.grid_spacing_m,
             "score": SCORE_TEXT,
             "ranking": RANK_TEXT if "rank" in sweep.columns else "",
+            "surface": _surface_block(spec, sweep, options),
             "best": best,
             "top": [dict(candidate=k, **rows[k]) for k in _order(sweep)[:10] if sweep.columns["feasible"][k]],
             "near_feasible": [
@@ -125,6 +127,22 @@ def sweep_summary(spec: SiteSpec, sweep: SweepResult, options) -> dict:
             ],
         }
     )
+
+
+def _surface_block(spec: SiteSpec, sweep: SweepResult, options) -> dict:
+    """How the best candidates were re-judged by the surface prediction (:mod:`geo.study.sweep_surface`)."""
+    verdicts = sweep.columns.get("surface_verdict")
+    judged = 0 if verdicts is None else int(sum(1 for v in verdicts if v != NOT_JUDGED))
+    skipped = surface_skip_reason(spec, options)
+    return {
+        "asked": int(getattr(options, "surface_top", 0)),
+        "rejudged": judged,
+        "skipped": skipped if verdicts is not None else "not run",
+        "ranking": SURFACE_RANK_TEXT if judged else "",
+        "columns": "surface_angle_error_deg (fitted surface path angle minus design), surface_half_sector_asymmetry "
+        "((above - below) / (above + below)), surface_worst_bend_share (95 % bend over its limit), surface_verdict; "
+        f"empty and '{NOT_JUDGED}' for the candidates not re-judged",
+    }
 
 
 def plot_sweep(spec: SiteSpec, sweep: SweepResult, options, path: Path) -> None:
@@ -178,11 +196,26 @@ def plot_sweep(spec: SiteSpec, sweep: SweepResult, options, path: Path) -> None:
     fig.savefig(path, dpi=100)
 
 
+def _surface_words(c: dict, k: int) -> str:
+    """The surface re-judging of candidate ``k`` in a few words ("" when it was not re-judged)."""
+    verdict = str(c["surface_verdict"][k]) if "surface_verdict" in c else ""
+    if verdict in ("", NOT_JUDGED):
+        return ""
+    if verdict == "not computed":
+        return "; over the surface: not computed"
+    return (
+        f"; over the surface: {verdict} (angle error {c['surface_angle_error_deg'][k]:+.3f} deg, asymmetry "
+        f"{c['surface_half_sector_asymmetry'][k]:+.3f}, worst bend {100 * c['surface_worst_bend_share'][k]:.0f} % "
+        "of its limit)"
+    )
+
+
 def candidate_line(sweep: SweepResult, k: int, unit: str) -> str:
     """One candidate in words, the site file's unit first."""
     c = sweep.columns
     score = c["score"][k]
     tail = f", score {format_number(score, 1)}" if math.isfinite(score) else ""
+    tail += _surface_words(c, k)
     return (
         f"{c['side'][k]} side, setback {format_length(c['setback_m'][k], unit, 1)}, "
         f"offset {format_length(c['offset_m'][k], unit, 1)}, RDH {format_length(c['rdh_m'][k], unit)}, "

@@ -37,6 +37,8 @@ from geo.site.site_file import SiteSpec
 from geo.study import findings as checks
 from geo.study.array_setup import array_model
 from geo.study.dem_checks import check_dem_covers_site, dem_extent_in_errors
+from geo.study.ground_beyond import GroundBeyond
+from geo.study.surface_sector import SurfaceSector
 from geo.units import format_length
 
 __all__ = ["Antenna", "Runway", "Mast", "Gpip", "TerrainSource", "StudyResult", "run_study"]
@@ -201,6 +203,12 @@ class StudyResult:
         Roughness per receiver family with its own grazing angle (with a DEM; :mod:`geo.ground.roughness`).
     surface : SurfacePrediction or None
         The path over the DEM surface by physical optics (None without a DEM).
+    surface_sector : SurfaceSector or None
+        That path's angle, half-sectors, asymmetry and RDH against the Annex 10 limits, with margins
+        (:mod:`geo.study.surface_sector`; None without a surface prediction).
+    ground_beyond : GroundBeyond or None
+        The ground along the approach beyond the surface prediction's integration area against the
+        plane it is counted as (:mod:`geo.study.ground_beyond`; None without a surface prediction).
     """
 
     spec: SiteSpec
@@ -227,6 +235,8 @@ class StudyResult:
     capture_effect: CaptureEffectAssessment | None = None
     roughness_families: list[ReceiverFamily] | None = None
     surface: SurfacePrediction | None = None
+    surface_sector: SurfaceSector | None = None
+    ground_beyond: GroundBeyond | None = None
 
 
 def channel_of(spec: SiteSpec) -> Channel:
@@ -398,7 +408,7 @@ class _Ground:
 
 
 @naming_site_file
-def run_study(spec: SiteSpec, before_surface=None) -> StudyResult:
+def run_study(spec: SiteSpec, before_surface=None, surface_check: bool = True) -> StudyResult:
     """Run one site study, on flat ground or on the DEM of ``spec.terrain``.
 
     Parameters
@@ -409,6 +419,9 @@ def run_study(spec: SiteSpec, before_surface=None) -> StudyResult:
         Called with the study without its surface prediction (``surface`` None and its findings
         left out) just before that prediction starts, when it will run: the outputs that do not
         depend on it can be written meanwhile. Not called when there is no surface prediction.
+    surface_check : bool
+        Run the surface prediction's convergence check (sampling doubled, area doubled); the sweep's
+        re-judging of its top candidates leaves it out to stay affordable.
 
     Returns
     -------
@@ -484,7 +497,7 @@ def run_study(spec: SiteSpec, before_surface=None) -> StudyResult:
     )
     if terrain is None or not spec.prediction.surface:
         return result
-    return _with_surface(result, found, ground, shifts, before_surface)
+    return _with_surface(result, found, ground, shifts, before_surface, surface_check)
 
 
 def _flat_ground(spec, runway, lam, setback, field_name, solve) -> _Ground:
@@ -656,11 +669,19 @@ def _in_order(findings, dem_finding) -> list:
     return [f for f in findings if f is not None]
 
 
-def _with_surface(result, found, ground, shifts, before_surface) -> StudyResult:
-    """The study with its surface prediction and its findings (``before_surface`` called first)."""
+def _with_surface(result, found, ground, shifts, before_surface, check=True) -> StudyResult:
+    """The study with its surface prediction and its findings (``before_surface`` called first).
+
+    Besides the bends and the DDM below the path (:func:`geo.study.surface.surface_findings`): the
+    whole path's angle, half-sectors, asymmetry and RDH against the Annex 10 limits
+    (:mod:`geo.study.surface_sector`) and the ground beyond the integration area
+    (:mod:`geo.study.ground_beyond`).
+    """
     from dataclasses import replace
 
+    from geo.study.ground_beyond import ground_beyond_finding, ground_beyond_for_study
     from geo.study.surface import surface_findings, surface_for_study
+    from geo.study.surface_sector import judge_surface_sector, sector_findings
 
     if before_surface is not None:
         before_surface(result)
@@ -678,9 +699,26 @@ def _with_surface(result, found, ground, shifts, before_surface) -> StudyResult:
         result.wavelength_m,
         result.prediction,
         result.rdh_m,
+        check=check,
     )
-    found = [*found, *surface_findings(surface, spec.category, spec.units)]
-    return replace(result, surface=surface, findings=_in_order(found, ground.dem_finding))
+    thr = spec.threshold.elevation_m
+    image_rdh = result.prediction.straight_fit[0] + mast.plane_elevation_m - thr
+    sector = judge_surface_sector(
+        surface, spec.angle_deg, spec.category, spec.runway_code, spec.prediction.half_sector,
+        mast.plane_elevation_m, thr, image_rdh,
+    )  # fmt: skip
+    beyond = ground_beyond_for_study(
+        spec, result.runway, mast.side, mast.setback_m, mast.offset_m, ground.terrain, surface.area_m,
+        result.wavelength_m,
+    )  # fmt: skip
+    found = [
+        *found,
+        *surface_findings(surface, spec.category, spec.units),
+        *sector_findings(sector, spec.units),
+        ground_beyond_finding(beyond, spec.units),
+    ]
+    found = _in_order(found, ground.dem_finding)
+    return replace(result, surface=surface, surface_sector=sector, ground_beyond=beyond, findings=found)
 
 
 def _feeds(spec: SiteSpec) -> tuple:

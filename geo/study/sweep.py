@@ -41,7 +41,7 @@ from geo.site.site_file import SiteSpec
 from geo.study.sweep_choice import CRITERION_NAMES, clearance_reasons
 from geo.units import format_length
 
-__all__ = ["SweepOptions", "SweepResult", "run_sweep", "candidate_grid", "best_site"]
+__all__ = ["SweepOptions", "SweepResult", "run_sweep", "candidate_grid", "best_site", "candidate_site"]
 
 
 @dataclass(frozen=True)
@@ -66,6 +66,10 @@ class SweepOptions:
     paired : bool
         ``True``: ``sides``, ``setbacks_m`` and ``offsets_m`` have one entry per candidate (as the
         solved setbacks of :func:`geo.study.solved_setbacks.solve_setbacks` give them) instead of a grid.
+    surface_top : int
+        How many of the best feasible candidates (by rank) the surface prediction re-judges, when the
+        site has a DEM and ``prediction.surface`` is on (:func:`geo.study.sweep_surface.rejudge_over_surface`);
+        0 for none.
     """
 
     setbacks_m: tuple[float, ...]
@@ -76,6 +80,7 @@ class SweepOptions:
     roughness_criterion: str = "fraunhofer"
     surfaces: SurfaceSpec | None = None
     paired: bool = False
+    surface_top: int = 10
 
 
 @dataclass
@@ -590,13 +595,18 @@ def best_site(spec: SiteSpec, sweep: SweepResult) -> SiteSpec | None:
     has weighed the target in its score, and the study at the candidate's position finds the same
     plane and RDH as its sweep row (the same grid, zone rule and solve).
     """
+    if sweep.best is None:
+        return None
+    return candidate_site(spec, sweep, sweep.best)
+
+
+def candidate_site(spec: SiteSpec, sweep: SweepResult, k: int) -> SiteSpec:
+    """The site file's inputs with the mast moved to candidate ``k`` (as :func:`best_site`)."""
     import dataclasses
 
     from geo.site.site_file import MastSpec
 
-    if sweep.best is None:
-        return None
-    c, k = sweep.columns, sweep.best
+    c = sweep.columns
     mast = MastSpec(
         side=str(c["side"][k]),
         offset_m=float(c["offset_m"][k]),

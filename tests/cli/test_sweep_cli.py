@@ -8,9 +8,12 @@ import re
 import numpy as np
 import pytest
 from click.testing import CliRunner
-from tests_support import FEET_SITE, demo_site_without_surface
+from tests_support import DEMO_SITE, FEET_SITE, demo_site_without_surface
 
 from cli.main import main
+
+#: The demo's DEM, named by absolute path in a copy of its site file.
+DEMO_DEM = DEMO_SITE.parent / "dem.tif"
 
 
 def _run(*args):
@@ -189,3 +192,28 @@ def test_the_site_file_may_accept_a_mast_in_the_obstacle_free_zone(tmp_path, wri
     assert res.exit_code == 0, res.output
     (row,) = _rows(tmp_path / "yes")
     assert row["feasible"] == "True" and row["reasons"] == ""
+
+
+def test_the_best_candidates_are_re_judged_over_the_surface(tmp_path):
+    # The demo with its surface prediction on, two candidates and --surface-top 1: the best one gets the surface
+    # columns, the other keeps them empty ("not judged"), and the screen says how many were re-judged.
+    text = DEMO_SITE.read_text(encoding="utf-8").replace('dem = "dem.tif"', f'dem = "{DEMO_DEM.as_posix()}"')
+    site = tmp_path / "demo.toml"
+    site.write_text(text, encoding="utf-8")
+    out = tmp_path / "sweep"
+    res = _run(
+        "sweep", site, "--out", out, "--setback", 300, 310, 10, "--offset", 100, 100, 25, "--surface-top", 1,
+        "--no-plots",
+    )  # fmt: skip
+    assert res.exit_code == 0, res.output
+    assert "Re-judged over the DEM surface: 1 candidate(s)" in res.output
+    rows = _rows(out)
+    assert rows[0]["surface_verdict"] in ("pass", "warning") and rows[0]["surface_angle_error_deg"] != ""
+    assert rows[1]["surface_verdict"] == "not judged" and rows[1]["surface_half_sector_asymmetry"] == ""
+    summary = json.loads((out / "summary.json").read_text())
+    assert summary["surface"]["asked"] == 1 and summary["surface"]["rejudged"] == 1
+    # Without the surface prediction nothing is re-judged, and the screen says why.
+    res = _run("sweep", demo_site_without_surface(tmp_path), "--out", tmp_path / "off", "--setback", 300, 300, 10,
+               "--offset", 100, 100, 25, "--no-plots")  # fmt: skip
+    assert res.exit_code == 0, res.output
+    assert "Re-judged over the DEM surface: none (the site file says prediction.surface = false)." in res.output
