@@ -40,6 +40,12 @@ two entry points. It works in chunks of facet-receiver pairs run in two threads;
 shared by the sources is done once, and the products of facet vectors with the receiver's
 position are small matrix products (see :func:`_pair_fields`).
 
+Terrain shadowing enters as weights: an amplitude per source and facet (0 or 1 for hard shadows,
+the knife-edge factor over the obstacle of the ray otherwise) multiplies the facet's source factor,
+and per facet and receiver either a hard horizon (receivers seen below its tangent are dropped)
+or the knife-edge factor over the facet's obstacle toward the receivers [5]_. The weights are
+amplitudes: the diffracted wave's phase delay is left out.
+
 Coordinates are any right-handed metric frame with ``z`` up. [m]
 
 References
@@ -52,6 +58,8 @@ References
        Surfaces*, Pergamon, 1963, ch. 3 (Kirchhoff tangent-plane approximation).
 .. [4] Born, M. and Wolf, E., *Principles of Optics*, 7th ed., Cambridge, 1999, app. III
        (method of stationary phase).
+.. [5] ITU-R Recommendation P.526, "Propagation by diffraction", sec. 4.1 (single knife edge);
+       Born and Wolf, sec. 8.7 (Fresnel diffraction at a straight edge).
 """
 
 from __future__ import annotations
@@ -66,6 +74,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from geo.radio.knife_edge import knife_edge_field_fast, ridge_on_ground_amplitude
 from geo.radio.reflection import reflection_coefficient_h
 
 __all__ = [
@@ -242,6 +251,7 @@ class _Call:
     table: np.ndarray | None  # (4, 2049) -Gamma and its steps, per grazing angle of the table
     per_rad: float | None  # table steps per radian
     ht: np.ndarray | None  # (P,) tangent of each facet's horizon
+    obstacle: dict | None  # each facet's obstacle toward the receivers (knife edge), see _receiver_knife_edge
     tiny: np.generic  # ``_TINY`` in ``dt``
     pair_weight: Callable | None
     count_p: int
@@ -289,10 +299,11 @@ def _source_terms(facets: Facets, src: np.ndarray, k: float, dt, visible, lossy:
     s1 = d1 / r1[:, None, :]
     ns1 = _dot(s1, n)
     lit = ns1 != 0.0 if facets.two_sided else ns1 < 0.0
-    if visible is not None:
-        lit &= visible
     weight = area if facets.weights is None else area * facets.weights
-    terms = {"keep": np.any(lit, axis=0) & (weight != 0.0)}
+    if visible is not None:  # the amplitude of each source's field at each facet (0: hidden)
+        lit &= visible != 0.0
+        weight = weight * visible
+    terms = {"keep": np.any(lit & (weight != 0.0), axis=0)}
     terms["amp"] = np.where(lit, weight * np.exp(-1j * k * r1) / r1, 0.0)  # (S, P)
     sx, sy = s1[:, 0], s1[:, 1]
     h1 = np.hypot(sx, sy)
@@ -399,10 +410,43 @@ def _receiver_range(call: _Call, space: _PairSpace, c: np.ndarray, cols, ra: np.
     return turns, inverse_r2
 
 
-def _receiver_weights(call: _Call, space: _PairSpace, idx: np.ndarray, lin: np.ndarray, inverse_r2, pair):
+def _receiver_knife_edge(call: _Call, idx: np.ndarray, z: np.ndarray, rho: np.ndarray, turns: np.ndarray):
+    """Knife-edge weights toward the receivers of the chunk's facets with an obstacle: ``(columns, (m, c))`` or None.
+
+    Each facet's obstacle (``call.obstacle``) stands ``x`` ahead along the course with tangent ``H``
+    seen from the facet and excess ``t`` above its ground line; a receiver seen at elevation
+    tangent ``tau = z / rho`` passes ``h = x (H - tau)`` below it, so the strip of the obstacle and
+    its image has ``v_top = h k``, ``v_bottom = (h - 2 t) k``, ``k = sqrt(2 D / (lambda x (D - x)))``
+    (``D`` the range; ``sqrt(2 / (lambda x))`` far away; no obstacle where ``D <= x``), the rule
+    of :meth:`geo.optics.surface_facets.SurfaceGrid.antenna_weights` [5]_.
+    """
+    ob = call.obstacle
+    columns = np.flatnonzero(ob["active"][idx])
+    if columns.size == 0:
+        return None
+    chosen = idx[columns]
+    x, lam = ob["distance_m"][chosen], call.wavelength_m
+    tau = z[:, columns] / np.maximum(rho[:, columns], call.tiny)
+    above_ray = x * (ob["tangent"][chosen] - tau)  # (m, c) [m]
+    if call.far:
+        k = np.sqrt(2.0 / (lam * x))[None, :]
+        beyond = None
+    else:
+        d = turns[:, columns] * lam  # the range [m]
+        beyond = d <= x
+        k = np.sqrt(2.0 * d / (lam * x * np.where(beyond, 1.0, d - x)))
+    v_top = above_ray * k
+    weight = ridge_on_ground_amplitude(v_top, v_top - 2.0 * ob["excess_m"][chosen] * k)
+    if beyond is not None:
+        weight[beyond] = 1.0
+    return columns, weight.astype(call.dt)
+
+
+def _receiver_weights(call: _Call, space: _PairSpace, idx: np.ndarray, lin: np.ndarray, inverse_r2, pair, turns):
     """The wave's amplitude per pair (m, p): ``1 / (r2 rho)``, 0 where hidden or below a ground facet.
 
-    Also turns the products for ``n`` and ``h2 (n . e_r)`` by ``sign(N)`` on two-sided facets.
+    Times the knife-edge weights toward the receivers where the facets have obstacles. Also turns
+    the products for ``n`` and ``h2 (n . e_r)`` by ``sign(N)`` on two-sided facets.
     """
     x, y, z, nl, el = lin[:5]
     tmp, wa = space.take("tmp"), space.take("wa")
@@ -415,9 +459,12 @@ def _receiver_weights(call: _Call, space: _PairSpace, idx: np.ndarray, lin: np.n
     if call.ht is not None:
         np.multiply(wa, call.ht[idx][None, :], out=tmp)
         np.greater(z, tmp, out=mask)
+    soft = None if call.obstacle is None else _receiver_knife_edge(call, idx, z, wa, turns)
     np.divide(1.0 if call.far else inverse_r2, wa, out=wa)  # 1 / (r2 h2) times 1 / r2 (spherical wave)
     if call.ht is not None:
         wa *= mask
+    if soft is not None:
+        wa[:, soft[0]] *= soft[1]
     if not call.two_sided:
         np.greater(nl, 0.0, out=mask)
         wa *= mask  # a ground facet radiates only upward
@@ -582,7 +629,7 @@ def _chunk(call: _Call, start: int):
     c, q, c_about, lin = _receiver_products(call, space, idx, side["shared"], cols)
     nl, el, ra, rb = lin[3:]  # x, y, z (lin[:3]): r2 times the range in turns (1 for far receivers)
     turns, inverse_r2 = _receiver_range(call, space, c, cols, ra, rb)
-    wa = _receiver_weights(call, space, idx, lin, inverse_r2, pair)
+    wa = _receiver_weights(call, space, idx, lin, inverse_r2, pair, turns)
     wave = _receiver_wave(space, turns, wa)
     g2 = _receiver_grazing(call, space, nl, inverse_r2) if call.lossy else None
     if not call.far:  # x, y, z, n . r2 and h2 (n . e_r) were times the range
@@ -592,6 +639,16 @@ def _chunk(call: _Call, start: int):
     result = np.zeros((call.src.shape[0], local.size, m), dtype=complex)
     _source_fields(call, space, side, q, c_about, lin, wave, g2, members_of, result)
     return local, cols, result
+
+
+def _obstacles(horizon_obstacle) -> dict | None:
+    """The kernel's form of ``horizon_obstacle`` (:func:`_pair_fields`): facets with an excess above 0 are active."""
+    if horizon_obstacle is None:
+        return None
+    tangent, distance_m, excess_m = (np.asarray(a, dtype=float) for a in horizon_obstacle)
+    knife_edge_field_fast(0.0)  # the table, made before the threads start
+    active = (excess_m > 0.0) & (distance_m > 0.0)
+    return {"tangent": tangent, "distance_m": distance_m, "excess_m": excess_m, "active": active}
 
 
 def _thread_count(threads: int | None, chunks: int) -> int:
@@ -626,6 +683,7 @@ def _pair_fields(
     groups=None,
     source_visible=None,
     horizon_tan=None,
+    horizon_obstacle=None,
     pair_weight=None,
     far: bool = False,
     threads: int | None = None,
@@ -677,10 +735,15 @@ def _pair_fields(
         Constants of the facets' material; ``None``: a perfect conductor.
     groups : array_like of int, shape (P,), optional
         Group of each facet (``0 .. G - 1``); the fields are summed per group.
-    source_visible : numpy.ndarray of bool, shape (S, P), optional
-        Whether each source lights each facet.
+    source_visible : numpy.ndarray of bool or float, shape (S, P), optional
+        Whether each source lights each facet, or the amplitude of its field there (a knife-edge
+        weight, :meth:`geo.optics.surface_facets.SurfaceGrid.antenna_weights`).
     horizon_tan : numpy.ndarray, shape (P,), optional
         Tangent of each facet's horizon: receivers seen lower from the facet are hidden.
+    horizon_obstacle : tuple of numpy.ndarray, optional
+        ``(tangent, distance_m, excess_m)`` per facet (P,)
+        (:meth:`geo.optics.surface_facets.SurfaceGrid.horizon_obstacles`): each pair weighted by the
+        knife edge over the facet's obstacle (:func:`_receiver_knife_edge`); not with ``horizon_tan``.
     pair_weight : callable, optional
         ``pair_weight(facet_slice) -> (receiver_index, weights (p, len(receiver_index)))``, called
         once per chunk, from the worker threads, in any order.
@@ -713,7 +776,9 @@ def _pair_fields(
     dt = np.dtype(dtype)
     # Lengths in wavelengths for points (so r2 is in turns), as given for far directions.
     unit = 1.0 if far else 1.0 / wavelength_m
-    visible = None if source_visible is None else np.asarray(source_visible, dtype=bool)
+    visible = None if source_visible is None else np.asarray(source_visible, dtype=float)
+    if horizon_tan is not None and horizon_obstacle is not None:
+        raise ValueError("horizon_tan (hard) and horizon_obstacle (knife edge) exclude each other")
     lossy = relative_permittivity is not None
     table, per_rad = None, None
     if lossy:
@@ -734,6 +799,7 @@ def _pair_fields(
         table=table,
         per_rad=per_rad,
         ht=None if horizon_tan is None else np.asarray(horizon_tan, dtype=dt),
+        obstacle=_obstacles(horizon_obstacle),
         tiny=dt.type(_TINY),
         pair_weight=pair_weight,
         count_p=count_p,
@@ -824,6 +890,7 @@ def ground_fields(
     horizon_tan=None,
     pair_weight=None,
     far: bool = False,
+    horizon_obstacle=None,
 ) -> np.ndarray:
     """Fields of one-sided ground facets for several sources at once, in single precision.
 
@@ -842,11 +909,15 @@ def ground_fields(
         [m]
     relative_permittivity, conductivity_s_m : float or None
         Ground constants; ``None``: a perfect conductor.
-    source_visible : numpy.ndarray of bool, shape (S, P), optional
-        Whether each facet is lit by each source (terrain shadowing); all by default.
+    source_visible : numpy.ndarray of bool or float, shape (S, P), optional
+        Whether each facet is lit by each source (hard terrain shadowing), or the amplitude of each
+        source's field at each facet (knife-edge weights); all lit fully by default.
     horizon_tan : numpy.ndarray, shape (P,), optional
         Tangent of each facet's horizon toward the receivers: a receiver whose elevation seen from
         the facet has a smaller tangent is hidden from it. None: every receiver is seen.
+    horizon_obstacle : tuple of numpy.ndarray, optional
+        ``(tangent, distance_m, excess_m)`` of each facet's obstacle toward the receivers: each
+        pair weighted by the knife edge over it instead (:func:`_receiver_knife_edge`).
     pair_weight : callable, optional
         ``pair_weight(facet_slice) -> (receiver_index, weights)``: the receivers the facets of a
         chunk count for, and the real weights (p, len(receiver_index)) of each pair (e.g. a taper
@@ -872,6 +943,11 @@ def ground_fields(
     if facets.two_sided:
         raise ValueError("ground_fields takes one-sided ground facets; use scattered_field for plates")
     ground = dict(relative_permittivity=relative_permittivity, conductivity_s_m=conductivity_s_m)
-    shading = dict(source_visible=source_visible, horizon_tan=horizon_tan, pair_weight=pair_weight)
+    shading = dict(
+        source_visible=source_visible,
+        horizon_tan=horizon_tan,
+        horizon_obstacle=horizon_obstacle,
+        pair_weight=pair_weight,
+    )
     fields = _pair_fields(sources_m, facets, receivers_m, wavelength_m, dtype=np.float32, far=far, **ground, **shading)
     return fields[:, 0, :]

@@ -64,8 +64,18 @@ import numpy as np
 
 from geo.optics.kernel import Facets
 from geo.radio.fresnel import exact_ellipses
+from geo.radio.knife_edge import ridge_on_ground_amplitude
 
-__all__ = ["AreaLimits", "SurfaceGrid", "area_limits", "graded_nodes", "planck_taper", "surface_grid"]
+__all__ = [
+    "AreaLimits",
+    "KNIFE_EDGE_NEAR_WAVELENGTHS",
+    "SHADOWING",
+    "SurfaceGrid",
+    "area_limits",
+    "graded_nodes",
+    "planck_taper",
+    "surface_grid",
+]
 
 #: Elevation tangent where nothing stands (the antenna's own slab and behind it).
 _NONE = -1e30
@@ -75,6 +85,10 @@ _HORIZON_REACH_M = 600.0
 _MIN_SIDE_M = 0.05
 #: Facets follow DEM cells down to this size, no finer (a bound on the cost for fine DEMs). [m]
 _FINEST_CELL_M = 2.5
+#: The knife edge leaves out the ground within this many wavelengths of a facet (its own surface).
+KNIFE_EDGE_NEAR_WAVELENGTHS = 10.0
+#: An obstacle's excess above the ground line counts from this height (rounding on a plane stays below it). [m]
+_EXCESS_TOLERANCE_M = 1e-6
 #: Facet side sqrt(lambda r / divisor): 2 keeps the quadratic phase at the edge below pi/8.
 _PHASE_DIVISOR = 2.0
 
@@ -298,11 +312,112 @@ class SurfaceGrid:
         zc = (z[:-1, :-1] + z[1:, :-1] + z[:-1, 1:] + z[1:, 1:]) / 4.0
         return (self.u_m[:-1] + self.u_m[1:]) / 2.0, (self.w_m[:-1] + self.w_m[1:]) / 2.0, zc
 
+    def _ground(self, u, w) -> np.ndarray:
+        """The bilinear ground at points (u, w) of the lattice (clamped to it) [3]_. [m]"""
+        nodes_u, nodes_w, z = self.u_m, self.w_m, self.z_m
+        i = np.clip(np.searchsorted(nodes_u, u) - 1, 0, nodes_u.size - 2)
+        j = np.clip(np.searchsorted(nodes_w, w) - 1, 0, nodes_w.size - 2)
+        tu = (u - nodes_u[i]) / (nodes_u[i + 1] - nodes_u[i])
+        tw = (w - nodes_w[j]) / (nodes_w[j + 1] - nodes_w[j])
+        low = z[j, i] * (1.0 - tu) + z[j, i + 1] * tu
+        return low * (1.0 - tw) + (z[j + 1, i] * (1.0 - tu) + z[j + 1, i + 1] * tu) * tw
+
     def _across(self, w):
         """Index of the lattice column left of ``w`` and the fraction toward the next (clamped)."""
         j = np.clip(np.searchsorted(self.w_m, w) - 1, 0, self.w_m.size - 2)
         t = np.clip((w - self.w_m[j]) / (self.w_m[j + 1] - self.w_m[j]), 0.0, 1.0)
         return j, t
+
+    def fitted_slope(self) -> tuple[float, float]:
+        """Slopes (along ``u``, across ``w``) of the least-squares plane through the nodes' ground, NaN left out. [-]"""
+        uu, ww = np.meshgrid(self.u_m, self.w_m)
+        ok = np.isfinite(self.z_m)
+        if ok.sum() < 3:
+            return 0.0, 0.0
+        design = np.column_stack([uu[ok], ww[ok], np.ones(int(ok.sum()))])
+        coef = np.linalg.lstsq(design, self.z_m[ok], rcond=None)[0]
+        return float(coef[0]), float(coef[1])
+
+    def _foot_height(self, ua: float, wa: float) -> float:
+        """Ground under an antenna, linear along ``u`` through the first two slabs (exact on a plane). [m]"""
+        u, w, z = self.u_m, self.w_m, self.z_m.T
+        z0, z1 = np.interp(wa, w, z[0]), np.interp(wa, w, z[1])
+        return float(z0 + (z1 - z0) * (ua - u[0]) / (u[1] - u[0]))
+
+    def _horizon_sweep(self, antenna, plane_slope=None) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        """The sweep of :meth:`antenna_visibility` from one antenna, node by node of the lattice.
+
+        Returns ``tau`` (nu, nw), each node's elevation tangent from the antenna, and for each
+        node's ray the horizon before its slab: ``H`` (the largest ``tau`` met) and where it
+        stands, its ``u`` offset from the antenna (read linearly across where the ray crosses a
+        slab, as ``H``). [-], [m]
+
+        With ``plane_slope`` ``(du, dw)`` the sweep ranks the nodes by their height above the plane
+        of that slope through the ground under the antenna instead of by ``tau`` (the highest
+        point of the ground on the way, for the knife edge).
+        """
+        ua, wa, za = antenna
+        u, w, z = self.u_m, self.w_m, self.z_m.T  # z: (nu, nw)
+        du = u - ua
+        ahead = du > 1e-6
+        tau = np.full(z.shape, _NONE)
+        if plane_slope is None:
+            tau[ahead] = (z[ahead] - za) / np.hypot(du[ahead, None], w[None, :] - wa)
+        else:
+            above = z - (plane_slope[0] * du[:, None] + plane_slope[1] * (w[None, :] - wa))
+            tau[ahead] = above[ahead]
+        behind = np.full(z.shape, _NONE)  # H: the horizon of each node's ray, before its slab
+        behind_u = np.zeros(z.shape)
+        for i in range(1, u.size):
+            if ahead[i - 1]:
+                crossing = wa + (w - wa) * (du[i - 1] / du[i])
+                earlier = np.interp(crossing, w, behind[i - 1])
+                here = np.interp(crossing, w, tau[i - 1])
+                this = here >= earlier
+                behind[i] = np.where(this, here, earlier)
+                behind_u[i] = np.where(this, du[i - 1], np.interp(crossing, w, behind_u[i - 1]))
+        return tau, behind, behind_u
+
+    def _facet_horizons(self, antenna, near_m: float, plane_slope=None) -> dict:
+        """Per facet (nu - 1, nw - 1), seen from one antenna: its own tangent, range, and the horizon of its ray.
+
+        The horizon is read where the ray crosses the last slab at least ``near_m`` before the
+        facet's centre (``near_m = 0``: the facet's own first slab, half a facet before its centre):
+        ``horizon`` (tangent), ``obstacle_u`` (its ``u`` offset), ``obstacle_z`` (the ground on
+        the facet's own ray there, bilinear: exact on a plane); ``valid`` where there is ground
+        ahead of the antenna on the way. [-], [m]
+        """
+        ua, wa, za = antenna
+        u = self.u_m
+        uc, wc, zc = self._centres()
+        tau, behind, behind_u = self._horizon_sweep(antenna, plane_slope)
+        du, duc = u - ua, uc - ua
+        front = duc > 1e-6
+        rows = np.arange(uc.size)  # slab i is the first slab of facet i
+        if near_m > 0.0:
+            rows = np.clip(np.searchsorted(u, uc - near_m, side="right") - 1, 0, rows)
+        ratio = np.where(front, du[rows] / np.where(front, duc, 1.0), 0.0)  # (nu - 1,)
+        j, t = self._across(wa + (wc[None, :] - wa) * ratio[:, None])  # (nu - 1, nw - 1)
+        r = rows[:, None]
+
+        def across(values):
+            return values[r, j] * (1.0 - t) + values[r, j + 1] * t
+
+        earlier, here = across(behind), across(tau)
+        this = here >= earlier
+        obstacle_u = np.where(this, du[rows][:, None], across(behind_u))
+        along = obstacle_u / np.where(front, duc, 1.0)[:, None]
+        range_m = np.hypot(duc[:, None], wc[None, :] - wa)
+        return {
+            "own": (zc - za) / np.where(range_m > 0.0, range_m, 1.0),
+            "range_m": range_m,
+            "horizon": np.maximum(earlier, here),
+            "obstacle_u": obstacle_u,
+            "obstacle_z": self._ground(ua + obstacle_u, wa + (wc[None, :] - wa) * along),
+            "valid": (front & (du[rows] > 1e-6))[:, None] & np.ones(wc.size, dtype=bool)[None, :],
+            "duc": np.where(front, duc, 1.0)[:, None],
+            "zc": zc,
+        }
 
     def antenna_visibility(self, antennas_m) -> np.ndarray:
         """Whether each antenna sees each facet of :meth:`facets` over the ground between them. (S, P) bool
@@ -317,33 +432,49 @@ class SurfaceGrid:
         (the antennas stand over the grid's first slab, the foot of the mast).
         """
         ants = np.atleast_2d(np.asarray(antennas_m, float))
-        u, w, z = self.u_m, self.w_m, self.z_m.T  # z: (nu, nw)
-        uc, wc, zc = self._centres()
-        out = np.empty((ants.shape[0], uc.size * wc.size), dtype=bool)
-        for s, (ua, wa, za) in enumerate(ants):
-            du = u - ua
-            ahead = du > 1e-6
-            tau = np.full(z.shape, _NONE)
-            tau[ahead] = (z[ahead] - za) / np.hypot(du[ahead, None], w[None, :] - wa)
-            behind = np.full(z.shape, _NONE)  # H: the horizon of each node's ray, before its slab
-            for i in range(1, u.size):
-                if ahead[i - 1]:
-                    crossing = wa + (w - wa) * (du[i - 1] / du[i])
-                    behind[i] = np.maximum(np.interp(crossing, w, behind[i - 1]), np.interp(crossing, w, tau[i - 1]))
-            # Each facet's ray crosses its own first slab (i) half a facet before its centre.
-            duc = uc - ua
-            front = duc > 1e-6
-            ratio = np.where(front, du[:-1] / np.where(front, duc, 1.0), 0.0)  # (nu - 1,)
-            crossing = wa + (wc[None, :] - wa) * ratio[:, None]  # (nu - 1, nw - 1)
-            j, t = self._across(crossing)
-            rows = np.arange(uc.size)[:, None]
-            horizon = np.maximum(
-                behind[rows, j] * (1.0 - t) + behind[rows, j + 1] * t, tau[rows, j] * (1.0 - t) + tau[rows, j + 1] * t
-            )
-            range_m = np.hypot(duc[:, None], wc[None, :] - wa)
-            own = (zc - za) / np.where(range_m > 0.0, range_m, 1.0)
-            seen = (own + 1e-3 / np.maximum(range_m, 1e-3) >= horizon) | ~(front & ahead[:-1])[:, None]
+        out = np.empty((ants.shape[0], (self.u_m.size - 1) * (self.w_m.size - 1)), dtype=bool)
+        for s, antenna in enumerate(ants):
+            f = self._facet_horizons(antenna, 0.0)
+            seen = (f["own"] + 1e-3 / np.maximum(f["range_m"], 1e-3) >= f["horizon"]) | ~f["valid"]
             out[s] = seen.ravel()
+        return out
+
+    def antenna_weights(
+        self, antennas_m, wavelength_m: float, shadowing: str = "knife-edge", plane_slope=(0.0, 0.0)
+    ) -> np.ndarray:
+        """Amplitude of each antenna's field at each facet of :meth:`facets` over the ground between them. (S, P)
+
+        ``shadowing``: ``"knife-edge"`` (diffraction over the horizon of the facet's ray, below),
+        ``"hard"`` (1 where :meth:`antenna_visibility` sees the facet, else 0) or ``"none"`` (1).
+
+        Knife edge: the obstacle is the highest point of the ground on the ray above the plane of
+        slope ``plane_slope`` (along ``u``, ``w``; the reflecting plane's), found by the sweep of
+        :meth:`antenna_visibility` ranking heights instead of tangents (so that it stays the same
+        obstacle across its shadow boundary), leaving out the last ``KNIFE_EDGE_NEAR_WAVELENGTHS``
+        wavelengths before the facet (there the ground is the facet's own surface, and Fresnel's approximation needs
+        distances of many wavelengths). The ground line is the chord from the ground under the
+        antenna to the facet; the obstacle's excess ``t`` above it and its image below it form a
+        strip, whose edges stand ``h`` and ``h - 2 t`` above the ray (``h`` the obstacle's height
+        above the ray): the weight is ``|F(v_top) + 1 - F(v_bottom)|``
+        (:func:`geo.radio.knife_edge.ridge_on_ground_amplitude`), exactly 1 where ``t <= 0``, so
+        on any plane. Distances are horizontal. [-]
+
+        References
+        ----------
+        .. [5] ITU-R P.526, sec. 4.1 (single knife edge); Born and Wolf (1999), sec. 8.7.
+        """
+        ants = np.atleast_2d(np.asarray(antennas_m, float))
+        if shadowing == "hard":
+            return self.antenna_visibility(ants).astype(float)
+        count = (self.u_m.size - 1) * (self.w_m.size - 1)
+        if shadowing == "none":
+            return np.ones((ants.shape[0], count))
+        _check_shadowing(shadowing)
+        out = np.empty((ants.shape[0], count))
+        near_m = KNIFE_EDGE_NEAR_WAVELENGTHS * wavelength_m
+        for s, antenna in enumerate(ants):
+            f = self._facet_horizons(antenna, near_m, tuple(plane_slope))
+            out[s] = _source_ridge_weights(f, antenna, self._foot_height(antenna[0], antenna[1]), wavelength_m).ravel()
         return out
 
     def horizon_tangents(self) -> np.ndarray:
@@ -352,21 +483,87 @@ class SurfaceGrid:
         The ground along a facet's column line (its ``w``) is linear between the lattice's slabs
         (the bilinear surface [3]_): read at 16 distances from 1 to 600 m ahead of the centre.
         """
+        return self._course_horizon(1.0)[0].ravel()
+
+    def _course_horizon(self, first_m: float, slope_u=None):
+        """Along the course from each facet (16 distances from ``first_m`` to 600 m): tangent, distance, chord.
+
+        Returns the horizon's tangent, its distance ahead, the ground there, and the chord's slope
+        from the facet's centre to the ground at the last distance on the lattice (NaN where no
+        ground lies ahead), each (nu - 1, nw - 1). [-], [m], [m], [-] With ``slope_u`` the point
+        is the highest above the line of that slope through the facet's centre, not the horizon.
+        """
         u = self.u_m
         uc, wc, zc = self._centres()
         z = self.z_m.T
         line = (z[:, :-1] + z[:, 1:]) / 2.0  # (nu, nw - 1): the ground along each column's centre line
-        steps = np.geomspace(1.0, _HORIZON_REACH_M, 16)
-        best = np.full(zc.shape, -np.inf)
-        for step in steps:
-            at = uc + step  # (nu - 1,)
-            inside = at <= u[-1]
+
+        def ground_at(at):
             i = np.clip(np.searchsorted(u, at) - 1, 0, u.size - 2)
             f = np.clip((at - u[i]) / (u[i + 1] - u[i]), 0.0, 1.0)[:, None]
-            ground = line[i] * (1.0 - f) + line[i + 1] * f
+            return line[i] * (1.0 - f) + line[i + 1] * f
+
+        best = np.full(zc.shape, -np.inf)
+        rank = best.copy()
+        distance, height = np.zeros(zc.shape), np.zeros(zc.shape)
+        for step in np.geomspace(first_m, _HORIZON_REACH_M, 16):
+            at = uc + step  # (nu - 1,)
+            inside = at <= u[-1]
+            ground = ground_at(at)
             tangent = np.where(inside[:, None], (ground - zc) / step, -np.inf)
-            np.maximum(best, tangent, out=best)
-        return best.ravel()
+            ranked = tangent if slope_u is None else np.where(inside[:, None], ground - slope_u * step, -np.inf)
+            higher = ranked > rank
+            rank = np.where(higher, ranked, rank)
+            best = np.where(higher, tangent, best)
+            distance = np.where(higher, step, distance)
+            height = np.where(higher, ground, height)
+        reach = np.minimum(uc + _HORIZON_REACH_M, u[-1]) - uc  # the chord's far end
+        with np.errstate(invalid="ignore", divide="ignore"):
+            chord = np.where((reach >= first_m)[:, None], (ground_at(uc + reach) - zc) / reach[:, None], np.nan)
+        return best, distance, height, chord
+
+    def horizon_obstacles(self, wavelength_m: float, slope_u: float = 0.0) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        """Each facet's obstacle along the course toward the receivers, for the knife edge. Each (P,)
+
+        As :meth:`horizon_tangents`, from ``KNIFE_EDGE_NEAR_WAVELENGTHS`` wavelengths to 600 m ahead
+        (:meth:`antenna_weights` says why not nearer), the highest point above the line of slope
+        ``slope_u`` (the reflecting plane's along the course) through the facet's centre: its
+        tangent, its distance, and its excess ``t`` above the chord from the facet's centre to the
+        ground at the last distance on the lattice (0 where no ground lies ahead, or on a plane). The kernel
+        (:func:`geo.optics.kernel.ground_fields`) makes each receiver's weight from them as
+        :meth:`antenna_weights` does for the antennas. [-], [m], [m]
+        """
+        best, distance, height, chord = self._course_horizon(KNIFE_EDGE_NEAR_WAVELENGTHS * wavelength_m, slope_u)
+        _, _, zc = self._centres()
+        found = np.isfinite(best) & np.isfinite(chord)
+        excess = np.where(found, height - (zc + np.where(found, chord, 0.0) * distance), 0.0)
+        return np.where(found, best, 0.0).ravel(), np.where(found, distance, 1.0).ravel(), excess.ravel()
+
+
+SHADOWING = ("knife-edge", "hard", "none")
+
+
+def _check_shadowing(shadowing: str) -> None:
+    if shadowing not in SHADOWING:
+        raise ValueError(f"shadowing {shadowing!r} is not a valid option, must be one of {', '.join(SHADOWING)}")
+
+
+def _source_ridge_weights(f: dict, antenna, foot_z_m: float, wavelength_m: float) -> np.ndarray:
+    """The knife-edge weights of :meth:`SurfaceGrid.antenna_weights` from one antenna's facet horizons. [-]"""
+    za = antenna[2]
+    range_m = f["range_m"]
+    d1 = range_m * f["obstacle_u"] / f["duc"]  # horizontal distance of the obstacle from the antenna
+    d2 = range_m - d1
+    share = d1 / np.where(range_m > 0.0, range_m, 1.0)
+    excess = f["obstacle_z"] - (foot_z_m + (f["zc"] - foot_z_m) * share)  # t, above the chord
+    above_ray = f["obstacle_z"] - (za + (f["zc"] - za) * share)  # h
+    counts = f["valid"] & (excess > _EXCESS_TOLERANCE_M) & (d1 > 0.0) & (d2 > 0.0)
+    weight = np.ones(range_m.shape)
+    if np.any(counts):
+        k = np.sqrt(2.0 * range_m[counts] / (wavelength_m * d1[counts] * d2[counts]))
+        v_top = above_ray[counts] * k
+        weight[counts] = ridge_on_ground_amplitude(v_top, v_top - 2.0 * excess[counts] * k)
+    return weight
 
 
 def _split(nodes: np.ndarray, parts: np.ndarray) -> np.ndarray:

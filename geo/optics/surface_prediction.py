@@ -196,7 +196,7 @@ def surface_fields(
     grid: SurfaceGrid,
     receivers_m,
     method: str = "difference",
-    visibility: bool = True,
+    visibility: bool | str = True,
     rx_index=None,
     far: bool = False,
     roughness_m: float = 0.0,
@@ -212,8 +212,11 @@ def surface_fields(
     receivers_m : array_like, shape (R, 3)
         (u, w, Z). [m]
     method : {"difference", "raw"}
-    visibility : bool
-        Terrain shadowing of the surface facets.
+    visibility : bool or {"knife-edge", "hard", "none"}
+        Terrain shadowing of the surface facets: ``"hard"`` (True) drops what lies below the
+        horizon; ``"knife-edge"`` weights each facet's illumination and its view of each receiver
+        by the knife-edge factor over the obstacle of the ray; ``"none"`` (False) sees everything
+        (:meth:`SurfaceGrid.antenna_weights`, :meth:`SurfaceGrid.horizon_obstacles`).
     rx_index : array_like of int, optional
         Each receiver's index among the receivers ``grid.limits`` was made for: its own area
         (:meth:`AreaLimits.pair_weights`). None: the whole box for every receiver.
@@ -237,9 +240,8 @@ def surface_fields(
     own_areas = rx_index is not None  # each receiver's own area and foot ramp, in the pair weights
     facets = surface.facets(foot=not own_areas)
     consts = (model.wavelength_m, model.relative_permittivity, model.conductivity_s_m)
-    vis = horizon = None
-    if visibility:
-        vis, horizon = _shading(grid, surface, model.positions_m)
+    shadowing = {True: "hard", False: "none"}.get(visibility, visibility)
+    vis, receiver_side = _shading(grid, surface, model.positions_m, shadowing, model.wavelength_m)
     options = dict(far=far)
     counted = slice(None)
     if rx_index is not None:  # only the facets in some receiver's area: the others weigh 0 for every receiver
@@ -247,10 +249,14 @@ def surface_fields(
         counted = np.flatnonzero(grid.limits.within_areas(u_mid, w_mid, rx_index).ravel())
         facets = facets.subset(counted)
         if vis is not None:
-            vis, horizon = vis[:, counted], horizon[counted]
+            vis = vis[:, counted]
+            receiver_side = {
+                key: tuple(a[counted] for a in v) if isinstance(v, tuple) else v[counted]
+                for key, v in receiver_side.items()
+            }
         # the same weights for the surface and the plane: their facets share (u, w)
         options["pair_weight"] = _receiver_weights(grid.limits, facets.centres_m, rx_index)
-    po = ground_fields(model.positions_m, facets, rx, *consts, source_visible=vis, horizon_tan=horizon, **options)
+    po = ground_fields(model.positions_m, facets, rx, *consts, source_visible=vis, **receiver_side, **options)
     if method == "raw":
         direct = _direct(model, rx, far)
         return model.csb @ (direct + po), model.sbo @ (direct + po)
@@ -306,17 +312,26 @@ def _receiver_weights(limits, centres_m, rx_index):
 _SHADING_CACHE: list = []
 
 
-def _shading(grid: SurfaceGrid, surface: SurfaceGrid, antennas_m):
-    """Antenna visibility and receiver horizons of the surface of ``grid``.
+def _shading(grid: SurfaceGrid, surface: SurfaceGrid, antennas_m, shadowing: str, wavelength_m: float):
+    """The antenna side's weights (S, P) and the receiver side's ``ground_fields`` options for ``grid``'s surface.
 
-    The last result is kept (with its grid, so it cannot be mistaken for another): the path and
-    the far-field receivers of one evaluation share it.
+    ``shadowing`` as :func:`surface_fields`; ``"none"``: ``(None, {})``. The last result is kept
+    (with its grid, so it cannot be mistaken for another): the path and the far-field receivers
+    of one evaluation share it.
     """
-    for held_grid, held_antennas, result in _SHADING_CACHE:
-        if held_grid is grid and np.array_equal(held_antennas, antennas_m):
+    if shadowing == "none":
+        return None, {}
+    for held_grid, held_antennas, held_shadowing, result in _SHADING_CACHE:
+        if held_grid is grid and held_shadowing == shadowing and np.array_equal(held_antennas, antennas_m):
             return result
-    result = (surface.antenna_visibility(antennas_m), surface.horizon_tangents())
-    _SHADING_CACHE[:] = [(grid, np.array(antennas_m), result)]
+    slope = surface.fitted_slope()
+    weights = surface.antenna_weights(antennas_m, wavelength_m, shadowing, slope)  # checks shadowing
+    if shadowing == "hard":
+        receiver_side = {"horizon_tan": surface.horizon_tangents()}
+    else:
+        receiver_side = {"horizon_obstacle": surface.horizon_obstacles(wavelength_m, slope[0])}
+    result = (weights, receiver_side)
+    _SHADING_CACHE[:] = [(grid, np.array(antennas_m), shadowing, result)]
     return result
 
 
