@@ -6,15 +6,21 @@ Physically that noise is roughness: its coherent effect on the reflected wave is
 (:func:`geo.radio.reflection.coherent_roughness_factor`), about 1 at glide path grazing angles. So
 the surface the physical optics integrates over is the DEM with that noise shrunk away:
 
-- the smooth part ``s``: the DEM averaged with binomial weights (1, 2, 1) / 4 along and across at
-  one DEM cell on either side (a Gaussian of standard deviation ``cell / sqrt(2)``);
+- the DEM read on a lattice of half its cell over the points asked for (bilinear between its
+  posts, as everywhere), one call of the wrapped heights;
+- the smooth part ``s``: that lattice convolved with a Gaussian of standard deviation
+  ``SMOOTHING_CELLS`` DEM cells (the ground's own shape at the scale of a few cells stays in
+  ``s``; most of the posts' independent noise is averaged away: about ``1 / (2 sqrt(pi) 2)`` of
+  it is left for 2 cells);
 - the detail ``r = z - s``, whose noise level ``sigma`` is estimated robustly from the median
   absolute deviation, ``sigma = MAD / 0.6745`` [1]_ (a ditch or a bank occupies few samples and
   hardly moves the median);
 - the geometry ``s + shrink(r)``, with the soft threshold ``shrink(r) = sign(r) max(|r| - t, 0)``
   at ``t = THRESHOLD_SIGMAS sigma`` [1]_: detail well above the noise (a 1.6 m ditch) is kept
-  within ``t``, detail at the noise level is removed. The RMS of what is removed is the
-  roughness the Ament factor is given.
+  within ``t``, detail at the noise level is removed, so the geometry departs from the DEM by at
+  most ``t`` plus the noise. The RMS of what is removed is the roughness the Ament factor is
+  given;
+- the heights asked for, read bilinearly on that lattice [3]_.
 
 Coordinates and heights are those of the callable it wraps. [m]
 
@@ -25,10 +31,13 @@ References
        deviation over 0.6745).
 .. [2] Ament, W. S., "Toward a theory of reflection by a rough surface", Proc. IRE 41 (1953)
        142-146 (the coherent reflection of a rough surface).
+.. [3] Press, W. H. et al., *Numerical Recipes*, 3rd ed., 2007, sec. 3.6 (bilinear
+       interpolation); sec. 13.1 (convolution with a Gaussian, separable in two dimensions).
 """
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 
 import numpy as np
@@ -37,9 +46,38 @@ __all__ = ["THRESHOLD_SIGMAS", "Denoised", "denoise_heights"]
 
 #: Soft threshold in noise standard deviations (3: 99.7 % of Gaussian noise lies within it).
 THRESHOLD_SIGMAS = 3.0
+#: Standard deviation of the Gaussian that makes the smooth part, in DEM cells.
+SMOOTHING_CELLS = 2.0
 #: MAD of a Gaussian over its standard deviation [1]_.
 _MAD_PER_SIGMA = 0.6745
-_BINOMIAL = ((-1.0, 0.25), (0.0, 0.5), (1.0, 0.25))
+
+
+def _gaussian_smooth(values: np.ndarray, sigma_steps: float) -> np.ndarray:
+    """Separable Gaussian convolution of a 2-D lattice, NaN-aware (normalised by the valid weights) [3]_."""
+    half = int(math.ceil(3.0 * sigma_steps))
+    taps = np.exp(-0.5 * (np.arange(-half, half + 1) / sigma_steps) ** 2)
+    valid = np.isfinite(values)
+    filled = np.where(valid, values, 0.0)
+    weight = valid.astype(float)
+    for axis in (0, 1):
+        filled = np.apply_along_axis(np.convolve, axis, filled, taps, mode="same")
+        weight = np.apply_along_axis(np.convolve, axis, weight, taps, mode="same")
+    with np.errstate(invalid="ignore", divide="ignore"):
+        return np.where(valid & (weight > 0.0), filled / weight, np.nan)
+
+
+def _bilinear(lu, lw, lattice, u, w):
+    """``lattice`` (len(lu), len(lw)) read bilinearly at (u, w) [3]_."""
+    fu = np.clip((u - lu[0]) / (lu[1] - lu[0]), 0.0, lu.size - 1.000001)
+    fw = np.clip((w - lw[0]) / (lw[1] - lw[0]), 0.0, lw.size - 1.000001)
+    i, j = fu.astype(int), fw.astype(int)
+    a, b = fu - i, fw - j
+    return (
+        lattice[i, j] * (1 - a) * (1 - b)
+        + lattice[i + 1, j] * a * (1 - b)
+        + lattice[i, j + 1] * (1 - a) * b
+        + lattice[i + 1, j + 1] * a * b
+    )
 
 
 @dataclass
@@ -51,7 +89,7 @@ class Denoised:
     heights : callable
         The wrapped ``heights(u, w) -> Z`` (NaN off the DEM). [m]
     cell_m : float
-        DEM cell: the smoothing step. [m]
+        DEM cell: the lattice is half of it, the smoothing ``SMOOTHING_CELLS`` of it. [m]
     noise_sigma_m : float or None
         The noise level estimated at the first call (kept for every later call, so that every
         grid sees the same surface). [m]
@@ -64,33 +102,34 @@ class Denoised:
     noise_sigma_m: float | None = None
     removed_rms_m: float | None = None
 
-    def smooth(self, u_m, w_m) -> np.ndarray:
-        """The binomial average at one cell either way along and across. [m]"""
-        u, w = np.asarray(u_m, float), np.asarray(w_m, float)
-        out = np.zeros(np.broadcast(u, w).shape)
-        for du, a in _BINOMIAL:
-            for dw, b in _BINOMIAL:
-                out += a * b * np.asarray(self.heights(u + du * self.cell_m, w + dw * self.cell_m), float)
-        return out
-
     def __call__(self, u_m, w_m) -> np.ndarray:
-        """Heights with the noise shrunk away: ``s + shrink(z - s)``. [m]"""
-        raw = np.asarray(self.heights(u_m, w_m), float)
-        smooth = self.smooth(u_m, w_m)
+        """Heights with the noise shrunk away: ``s + shrink(z - s)``, read on the lattice. [m]"""
+        u, w = np.broadcast_arrays(np.asarray(u_m, float), np.asarray(w_m, float))
+        if u.size == 0:
+            return np.zeros(u.shape)
+        step = self.cell_m / 2.0
+        sigma_steps = SMOOTHING_CELLS * self.cell_m / step
+        margin = (math.ceil(3.0 * sigma_steps) + 2) * step
+        lu = np.arange(np.min(u) - margin, np.max(u) + margin + step, step)
+        lw = np.arange(np.min(w) - margin, np.max(w) + margin + step, step)
+        uu, ww = np.meshgrid(lu, lw, indexing="ij")
+        raw = np.asarray(self.heights(uu.ravel(), ww.ravel()), float).reshape(uu.shape)
+        smooth = _gaussian_smooth(raw, sigma_steps)
         detail = raw - smooth
+        inner = np.ix_((lu >= np.min(u)) & (lu <= np.max(u)), (lw >= np.min(w)) & (lw <= np.max(w)))
+        if detail[inner].size == 0:
+            inner = np.ix_(np.ones(lu.size, bool), np.ones(lw.size, bool))
+        finite = detail[inner][np.isfinite(detail[inner])]  # the statistics inside the points' box, not its margin
         if self.noise_sigma_m is None:
-            finite = detail[np.isfinite(detail)]
-            if finite.size == 0:
-                self.noise_sigma_m, self.removed_rms_m = 0.0, 0.0
-            else:
-                mad = float(np.median(np.abs(finite - np.median(finite))))
-                self.noise_sigma_m = mad / _MAD_PER_SIGMA
+            mad = float(np.median(np.abs(finite - np.median(finite)))) if finite.size else 0.0
+            self.noise_sigma_m = mad / _MAD_PER_SIGMA
         t = THRESHOLD_SIGMAS * self.noise_sigma_m
         kept = np.sign(detail) * np.maximum(np.abs(detail) - t, 0.0)
         if self.removed_rms_m is None:
-            removed = (detail - kept)[np.isfinite(detail)]
+            removed = (detail - kept)[inner]
+            removed = removed[np.isfinite(removed)]
             self.removed_rms_m = float(np.sqrt(np.mean(removed**2))) if removed.size else 0.0
-        return smooth + kept
+        return _bilinear(lu, lw, smooth + kept, u, w)
 
 
 def denoise_heights(heights, cell_m: float) -> Denoised:
@@ -114,7 +153,7 @@ def denoise_heights(heights, cell_m: float) -> Denoised:
 
     >>> d = denoise_heights(lambda u, w: 0.01 * np.asarray(u) + 0.02 * np.asarray(w), 5.0)
     >>> z = d(np.arange(0.0, 50.0, 2.5), np.zeros(20))
-    >>> bool(np.allclose(z, 0.01 * np.arange(0.0, 50.0, 2.5))), d.removed_rms_m
-    (True, 0.0)
+    >>> bool(np.allclose(z, 0.01 * np.arange(0.0, 50.0, 2.5))), d.removed_rms_m < 1e-12
+    (True, True)
     """
     return Denoised(heights, float(cell_m))

@@ -96,9 +96,14 @@ ANGLE_TOLERANCE_DEG = 0.002
 DDM_TOLERANCE = 0.001
 #: The zones are scaled by this to make the integration area (see geo.optics.surface_facets).
 ZONE_FACTOR = 3.0
+#: Terrain shadowing of the surface prediction: knife-edge diffraction over the obstacle of each ray.
+SHADOWING_DEFAULT = "knife-edge"
 VISIBILITY_NOTE = (
-    "shadowing: facet to antenna by a horizon sweep outward from the antenna; facet to receiver by the facet's "
-    "horizon along the course (receivers lie within about 20 deg of it)"
+    "shadowing by knife-edge diffraction (ITU-R P.526 single edge, the Fresnel integrals): each facet's "
+    "illumination and its view of the receivers weighted by the diffraction factor over the highest ground "
+    "above the plane on the ray (antenna side: a horizon sweep outward from the antenna; receiver side: along "
+    "the course, the receivers lying within about 20 deg of it); prediction.surface.unshadowed gives the "
+    "angles with no shadowing"
 )
 
 
@@ -241,7 +246,9 @@ def surface_fields(
     facets = surface.facets(foot=not own_areas)
     consts = (model.wavelength_m, model.relative_permittivity, model.conductivity_s_m)
     shadowing = {True: "hard", False: "none"}.get(visibility, visibility)
-    vis, receiver_side = _shading(grid, surface, model.positions_m, shadowing, model.wavelength_m)
+    n = model.normal
+    slope = (-n[0] / n[2], -n[1] / n[2])
+    vis, receiver_side = _shading(grid, surface, model.positions_m, shadowing, model.wavelength_m, slope)
     options = dict(far=far)
     counted = slice(None)
     if rx_index is not None:  # only the facets in some receiver's area: the others weigh 0 for every receiver
@@ -312,10 +319,12 @@ def _receiver_weights(limits, centres_m, rx_index):
 _SHADING_CACHE: list = []
 
 
-def _shading(grid: SurfaceGrid, surface: SurfaceGrid, antennas_m, shadowing: str, wavelength_m: float):
+def _shading(grid: SurfaceGrid, surface: SurfaceGrid, antennas_m, shadowing: str, wavelength_m: float, plane_slope):
     """The antenna side's weights (S, P) and the receiver side's ``ground_fields`` options for ``grid``'s surface.
 
-    ``shadowing`` as :func:`surface_fields`; ``"none"``: ``(None, {})``. The last result is kept
+    ``shadowing`` as :func:`surface_fields`; ``"none"``: ``(None, {})``. ``plane_slope``: (along,
+    across) of the reflecting plane, which the knife-edge obstacles are measured from (the same
+    for every grid, so that a receiver's weights do not depend on the box it is computed in). The last result is kept
     (with its grid, so it cannot be mistaken for another): the path and the far-field receivers
     of one evaluation share it.
     """
@@ -324,7 +333,7 @@ def _shading(grid: SurfaceGrid, surface: SurfaceGrid, antennas_m, shadowing: str
     for held_grid, held_antennas, held_shadowing, result in _SHADING_CACHE:
         if held_grid is grid and held_shadowing == shadowing and np.array_equal(held_antennas, antennas_m):
             return result
-    slope = surface.fitted_slope()
+    slope = tuple(float(v) for v in plane_slope)
     weights = surface.antenna_weights(antennas_m, wavelength_m, shadowing, slope)  # checks shadowing
     if shadowing == "hard":
         receiver_side = {"horizon_tan": surface.horizon_tangents()}
@@ -452,7 +461,7 @@ def surface_far_ddm(
     if facets > max_facets:
         raise AreaTooLarge(f"{facets:,} facets (more than {max_facets:,})")
     index = np.arange(e.size)
-    c, s = surface_fields(model, grid, receivers / FAR_RANGE_M, rx_index=index, far=True)
+    c, s = surface_fields(model, grid, receivers / FAR_RANGE_M, visibility=SHADOWING_DEFAULT, rx_index=index, far=True)
     _SHADING_CACHE.clear()
     return ddm(c, s, sbo_scale)
 
@@ -469,13 +478,19 @@ def _approach_points(image: PathPrediction, setback_m: float, offset_m: float):
     return dense, np.column_stack([setback_m - dense, np.full(dense.size, offset_m), z])
 
 
-def _grid(model, heights, cell_m, receivers, refine=1.0, zone_factor=ZONE_FACTOR, detail=True):
-    """The graded grid of the receivers' areas; ``detail``: refined where the ground departs from linear."""
+def _grid(model, heights, cell_m, receivers, refine=1.0, zone_factor=ZONE_FACTOR, detail=True, grading=None):
+    """The graded grid of the receivers' areas; ``detail``: refined where the ground departs from linear.
+
+    ``grading``: the receivers the facet sizes are graded for (default ``receivers``). Grids of
+    subsets graded for the same receivers share their nodes, so a receiver's result does not
+    depend on the receivers computed with it.
+    """
     lam = model.wavelength_m
     ants = _above_plane(model, model.positions_m)
     limits = area_limits(ants, _above_plane(model, receivers), lam, zone_factor)
-    tolerance = _detail_tolerance_m(model, receivers) if detail else None
-    return surface_grid(limits, heights, lam, cell_m, model.positions_m, receivers, refine, tolerance, DETAIL_PARTS)
+    graded = receivers if grading is None else grading
+    tolerance = _detail_tolerance_m(model, graded) if detail else None
+    return surface_grid(limits, heights, lam, cell_m, model.positions_m, graded, refine, tolerance, DETAIL_PARTS)
 
 
 def _detail_tolerance_m(model, receivers) -> float:
@@ -501,7 +516,7 @@ class _Job:
     windows: np.ndarray
     scale: float
     method: str
-    visibility: bool
+    visibility: bool | str
     roughness_m: float = 0.0
 
 
@@ -512,7 +527,7 @@ def _evaluate(job: _Job, index, refine=1.0, zone_factor=ZONE_FACTOR, visibility=
     """
     index = np.asarray(index)
     vis = job.visibility if visibility is None else visibility
-    grid = _grid(job.model, job.heights, job.cell_m, job.receivers[index], refine, zone_factor)
+    grid = _grid(job.model, job.heights, job.cell_m, job.receivers[index], refine, zone_factor, grading=job.receivers)
     local = np.arange(index.size)
     path = index < job.n_path
     options = dict(method=job.method, visibility=vis, roughness_m=job.roughness_m)
@@ -522,9 +537,11 @@ def _evaluate(job: _Job, index, refine=1.0, zone_factor=ZONE_FACTOR, visibility=
     far_index = index[~path]
     far_elev = job.windows.ravel()[far_index - job.n_path]
     directions = job.receivers[far_index] / FAR_RANGE_M
-    c_far, s_far = surface_fields(job.model, grid, directions, rx_index=local[~path], far=True, **options)
+    sector = ()
+    if far_index.size:
+        c_far, s_far = surface_fields(job.model, grid, directions, rx_index=local[~path], far=True, **options)
+        sector = _sector(far_elev.reshape(3, -1), ddm(c_far, s_far, job.scale))
     _SHADING_CACHE.clear()
-    sector = _sector(far_elev.reshape(3, -1), ddm(c_far, s_far, job.scale)) if far_index.size else ()
     return ddm(c, s, job.scale), sector, (grid.u_m.size - 1) * (grid.w_m.size - 1), grid
 
 
@@ -559,48 +576,117 @@ def _within(change: dict) -> bool:
     return all(a is not None and a <= ANGLE_TOLERANCE_DEG for a in angles) and change["ddm_change_max"] <= DDM_TOLERANCE
 
 
-def _refined(job: _Job, along_dense, check: bool, zone_factor: float):
-    """The prediction at the coarsest sampling that doubling no longer moves (see the module notes).
+@dataclass
+class _Band:
+    """Receivers refined together: the path points nearest one check point, or the far-field windows."""
 
-    From one facet per DEM cell (``refine`` 1), the checked receivers are computed with the facet
-    sides halved; while that moves the angles by more than ``ANGLE_TOLERANCE_DEG`` or the DDM by
-    more than ``DDM_TOLERANCE``, the whole prediction is taken at the finer sampling and checked
-    again; a check finer than ``MAX_REFINE`` times the cell, or a grid beyond ``MAX_FACETS`` facets,
-    is not made (the cost limit). The area doubled is checked once, at the first sampling.
-    Returns (ddm, sector, facets, grid, converged).
+    name: str
+    members: np.ndarray  # indices into the job's receivers
+    checked: np.ndarray  # the members the doubling is checked at
+    refine: float = 1.0
+    steps: list = field(default_factory=list)
+    passed: bool = False
+
+
+def _bands(job: _Job, along_dense, chosen) -> list[_Band]:
+    """The path points by their nearest check point (beyond 1 NM), then the far-field receivers."""
+    nearest = np.argmin(np.abs(along_dense[:, None] - along_dense[chosen][None, :]), axis=1)
+    out = []
+    for i, point in enumerate(chosen):
+        members = np.flatnonzero(nearest == i)
+        far_m, near_m = -along_dense[members].min(), max(-along_dense[members].max(), 0.0)
+        out.append(_Band(f"path {near_m:.0f}-{far_m:.0f} m before the threshold", members, np.array([point])))
+    far = job.n_path + np.arange(job.windows.size)
+    every_other = job.n_path + np.arange(job.windows.size).reshape(job.windows.shape)[:, ::2].ravel()
+    out.append(_Band("far field (path angle and half-sectors)", far, every_other))
+    return out
+
+
+def _band_change(job: _Job, band: _Band, ddm_path, sector, refine: float, zone_factor: float) -> dict:
+    """The band's checked receivers again at ``refine``: the change of their DDM or of the angles."""
+    if band.checked[0] >= job.n_path:  # the far-field band: the angles
+        _, other, facets, _ = _evaluate(job, band.checked, refine, zone_factor)
+        found = all(math.isfinite(v) for v in (*other, *sector))
+        return {
+            "refine": refine,
+            "facets": facets,
+            "path_angle_change_deg": abs(other[0] - sector[0]) if found else None,
+            "half_sector_change_deg": max(abs(other[1] - sector[1]), abs(other[2] - sector[2])) if found else None,
+            "ddm_change_max": 0.0,
+        }
+    again, _, facets, _ = _evaluate(job, band.checked, refine, zone_factor)
+    change = float(np.max(np.abs(again - ddm_path[band.checked])))
+    return {"refine": refine, "facets": facets, "path_angle_change_deg": 0.0, "half_sector_change_deg": 0.0,
+            "ddm_change_max": change}  # fmt: skip
+
+
+def _refine_bands(job: _Job, bands: list[_Band], ddm_path, sector, zone_factor: float):
+    """Each band refined until the doubling no longer moves it, or the cost limit (see :func:`_refined`)."""
+    reason = None
+    for band in bands:
+        facets = None
+        while True:
+            step = _band_change(job, band, ddm_path, sector, 2.0 * band.refine, zone_factor)
+            band.steps.append(step)
+            if _within(step):
+                band.passed = True
+                break
+            facets = step["facets"]
+            if 4.0 * band.refine > MAX_REFINE or 4.0 * facets > MAX_FACETS:
+                reason = (
+                    f"the cost limit: {band.name} would need a check at facets {4.0 * band.refine:g} times finer "
+                    f"than the DEM cell, beyond the limit of {MAX_REFINE:g} times or {MAX_FACETS:,} facets"
+                )
+                break
+            band.refine *= 2.0
+            values, found, _, _ = _evaluate(job, band.members, band.refine, zone_factor)
+            if band.members[0] >= job.n_path:
+                sector = found
+            else:
+                ddm_path = ddm_path.copy()
+                ddm_path[band.members] = values
+    return ddm_path, sector, reason
+
+
+def _refined(job: _Job, along_dense, check: bool, zone_factor: float):
+    """The prediction at the coarsest sampling that doubling no longer moves, band by band (see the module notes).
+
+    From one facet per DEM cell (``refine`` 1) everywhere, each band of receivers (the path points
+    nearest each of the ``_CHECK_PATH_POINTS`` check points beyond 1 NM, and the far-field windows)
+    is checked with the facet sides halved; while that moves its DDM by more than
+    ``DDM_TOLERANCE`` or its angles by more than ``ANGLE_TOLERANCE_DEG``, the band alone is taken
+    at the finer sampling and checked again: the facets are refined only for the receivers that
+    ask for it. A check finer than ``MAX_REFINE`` times the cell, or a grid beyond ``MAX_FACETS``
+    facets, is not made (the cost limit). The area doubled is checked once, at the first
+    sampling. Returns (ddm, sector, facets, grid, converged).
     """
     everything = np.arange(job.receivers.shape[0])
-    refine = 1.0
-    ddm_path, sector, facets, grid = _evaluate(job, everything, refine, zone_factor)
+    ddm_path, sector, facets, grid = _evaluate(job, everything, 1.0, zone_factor)
     if not check:
         return ddm_path, sector, facets, grid, {}
     beyond = np.flatnonzero(along_dense <= -1852.0)
     chosen = beyond[np.linspace(0, beyond.size - 1, min(_CHECK_PATH_POINTS, beyond.size)).astype(int)]
     # The area is checked at the first sampling: what the ground beyond adds hardly depends on it.
-    area = _change(job, chosen, ddm_path, sector, refine, 2.0 * zone_factor)
-    steps, reason = [], None
-    while True:
-        step = _change(job, chosen, ddm_path, sector, 2.0 * refine, zone_factor)
-        steps.append(step)
-        if _within(step):
-            break
-        if 4.0 * refine > MAX_REFINE or 4.0 * facets > MAX_FACETS:
-            reason = (
-                f"the cost limit: the next check needs facets {4.0 * refine:g} times finer than the DEM cell "
-                f"(about {16 * facets:,} facets), beyond the limit of {MAX_REFINE:g} times or {MAX_FACETS:,} facets"
-            )
-            break
-        refine *= 2.0
-        ddm_path, sector, facets, grid = _evaluate(job, everything, refine, zone_factor)
-    sampling_ok, area_ok = _within(steps[-1]), _within(area)
+    area = _change(job, chosen, ddm_path, sector, 1.0, 2.0 * zone_factor)
+    bands = _bands(job, along_dense, chosen)
+    ddm_path, sector, reason = _refine_bands(job, bands, ddm_path, sector, zone_factor)
+    last = [band.steps[-1] for band in bands]
+    sampling = {
+        "refine": max(step["refine"] for step in last),
+        "path_angle_change_deg": last[-1]["path_angle_change_deg"],
+        "half_sector_change_deg": last[-1]["half_sector_change_deg"],
+        "ddm_change_max": max(step["ddm_change_max"] for step in last),
+        "path_points_checked": int(chosen.size),
+    }
+    sampling_ok, area_ok = all(band.passed for band in bands), _within(area)
     if sampling_ok and not area_ok:
         reason = "the area: doubling it moves the result, so the ground beyond it departs from the plane and matters"
     elif not sampling_ok and reason is None:
         reason = "the sampling: a crossing left the check's windows"
     converged = {
-        "refine": refine,
-        "sampling_steps": steps,
-        "sampling_doubled": steps[-1],
+        "refine": max(band.refine for band in bands),
+        "bands": [{"receivers": b.name, "refine": b.refine, "steps": b.steps, "converged": b.passed} for b in bands],
+        "sampling_doubled": sampling,
         "area_doubled": area,
         "converged": bool(sampling_ok and area_ok),
         "not_converged_because": reason,
@@ -641,7 +727,7 @@ def predict_surface(
     offset_m: float,
     segments,
     method: str = "difference",
-    visibility: bool = True,
+    visibility: bool | str = "knife-edge",
     check: bool = True,
     zone_factor: float = ZONE_FACTOR,
     noise: str = "roughness",
@@ -665,8 +751,8 @@ def predict_surface(
     segments : list of geo.radio.structure_limits.Segment
         Approach segments and their bend limits.
     method : {"difference", "raw"}
-    visibility : bool
-        Terrain shadowing.
+    visibility : bool or {"knife-edge", "hard", "none"}
+        Terrain shadowing, as :func:`surface_fields` (default ``SHADOWING_DEFAULT``: knife-edge).
     check : bool
         Refine until converged (sampling doubled, area doubled; see :func:`_refined`).
     zone_factor : float
@@ -686,8 +772,9 @@ def predict_surface(
     windows = _windows(image, angle_deg)
     receivers = np.vstack([points, _far_receivers(windows.ravel())])
     job = _Job(model, surface_heights, cell_m, receivers, dense.size, windows, image.sbo_scale, method, visibility)
-    if noise == "roughness":  # the noise level is set at the first sampling: sample once before the runs
-        surface_heights(np.linspace(0.0, 1000.0, 201), np.zeros(201))
+    if noise == "roughness":  # the noise level is set at the first call: the ground 0-1 km ahead, 200 m wide
+        u, w = np.meshgrid(np.arange(0.0, 1000.0, cell_m), np.arange(-100.0, 100.0 + cell_m, cell_m))
+        surface_heights(u, w)
         job.roughness_m = float(surface_heights.removed_rms_m)
     ddm_dense, sector, facets, grid, converged = _refined(job, dense, check, zone_factor)
     if not all(math.isfinite(v) for v in sector):
@@ -701,7 +788,7 @@ def predict_surface(
     path_z = _path_heights(model, points, ddm_dense_image, difference, job.scale, image_path_z)
     fitted, intercept, slope = _fitted_angle(dense, path_z)
     structure, grid_m, bend = segment_structure(segments, -dense, ddm_dense, ddm_dense_image)
-    unshadowed = _unshadowed(job, zone_factor) if visibility else None
+    unshadowed = _unshadowed(job, zone_factor) if visibility not in (False, "none") else None
     u, w = grid.u_m, grid.w_m
     return SurfacePrediction(
         sector[0],
