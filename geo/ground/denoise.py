@@ -22,6 +22,10 @@ the surface the physical optics integrates over is the DEM with that noise shrun
   given;
 - the heights asked for, read bilinearly on that lattice [3]_.
 
+A detail level above ``NOISE_LIMIT_M``, or a DEM cell above ``CELL_LIMIT_M``, is not taken as
+noise: on a coarse DEM, or on rough ground, the detail at the cell scale is the ground's own
+shape, and the heights are returned as they are (``removed_rms_m`` 0).
+
 Coordinates and heights are those of the callable it wraps. [m]
 
 References
@@ -42,12 +46,19 @@ from dataclasses import dataclass
 
 import numpy as np
 
-__all__ = ["THRESHOLD_SIGMAS", "Denoised", "denoise_heights"]
+__all__ = ["CELL_LIMIT_M", "NOISE_LIMIT_M", "THRESHOLD_SIGMAS", "Denoised", "denoise_heights"]
 
 #: Soft threshold in noise standard deviations (3: 99.7 % of Gaussian noise lies within it).
 THRESHOLD_SIGMAS = 3.0
 #: Standard deviation of the Gaussian that makes the smooth part, in DEM cells.
 SMOOTHING_CELLS = 2.0
+#: Largest noise level taken as noise: a detail level above it is the ground's own shape (a coarse
+#: DEM of rough ground), kept as geometry. 0.1 m: 2 k sigma sin psi = 0.07 at 3 deg and 335 MHz,
+#: where the Ament factor is still 0.998 (our choice). [m]
+NOISE_LIMIT_M = 0.10
+#: Coarsest DEM cell whose noise is shrunk away. The posts' noise tilts facets finer than the cell;
+#: on a coarser DEM the cell-scale detail is the ground's shape (our choice). [m]
+CELL_LIMIT_M = 10.0
 #: MAD of a Gaussian over its standard deviation [1]_.
 _MAD_PER_SIGMA = 0.6745
 
@@ -123,6 +134,9 @@ class Denoised:
         if self.noise_sigma_m is None:
             mad = float(np.median(np.abs(finite - np.median(finite)))) if finite.size else 0.0
             self.noise_sigma_m = mad / _MAD_PER_SIGMA
+        if self.noise_sigma_m > NOISE_LIMIT_M or self.cell_m > CELL_LIMIT_M:  # the ground's own detail: kept
+            self.removed_rms_m = 0.0
+            return np.asarray(self.heights(u.ravel(), w.ravel()), float).reshape(u.shape)
         t = THRESHOLD_SIGMAS * self.noise_sigma_m
         kept = np.sign(detail) * np.maximum(np.abs(detail) - t, 0.0)
         if self.removed_rms_m is None:

@@ -57,7 +57,7 @@ References
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 
@@ -83,9 +83,12 @@ FIT_TO_M = 10 * 1852.0
 MAX_REFINE = 4.0
 MAX_FACETS = 450_000
 #: Facets follow the ground's detail: an interval whose ground departs from linear by more than
-#: lambda / (DETAIL_DIVISOR sin psi) is cut into up to DETAIL_PARTS parts (32: the Fraunhofer criterion).
+#: lambda / (DETAIL_DIVISOR sin psi) is cut into up to DETAIL_PARTS parts (32: the Fraunhofer criterion; 64
+#: is twice as strict).
 DETAIL_DIVISOR = 64.0
 DETAIL_PARTS = 4
+#: The grazing angle the detail tolerance is set for (twice a 3 deg path). [deg]
+DETAIL_GRAZING_DEG = 6.0
 #: Half-width of the far-field windows, as a fraction of theta, and points per window.
 _WINDOW = 0.06
 _WINDOW_POINTS = 9
@@ -423,7 +426,14 @@ class AreaTooLarge(ValueError):
 
 
 def surface_far_ddm(
-    model, heights, cell_m, elevation_rad, sbo_scale: float, zone_factor=ZONE_FACTOR, max_facets: int = 2_000_000
+    model,
+    heights,
+    cell_m,
+    elevation_rad,
+    sbo_scale: float,
+    zone_factor=ZONE_FACTOR,
+    max_facets: int = 2_000_000,
+    noise: str = "roughness",
 ) -> np.ndarray:
     """Far-field DDM over the surface at elevations on the course (the contract of :mod:`geo.radio.below_path`).
 
@@ -456,14 +466,33 @@ def surface_far_ddm(
     """
     e = np.atleast_1d(np.asarray(elevation_rad, dtype=float))
     receivers = _far_receivers(e)
+    heights = _surface_heights(heights, cell_m, noise)
     grid = _grid(model, heights, cell_m, receivers, zone_factor=zone_factor)
     facets = (grid.u_m.size - 1) * (grid.w_m.size - 1)
     if facets > max_facets:
         raise AreaTooLarge(f"{facets:,} facets (more than {max_facets:,})")
     index = np.arange(e.size)
-    c, s = surface_fields(model, grid, receivers / FAR_RANGE_M, visibility=SHADOWING_DEFAULT, rx_index=index, far=True)
+    rough = getattr(heights, "removed_rms_m", 0.0)
+    c, s = surface_fields(
+        model, grid, receivers / FAR_RANGE_M, visibility=SHADOWING_DEFAULT, rx_index=index, far=True, roughness_m=rough
+    )
     _SHADING_CACHE.clear()
     return ddm(c, s, sbo_scale)
+
+
+def _surface_heights(heights, cell_m: float, noise: str):
+    """The heights the facets follow: with the DEM's noise shrunk away (``"roughness"``) or as they are.
+
+    The noise level is set by a first call over the ground 0-1 km ahead of the mast, 200 m wide.
+    """
+    if noise not in ("roughness", "geometry"):
+        raise ValueError(f"noise {noise!r} is not one of 'roughness', 'geometry'")
+    if noise == "geometry":
+        return heights
+    denoised = denoise_heights(heights, cell_m)
+    u, w = np.meshgrid(np.arange(0.0, 1000.0, cell_m), np.arange(-100.0, 100.0 + cell_m, cell_m))
+    denoised(u, w)
+    return denoised
 
 
 def _approach_points(image: PathPrediction, setback_m: float, offset_m: float):
@@ -493,15 +522,15 @@ def _grid(model, heights, cell_m, receivers, refine=1.0, zone_factor=ZONE_FACTOR
     return surface_grid(limits, heights, lam, cell_m, model.positions_m, graded, refine, tolerance, DETAIL_PARTS)
 
 
-def _detail_tolerance_m(model, receivers) -> float:
-    """Departure from linear that the facets must follow: lambda / (32 sin psi) at the steepest receiver. [m]
+def _detail_tolerance_m(model, receivers=None) -> float:
+    """Departure from linear that the facets must follow: lambda / (DETAIL_DIVISOR sin psi). [m]
 
-    The Fraunhofer criterion of a smooth surface (Ulaby, Moore and Fung 1982, from memory), for
-    the largest grazing angle seen from the mast's foot among the receivers.
+    The Fraunhofer criterion of a smooth surface (Ulaby, Moore and Fung 1982, from memory) at the
+    grazing angle ``DETAIL_GRAZING_DEG``, steeper than any receiver of a glide path's prediction
+    sees from the ground ahead; the same for every set of receivers, so that grids of different
+    sets share their nodes.
     """
-    rx = np.atleast_2d(receivers)
-    sin_psi = np.max(rx[:, 2] / np.maximum(np.hypot(rx[:, 0], rx[:, 2]), 1e-9))
-    return model.wavelength_m / (DETAIL_DIVISOR * max(float(sin_psi), 1e-3))
+    return model.wavelength_m / (DETAIL_DIVISOR * math.sin(math.radians(DETAIL_GRAZING_DEG)))
 
 
 @dataclass
@@ -518,6 +547,9 @@ class _Job:
     method: str
     visibility: bool | str
     roughness_m: float = 0.0
+    image: PathPrediction | None = None
+    angle_deg: float = 3.0
+    zone_factor: float = ZONE_FACTOR
 
 
 def _evaluate(job: _Job, index, refine=1.0, zone_factor=ZONE_FACTOR, visibility=None):
@@ -555,6 +587,9 @@ def _change(job, chosen, ddm_base, sector_base, refine, zone_factor):
     """Changes of the angles and the DDM of the checked receivers at ``refine`` / ``zone_factor``."""
     index = _checked(job, chosen)
     again, other, facets, _ = _evaluate(job, index, refine, zone_factor)
+    if refine == 1.0 and not all(math.isfinite(v) for v in other):  # the crossings left the windows: a wide one
+        other = _wide_sector(job.model, job.heights, job.cell_m, job.image, job.angle_deg, job.scale, job.method,
+                             job.visibility, zone_factor)  # fmt: skip
     found = all(math.isfinite(v) for v in (*other, *sector_base))
     ddm_change = float(np.max(np.abs(again[: chosen.size] - ddm_base[chosen]))) if chosen.size else 0.0
     return {
@@ -648,6 +683,25 @@ def _refine_bands(job: _Job, bands: list[_Band], ddm_path, sector, zone_factor: 
     return ddm_path, sector, reason
 
 
+def _windows_on_own_roots(job: _Job) -> tuple:
+    """The sector where the narrow windows about image theory's roots miss a crossing (ground far from the plane).
+
+    One wide window finds the surface's own roots (:func:`_wide_sector`); the far-field windows are
+    then centred on them (in ``job``, so that the convergence checks use them too) and the sector
+    taken there again. Returns the sector (NaN where even the wide window finds no crossing). [deg]
+    """
+    m, image = job.model, job.image
+    found = _wide_sector(m, job.heights, job.cell_m, image, job.angle_deg, job.scale, job.method, job.visibility,
+                         job.zone_factor)  # fmt: skip
+    if not all(math.isfinite(v) for v in found):
+        return found
+    moved = replace(image, path_angle_deg=found[0], half_sector_below_deg=found[1], half_sector_above_deg=found[2])
+    job.windows = _windows(moved, job.angle_deg)
+    job.receivers[job.n_path :] = _far_receivers(job.windows.ravel())
+    _, sector, _, _ = _evaluate(job, job.n_path + np.arange(job.windows.size), 1.0, job.zone_factor)
+    return sector if all(math.isfinite(v) for v in sector) else found
+
+
 def _refined(job: _Job, along_dense, check: bool, zone_factor: float):
     """The prediction at the coarsest sampling that doubling no longer moves, band by band (see the module notes).
 
@@ -662,6 +716,8 @@ def _refined(job: _Job, along_dense, check: bool, zone_factor: float):
     """
     everything = np.arange(job.receivers.shape[0])
     ddm_path, sector, facets, grid = _evaluate(job, everything, 1.0, zone_factor)
+    if not all(math.isfinite(v) for v in sector):
+        sector = _windows_on_own_roots(job)
     if not check:
         return ddm_path, sector, facets, grid, {}
     beyond = np.flatnonzero(along_dense <= -1852.0)
@@ -673,6 +729,7 @@ def _refined(job: _Job, along_dense, check: bool, zone_factor: float):
     last = [band.steps[-1] for band in bands]
     sampling = {
         "refine": max(step["refine"] for step in last),
+        "facets": max(step["facets"] for step in last),
         "path_angle_change_deg": last[-1]["path_angle_change_deg"],
         "half_sector_change_deg": last[-1]["half_sector_change_deg"],
         "ddm_change_max": max(step["ddm_change_max"] for step in last),
@@ -691,7 +748,7 @@ def _refined(job: _Job, along_dense, check: bool, zone_factor: float):
         "converged": bool(sampling_ok and area_ok),
         "not_converged_because": reason,
         "tolerances": {"angle_deg": ANGLE_TOLERANCE_DEG, "ddm": DDM_TOLERANCE},
-        "cost_limit": {"refine": MAX_REFINE, "facets": MAX_FACETS},
+        "cost_limit": {"max_refine": MAX_REFINE, "max_facets": MAX_FACETS},
     }
     return ddm_path, sector, facets, grid, converged
 
@@ -765,22 +822,14 @@ def predict_surface(
     -------
     SurfacePrediction
     """
-    if noise not in ("roughness", "geometry"):
-        raise ValueError(f"noise {noise!r} is not one of 'roughness', 'geometry'")
-    surface_heights = denoise_heights(heights, cell_m) if noise == "roughness" else heights
+    surface_heights = _surface_heights(heights, cell_m, noise)
     dense, points = _approach_points(image, setback_m, offset_m)
     windows = _windows(image, angle_deg)
     receivers = np.vstack([points, _far_receivers(windows.ravel())])
-    job = _Job(model, surface_heights, cell_m, receivers, dense.size, windows, image.sbo_scale, method, visibility)
-    if noise == "roughness":  # the noise level is set at the first call: the ground 0-1 km ahead, 200 m wide
-        u, w = np.meshgrid(np.arange(0.0, 1000.0, cell_m), np.arange(-100.0, 100.0 + cell_m, cell_m))
-        surface_heights(u, w)
-        job.roughness_m = float(surface_heights.removed_rms_m)
+    job = _Job(model, surface_heights, cell_m, receivers, dense.size, windows, image.sbo_scale, method, visibility,
+               image=image, angle_deg=angle_deg, zone_factor=zone_factor)  # fmt: skip
+    job.roughness_m = float(getattr(surface_heights, "removed_rms_m", 0.0))
     ddm_dense, sector, facets, grid, converged = _refined(job, dense, check, zone_factor)
-    if not all(math.isfinite(v) for v in sector):
-        sector = _wide_sector(
-            model, surface_heights, cell_m, image, angle_deg, job.scale, method, visibility, zone_factor
-        )
     c, s = model.fields(points)
     ddm_dense_image = ddm(c, s, job.scale)
     difference = ddm_dense - ddm_dense_image

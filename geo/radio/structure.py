@@ -17,6 +17,11 @@ edition in force and the flight-inspection manual). Here, per approach segment o
    percentile of ``|bend|`` over its length, against the limits of Annex 10 Vol I 3.1.5.4 (from
    memory, labelled so in :mod:`geo.radio.structure_limits`).
 
+Where the caller gives the undisturbed DDM (image theory over the fitted plane), the mean path is
+taken to follow the undisturbed path's own smooth course: the rule runs on the difference of the
+DDM from the undisturbed DDM, so that the curvature of the path near the threshold over a plane
+(which the straight designed path's DDM shows, and which a mean over B-C would count) is no bend.
+
 A steady shift or slope of the DDM over a segment is thus no bend; a bend of period ``P`` keeps
 :func:`geo.radio.bend_filter.kept_fraction` of its amplitude, less what the line or mean over the
 segment follows of it (most of it once ``P`` approaches the segment's length).
@@ -201,7 +206,8 @@ def structure_arrays(
     ddm : array_like, shape (..., R)
         DDM at those samples; leading axes are independent series.
     undisturbed_ddm : array_like, shape (..., R), optional
-        The undisturbed DDM at the samples, for the raw departure.
+        The undisturbed DDM at the samples, for the raw departure; given, the bends are measured on
+        the difference from it (see the module notes).
     filter_m : float
         Length of the recorder's filter (:mod:`geo.radio.bend_filter`; 0: none). [m]
 
@@ -218,6 +224,9 @@ def structure_arrays(
     if undisturbed_ddm is not None:
         base = np.broadcast_to(np.asarray(undisturbed_ddm, float), np.shape(np.asarray(ddm)))[..., order]
         departure = np.abs(raw - _interp_rows(flown, d, base))
+        # The mean path follows the undisturbed path's own course (its curvature near the threshold
+        # over a plane is no bend): the rule runs on the DDM's difference from the undisturbed DDM.
+        recorded = _recorded(segments, d, v - base, filter_m)[2]
     shape = raw.shape[:-1] + (len(segments),)
     b95, r95, dep95 = np.full(shape, np.nan), np.full(shape, np.nan), np.full(shape, np.nan)
     gaps = np.array([_largest_gap_m(d, seg) for seg in segments])
@@ -255,7 +264,8 @@ def segment_structure(
     ddm : array_like, shape (R,)
         DDM at those samples.
     undisturbed_ddm : array_like, shape (R,), optional
-        The undisturbed DDM there (e.g. image theory on the designed path), for ``departure_95_ddm``.
+        The undisturbed DDM there (e.g. image theory on the designed path), for ``departure_95_ddm``;
+        given, the bends are measured on the difference from it (see the module notes).
     filter_m : float
         Length of the recorder's filter; default ``FILTER_LENGTH_M`` (25.7 m, from memory, see
         :mod:`geo.radio.bend_filter`). [m]

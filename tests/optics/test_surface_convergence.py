@@ -102,11 +102,11 @@ def _flat_setup(offset=120.0, setback=300.0):
 
 def test_facets_are_refined_over_a_ditch_and_not_elsewhere():
     # The detail rule (geo.optics.surface_facets.surface_grid): where the ground between two nodes
-    # departs from the straight line by more than lambda / (64 sin psi) (0.27 m here), the interval
-    # is cut in 2, 4 parts until the departure, falling as the square of the side, meets it. On a
-    # 1 m DEM (facets 2.5 m) a ditch 1.6 m deep, exp(-((u - 150) / 2 m)^2), departs from the chord
-    # of a 2.5 m interval by up to h^2 / 8 * z'' = 6.25 / 8 * 0.8 = 0.63 m (its curvature at the
-    # axis, 2 * 1.6 / 4 m^-1): cut in 2 there (0.16 m); a plane departs by nothing and is not cut.
+    # departs from the straight line by more than lambda / (64 sin 6 deg) (0.134 m at 335 MHz), the
+    # interval is cut in 2 or 4 parts until the departure, falling as the square of the side, meets
+    # it. On a 1 m DEM (facets 2.5 m) a ditch 1.6 m deep, exp(-((u - 150) / 2 m)^2), departs from the
+    # chord of a 2.5 m interval by up to h^2 / 8 * z'' = 6.25 / 8 * 0.8 = 0.63 m (its curvature at the
+    # axis, 2 * 1.6 / 4 m^-1): cut there into sides of at most 1.25 m; a plane is not cut.
     model, image, _ = _flat_setup()
     _, truth = _lattice_heights(0.0, cell_m=1.0, ditch_scale_m=2.0)
     dense, points = sp._approach_points(image, 300.0, 120.0)

@@ -31,6 +31,7 @@ from jacksboro import jacksboro_sheet, site_text
 from geo.ground.dem import Dem
 from geo.optics.surface_prediction import ANGLE_TOLERANCE_DEG, DDM_TOLERANCE, predict_surface, surface_far_ddm
 from geo.radio.below_path import BelowPathCheck
+from geo.radio.prediction import ddm
 from geo.radio.structure import segment_structure
 from geo.radio.structure_limits import structure_segments
 from geo.site.site_file import load_site
@@ -246,9 +247,20 @@ def test_relief_scaled_toward_zero_converges_to_image_theory(studies):
 
 
 def _image_structure(result):
-    """Image theory's own DDM measured by the flight-inspection rule of geo.radio.structure."""
-    _, segments = _pieces(result)
-    return segment_structure(segments, -result.prediction.along_m, result.prediction.ddm_nominal)
+    """Image theory's own DDM at the surface's even approach samples, measured by the rule of geo.radio.structure.
+
+    The DDM from the array model at the designed path's points (image theory, geo.radio.prediction),
+    with itself as the undisturbed DDM: the rule measures the bends on the difference from it, so
+    image theory's own bends are zero (NaN outside the segments).
+    """
+    model, segments = _pieces(result)
+    image, mast = result.prediction, result.mast
+    along = result.surface.approach_along_m
+    z = np.interp(along, image.along_m, image.nominal_z_m)  # the designed path is a straight line
+    points = np.column_stack([mast.setback_m - along, np.full(along.size, mast.offset_m), z])
+    c, s = model.fields(points)
+    values = ddm(c, s, image.sbo_scale)
+    return segment_structure(segments, -along, values, values)
 
 
 def _image_bends(result) -> np.ndarray:
