@@ -16,6 +16,7 @@ Modules, in the order a study uses them:
 - :mod:`geo.ground.plane_solve`: the forward slope as a fixed point, for many candidates at once
 - :mod:`geo.ground.terrain`: the reflecting plane in the zones, its slope solved with the heights
 - :mod:`geo.ground.roughness`: Rayleigh, Fraunhofer and IEV criteria per receiver family
+- :mod:`geo.ground.denoise`: the DEM's cell-scale noise shrunk out of the geometry, counted as roughness
 
 Imports go only to the stages below (``tests/test_layout.py``).
 """

@@ -12,6 +12,7 @@ Modules, in the order a study uses them:
 - :mod:`geo.radio.prediction`: CSB / SBO by image theory, DDM, predicted path and sector
 - :mod:`geo.radio.below_path`: the DDM below the path against Annex 10
 - :mod:`geo.radio.clearance`: capture-effect clearance transmitter and two-carrier capture
+- :mod:`geo.radio.knife_edge`: single knife-edge diffraction (ITU-R P.526), F(v), J(v), the strip factor over ground
 - :mod:`geo.radio.bend_filter`: the flight-inspection recorder's low-pass filter and its response to a bend
 - :mod:`geo.radio.structure`: path bends about each segment's mean path (line or mean), 95 % amplitude, raw departure
 - :mod:`geo.radio.structure_limits`: Annex 10 structure limits by approach segment

@@ -235,7 +235,7 @@ def fitted_angle_deg(surface) -> tuple[float, str]:
     ``straight_fit`` (height per metre toward the approach).
     """
     given = getattr(surface, "fitted_angle_deg", None)
-    if given is not None:
+    if given is not None and math.isfinite(given):
         return float(given), "the prediction's straight-line fit"
     slope = surface.straight_fit[1]
     return math.degrees(math.atan(slope)), "the slope of the prediction's straight fit"

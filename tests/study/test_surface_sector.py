@@ -38,8 +38,10 @@ def _surface(angle_deg=THETA, below=0.12, above=0.12, rdh_m=15.5, bends=(0.002, 
     intercept = rdh_m + THRESHOLD_M - PLANE_M  # Z is measured from the plane at the mast's foot
     z = intercept - slope * along
     structure = [
-        SegmentBends("coverage limit to A", 18520.0, 7408.0, 0.035, bends[0], bends[0] <= 0.035),
-        SegmentBends("A to C", 7408.0, 300.0, 0.035, bends[1], bends[1] <= 0.035),
+        SegmentBends(
+            "coverage limit to A", 18520.0, 7408.0, 0.035, bends[0], bends[0] <= 0.035, bends[0], "line", 20.0, True
+        ),
+        SegmentBends("A to C", 7408.0, 300.0, 0.035, bends[1], bends[1] <= 0.035, bends[1], "mean", 20.0, True),
     ]
     zeros = np.zeros(along.size)
     return SurfacePrediction(
@@ -190,7 +192,8 @@ def test_findings_say_the_caution_and_lengths_in_the_files_unit_first():
 def test_the_fitted_angle_of_the_prediction_comes_first():
     # The prediction's own fitted angle, when it gives one, is used rather than the slope of its fit.
     base = _surface(angle_deg=3.0)
-    given = types.SimpleNamespace(**{k: getattr(base, k) for k in base.__dataclass_fields__}, fitted_angle_deg=3.2)
+    fields = {k: getattr(base, k) for k in base.__dataclass_fields__ if k != "fitted_angle_deg"}
+    given = types.SimpleNamespace(**fields, fitted_angle_deg=3.2)
     assert _judge(given).fitted_angle_deg == 3.2
     assert _judge(base).fitted_angle_deg == pytest.approx(3.0, abs=1e-12)
 
