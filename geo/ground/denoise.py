@@ -42,7 +42,7 @@ References
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 
@@ -65,14 +65,16 @@ _MAD_PER_SIGMA = 0.6745
 
 def _gaussian_smooth(values: np.ndarray, sigma_steps: float) -> np.ndarray:
     """Separable Gaussian convolution of a 2-D lattice, NaN-aware (normalised by the valid weights) [3]_."""
+    from scipy.ndimage import convolve1d
+
     half = int(math.ceil(3.0 * sigma_steps))
     taps = np.exp(-0.5 * (np.arange(-half, half + 1) / sigma_steps) ** 2)
     valid = np.isfinite(values)
     filled = np.where(valid, values, 0.0)
     weight = valid.astype(float)
     for axis in (0, 1):
-        filled = np.apply_along_axis(np.convolve, axis, filled, taps, mode="same")
-        weight = np.apply_along_axis(np.convolve, axis, weight, taps, mode="same")
+        filled = convolve1d(filled, taps, axis=axis, mode="constant", cval=0.0)
+        weight = convolve1d(weight, taps, axis=axis, mode="constant", cval=0.0)
     with np.errstate(invalid="ignore", divide="ignore"):
         return np.where(valid & (weight > 0.0), filled / weight, np.nan)
 
@@ -106,18 +108,31 @@ class Denoised:
         grid sees the same surface). [m]
     removed_rms_m : float or None
         RMS of what the first call removed: the roughness for the Ament factor. [m]
+
+    Each lattice made is kept with the box of the points it was made for: points inside a kept
+    box are read from it (every grid of one prediction inside the first one's box sees the same
+    surface, made once).
     """
 
     heights: object
     cell_m: float
     noise_sigma_m: float | None = None
     removed_rms_m: float | None = None
+    _lattices: list = field(default_factory=list, repr=False)
 
     def __call__(self, u_m, w_m) -> np.ndarray:
         """Heights with the noise shrunk away: ``s + shrink(z - s)``, read on the lattice. [m]"""
         u, w = np.broadcast_arrays(np.asarray(u_m, float), np.asarray(w_m, float))
         if u.size == 0:
             return np.zeros(u.shape)
+        if self.cell_m > CELL_LIMIT_M or (self.noise_sigma_m or 0.0) > NOISE_LIMIT_M:  # kept as it is
+            self.noise_sigma_m = self.noise_sigma_m or 0.0
+            self.removed_rms_m = 0.0
+            return np.asarray(self.heights(u.ravel(), w.ravel()), float).reshape(u.shape)
+        box = (float(np.min(u)), float(np.max(u)), float(np.min(w)), float(np.max(w)))
+        for held, lu, lw, lattice in self._lattices:  # a lattice made for a box that holds these points
+            if held[0] <= box[0] and box[1] <= held[1] and held[2] <= box[2] and box[3] <= held[3]:
+                return _bilinear(lu, lw, lattice, u, w)
         step = self.cell_m / 2.0
         sigma_steps = SMOOTHING_CELLS * self.cell_m / step
         margin = (math.ceil(3.0 * sigma_steps) + 2) * step
@@ -143,6 +158,7 @@ class Denoised:
             removed = (detail - kept)[inner]
             removed = removed[np.isfinite(removed)]
             self.removed_rms_m = float(np.sqrt(np.mean(removed**2))) if removed.size else 0.0
+        self._lattices.append((box, lu, lw, smooth + kept))
         return _bilinear(lu, lw, smooth + kept, u, w)
 
 

@@ -61,14 +61,21 @@ from dataclasses import dataclass, field, replace
 
 import numpy as np
 
-from geo.ground.denoise import denoise_heights
+from geo.ground.denoise import Denoised, denoise_heights
 from geo.optics.kernel import ground_fields
 from geo.optics.surface_facets import SurfaceGrid, area_limits, surface_grid
 from geo.radio.prediction import ArrayModel, PathPrediction, ddm
 from geo.radio.reflection import coherent_roughness_factor
 from geo.radio.structure import BEND_FILTER, SegmentBends, segment_structure
 
-__all__ = ["FAR_RANGE_M", "SurfacePrediction", "predict_surface", "surface_fields", "surface_far_ddm"]
+__all__ = [
+    "FAR_RANGE_M",
+    "SurfacePrediction",
+    "predict_surface",
+    "surface_fields",
+    "surface_far_ddm",
+    "surface_heights",
+]
 
 #: Range of the far-field receivers (from the foot of the mast). [m]
 FAR_RANGE_M = 200_000.0
@@ -466,7 +473,7 @@ def surface_far_ddm(
     """
     e = np.atleast_1d(np.asarray(elevation_rad, dtype=float))
     receivers = _far_receivers(e)
-    heights = _surface_heights(heights, cell_m, noise)
+    heights = surface_heights(heights, cell_m, noise)
     grid = _grid(model, heights, cell_m, receivers, zone_factor=zone_factor)
     facets = (grid.u_m.size - 1) * (grid.w_m.size - 1)
     if facets > max_facets:
@@ -480,14 +487,16 @@ def surface_far_ddm(
     return ddm(c, s, sbo_scale)
 
 
-def _surface_heights(heights, cell_m: float, noise: str):
+def surface_heights(heights, cell_m: float, noise: str = "roughness"):
     """The heights the facets follow: with the DEM's noise shrunk away (``"roughness"``) or as they are.
 
     The noise level is set by a first call over the ground 0-1 km ahead of the mast, 200 m wide.
+    Heights already shrunk (a :class:`geo.ground.denoise.Denoised`, e.g. of the same study's
+    prediction) are used as they are, so that the path and the DDM below it see one surface.
     """
     if noise not in ("roughness", "geometry"):
         raise ValueError(f"noise {noise!r} is not one of 'roughness', 'geometry'")
-    if noise == "geometry":
+    if noise == "geometry" or isinstance(heights, Denoised):  # already shrunk: the same surface again
         return heights
     denoised = denoise_heights(heights, cell_m)
     u, w = np.meshgrid(np.arange(0.0, 1000.0, cell_m), np.arange(-100.0, 100.0 + cell_m, cell_m))
@@ -822,13 +831,13 @@ def predict_surface(
     -------
     SurfacePrediction
     """
-    surface_heights = _surface_heights(heights, cell_m, noise)
+    ground = surface_heights(heights, cell_m, noise)
     dense, points = _approach_points(image, setback_m, offset_m)
     windows = _windows(image, angle_deg)
     receivers = np.vstack([points, _far_receivers(windows.ravel())])
-    job = _Job(model, surface_heights, cell_m, receivers, dense.size, windows, image.sbo_scale, method, visibility,
+    job = _Job(model, ground, cell_m, receivers, dense.size, windows, image.sbo_scale, method, visibility,
                image=image, angle_deg=angle_deg, zone_factor=zone_factor)  # fmt: skip
-    job.roughness_m = float(getattr(surface_heights, "removed_rms_m", 0.0))
+    job.roughness_m = float(getattr(ground, "removed_rms_m", 0.0))
     ddm_dense, sector, facets, grid, converged = _refined(job, dense, check, zone_factor)
     c, s = model.fields(points)
     ddm_dense_image = ddm(c, s, job.scale)
@@ -863,7 +872,7 @@ def predict_surface(
         approach_ddm=ddm_dense,
         approach_ddm_image=ddm_dense_image,
         noise=noise,
-        noise_sigma_m=getattr(surface_heights, "noise_sigma_m", None),
+        noise_sigma_m=getattr(ground, "noise_sigma_m", None),
         roughness_m=job.roughness_m,
         unshadowed=unshadowed,
     )

@@ -18,7 +18,13 @@ from dataclasses import replace
 
 import numpy as np
 
-from geo.optics.surface_prediction import AreaTooLarge, SurfacePrediction, predict_surface, surface_far_ddm
+from geo.optics.surface_prediction import (
+    AreaTooLarge,
+    SurfacePrediction,
+    predict_surface,
+    surface_far_ddm,
+    surface_heights,
+)
 from geo.radio.below_path import check_below_path, sampled_ddm
 from geo.radio.bend_filter import MAX_GAP_M
 from geo.radio.structure_limits import LIMITS_SOURCE, structure_segments
@@ -93,8 +99,10 @@ def surface_for_study(
             cross = sign * (offset_m - np.asarray(w, float))
             return dem.sample_frame(runway.frame, along, cross) - plane.elevation_at_mast_m
 
+        ground = surface_heights(heights, terrain.cell_size_m)  # one shrunk surface for the path and below it
+
         surface = predict_surface(
-            model, prediction, heights, terrain.cell_size_m, spec.angle_deg, setback_m, offset_m, segments, check=check
+            model, prediction, ground, terrain.cell_size_m, spec.angle_deg, setback_m, offset_m, segments, check=check
         )
         # The DDM below the path over the surface too (Annex 10 Vol I 3.1.5.6.5, from memory): the
         # far-field DDM computed once at BELOW_PATH_SAMPLES elevations from the path down to 0.30 theta
@@ -107,7 +115,7 @@ def surface_for_study(
         try:
             values = surface_far_ddm(
                 model,
-                heights,
+                ground,
                 terrain.cell_size_m,
                 elevations,
                 prediction.sbo_scale,
