@@ -165,6 +165,8 @@ class SurfacePrediction:
     unshadowed : dict or None
         Far-field path angle and half-sectors with no terrain shadowing, at one facet per DEM
         cell (the first sampling). [deg]
+    shadowing : {"knife-edge", "hard", "none"}
+        The terrain shadowing used.
     """
 
     path_angle_deg: float
@@ -194,6 +196,7 @@ class SurfacePrediction:
     noise_sigma_m: float | None = None
     roughness_m: float = 0.0
     unshadowed: dict | None = None
+    shadowing: str = SHADOWING_DEFAULT
 
 
 def _plane_z(model: ArrayModel, u, w):
@@ -875,6 +878,7 @@ def predict_surface(
         noise_sigma_m=getattr(ground, "noise_sigma_m", None),
         roughness_m=job.roughness_m,
         unshadowed=unshadowed,
+        shadowing={True: "hard", False: "none"}.get(visibility, visibility),
     )
 
 

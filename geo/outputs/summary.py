@@ -404,6 +404,17 @@ def surface_dict(result: StudyResult) -> dict:
         "half_sector_below_deg": finite(sp.half_sector_below_deg),
         "half_sector_above_deg": finite(sp.half_sector_above_deg),
         "rdh_m": finite(sp.straight_fit[0] + base - thr),
+        "fitted_path_angle_deg": finite(sp.fitted_angle_deg),
+        "fit_from_m": sp.fit_range_m[0],
+        "fit_to_m": sp.fit_range_m[1],
+        "approach_step_m": float(np.max(np.diff(sp.approach_along_m))) if sp.approach_along_m is not None else None,
+        "shadowing": sp.shadowing,
+        "without_shadowing": {k: finite(v) for k, v in sp.unshadowed.items()} if sp.unshadowed else None,
+        "dem_noise": {
+            "treated_as": sp.noise,
+            "noise_sigma_m": sp.noise_sigma_m,
+            "roughness_removed_rms_m": sp.roughness_m,
+        },
         "converged": sp.converged,
         "structure": [
             {

@@ -85,11 +85,19 @@ def surface_lines(result: StudyResult) -> list[str]:
         if worst
         else "no segment"
     )
-    conv = "converged" if sp.converged.get("converged") else "not converged to 0.002 deg (see summary.json)"
+    conv = sp.converged
+    if not conv:
+        verdict = "convergence not checked"
+    elif conv.get("converged"):
+        verdict = f"converged (facets down to 1/{conv['refine']:g} of the DEM cell)"
+    else:
+        verdict = f"not converged: stopped by {conv['not_converged_because']} (see summary.json)"
+    fitted = sp.fitted_angle_deg
     return [
-        f"Predicted path over the DEM surface (physical optics): angle {sp.path_angle_deg:.4f} deg, half-sectors "
-        f"{sp.half_sector_below_deg:.4f} / {sp.half_sector_above_deg:.4f} deg, RDH {_len(sp.straight_fit[0] + base)}",
-        f"  {bends}; {conv}",
+        f"Predicted path over the DEM surface (physical optics): angle {fitted:.4f} deg fitted 2-10 NM "
+        f"({sp.path_angle_deg:.4f} deg far away), half-sectors {sp.half_sector_below_deg:.4f} / "
+        f"{sp.half_sector_above_deg:.4f} deg, RDH {_len(sp.straight_fit[0] + base)}",
+        f"  {bends}; {verdict}",
     ]
 
 
