@@ -27,6 +27,7 @@ import time
 import numpy as np
 import pytest
 from jacksboro import jacksboro_sheet, site_text
+from tests_support import computed_once
 
 from geo.ground.dem import Dem
 from geo.optics.surface_prediction import ANGLE_TOLERANCE_DEG, DDM_TOLERANCE, predict_surface, surface_far_ddm
@@ -57,6 +58,11 @@ def _study(folder, sheet, site, side="right", mirrored=False):
 
 @pytest.fixture(scope="module")
 def studies(tmp_path_factory):
+    # Computed by one xdist worker of the session and shared with the other (tests_support.computed_once).
+    return computed_once(tmp_path_factory, "jacksboro_surface_studies", lambda: _studies(tmp_path_factory))
+
+
+def _studies(tmp_path_factory):
     folder = tmp_path_factory.mktemp("jacksboro_surface")
     sheet = jacksboro_sheet()
     start = time.perf_counter()
