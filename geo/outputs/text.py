@@ -89,7 +89,12 @@ def surface_lines(result: StudyResult) -> list[str]:
     if not conv:
         verdict = "convergence not checked"
     elif conv.get("converged"):
-        verdict = f"converged (facets down to 1/{conv['refine']:g} of the DEM cell)"
+        finest = conv["refine"]
+        verdict = (
+            "converged at one facet per DEM cell"
+            if finest == 1.0
+            else f"converged (facets down to 1/{finest:g} of the DEM cell)"
+        )
     else:
         verdict = f"not converged: stopped by {conv['not_converged_because']} (see summary.json)"
     fitted = sp.fitted_angle_deg
