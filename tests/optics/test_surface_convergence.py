@@ -155,3 +155,27 @@ def test_a_noisy_plane_gives_image_theory_and_the_fitted_angle(tmp_path, write_s
     assert np.max(d) <= 20.0 + 1e-9 and np.ptp(d) < 1e-6
     assert surface.approach_along_m[0] == pytest.approx(-10 * 1852.0)
     assert all(seg.well_sampled for seg in surface.structure)
+
+
+def test_the_cost_limit_stops_the_refinement_and_says_so(monkeypatch):
+    # The convergence loop (geo.optics.surface_prediction._refined): with tolerances no sampling can
+    # meet (1e-12), every band is refined until the next check would pass the cost limit; the
+    # prediction then says it has not converged, which band and which limit stopped it, and the
+    # study's finding repeats it. Independent of the physics: the loop's own bookkeeping.
+    from geo.study.surface import surface_findings
+
+    model, image, segments = _flat_setup()
+    _, ground = _lattice_heights(0.0, ditch_depth_m=0.5)
+    monkeypatch.setattr(sp, "DDM_TOLERANCE", 1e-12)
+    monkeypatch.setattr(sp, "ANGLE_TOLERANCE_DEG", 1e-12)
+    monkeypatch.setattr(sp, "MAX_REFINE", 2.0)
+    found = sp.predict_surface(model, image, ground, CELL, 3.0, 300.0, 120.0, segments, visibility="none")
+    conv = found.converged
+    assert not conv["converged"]
+    assert "cost limit" in conv["not_converged_because"] and "times finer" in conv["not_converged_because"]
+    # With MAX_REFINE 2 the check at facets halved is made, but no band is taken at that sampling,
+    # since the check that would confirm it (4 times finer) passes the limit.
+    assert all(band["refine"] == 1.0 and len(band["steps"]) == 1 for band in conv["bands"])
+    assert all(band["steps"][0]["refine"] == 2.0 for band in conv["bands"])
+    words = " ".join(f.message for f in surface_findings(found, "I") if f.code == "surface-convergence")
+    assert "cost limit" in words

@@ -286,6 +286,8 @@ def test_the_site_file_can_switch_the_surface_prediction_off(tmp_path):
     off.write_text(text + "\n[prediction]\nsurface = false\n")
     full, quick = run_study(load_site(SITE_FILE)), run_study(load_site(off))
     assert full.surface is not None and quick.surface is None
+    # Issue 19: the shipped demo converges by default (every band's doubling within 0.002 deg / 0.001 DDM).
+    assert full.surface.converged["converged"], full.surface.converged["not_converged_because"]
     assert "prediction.surface = false" in summary_dict(quick)["prediction"]["surface"]["skipped"]
     assert "prediction.surface = false" in summary_text(quick)
     assert quick.rdh_m == full.rdh_m and quick.terrain.heights_m == full.terrain.heights_m
