@@ -50,6 +50,8 @@ __all__ = ["CELL_LIMIT_M", "NOISE_LIMIT_M", "THRESHOLD_SIGMAS", "Denoised", "den
 
 #: Soft threshold in noise standard deviations (3: 99.7 % of Gaussian noise lies within it).
 THRESHOLD_SIGMAS = 3.0
+#: Spacing of the lattice the DEM is read on, in DEM cells.
+LATTICE_CELLS = 0.5
 #: Standard deviation of the Gaussian that makes the smooth part, in DEM cells.
 SMOOTHING_CELLS = 2.0
 #: Largest noise level taken as noise: a detail level above it is the ground's own shape (a coarse
@@ -102,7 +104,7 @@ class Denoised:
     heights : callable
         The wrapped ``heights(u, w) -> Z`` (NaN off the DEM). [m]
     cell_m : float
-        DEM cell: the lattice is half of it, the smoothing ``SMOOTHING_CELLS`` of it. [m]
+        DEM cell: the lattice is ``LATTICE_CELLS`` of it, the smoothing ``SMOOTHING_CELLS`` of it. [m]
     noise_sigma_m : float or None
         The noise level estimated at the first call (kept for every later call, so that every
         grid sees the same surface). [m]
@@ -133,7 +135,7 @@ class Denoised:
         for held, lu, lw, lattice in self._lattices:  # a lattice made for a box that holds these points
             if held[0] <= box[0] and box[1] <= held[1] and held[2] <= box[2] and box[3] <= held[3]:
                 return _bilinear(lu, lw, lattice, u, w)
-        step = self.cell_m / 2.0
+        step = self.cell_m * LATTICE_CELLS
         sigma_steps = SMOOTHING_CELLS * self.cell_m / step
         margin = (math.ceil(3.0 * sigma_steps) + 2) * step
         lu = np.arange(np.min(u) - margin, np.max(u) + margin + step, step)
