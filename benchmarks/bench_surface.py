@@ -8,8 +8,13 @@
 2. The demo study (demo_airfield) with and without the surface prediction, wall and CPU time
    of this process (the machine may be shared: CPU time is the steadier figure).
 
-Prints figures; never fails by timing. Requirement for reference (issue 11): the surface
-prediction adds at most 3 s to the demo on a 2-core machine.
+3. The surface prediction's CPU time by phase on the demo: the first evaluation (every approach
+   sample and the far-field windows), the convergence checks and refinements, the sector without
+   shadowing, and the DDM below the path.
+
+Prints figures; never fails by timing. Requirements for reference: issue 11, the surface
+prediction adds at most 3 s to the demo on a 2-core machine; issue 19, the demo's full run
+(every output, converged) within 7 times the import floor (benchmarks/bench_run.py).
 """
 
 from __future__ import annotations
@@ -96,20 +101,16 @@ def demo_kernel_figures() -> None:
 
 
 def demo_figures() -> None:
+    from dataclasses import replace
+
     import geo.study.site_study as study
-    import geo.study.surface as surface_study
     from geo.site.site_file import load_site
 
     spec = load_site(ROOT / "demo_airfield" / "site.toml")
     study.run_study(spec)  # warm caches (transformers, imports)
     result, wall, cpu = _timed(lambda: study.run_study(spec))
-    keep = surface_study.surface_for_study, surface_study.surface_findings
-    surface_study.surface_for_study = lambda *a, **k: None
-    surface_study.surface_findings = lambda *a, **k: []
-    try:
-        _, wall0, cpu0 = _timed(lambda: study.run_study(spec))
-    finally:
-        surface_study.surface_for_study, surface_study.surface_findings = keep
+    without = replace(spec, prediction=replace(spec.prediction, surface=False))
+    _, wall0, cpu0 = _timed(lambda: study.run_study(without))
     sp = result.surface
     print(
         f"demo study: {wall:.2f} s wall / {cpu:.2f} s CPU with the surface prediction, "
@@ -119,8 +120,52 @@ def demo_figures() -> None:
     print(f"  surface path angle {sp.path_angle_deg:.4f} deg, converged: {sp.converged.get('converged')}")
 
 
+def demo_phase_figures() -> None:
+    """CPU time of each phase of the demo's surface prediction (this process; threads included)."""
+    import geo.optics.surface_prediction as sp
+    import geo.study.site_study as study
+    import geo.study.surface as surface_study
+    from geo.site.site_file import load_site
+
+    spec = load_site(ROOT / "demo_airfield" / "site.toml")
+    study.run_study(spec)  # warm caches
+    phases: dict[str, float] = {}
+    evaluate, far_ddm = sp._evaluate, surface_study.surface_far_ddm
+    calls = {"n": 0}
+
+    def timed_evaluate(job, index, refine=1.0, zone_factor=sp.ZONE_FACTOR, visibility=None):
+        t = time.process_time()
+        out = evaluate(job, index, refine, zone_factor, visibility)
+        name = "first evaluation (every receiver)" if calls["n"] == 0 else "checks and refinements"
+        if visibility is False:
+            name = "sector without shadowing"
+        calls["n"] += 1
+        phases[name] = phases.get(name, 0.0) + time.process_time() - t
+        return out
+
+    def timed_far(*args, **kwargs):
+        t = time.process_time()
+        out = far_ddm(*args, **kwargs)
+        phases["DDM below the path"] = time.process_time() - t
+        return out
+
+    sp._evaluate, surface_study.surface_far_ddm = timed_evaluate, timed_far
+    try:
+        t = time.process_time()
+        result = study.run_study(spec)
+        total = time.process_time() - t
+    finally:
+        sp._evaluate, surface_study.surface_far_ddm = evaluate, far_ddm
+    conv = result.surface.converged
+    print(f"demo study CPU {total:.2f} s; surface prediction by phase (CPU):")
+    for name, value in phases.items():
+        print(f"  {name}: {value:.2f} s")
+    print(f"  converged {conv['converged']}, finest sampling 1/{conv['refine']:g} of the DEM cell")
+
+
 if __name__ == "__main__":
     os.environ.setdefault("OMP_NUM_THREADS", "1")
     kernel_figures()
     demo_kernel_figures()
     demo_figures()
+    demo_phase_figures()

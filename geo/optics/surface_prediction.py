@@ -101,7 +101,7 @@ _WINDOW = 0.06
 _WINDOW_POINTS = 9
 #: Path points (beyond 1 NM) recomputed for the convergence check.
 _CHECK_PATH_POINTS = 6
-#: Convergence tolerances: those of the flat-plane check of issue 11 (0.002 deg; 1 % of 0.0875 DDM).
+#: Convergence tolerances: a doubling moves the angles by less than 0.002 deg and the DDM by less than 0.001.
 ANGLE_TOLERANCE_DEG = 0.002
 DDM_TOLERANCE = 0.001
 #: The zones are scaled by this to make the integration area (see geo.optics.surface_facets).
