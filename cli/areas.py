@@ -7,10 +7,10 @@ from pathlib import Path
 
 import click
 
-from cli.common import out_option, overwrite_option, plots_option, quiet_option, reports_errors
+from cli.common import EXIT_CODES_TEXT, out_option, overwrite_option, plots_option, quiet_option, reports_errors
 
 
-@click.command("areas")
+@click.command("areas", epilog=EXIT_CODES_TEXT)
 @click.argument("site", type=click.Path(dir_okay=False, path_type=Path))
 @out_option
 @overwrite_option
@@ -28,10 +28,13 @@ def areas(site: Path, out_dir: str, overwrite: bool, plots: bool, quiet: bool) -
     """
     from geo.optics.areas import AREAS_CAUTION, derive_areas
     from geo.outputs.areas_out import write_areas
+    from geo.outputs.write import check_target
     from geo.site.site_file import load_site
     from geo.study.site_study import run_study
 
-    result = run_study(load_site(site))
+    spec = load_site(site)
+    check_target(out_dir, overwrite, [Path(spec.source)] if spec.source else [])
+    result = run_study(spec)
     if sys.stderr.isatty() and not quiet:
         with click.progressbar(length=1, label="Object positions", file=sys.stderr) as bar:
             state = {"done": 0}

@@ -8,6 +8,7 @@ from pathlib import Path
 import click
 
 from cli.common import (
+    EXIT_CODES_TEXT,
     EXIT_FAILED,
     check_fail_on,
     fail_on_option,
@@ -18,7 +19,7 @@ from cli.common import (
 )
 
 
-@click.command("batch")
+@click.command("batch", epilog=EXIT_CODES_TEXT)
 @click.argument("sites", nargs=-1, required=True, type=click.Path(dir_okay=False, path_type=Path))
 @click.option(
     "--out",
@@ -49,9 +50,11 @@ def batch(
     Example: mastplan batch sites/*.toml runways.csv --out batch/ -j 2
     """
     from geo.outputs.batch_out import write_batch
+    from geo.outputs.write import check_target
     from geo.site.batch import jobs_from_paths
 
     job_list = jobs_from_paths(sites)  # every input checked before anything is written
+    check_target(out_dir, overwrite, list(sites))
     with progress_bar("Studying sites", quiet, total=len(job_list)) as progress:
         folder, records = write_batch(
             job_list, out_dir, overwrite, plots=plots, workers=jobs, inputs=list(sites), progress=progress

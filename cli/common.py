@@ -1,8 +1,10 @@
 """What every command shares: options, error reporting, exit codes.
 
-Exit codes: 0 done; 1 something failed that is not the user's input;
-2 bad input (site file, options, output folder), with a one-line message
-naming the field and the fix, and no traceback.
+Exit codes (:data:`EXIT_CODES_TEXT`, shown by every command's ``--help`` and in README.md):
+0 done; 1 the study ran and its results failed the stated gate (``--fail-on``, failed sites of a
+batch); 2 bad input (site file, options, output folder), with a one-line message naming the field
+and the fix, and no traceback; 3 an internal error (a bug); 130, 143 and 141 for a run stopped by
+Ctrl-C, by SIGTERM, or by a reader that went away.
 """
 
 from __future__ import annotations
@@ -14,10 +16,35 @@ import sys
 
 import click
 
+EXIT_DONE = 0
+#: The study ran and its results failed the gate the user set (``--fail-on``; a batch's failed sites).
 EXIT_FAILED = 1
 EXIT_BAD_INPUT = 2
+#: A bug in mastplan: neither the input nor the results.
+EXIT_INTERNAL = 3
+#: Interrupted (Ctrl-C, 128 + SIGINT) and terminated (128 + SIGTERM).
+EXIT_INTERRUPTED = 130
+EXIT_TERMINATED = 143
 #: The reader of standard output went away (128 + SIGPIPE, as shells report it).
 EXIT_BROKEN_PIPE = 141
+
+#: The exit codes, for every command's ``--help`` (click's ``epilog``; ``\b`` keeps the lines as they are).
+EXIT_CODES_TEXT = (
+    "\b\nExit codes:\n"
+    f"  {EXIT_DONE}    done\n"
+    f"  {EXIT_FAILED}    the results failed the gate: --fail-on, or failed sites of a batch\n"
+    f"  {EXIT_BAD_INPUT}    bad input: site file, option or output folder (one line names it and the fix)\n"
+    f"  {EXIT_INTERNAL}    internal error, a bug in mastplan (MASTPLAN_DEBUG=1 shows the traceback)\n"
+    f"  {EXIT_INTERRUPTED}  interrupted (Ctrl-C); the earlier results are untouched\n"
+    f"  {EXIT_BROKEN_PIPE}  the reader of the output went away (| head)\n"
+    f"  {EXIT_TERMINATED}  terminated (SIGTERM); the earlier results are untouched"
+)
+
+
+def bad_option(option: str, fix: str) -> None:
+    """Stop at a bad command-line option: one line naming it and the fix, exit code 2."""
+    fail(f"error: {option}: {fix}", EXIT_BAD_INPUT)
+
 
 out_option = click.option(
     "--out",
@@ -142,22 +169,22 @@ def reports_errors(func):
             return func(*args, **kwargs)
         except (SiteFileError, OutputError, TerrainError) as exc:
             fail(f"error: {exc}", EXIT_BAD_INPUT)
-        except MastplanError as exc:
-            fail(f"error: {exc}", EXIT_FAILED)
+        except MastplanError as exc:  # every kind has its class above; a new one is a bug until it does
+            fail(f"internal error: {exc}", EXIT_INTERNAL)
         except BrokenPipeError:  # the reader went away (`| head`): stop quietly, as a shell tool does
             devnull = os.open(os.devnull, os.O_WRONLY)
             os.dup2(devnull, sys.stdout.fileno())  # so that the final flush at exit does not fail again
             sys.exit(EXIT_BROKEN_PIPE)
         except KeyboardInterrupt:
-            fail("interrupted; earlier results are untouched", 130)
+            fail("interrupted; earlier results are untouched", EXIT_INTERRUPTED)
         except _Terminated:
-            fail("terminated; earlier results are untouched", 143)
+            fail("terminated; earlier results are untouched", EXIT_TERMINATED)
         except Exception as exc:  # a bug: say so in one line, traceback on request
             if os.environ.get("MASTPLAN_DEBUG"):
                 raise
             fail(
                 f"internal error: {type(exc).__name__}: {exc} (set MASTPLAN_DEBUG=1 for the traceback)",
-                EXIT_FAILED,
+                EXIT_INTERNAL,
             )
 
     return wrapper

@@ -4,11 +4,11 @@ from __future__ import annotations
 
 import click
 
-from cli.common import overwrite_option, plots_option, quiet_option, reports_errors
+from cli.common import EXIT_CODES_TEXT, overwrite_option, plots_option, quiet_option, reports_errors
 from cli.run import run_site
 
 
-@click.command("demo")
+@click.command("demo", epilog=EXIT_CODES_TEXT)
 @click.option(
     "--out",
     "out_dir",

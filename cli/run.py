@@ -5,8 +5,11 @@ from __future__ import annotations
 from pathlib import Path
 
 import click
+from click.core import ParameterSource
 
 from cli.common import (
+    EXIT_CODES_TEXT,
+    bad_option,
     check_fail_on,
     fail_on_option,
     out_option,
@@ -29,12 +32,20 @@ def run_site(
 ) -> None:
     """Load, study, write and report one site (shared by ``run`` and ``demo``)."""
     from geo.outputs.text import summary_text
-    from geo.outputs.write import OUTPUTS, check_outputs, remove_partials, write_early, write_study
+    from geo.outputs.write import (
+        OUTPUTS,
+        check_outputs,
+        check_target,
+        remove_partials,
+        write_early,
+        write_study,
+    )
     from geo.site.site_file import load_site
     from geo.study.site_study import run_study
 
-    chosen = check_outputs(outputs.split(",")) if outputs else OUTPUTS
+    chosen = check_outputs(outputs.split(",")) if outputs is not None else OUTPUTS
     spec = load_site(site_path)
+    check_target(out_dir, overwrite, [Path(spec.source)] if spec.source else [])  # before the study, not after
     early, staged = [], []
     try:
         with _background(chosen, plots) as background:
@@ -86,7 +97,7 @@ def _background(chosen, plots: bool):
     return BackgroundWriter(slow) if slow else contextlib.nullcontext(None)
 
 
-@click.command("run")
+@click.command("run", epilog=EXIT_CODES_TEXT)
 @click.argument("site", type=click.Path(dir_okay=False, path_type=Path))
 @out_option
 @overwrite_option
@@ -100,4 +111,7 @@ def run(site: Path, out_dir: str, overwrite: bool, plots: bool, outputs: str, fa
 
     Example: mastplan run site.toml --out results/ --fail-on fail
     """
+    given = click.get_current_context().get_parameter_source("outputs") is not ParameterSource.DEFAULT
+    if given and not plots and "plots" in [name.strip() for name in outputs.split(",")]:
+        bad_option("--outputs", "plots is named and --no-plots drops it; leave out one of the two")
     run_site(site, out_dir, overwrite, quiet, plots, outputs, fail_on)

@@ -7,6 +7,7 @@ from pathlib import Path
 import click
 
 from cli.common import (
+    EXIT_CODES_TEXT,
     EXIT_FAILED,
     check_fail_on,
     fail,
@@ -31,13 +32,27 @@ def _range(values, name: str, unit: str) -> tuple[float, ...]:
     from geo.units import format_number, from_unit
 
     start, stop, step = values
-    if not (step > 0 and stop >= start):
+    if not (step > 0 and stop >= start > 0):
         shown = " ".join(format_number(v, 1) for v in values)
-        raise SiteFileError(name, f"give FROM TO STEP in {unit} with TO >= FROM and STEP > 0 (got {shown})")
+        raise SiteFileError(name, f"give FROM TO STEP in {unit} with FROM > 0, TO >= FROM and STEP > 0 (got {shown})")
     count = int((stop - start) / step + 1e-9) + 1
     if count > 5000:
         raise SiteFileError(name, f"{count:,} values; use a larger STEP (at most 5,000 values)")
     return tuple(from_unit(start + i * step, unit) for i in range(count))
+
+
+def _band(values, unit: str) -> tuple[float, float]:
+    """``--rdh-band LOW HIGH`` in the site file's unit -> metres (raises SiteFileError naming the option)."""
+    from geo.errors import SiteFileError
+    from geo.units import format_number, from_unit
+
+    low, high = values
+    if not 0 < low < high:
+        shown = " ".join(format_number(v, 1) for v in values)
+        raise SiteFileError(
+            "--rdh-band", f"give LOW HIGH in {unit} with 0 < LOW < HIGH, the lower bound first (got {shown})"
+        )
+    return from_unit(low, unit), from_unit(high, unit)
 
 
 def _surveyed_side(spec) -> str:
@@ -50,7 +65,7 @@ def _surveyed_side(spec) -> str:
     return "right" if cross > 0 else "left"
 
 
-@click.command("sweep")
+@click.command("sweep", epilog=EXIT_CODES_TEXT)
 @click.argument("site", type=click.Path(dir_okay=False, path_type=Path))
 @out_option
 @click.option(
@@ -136,7 +151,7 @@ def sweep(
     """
     from geo.errors import SiteFileError
     from geo.outputs.sweep_out import SCORE_TEXT, sweep_text
-    from geo.outputs.write import write_sweep
+    from geo.outputs.write import check_target, write_sweep
     from geo.site.site_file import load_site
     from geo.study.findings import rdh_band_m
     from geo.study.site_study import run_study
@@ -144,9 +159,9 @@ def sweep(
     from geo.study.sweep import SweepOptions, best_site, run_sweep
     from geo.study.sweep_choice import RANK_TEXT, add_ranks
     from geo.study.sweep_surface import SURFACE_RANK_TEXT, rejudge_over_surface, surface_skip_reason
-    from geo.units import from_unit
 
     spec = load_site(site)
+    check_target(out_dir, overwrite, [Path(spec.source)] if spec.source else [])
     unit = spec.units
     if solve_setback and setback:
         raise SiteFileError("--setback", "give either --setback or --solve-setback, not both")
@@ -154,8 +169,7 @@ def sweep(
     offsets = _range(offset or DEFAULT_OFFSETS[unit], "--offset", unit)
     if side is None:
         side = spec.mast.side or _surveyed_side(spec)
-    low, high, _, _ = rdh_band_m(spec.category, spec.runway_code)
-    band = (from_unit(rdh_band[0], unit), from_unit(rdh_band[1], unit)) if rdh_band else (low, high)
+    band = _band(rdh_band, unit) if rdh_band else rdh_band_m(spec.category, spec.runway_code)[:2]
     options = SweepOptions(
         setbacks,
         offsets,

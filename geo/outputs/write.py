@@ -11,6 +11,7 @@ import glob
 import json
 import os
 import shutil
+import sys
 import tempfile
 from collections.abc import Callable
 from dataclasses import dataclass
@@ -19,7 +20,15 @@ from pathlib import Path
 from geo.errors import OutputError
 from geo.study.site_study import StudyResult
 
-__all__ = ["write_study", "write_early", "EarlyWrites", "write_json", "atomic_folder", "remove_partials"]
+__all__ = [
+    "write_study",
+    "write_early",
+    "EarlyWrites",
+    "write_json",
+    "atomic_folder",
+    "check_target",
+    "remove_partials",
+]
 
 Writer = Callable[[StudyResult, Path], None]
 
@@ -41,9 +50,10 @@ def check_outputs(names) -> tuple[str, ...]:
     """Validate a selection of outputs (raises OutputError naming the allowed ones)."""
     names = tuple(dict.fromkeys(n.strip() for n in names if n.strip()))
     unknown = [n for n in names if n not in OUTPUTS]
-    if unknown or not names:
-        what = ", ".join(unknown) or "nothing"
-        raise OutputError(f"--outputs: {what} is not an output; choose from {', '.join(OUTPUTS)}")
+    if not names:
+        raise OutputError(f"--outputs: empty, so nothing would be written; name one or more of {', '.join(OUTPUTS)}")
+    if unknown:
+        raise OutputError(f"--outputs: {', '.join(unknown)} is not an output; choose from {', '.join(OUTPUTS)}")
     return names
 
 
@@ -92,7 +102,7 @@ def write_early(
         out.parent.mkdir(parents=True, exist_ok=True)
         staged.append(Path(tempfile.mkdtemp(prefix=f".{out.name}.partial-{os.getpid()}-", dir=out.parent)))
     except OSError as exc:
-        raise OutputError(f"--out: cannot create {out} ({exc.strerror or exc})") from None
+        raise _cannot(out, "create", exc) from None
     staging = staged[-1]
     if "plots" in early:
         from geo.outputs.plots import write_plots
@@ -215,26 +225,121 @@ def _fill_here(result: StudyResult, folder: Path, chosen: set, layers: dict | No
 
 
 def _clean_stale(parent: Path, name: str) -> None:
-    """Remove temporary folders left by runs that were killed outright (their process is gone)."""
-    for tmp in parent.glob(f".{name}.partial-*"):
+    """Remove the temporary folders of earlier runs that ended without cleaning up (their process is gone).
+
+    Both kinds mastplan makes beside ``name``: ``.NAME.partial-PID-*`` (results being written) and
+    ``.NAME.old-PID-*`` (earlier results being replaced). A run killed between its two renames left
+    the earlier results in its ``.old-`` folder and none at ``name``: they are put back first. A
+    folder of a process still running is left alone; an ``.old-`` folder without a process number
+    (older versions of mastplan) is always settled.
+    """
+    for kind in ("partial", "old"):
+        prefix = f".{name}.{kind}-"
+        for tmp in parent.glob(f"{glob.escape(prefix)}*"):
+            pid_text = tmp.name[len(prefix) :].split("-", 1)[0]
+            if pid_text.isdigit():
+                if int(pid_text) == os.getpid() or _running(int(pid_text)):
+                    continue
+            elif kind == "partial":
+                continue
+            if kind == "old":
+                _settle_old(tmp, parent / name)
+            else:
+                _remove_tree(tmp)
+
+
+def _settle_earlier_runs(out: Path) -> None:
+    """:func:`_clean_stale` beside ``out`` when its folder exists, before ``out`` is checked."""
+    try:
+        if out.parent.is_dir():
+            _clean_stale(out.parent, out.name)
+    except OSError as exc:
+        raise _cannot(out, "read", exc) from None
+
+
+def _running(pid: int) -> bool:
+    """Whether a process ``pid`` exists (one of another user counts as running)."""
+    try:
+        os.kill(pid, 0)
+    except ProcessLookupError:
+        return False
+    except PermissionError:
+        return True
+    return True
+
+
+def _settle_old(old: Path, out: Path) -> None:
+    """Remove a folder of replaced results; when ``out`` is missing, its earlier results go back first."""
+    kept = old / out.name
+    if kept.is_dir() and not os.path.lexists(out):
         try:
-            pid = int(tmp.name.rsplit("-", 2)[-2])
-        except (ValueError, IndexError):
-            continue
-        if pid == os.getpid():
-            continue
-        try:
-            os.kill(pid, 0)
-        except ProcessLookupError:
-            shutil.rmtree(tmp, ignore_errors=True)
-        except PermissionError:
-            pass
+            os.rename(kept, out)
+        except OSError:
+            return  # the earlier results stay where they are rather than be lost
+    _remove_tree(old)
+
+
+def _remove_tree(folder: Path) -> None:
+    """Remove a folder of mastplan's own, also files in read-only subfolders of it."""
+
+    def make_writable(function, path, error):
+        if isinstance(error, tuple):  # onerror's (type, value, traceback) before Python 3.12
+            error = error[1]
+        if isinstance(error, PermissionError):
+            try:
+                os.chmod(os.path.dirname(path), 0o700)
+                function(path)
+            except OSError:
+                pass
+
+    handler = "onexc" if sys.version_info >= (3, 12) else "onerror"
+    shutil.rmtree(folder, **{handler: make_writable})
+    if folder.exists():
+        shutil.rmtree(folder, ignore_errors=True)
+
+
+def _cannot(out: Path, what: str, exc: OSError) -> OutputError:
+    """The one-line error of an output folder the system refuses, with the fix."""
+    reason = exc.strerror or type(exc).__name__
+    return OutputError(
+        f"--out: cannot {what} {out} ({reason}); give a folder you can write to, or change the permissions"
+    )
+
+
+def check_target(out_dir: str | Path, overwrite: bool, inputs=()) -> None:
+    """Check that ``out_dir`` can take the results, before any work (raises OutputError).
+
+    Parameters
+    ----------
+    out_dir : str or Path
+    overwrite : bool
+        A non-empty folder may be replaced.
+    inputs : sequence of Path
+        Input files that must survive.
+    """
+    out = Path(out_dir).absolute()
+    _settle_earlier_runs(out)
+    _check_target(out, overwrite, list(inputs))
+    nearest = out.parent
+    while not nearest.exists() and nearest != nearest.parent:
+        nearest = nearest.parent
+    denied = PermissionError(13, "Permission denied")
+    if not os.access(nearest, os.W_OK | os.X_OK):
+        raise _cannot(out, "write in", denied)
+    if out.is_dir() and not os.access(out, os.W_OK):  # moving it aside needs write permission on it
+        raise _cannot(out, "replace", denied)
 
 
 def _check_target(out: Path, overwrite: bool, inputs: list[Path]) -> None:
-    if out.exists() and not out.is_dir():
-        raise OutputError(f"--out: {out} is a file; name a folder")
-    if out.is_dir() and any(out.iterdir()):
+    try:
+        if out.exists() and not out.is_dir():
+            raise OutputError(f"--out: {out} is a file; name a folder")
+        full = out.is_dir() and any(out.iterdir())
+    except OSError as exc:
+        if isinstance(exc, OutputError):
+            raise
+        raise _cannot(out, "read", exc) from None
+    if full:
         if not overwrite:
             raise OutputError(f"--out: {out} is not empty; add --overwrite to replace it, or name a new folder")
         for path in inputs:
@@ -245,12 +350,17 @@ def _check_target(out: Path, overwrite: bool, inputs: list[Path]) -> None:
 def remove_partials(out_dir: str | Path) -> None:
     """Remove the temporary folders this process made beside ``out_dir`` (named for it and the process).
 
+    A folder of earlier results this process was replacing goes back to ``out_dir`` when the
+    new results did not get there.
+
     Found by name, not from a list: a signal that lands between a folder's creation and the line
     that would note it cannot leave the folder behind.
     """
     out = Path(out_dir).absolute()
     for tmp in out.parent.glob(f".{glob.escape(out.name)}.partial-{os.getpid()}-*"):
-        shutil.rmtree(tmp, ignore_errors=True)
+        _remove_tree(tmp)
+    for old in out.parent.glob(f".{glob.escape(out.name)}.old-{os.getpid()}-*"):
+        _settle_old(old, out)
 
 
 def atomic_folder(
@@ -278,31 +388,39 @@ def atomic_folder(
         The output folder.
     """
     out = Path(out_dir).absolute()
-    _check_target(out, overwrite, list(inputs))
     parent = out.parent
+    _settle_earlier_runs(out)
+    _check_target(out, overwrite, list(inputs))
     try:
         parent.mkdir(parents=True, exist_ok=True)
-        _clean_stale(parent, out.name)
     except OSError as exc:
-        raise OutputError(f"--out: cannot create {out} ({exc.strerror or exc})") from None
+        raise _cannot(out, "create", exc) from None
     try:
         try:
             tmp = Path(tempfile.mkdtemp(prefix=f".{out.name}.partial-{os.getpid()}-", dir=parent))
         except OSError as exc:
-            raise OutputError(f"--out: cannot create {out} ({exc.strerror or exc})") from None
+            raise _cannot(out, "create", exc) from None
         os.chmod(tmp, 0o755)
         fill(tmp)
-        if out.exists():
-            old = Path(tempfile.mkdtemp(prefix=f".{out.name}.old-", dir=parent))
-            os.rename(out, old / out.name)
-            os.rename(tmp, out)
-            shutil.rmtree(old, ignore_errors=True)
-        else:
-            os.rename(tmp, out)
+        _swap(tmp, out)
     except BaseException:
         remove_partials(out)  # this one, and any a signal left unnoted (the staging of write_early)
         raise
     return out
+
+
+def _swap(tmp: Path, out: Path) -> None:
+    """Move the filled folder ``tmp`` to ``out``, the earlier results out of the way first."""
+    try:
+        if not out.exists():
+            os.rename(tmp, out)
+            return
+        old = Path(tempfile.mkdtemp(prefix=f".{out.name}.old-{os.getpid()}-", dir=out.parent))
+        os.rename(out, old / out.name)
+        os.rename(tmp, out)
+    except OSError as exc:
+        raise _cannot(out, "replace" if os.path.lexists(out) else "create", exc) from None
+    _remove_tree(old)
 
 
 def write_study(

@@ -731,7 +731,7 @@ def _terrain(table, scale: float, units: str, base_dir: Path) -> TerrainSpec:
     if vertical_unit is not None and not _is_choice(vertical_unit, LENGTH_UNITS):
         raise SiteFileError("terrain.vertical_unit", f'must be "m" or "ft" (got {_show(vertical_unit)})')
     clearance = _number(
-        table, "terrain", "min_clearance", scale, required=False, at_least=-1000.0, at_most=1000.0, unit=units
+        table, "terrain", "min_clearance", scale, required=False, at_least=0.0, at_most=1000.0, unit=units
     )
     return TerrainSpec(paths[0], offset, vertical_unit, clearance if clearance is not None else 0.0, paths, dem_datum)
 

@@ -39,7 +39,7 @@ def test_a_failing_surface_prediction_leaves_no_folder_behind(tmp_path, monkeypa
 
     monkeypatch.setattr(geo.study.surface, "surface_for_study", broken)
     res = CliRunner().invoke(main, ["run", str(SITE_FILE), "--out", str(tmp_path / "run")])
-    assert res.exit_code == 1 and "surface prediction failed" in res.output
+    assert res.exit_code == 3 and "internal error: RuntimeError: surface prediction failed" in res.output
     assert list(tmp_path.iterdir()) == []
 
 

@@ -75,6 +75,19 @@ def test_bad_input_names_the_field_and_the_fix(write_site, site_text, old, new, 
     assert "\n" not in message and message.startswith(str(path))
 
 
+@pytest.mark.parametrize("value", ["-10", "-0.5"])
+def test_a_negative_terrain_clearance_is_refused(write_site, site_text, value):
+    # A path below the terrain is never acceptable: the smallest clearance is 0.
+    from tests_support import DEMO_SITE
+
+    dem = (DEMO_SITE.parent / "dem.tif").as_posix()
+    path = write_site(site_text + f'[terrain]\ndem = "{dem}"\nmin_clearance = {value}\n')
+    with pytest.raises(SiteFileError) as info:
+        load_site(path)
+    assert info.value.field == "terrain.min_clearance" and "at least 0" in str(info.value)
+    assert load_site(write_site(site_text + f'[terrain]\ndem = "{dem}"\nmin_clearance = 0\n')).terrain
+
+
 def test_broken_toml_and_missing_file(write_site, tmp_path):
     with pytest.raises(SiteFileError, match="not valid TOML"):
         load_site(write_site("units = \n"))
