@@ -20,6 +20,7 @@ import math
 import numpy as np
 
 from geo.errors import SiteFileError, TerrainError
+from geo.site.named_errors import naming_site_file
 from geo.study.dem_causes import HeightKeys, likely_cause
 from geo.study.findings import (
     DEM_MISMATCH_STOP_M,
@@ -30,7 +31,7 @@ from geo.study.findings import (
 )
 from geo.units import format_length
 
-__all__ = ["check_dem_covers_site", "height_keys", "dem_extent_in_errors"]
+__all__ = ["check_dem_covers_site", "check_dem_before_solve", "height_keys", "dem_extent_in_errors"]
 
 
 def check_dem_covers_site(
@@ -129,6 +130,28 @@ def height_keys(dem, terrain, unit: str, frame) -> HeightKeys:
         shift_m,
         conversion.undulation_m,
     )
+
+
+@naming_site_file
+def check_dem_before_solve(spec, frame) -> None:
+    """The DEM's coverage and agreement at the threshold, before a setback is solved (the sweep's solve).
+
+    Parameters
+    ----------
+    spec : geo.site.site_file.SiteSpec
+        With a DEM (``spec.terrain``).
+    frame : geo.airfield.frame.RunwayFrame
+
+    Raises
+    ------
+    TerrainError, SiteFileError
+        As :func:`check_dem_covers_site` with ``solving``, the site file's name in front.
+    """
+    from geo.ground.dem import Dem
+
+    with Dem.open(spec.terrain) as dem:
+        keys = height_keys(dem, spec.terrain, spec.units, frame)
+        check_dem_covers_site(dem, frame, spec.threshold.elevation_m, [], keys, solving=True)
 
 
 @contextlib.contextmanager

@@ -198,3 +198,19 @@ def test_datum_stop_on_the_command_line_is_one_line_with_exit_2(tmp_path):
     assert run.exit_code == 2 and "Traceback" not in run.output and not out.exists()
     lines = [line for line in run.output.splitlines() if line.strip()]
     assert len(lines) == 1 and "runway.geoid_undulation" in lines[0]
+
+
+def test_datum_sign_stops_the_sweeps_setback_solve_too(tmp_path):
+    from geo.study.solved_setbacks import solve_setbacks
+    from geo.study.sweep import SweepOptions
+
+    path = _site(
+        tmp_path,
+        _survey_ellipsoidal(N_EGM96_M),
+        runway_extra=f'vertical_datum = "WGS84"\ngeoid_undulation = {-N_EGM96_M!r}\n',
+        terrain_extra='vertical_datum = "EGM96"\n',
+    )
+    with pytest.raises(SiteFileError) as info:
+        solve_setbacks(load_site(path), SweepOptions((250.0, 310.0), (100.0, 150.0), sides=("right",)))
+    assert info.value.field == "runway.geoid_undulation" and str(info.value).startswith(f"{path}: ")
+    assert _difference_m(str(info.value)) == pytest.approx(-2.0 * N_EGM96_M, abs=DEM_NOISE_M)
