@@ -7,7 +7,9 @@
   elevation: more than a few metres apart is one finding, shown first, that
   names the likely cause (:func:`geo.study.findings.check_dem_threshold`); more than
   :data:`geo.study.findings.DEM_MISMATCH_STOP_M` stops the study, since no height
-  of it could be right.
+  of it could be right; so does more than a few metres when the setback is to be
+  solved for the target RDH, before the solve, with the field that looks wrong
+  (:mod:`geo.study.dem_causes`).
 """
 
 from __future__ import annotations
@@ -17,14 +19,29 @@ import math
 
 import numpy as np
 
-from geo.errors import TerrainError
-from geo.study.findings import DEM_MISMATCH_STOP_M, Finding, check_dem_threshold
+from geo.errors import SiteFileError, TerrainError
+from geo.site.named_errors import naming_site_file
+from geo.study.dem_causes import HeightKeys, likely_cause
+from geo.study.findings import (
+    DEM_MISMATCH_STOP_M,
+    DEM_MISMATCH_WARN_M,
+    Finding,
+    check_dem_threshold,
+    dem_threshold_difference,
+)
+from geo.units import format_length
 
-__all__ = ["check_dem_covers_site", "dem_extent_in_errors"]
+__all__ = ["check_dem_covers_site", "check_dem_before_solve", "height_keys", "dem_extent_in_errors"]
 
 
-def check_dem_covers_site(dem, frame, survey_threshold_m: float, mast_points) -> tuple[Finding | None, float]:
+def check_dem_covers_site(
+    dem, frame, survey_threshold_m: float, mast_points, keys: HeightKeys | None = None, solving: bool = False
+) -> tuple[Finding | None, float]:
     """The DEM at the threshold and the mast: coverage and agreement with the survey.
+
+    Run before any solve: a setback solved for ``glide_path.target_rdh`` on a DEM tens of metres
+    off the survey lands anywhere (before the threshold, past the end), and its error would hide
+    the key that is wrong.
 
     Parameters
     ----------
@@ -34,6 +51,11 @@ def check_dem_covers_site(dem, frame, survey_threshold_m: float, mast_points) ->
         Surveyed threshold elevation. [m]
     mast_points : list of (along_m, cross_m)
         Where the mast stands in the runway frame (empty when the setback is still to be solved). [m]
+    keys : HeightKeys, optional
+        The site file's keys for the DEM's heights (:func:`height_keys`), for naming the wrong one.
+    solving : bool
+        The setback is to be solved for the target RDH: a disagreement beyond
+        :data:`geo.study.findings.DEM_MISMATCH_WARN_M` stops the study instead of a warning.
 
     Returns
     -------
@@ -47,6 +69,8 @@ def check_dem_covers_site(dem, frame, survey_threshold_m: float, mast_points) ->
     TerrainError
         When the threshold or the mast is off the DEM (naming its extent and CRS), or when the DEM
         and the survey disagree by more than 100 m at the threshold.
+    SiteFileError
+        When solving and they disagree by more than 5 m: the field that looks wrong, and its fix.
     """
     for along, cross in mast_points:
         if not math.isfinite(float(dem.sample_frame(frame, np.array([along]), np.array([cross]))[0])):
@@ -62,10 +86,72 @@ def check_dem_covers_site(dem, frame, survey_threshold_m: float, mast_points) ->
             f"terrain.dem: the threshold at lat {lat:.6f}, lon {lon:.6f} is off the DEM or on nodata; "
             f"the DEM covers {dem.extent_text()}; give a DEM that covers the runway"
         )
-    finding = check_dem_threshold(z, survey_threshold_m)
+    finding = check_dem_threshold(z, survey_threshold_m, keys)
     if finding is not None and abs(z - survey_threshold_m) > DEM_MISMATCH_STOP_M:
         raise TerrainError(f"terrain.dem: {finding.message} No results written: the difference exceeds 100 m.")
+    if finding is not None and solving:
+        field_name, cause = likely_cause(z, survey_threshold_m, keys)
+        unit = keys.unit if keys is not None else "m"
+        raise SiteFileError(
+            field_name,
+            f"{dem_threshold_difference(z, survey_threshold_m, unit)} (more than "
+            f"{format_length(DEM_MISMATCH_WARN_M, unit, 0)}): {cause}. No results written: the setback for "
+            "glide_path.target_rdh is not solved on a DEM this far from the survey.",
+        )
     return finding, z
+
+
+def height_keys(dem, terrain, unit: str, frame) -> HeightKeys:
+    """The site file's keys for the DEM's heights, with the datum shift the DEM applies at the threshold.
+
+    Parameters
+    ----------
+    dem : geo.ground.dem.Dem
+    terrain : geo.site.site_file.TerrainSpec
+    unit : {"m", "ft"}
+        The site file's length unit.
+    frame : geo.airfield.frame.RunwayFrame
+
+    Returns
+    -------
+    HeightKeys
+    """
+    conversion = dem.conversion
+    shift_m = 0.0
+    if conversion.applied:
+        lat, lon = frame.to_geographic(0.0, 0.0)
+        shift_m = dem.datum_shift_at(lat, lon)
+    return HeightKeys(
+        unit,
+        terrain.vertical_offset_m,
+        terrain.vertical_datum,
+        terrain.survey_vertical_datum,
+        conversion.method,
+        shift_m,
+        conversion.undulation_m,
+    )
+
+
+@naming_site_file
+def check_dem_before_solve(spec, frame) -> None:
+    """The DEM's coverage and agreement at the threshold, before a setback is solved (the sweep's solve).
+
+    Parameters
+    ----------
+    spec : geo.site.site_file.SiteSpec
+        With a DEM (``spec.terrain``).
+    frame : geo.airfield.frame.RunwayFrame
+
+    Raises
+    ------
+    TerrainError, SiteFileError
+        As :func:`check_dem_covers_site` with ``solving``, the site file's name in front.
+    """
+    from geo.ground.dem import Dem
+
+    with Dem.open(spec.terrain) as dem:
+        keys = height_keys(dem, spec.terrain, spec.units, frame)
+        check_dem_covers_site(dem, frame, spec.threshold.elevation_m, [], keys, solving=True)
 
 
 @contextlib.contextmanager

@@ -24,6 +24,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
+from geo.study.dem_causes import HeightKeys, likely_cause
 from geo.units import M_PER_FT, format_area, format_length, format_number, to_unit
 
 __all__ = [
@@ -38,6 +39,9 @@ __all__ = [
     "check_channel",
     "check_gpip",
     "check_base_elevation",
+    "check_dem_threshold",
+    "check_datum_keys",
+    "dem_threshold_difference",
     "check_roughness",
     "check_clearance",
     "check_zone_cover",
@@ -451,19 +455,17 @@ def check_length_unit(setback_m: float, offset_m: float, unit: str) -> Finding |
 DEM_MISMATCH_WARN_M = 5.0
 #: Further apart than this: the study stops (no result could be right). [m]
 DEM_MISMATCH_STOP_M = 100.0
-#: Geoid undulations over most land lie within these magnitudes (EGM96: about -107 to +86 m
-#: worldwide; 15-40 m is the band issue 10 names for a geoid read as the ellipsoid; memory). [m]
-_GEOID_BAND_M = (15.0, 40.0)
 
 
-def check_dem_threshold(dem_m: float, survey_m: float) -> Finding | None:
+def check_dem_threshold(dem_m: float, survey_m: float, keys: HeightKeys | None = None) -> Finding | None:
     """The DEM at the threshold against the surveyed threshold elevation, with the likely cause.
 
     A DEM that disagrees with the survey by more than a few metres at the threshold gives a wrong
-    RDH by about as much. The size of the difference points at the cause: a ratio near 3.28 (the
-    number of feet in a metre, NIST Handbook 44 App. C) is a DEM in feet read as metres; 15-40 m is
-    a geoid height read as an ellipsoidal one or the reverse (h = H + N, Hofmann-Wellenhof and
-    Moritz, *Physical Geodesy*, sec. 2.7); anything else is a wrong offset or a wrong DEM.
+    RDH by about as much. The size of the difference points at the cause, a site-file key
+    (:func:`geo.study.dem_causes.likely_cause`): a ratio near 3.28 (the number of feet in a metre,
+    NIST Handbook 44 App. C) is a DEM in feet read as metres; twice the published undulation is its
+    sign; 15-40 m is a geoid height read as an ellipsoidal one or the reverse (h = H + N,
+    Hofmann-Wellenhof and Moritz, *Physical Geodesy*, sec. 2.7); anything else a wrong offset or DEM.
 
     Parameters
     ----------
@@ -471,6 +473,8 @@ def check_dem_threshold(dem_m: float, survey_m: float) -> Finding | None:
         DEM height at the threshold, in the site's datum (after unit, offset and datum). [m]
     survey_m : float
         Surveyed threshold elevation. [m]
+    keys : HeightKeys, optional
+        The site file's keys for the DEM's heights, for naming the one that looks wrong.
 
     Returns
     -------
@@ -480,31 +484,56 @@ def check_dem_threshold(dem_m: float, survey_m: float) -> Finding | None:
     diff = dem_m - survey_m
     if not abs(diff) > DEM_MISMATCH_WARN_M:
         return None
-    ft_per_m = 1.0 / M_PER_FT
-    ratio = dem_m / survey_m if abs(survey_m) > 30.0 else float("nan")
-    if abs(ratio - ft_per_m) < 0.05 * ft_per_m:
-        cause = (
-            f"the ratio {ratio:.3f} is near 3.281 ft per m: the DEM's heights look like feet read as metres; "
-            'set terrain.vertical_unit = "ft"'
-        )
-    elif abs(ratio - M_PER_FT) < 0.05 * M_PER_FT:
-        cause = (
-            f"the ratio {ratio:.3f} is near 0.305 m per ft: the DEM's heights look like metres read as feet; "
-            'set terrain.vertical_unit = "m"'
-        )
-    elif _GEOID_BAND_M[0] <= abs(diff) <= _GEOID_BAND_M[1]:
-        cause = (
-            "a difference of this size is typical of heights above a geoid (EGM96, EGM2008) against "
-            "ellipsoidal (WGS 84, GNSS) heights; give runway.vertical_datum and terrain.vertical_datum "
-            "(and runway.geoid_undulation if published) so that the DEM is converted"
+    unit = keys.unit if keys is not None else "m"
+    _, cause = likely_cause(dem_m, survey_m, keys)
+    return Finding("dem-threshold", "warning", f"{dem_threshold_difference(dem_m, survey_m, unit)}: {cause}. "
+                   "Every height of the study follows the DEM.")  # fmt: skip
+
+
+def dem_threshold_difference(dem_m: float, survey_m: float, unit: str = "m") -> str:
+    """``"The DEM at the threshold ... differs from the surveyed threshold elevation ... by ..."``."""
+    diff = dem_m - survey_m
+    return (
+        f"The DEM at the threshold {_ft(dem_m, unit)} differs from the surveyed threshold elevation "
+        f"{_ft(survey_m, unit)} by {_ft(diff, unit, signed=True)}"
+    )
+
+
+def check_datum_keys(dem_datum: str | None, survey_datum: str | None) -> Finding | None:
+    """A warning when only one of ``terrain.vertical_datum`` and ``runway.vertical_datum`` is given.
+
+    With one datum stated the DEM's heights are not converted
+    (:func:`geo.ground.vertical_datum.datum_conversion`): the other is taken to be the same.
+
+    Parameters
+    ----------
+    dem_datum, survey_datum : str or None
+        ``terrain.vertical_datum`` and ``runway.vertical_datum``.
+
+    Returns
+    -------
+    Finding or None
+        ``"vertical-datum"`` warning, or ``None`` when both or neither are given.
+    """
+    if (dem_datum is None) == (survey_datum is None):
+        return None
+    if dem_datum is None:
+        given, missing, other = (
+            f'runway.vertical_datum = "{survey_datum}"',
+            "terrain.vertical_datum",
+            "the DEM's heights",
         )
     else:
-        cause = "check terrain.vertical_offset and that terrain.dem is the DEM of this airfield"
+        given, missing, other = (
+            f'terrain.vertical_datum = "{dem_datum}"',
+            "runway.vertical_datum",
+            "the site file's elevations",
+        )
     return Finding(
-        "dem-threshold",
+        "vertical-datum",
         "warning",
-        f"The DEM at the threshold {_ft(dem_m)} differs from the surveyed threshold elevation {_ft(survey_m)} "
-        f"by {diff:+.2f} m ({diff * ft_per_m:+.1f} ft): {cause}. Every height of the study follows the DEM.",
+        f"{given} is given without {missing}: {other} are taken to be in {dem_datum or survey_datum} too and "
+        f'the DEM is not converted; give {missing} ("EGM96", "EGM2008" or "WGS84") to say it.',
     )
 
 

@@ -36,7 +36,7 @@ from geo.site.named_errors import naming_site_file
 from geo.site.site_file import SiteSpec
 from geo.study import findings as checks
 from geo.study.array_setup import array_model
-from geo.study.dem_checks import check_dem_covers_site, dem_extent_in_errors
+from geo.study.dem_checks import check_dem_covers_site, dem_extent_in_errors, height_keys
 from geo.study.ground_beyond import GroundBeyond
 from geo.study.surface_sector import SurfaceSector
 from geo.units import format_length
@@ -525,7 +525,8 @@ def _dem_ground(spec, runway, lam, side, setback, offset, field_name, solve) -> 
         else:
             _check_setback(setback, field_name, runway)
         mast_at = [] if solve else [(setback, _SIGN[side] * offset)]
-        dem_finding, dem_threshold = check_dem_covers_site(dem, frame, thr_elev, mast_at)
+        keys = height_keys(dem, t, spec.units, frame)  # every DEM and datum check before the solve
+        dem_finding, dem_threshold = check_dem_covers_site(dem, frame, thr_elev, mast_at, keys, solving=solve)
         setback, terrain = _solve_on_terrain(spec, runway, dem, side, setback, offset, lam, field_name, solve)
         terrain = terrain.result()  # the report's figures, for the setback kept only
         profile = approach_profile(
@@ -617,7 +618,7 @@ def _siting_findings(spec, channel, runway, rdh, setback, offset, solve, gpip) -
 def _terrain_findings(spec, ground) -> list:
     """The checks of the DEM study: base elevation, roughness, plane solve, resolution, approach clearance."""
     terrain, profile, file_base = ground.terrain, ground.profile, spec.mast.base_elevation_m
-    found = []
+    found = [checks.check_datum_keys(spec.terrain.vertical_datum, spec.terrain.survey_vertical_datum)]
     if file_base is not None:
         found.append(checks.check_base_elevation(file_base, terrain.ground_at_mast_m, unit=spec.units))
     found += checks.check_roughness(terrain.roughness, unit=spec.units)

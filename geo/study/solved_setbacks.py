@@ -17,6 +17,7 @@ import math
 import numpy as np
 
 from geo.airfield.path import setback_for_rdh_m
+from geo.study.dem_checks import check_dem_before_solve
 from geo.study.site_study import runway_of
 from geo.study.sweep import run_sweep
 
@@ -45,9 +46,17 @@ def solve_setbacks(spec, options, iterations: int = 12, tolerance_m: float = 0.0
         The paired options of that last sweep.
     settled : numpy.ndarray of bool
         Whether each candidate's RDH met the target within the tolerance.
+
+    Raises
+    ------
+    SiteFileError, TerrainError
+        Before any sweep, when the DEM is more than 5 m off the survey at the threshold (the key that
+        looks wrong) or does not cover it (:func:`geo.study.dem_checks.check_dem_before_solve`).
     """
     target = options.rdh_target_m if options.rdh_target_m is not None else (spec.target_rdh_m or 15.5)
     runway = runway_of(spec)
+    if spec.terrain is not None:  # every DEM and datum check before the solve
+        check_dem_before_solve(spec, runway.frame)
     thr = spec.threshold.elevation_m
     sides = tuple(s for s in options.sides for _ in options.offsets_m)
     offsets = tuple(float(o) for _ in options.sides for o in options.offsets_m)
