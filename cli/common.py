@@ -69,7 +69,8 @@ outputs_option = click.option(
     default=",".join(("summary", "layers", "gpkg", "kml", "map", "tables", "plots", "report")),
     show_default=True,
     metavar="LIST",
-    help="Comma-separated outputs to write: summary, layers, gpkg, kml, map, tables, plots, report.",
+    help="Comma-separated outputs to write: summary, layers, gpkg, kml, map, tables, plots, report; "
+    "also pdf (report.pdf printed by headless Chromium; not by default).",
 )
 quiet_option = click.option("--quiet", "-q", is_flag=True, help="Print nothing on success.")
 fail_on_option = click.option(

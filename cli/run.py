@@ -70,7 +70,18 @@ def run_site(
     if not quiet:
         click.echo(summary_text(result))
         click.echo(f"Results written to {folder}")
+        if "pdf" in chosen and not (folder / "report.pdf").is_file():
+            click.echo(_no_pdf_words())
     check_fail_on([f.severity for f in result.findings], fail_on)
+
+
+def _no_pdf_words() -> str:
+    """Why ``report.pdf`` is missing, in a line for the screen."""
+    from geo.outputs.pdf import find_chromium, no_chromium_reason
+
+    if find_chromium() is None:
+        return no_chromium_reason()
+    return "no report.pdf: Chromium failed to print report.html (summary.json, report_pdf.reason, says why)"
 
 
 def _cores_shared(background):

@@ -158,6 +158,17 @@ class Dem:
 
         return CRS.from_wkt(self.mosaic.crs_wkt)
 
+    @property
+    def crs_text(self) -> str:
+        """The rasters' CRS, each once in tile order: ``EPSG:code (name)``, or the name alone."""
+        from pyproj import CRS
+
+        names = []
+        for tile in self.mosaic.tiles:
+            crs = CRS.from_wkt(tile.crs_wkt)
+            names.append(f"EPSG:{crs.to_epsg()} ({crs.name})" if crs.to_epsg() else crs.name)
+        return ", ".join(dict.fromkeys(names))
+
     def vertical_datum(self) -> str | None:
         """Name of the vertical datum: the one the site file gives, else the one a raster states."""
         if self.conversion.dem_datum is not None:

@@ -1,6 +1,10 @@
-"""A printable study report (``report.html``): the key figures, findings and cautions on one page.
+"""A printable study report (``report.html``): what an engineer files with the study.
 
-Every text from the site file is HTML-escaped; the plots are linked, not embedded.
+A title block (from the site file's ``[report]`` table, never the clock), the verdict with the count of
+findings by severity, the key figures, the ground the study stood on (DEM, CRS, cell size, vertical
+datums and the shift applied), the findings worst first, the reflection zones, the plots, and the
+standards and textbooks the findings cite, each once. Every text from the site file is HTML-escaped;
+the plots are linked, not embedded. ``report.pdf`` is this page printed (:mod:`geo.outputs.pdf`).
 """
 
 from __future__ import annotations
@@ -8,17 +12,34 @@ from __future__ import annotations
 import html
 from pathlib import Path
 
-from geo.outputs.text import past_or_before, skipped_words
-from geo.study.findings import CAUTIONS
+from geo.outputs.references import CitedSource, cited_sources, marked_segments
+from geo.outputs.summary import datum_conversion_dict
+from geo.outputs.text import TCH_WORDS, past_or_before, skipped_words
+from geo.study.findings import CAUTIONS, SEVERITIES
 from geo.study.site_study import StudyResult
 from geo.units import format_area, format_length
+from geo.version import __version__
 
-__all__ = ["write_report"]
+__all__ = ["write_report", "sorted_findings", "severity_counts"]
 
 _STYLE = """body{font:14px/1.4 sans-serif;max-width:60em;margin:2em auto;color:#222}
 table{border-collapse:collapse;margin:.5em 0 1.5em}td,th{border:1px solid #bbb;padding:.25em .6em;text-align:left}
 .pass{color:#2b8a3e}.info{color:#1864ab}.warning{color:#e67700}.fail{color:#c92a2a;font-weight:bold}
-.caution{border:2px solid #e67700;padding:.6em 1em;background:#fff4e6}img{max-width:100%}"""
+.verdict{font-size:1.15em;border:2px solid #444;padding:.5em 1em}.verdict span{margin-right:.8em}
+.title td,.title th{min-width:10em}tr,li{break-inside:avoid}
+.caution{border:2px solid #e67700;padding:.6em 1em;background:#fff4e6}img{max-width:100%}
+@media print{body{max-width:none;margin:0;font-size:11px}}"""
+
+#: Findings in the report: the worst first.
+_WORST_FIRST = tuple(reversed(SEVERITIES))
+
+#: The verdict in words, by the worst severity among the findings.
+_VERDICT = {
+    "fail": "a standard is not met",
+    "warning": "no standard failed; recommendations not met or values to confirm",
+    "info": "every check passed, with notes",
+    "pass": "every check passed",
+}
 
 
 def _lengths(unit: str):
@@ -34,28 +55,76 @@ def _rows(pairs) -> str:
     return "".join(f"<tr><th>{html.escape(k)}</th><td>{html.escape(v)}</td></tr>" for k, v in pairs)
 
 
+def sorted_findings(findings) -> list:
+    """The findings worst first (fail, warning, info, pass), in their order within a severity."""
+    return sorted(findings, key=lambda f: _WORST_FIRST.index(f.severity))
+
+
+def severity_counts(findings) -> dict[str, int]:
+    """How many findings of each severity, worst first (every severity, zero included)."""
+    return {sev: sum(1 for f in findings if f.severity == sev) for sev in _WORST_FIRST}
+
+
 def write_report(result: StudyResult, path: Path, plots: bool) -> None:
-    """Write ``report.html`` next to the other outputs of the study."""
+    """Write ``report.html`` next to the other outputs of the study.
+
+    Parameters
+    ----------
+    result : StudyResult
+    path : Path
+        The file to write.
+    plots : bool
+        The plots are drawn: the report links them.
+    """
     spec = result.spec
     figures = _key_figures(result) + _prediction_figures(result)
+    cited = cited_sources(f.message for f in result.findings)
     page = f"""<!DOCTYPE html>
 <html lang="en"><head><meta charset="utf-8"><title>mastplan study: {html.escape(spec.name)}</title>
-<style>{_STYLE}</style></head><body>
+<style>{_STYLE}
+@page{{size:{spec.report.page};margin:15mm}}</style></head><body>
 <h1>Glide path siting study: {html.escape(spec.name)}</h1>
+{_title_block(result)}
+{_verdict(result)}
 <p>{html.escape(spec.notes)}</p>
 <div class="caution">{"<br>".join(html.escape(c) for c in CAUTIONS)}</div>
 <h2>Key figures</h2><table>{_rows(figures)}</table>
+<h2>Ground</h2><table>{_rows(_ground_rows(result))}</table>
 <h2>Antennas</h2><table><tr><th>antenna</th><th>height above the reflecting plane</th>
 <th>shift toward the runway</th><th>position (WGS 84)</th></tr>{_antenna_rows(result)}</table>
-<h2>Findings</h2><ul>{_finding_items(result)}</ul>
+<h2>Findings</h2>{_memory_note(cited)}<ul>{_finding_items(result, cited)}</ul>
 <h2>Reflection zones</h2><table><tr><th>antenna</th><th>kind</th><th>nearest</th><th>farthest</th>
 <th>largest half-width</th><th>area</th></tr>{_zone_rows(result)}</table>
 {_images(result, plots)}
-<p>Input file {html.escape(Path(spec.source).name if spec.source else "(in code)")}, SHA-256
-{html.escape(spec.sha256)}. Layers: layers/*.geojson, site.gpkg, site.kml; interactive map: map.html.</p>
+{_references(cited)}
+<p>Layers: layers/*.geojson, site.gpkg, site.kml; interactive map: map.html.</p>
 </body></html>
 """
     path.write_text(page, encoding="utf-8")
+
+
+def _title_block(result: StudyResult) -> str:
+    """The title block: who prepared and checked the study, its revision and date (``[report]``), the input."""
+    spec, rep = result.spec, result.spec.report
+    given = [("Prepared by", rep.prepared_by), ("Checked by", rep.checked_by), ("Revision", rep.revision)]
+    given.append(("Date", rep.date))
+    rows = [(k, v if v else "(not given in the site file)") for k, v in given]
+    rows += [
+        ("Input file", f"{Path(spec.source).name if spec.source else '(in code)'}, SHA-256 {spec.sha256}"),
+        ("Tool", f"mastplan {__version__}"),
+    ]
+    return f"<table class='title'>{_rows(rows)}</table>"
+
+
+def _verdict(result: StudyResult) -> str:
+    """The verdict line: the worst severity in words and the count of findings by severity."""
+    counts = severity_counts(result.findings)
+    worst = next((sev for sev in _WORST_FIRST if counts[sev]), "pass")
+    spans = "".join(
+        f"<span class='count {sev}' data-severity='{sev}' data-count='{n}'>{n} {sev}</span>"
+        for sev, n in counts.items()
+    )
+    return f"<p class='verdict {worst}'><b>Verdict: {html.escape(_VERDICT[worst])}.</b> Findings: {spans}</p>"
 
 
 def _key_figures(result: StudyResult) -> list[tuple[str, str]]:
@@ -73,7 +142,7 @@ def _key_figures(result: StudyResult) -> list[tuple[str, str]]:
         ),
         ("Mast position (WGS 84)", f"{mast.lat_deg:.7f}, {mast.lon_deg:.7f}"),
         ("RDH", _len(result.rdh_m)),
-        ("Actual path over the threshold", _len(result.path_height_over_threshold_m)),
+        (f"Actual path over the threshold, {TCH_WORDS}", _len(result.path_height_over_threshold_m)),
         ("GPIP", f"{_len(abs(result.gpip.along_m), 1)} {past_or_before(result.gpip.along_m)} the threshold"),
     ]
 
@@ -125,12 +194,75 @@ def _antenna_rows(result: StudyResult) -> str:
     )
 
 
-def _finding_items(result: StudyResult) -> str:
-    """The findings as list items, classed by severity."""
+def _finding_items(result: StudyResult, cited: list[CitedSource]) -> str:
+    """The findings as list items, worst first, classed by severity; "from memory" caveats as marks."""
     return "".join(
-        f"<li class='{html.escape(f.severity)}'>[{html.escape(f.severity)}] {html.escape(f.message)}</li>"
-        for f in result.findings
+        f"<li class='{html.escape(f.severity)}' data-code='{html.escape(f.code)}'>[{html.escape(f.severity)}] "
+        f"{_marked(f.message, cited)}</li>"
+        for f in sorted_findings(result.findings)
     )
+
+
+def _marked(message: str, cited: list[CitedSource]) -> str:
+    """A finding's text, escaped, each "from memory: confirm the edition in force" a mark to its reference."""
+    return "".join(
+        html.escape(text)
+        if source is None
+        else f" <sup><a href='#ref-{source.source.key}' title='values from memory, "
+        f"see References'>[{source.number}]</a></sup>"
+        for text, source in marked_segments(message, cited)
+    )
+
+
+def _memory_note(cited: list[CitedSource]) -> str:
+    """What a mark in the findings means, when there is one."""
+    if not any(c.from_memory for c in cited):
+        return ""
+    return (
+        "<p>A mark such as <sup>[1]</sup> stands for: values from memory, confirm against the edition in force; "
+        "the source is listed under <a href='#references'>References</a>.</p>"
+    )
+
+
+def _references(cited: list[CitedSource]) -> str:
+    """The references: every document the findings cite, once, with its edition and what is from memory."""
+    if not cited:
+        return ""
+    items = []
+    for c in cited:
+        parts = [f"{c.source.title}. Edition: {c.source.edition}."]
+        if c.paragraphs:
+            parts.append(f"Cited: {', '.join(c.paragraphs)}.")
+        memory = [p for p in c.from_memory if p]
+        if c.from_memory:
+            where = f" ({', '.join(memory)})" if memory else ""
+            parts.append(f"Values from memory{where}: confirm against the edition in force.")
+        elif c.source.memory:
+            parts.append(f"Values: {c.source.memory}.")
+        else:
+            parts.append("Values not marked as from memory in the findings.")
+        items.append(f"<li id='ref-{c.source.key}'>{html.escape(' '.join(parts))}</li>")
+    return f"<h2 id='references'>References</h2><ol>{''.join(items)}</ol>"
+
+
+def _ground_rows(result: StudyResult) -> list[tuple[str, str]]:
+    """What the ground was: the DEM files, CRS, cell size, vertical datums and the shift applied."""
+    spec, src, t = result.spec, result.terrain_source, result.terrain
+    _len = _lengths(spec.units)
+    if src is None or t is None:
+        return [("Ground", f"no DEM: flat at the mast's ground {_len(result.mast.base_elevation_m)} (site file)")]
+    conversion = datum_conversion_dict(src)
+    return [
+        ("DEM files", src.dem_name),
+        ("CRS", src.crs or "not stated"),
+        ("Cell size", f"{_len(t.cell_size_m, 2)} (near the threshold); sampled every {_len(t.sample_spacing_m, 2)}"),
+        ("Vertical unit", src.vertical_unit_source),
+        ("DEM vertical datum", src.vertical_datum or "not stated by the DEM"),
+        ("Site file's vertical datum", spec.vertical_datum or "not stated (runway.vertical_datum)"),
+        ("Datum conversion", conversion["description"]),
+        ("Shift applied at the mast", _len(conversion["shift_at_mast_m"], 3)),
+        ("Vertical offset (terrain.vertical_offset)", _len(src.vertical_offset_m, 3)),
+    ]
 
 
 def _zone_rows(result: StudyResult) -> str:

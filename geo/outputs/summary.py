@@ -33,12 +33,15 @@ def zone_figures(zone) -> dict:
     }
 
 
-def summary_dict(result: StudyResult) -> dict:
+def summary_dict(result: StudyResult, report_pdf: dict | None = None) -> dict:
     """Key figures of a study, with foot twins, ready for JSON.
 
     Parameters
     ----------
     result : StudyResult
+    report_pdf : dict, optional
+        ``{"written": bool, "reason": str}`` when ``report.pdf`` was asked for: recorded under
+        ``report_pdf`` (the reason says why there is none).
 
     Returns
     -------
@@ -82,6 +85,8 @@ def summary_dict(result: StudyResult) -> dict:
         body["below_path"] = below_path_dict(result)
     if result.roughness_families and "terrain" in body:
         body["terrain"]["roughness_by_family"] = roughness_families_dict(result.roughness_families)
+    if report_pdf is not None:
+        body["report_pdf"] = dict(report_pdf)
     return with_foot_twins(body)
 
 

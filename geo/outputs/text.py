@@ -6,7 +6,10 @@ from geo.study.findings import CAUTIONS
 from geo.study.site_study import StudyResult
 from geo.units import format_length
 
-__all__ = ["summary_text", "past_or_before"]
+__all__ = ["summary_text", "past_or_before", "TCH_WORDS"]
+
+#: The trade's name of the actual path over the threshold, said beside it on screen and in the report.
+TCH_WORDS = "threshold crossing height (TCH)"
 
 
 def _lengths(unit: str):
@@ -37,7 +40,8 @@ def summary_text(result: StudyResult) -> str:
     for a in result.antennas:
         lines.append(f"  {a.role:<7} height {_len(a.height_m, 3)}, shift {_len(a.shift_toward_runway_m, 3)}")
     lines += [
-        f"RDH: {_len(result.rdh_m)}; actual path over the threshold: {_len(result.path_height_over_threshold_m)}",
+        f"RDH: {_len(result.rdh_m)}; actual path over the threshold, {TCH_WORDS}: "
+        f"{_len(result.path_height_over_threshold_m)}",
         f"GPIP: {_len(abs(result.gpip.along_m), 1)} {past_or_before(result.gpip.along_m)} the threshold "
         f"(lat {result.gpip.lat_deg:.7f}, lon {result.gpip.lon_deg:.7f})",
     ]

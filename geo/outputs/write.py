@@ -42,18 +42,23 @@ def write_json(path: Path, obj, compact: bool = False) -> None:
     path.write_text(text + "\n", encoding="utf-8")
 
 
-#: The outputs of a study, in the order they are written; ``mastplan run --outputs`` picks among them.
+#: The outputs of a study written by default, in the order they are written; ``mastplan run --outputs``
+#: picks among them and :data:`OPTIONAL_OUTPUTS`.
 OUTPUTS = ("summary", "layers", "gpkg", "kml", "map", "tables", "plots", "report")
+#: Outputs written only when named: ``pdf`` (``report.pdf``, printed by headless Chromium; about 1.7 s more
+#: on the demo, so not by default; it writes ``report.html`` too).
+OPTIONAL_OUTPUTS = ("pdf",)
 
 
 def check_outputs(names) -> tuple[str, ...]:
     """Validate a selection of outputs (raises OutputError naming the allowed ones)."""
     names = tuple(dict.fromkeys(n.strip() for n in names if n.strip()))
-    unknown = [n for n in names if n not in OUTPUTS]
+    every = OUTPUTS + OPTIONAL_OUTPUTS
+    unknown = [n for n in names if n not in every]
     if not names:
-        raise OutputError(f"--outputs: empty, so nothing would be written; name one or more of {', '.join(OUTPUTS)}")
+        raise OutputError(f"--outputs: empty, so nothing would be written; name one or more of {', '.join(every)}")
     if unknown:
-        raise OutputError(f"--outputs: {', '.join(unknown)} is not an output; choose from {', '.join(OUTPUTS)}")
+        raise OutputError(f"--outputs: {', '.join(unknown)} is not an output; choose from {', '.join(every)}")
     return names
 
 
@@ -153,6 +158,7 @@ def fill_study(
         their files are moved in from the staging folder.
     """
     chosen = set(outputs) - (set() if plots else {"plots"})
+    chosen |= {"report"} if "pdf" in chosen else set()  # the PDF is the report printed
     layers = None
     if chosen & {"layers", "gpkg", "kml", "map"}:
         from geo.outputs.geojson import study_layers
@@ -173,16 +179,31 @@ def fill_study(
             from geo.outputs.gpkg import write_gpkg
 
             background.submit(write_gpkg, layers, folder / "site.gpkg", output="gpkg")
-        _fill_here(result, folder, chosen - elsewhere, layers, "plots" in chosen)
+        last = {"summary", "pdf"} if "pdf" in chosen else set()  # the summary says why there is no PDF
+        _fill_here(result, folder, chosen - elsewhere - last, layers, "plots" in chosen)
         if elsewhere:
             background.wait()
         if early is not None:
             for staged in sorted(early.staging.iterdir()):
                 os.replace(staged, folder / staged.name)
+        if last:
+            _fill_pdf_and_summary(result, folder, "summary" in chosen)
     except BaseException:
         if elsewhere:
             background.stop()
         raise
+
+
+def _fill_pdf_and_summary(result: StudyResult, folder: Path, summary: bool) -> None:
+    """Print ``report.pdf`` once the plots it shows are in ``folder``, then the summary saying how it went."""
+    from geo.outputs.pdf import write_pdf
+
+    reason = write_pdf(folder / "report.html", folder / "report.pdf")
+    if summary:
+        from geo.outputs.summary import summary_dict
+
+        note = {"written": reason is None, "reason": reason or ""}
+        write_json(folder / "summary.json", summary_dict(result, report_pdf=note))
 
 
 def _fill_here(result: StudyResult, folder: Path, chosen: set, layers: dict | None, with_plots: bool) -> None:

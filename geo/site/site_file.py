@@ -11,6 +11,7 @@ name and one line saying what is allowed.
 
 from __future__ import annotations
 
+import datetime
 import hashlib
 import math
 import tomllib
@@ -30,6 +31,8 @@ __all__ = [
     "TerrainSpec",
     "ProtectedArea",
     "PredictionSpec",
+    "ReportSpec",
+    "REPORT_PAGES",
     "SiteSpec",
     "ObjectSpec",
     "AreaSpec",
@@ -247,6 +250,30 @@ class AreaSpec:
 
 
 @dataclass(frozen=True)
+class ReportSpec:
+    """The optional ``[report]`` table: the report's title block and its page size.
+
+    Attributes
+    ----------
+    prepared_by, checked_by, revision, date : str
+        Texts of the title block, as the site file gives them ("" when absent); the date is never
+        taken from the clock.
+    page : {"A4", "Letter"}
+        Page size of ``report.pdf``.
+    """
+
+    prepared_by: str = ""
+    checked_by: str = ""
+    revision: str = ""
+    date: str = ""
+    page: str = "A4"
+
+
+#: Page sizes of ``report.pdf`` (``[report] page``).
+REPORT_PAGES = ("A4", "Letter")
+
+
+@dataclass(frozen=True)
 class SiteSpec:
     """Validated inputs of one site study; every length in metres.
 
@@ -295,6 +322,8 @@ class SiteSpec:
         Vertical datum of every elevation in the site file (``runway.vertical_datum``).
     geoid_undulation_m : float or None
         Geoid undulation N published with the threshold (ICAO Annex 15), ``h = H + N``. [m]
+    report : ReportSpec
+        The report's title block and page size (``[report]``).
     """
 
     name: str
@@ -322,6 +351,7 @@ class SiteSpec:
     geoid_undulation_m: float | None = None
     objects: tuple[ObjectSpec, ...] = ()
     areas: AreaSpec = field(default_factory=AreaSpec)
+    report: ReportSpec = field(default_factory=ReportSpec)
 
 
 def load_site(path: str | Path) -> SiteSpec:
@@ -384,7 +414,7 @@ def parse_site(doc: dict[str, Any], source: str = "", sha256: str = "", base_dir
         "",
         (
             "units", "site", "runway", "glide_path", "mast", "terrain", "protected_area", "prediction", "surfaces",
-            "object", "areas",
+            "object", "areas", "report",
         ),
     )  # fmt: skip
     units, scale = _units(doc)
@@ -427,7 +457,32 @@ def parse_site(doc: dict[str, Any], source: str = "", sha256: str = "", base_dir
         geoid_undulation_m=undulation_m,
         objects=_objects(doc.get("object", []), scale, units),
         areas=_areas(doc.get("areas"), scale, units),
+        report=_report(doc.get("report")),
     )
+
+
+def _report(table) -> ReportSpec:
+    """The optional ``[report]`` table: title block texts and the PDF's page size."""
+    if table is None:
+        return ReportSpec()
+    if not isinstance(table, dict):
+        raise SiteFileError("report", f"must be a table [report] (got {_show(table)})")
+    _only(table, "report", ("prepared_by", "checked_by", "revision", "date", "page"))
+    if isinstance(table.get("date"), (datetime.date, datetime.datetime, datetime.time)):
+        raise SiteFileError(
+            "report.date", f'must be a text in quotes, e.g. date = "2024-05-01" (got a TOML date {table["date"]})'
+        )
+    texts = {
+        key: _text(table, "report", key, required=False) or ""
+        for key in ("prepared_by", "checked_by", "revision", "date")
+    }
+    if any("\n" in value for value in texts.values()):
+        bad = next(key for key, value in texts.items() if "\n" in value)
+        raise SiteFileError(f"report.{bad}", "must be one line; remove the line breaks")
+    page = table.get("page", "A4")
+    if not _is_choice(page, REPORT_PAGES):
+        raise SiteFileError("report.page", f'must be "A4" or "Letter" (got {_show(page)})')
+    return ReportSpec(**texts, page=page)
 
 
 def _units(doc: dict) -> tuple[str, float]:

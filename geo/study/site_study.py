@@ -293,6 +293,8 @@ class TerrainSource:
         DEM cell centres inside the zone the plane is fitted in.
     dem_threshold_m : float or None
         The DEM at the threshold (site's datum). [m]
+    crs : str
+        The rasters' CRS, each once (``EPSG:code (name)``).
     """
 
     dem_name: str
@@ -303,6 +305,7 @@ class TerrainSource:
     datum_shift_at_mast_m: float = 0.0
     cells_in_zone: int | None = None
     dem_threshold_m: float | None = None
+    crs: str = ""
 
 
 def _placement(spec: SiteSpec, runway: Runway) -> tuple[str, float | None, float, str, str]:
@@ -771,6 +774,7 @@ def _dem_source_details(source, dem, frame, side, setback, offset, terrain, dem_
         datum_shift_at_mast_m=dem.datum_shift_at(lat, lon),
         cells_in_zone=dem.cells_in_zone(frame, side, setback, offset, terrain.zone.polygon),
         dem_threshold_m=dem_threshold_m,
+        crs=dem.crs_text,
     )
 
 

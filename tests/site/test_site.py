@@ -139,3 +139,41 @@ def test_protected_area_errors(write_site, site_text, block, field, words):
     with pytest.raises(SiteFileError) as info:
         load_site(write_site(text))
     assert info.value.field == field and words in str(info.value)
+
+
+def test_report_table_is_optional_and_read_as_given(write_site, site_text):
+    spec = load_site(write_site(site_text))
+    assert (spec.report.prepared_by, spec.report.date, spec.report.page) == ("", "", "A4")
+    text = (
+        site_text
+        + "\n[report]\n"
+        + 'prepared_by = "P"\nchecked_by = "C"\nrevision = "2"\ndate = "2025-05-12"\npage = "Letter"\n'
+    )
+    rep = load_site(write_site(text)).report
+    assert (rep.prepared_by, rep.checked_by, rep.revision, rep.date, rep.page) == (
+        "P",
+        "C",
+        "2",
+        "2025-05-12",
+        "Letter",
+    )
+
+
+@pytest.mark.parametrize(
+    "line, field",
+    [
+        ("prepared_by = 3", "report.prepared_by"),
+        ("checked_by = true", "report.checked_by"),
+        ("revision = 2", "report.revision"),
+        ("date = 2025-05-12", "report.date"),  # a TOML date, not a text: the date is the file's words
+        ('page = "A3"', "report.page"),
+        ('page = "a4"', "report.page"),
+        ('signed = "x"', "report.signed"),
+        ('revision = """B\nC"""', "report.revision"),
+    ],
+)
+def test_bad_report_fields_are_one_line_errors(write_site, site_text, line, field):
+    with pytest.raises(SiteFileError) as err:
+        load_site(write_site(site_text + "\n[report]\n" + line + "\n"))
+    message = str(err.value)
+    assert field in message and "\n" not in message
