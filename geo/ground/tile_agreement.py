@@ -180,14 +180,15 @@ def _tile_points(mosaic, k: int, box, max_cells_per_side: int):
         c1 = min(int(np.ceil(win.col_off + win.width)) + 1, ds.width)
     if r1 - r0 < 2 or c1 - c0 < 2:
         return None
-    window = Window(c0, r0, c1 - c0, r1 - r0)
-    z = ds.read(1, window=window).astype(np.float64) * tile.vertical_scale
-    z[~valid_cells(ds, window)] = np.nan
-    step = max(1, -(-max(z.shape) // max_cells_per_side))
+    step = max(1, -(-max(r1 - r0, c1 - c0) // max_cells_per_side))
     rows, cols = np.arange(r0, r1)[::step], np.arange(c0, c1)[::step]
+    if step == 1:
+        z = _heights(tile, Window(c0, r0, c1 - c0, r1 - r0))
+    else:  # the rows kept only
+        z = np.vstack([_heights(tile, Window(c0, int(r), c1 - c0, 1))[:, ::step] for r in rows])
     ii, jj = np.meshgrid(rows, cols, indexing="ij")
     cx, cy = apply_affine(ds.transform, jj + 0.5, ii + 0.5)
-    cells = (cx.ravel(), cy.ravel(), z[::step, ::step].ravel())
+    cells = (cx.ravel(), cy.ravel(), z.ravel())
     edges = []  # pixel coordinates (col, row) of the boundary beside the edge cells [1]_
     if r0 == 0:
         edges.append((cols + 0.5, np.zeros(cols.size)))
@@ -204,6 +205,13 @@ def _tile_points(mosaic, k: int, box, max_cells_per_side: int):
     px, py = apply_affine(ds.transform, pc, pr)
     pz = tile.sample(px, py, reach_cells=0.5)
     return cells, (px, py, pz)
+
+
+def _heights(tile, window) -> np.ndarray:
+    """A window of a tile's heights [m], NaN on nodata."""
+    z = tile.dataset.read(1, window=window).astype(np.float64) * tile.vertical_scale
+    z[~valid_cells(tile.dataset, window)] = np.nan
+    return z
 
 
 def _compare(mosaic, k: int, j: int, x, y, z, seam: bool):

@@ -185,7 +185,8 @@ def tiles_dict(agreement) -> dict:
         "tolerance_source": TILE_TOLERANCE_SOURCE,
         "method": "overlap: each tile's cell heights minus the other tile's bilinear heights at those cell centres; "
         "seam: each tile's edge cells extended linearly to its boundary minus the neighbour's, extended from its "
-        "side; over the box of every point the study sampled, heights in the survey's datum",
+        "side; difference_m is the first of tiles minus the second; over the box of every point the study "
+        "sampled, heights in the survey's datum",
     }
 
 

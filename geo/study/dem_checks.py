@@ -90,7 +90,7 @@ def check_dem_covers_site(
             f"terrain.dem: the threshold at lat {lat:.6f}, lon {lon:.6f} is off the DEM or on nodata; "
             f"the DEM covers {dem.extent_text()}; give a DEM that covers the runway"
         )
-    check_tile_units(dem, survey_threshold_m, keys)  # a tile in the wrong unit: named before the DEM as a whole
+    check_tile_units(dem, survey_threshold_m, keys, frame)  # a tile in the wrong unit: named before the DEM as a whole
     finding = check_dem_threshold(z, survey_threshold_m, keys)
     if finding is not None and abs(z - survey_threshold_m) > DEM_MISMATCH_STOP_M:
         raise TerrainError(f"terrain.dem: {finding.message} No results written: the difference exceeds 100 m.")

@@ -34,11 +34,14 @@ TILE_TOLERANCE_SOURCE = (
 )
 #: Cells a side read per tile for the unit check before the solve (every n-th cell beyond; our choice).
 PRE_SOLVE_CELLS_PER_SIDE = 200
+#: Before the solve the unit check reads the tiles within this of the threshold, which holds the mast, its
+#: zones and the runway's first part (our choice; the study's own box is known only after the solve). [m]
+PRE_SOLVE_REACH_M = 3000.0
 #: The survey decides which tile of a pair is odd only this far from sea level (as the threshold check). [m]
 _SURVEY_RATIO_MIN_M = 30.0
 
 
-def check_tile_units(dem, survey_threshold_m: float, keys: HeightKeys | None = None) -> None:
+def check_tile_units(dem, survey_threshold_m: float, keys: HeightKeys | None = None, frame=None) -> None:
     """Stop on a tile whose heights are about 3.281 or 0.305 times its neighbours' or the survey's [1]_.
 
     Parameters
@@ -50,6 +53,9 @@ def check_tile_units(dem, survey_threshold_m: float, keys: HeightKeys | None = N
     keys : HeightKeys, optional
         The site file's keys for the DEM's heights: the survey is moved into the tiles' own heights
         (less the offset and the datum shift at the threshold) before it is compared.
+    frame : geo.airfield.frame.RunwayFrame, optional
+        The runway: only the tiles within :data:`PRE_SOLVE_REACH_M` of its threshold are read (default:
+        the whole tiles).
 
     Raises
     ------
@@ -63,7 +69,7 @@ def check_tile_units(dem, survey_threshold_m: float, keys: HeightKeys | None = N
     keys = keys or HeightKeys()
     shift_m = keys.datum_shift_m if math.isfinite(keys.datum_shift_m) else 0.0
     survey = survey_threshold_m - keys.vertical_offset_m - shift_m  # in the tiles' own heights
-    agreement = measure_tiles(dem.mosaic, None, PRE_SOLVE_CELLS_PER_SIDE)
+    agreement = measure_tiles(dem.mosaic, _near_threshold(dem, frame), PRE_SOLVE_CELLS_PER_SIDE)
     odd = _odd_tile(agreement, survey)
     if odd is None:
         return
@@ -71,6 +77,21 @@ def check_tile_units(dem, survey_threshold_m: float, keys: HeightKeys | None = N
     tile = dem.mosaic.tiles[k]
     raise SiteFileError("terrain.vertical_unit", f"{evidence}: {tile.path.name} looks in {slip} "
                         f"(its unit now: {tile.vertical_unit_source}); {_fix(tile, slip)}")  # fmt: skip
+
+
+def _near_threshold(dem, frame):
+    """(west, south, east, north) of the square :data:`PRE_SOLVE_REACH_M` around the threshold, in the DEM's CRS."""
+    if frame is None:
+        return None
+    import numpy as np
+
+    from geo.airfield.frame import frame_transformer
+
+    r = PRE_SOLVE_REACH_M
+    along, cross = np.array([-r, r, r, -r, 0.0, r, 0.0, -r]), np.array([-r, -r, r, r, -r, 0.0, r, 0.0])
+    east, north = frame.to_tm(along, cross)
+    x, y = frame_transformer(frame, dem.mosaic.crs_wkt).transform(east, north)
+    return float(np.min(x)), float(np.min(y)), float(np.max(x)), float(np.max(y))
 
 
 def _odd_tile(agreement, survey_m: float):
@@ -153,7 +174,7 @@ def tile_findings(agreement, unit: str) -> list[Finding]:
     d = agreement.seam
     if d is not None and abs(d.difference_m) > TILE_TOLERANCE_M:
         found.append(Finding("dem-tile-seam", "warning", (
-            f"The ground steps by {format_length(d.difference_m, unit, 2, True)} across the edge of {d.tile} "
+            f"The ground steps by {format_length(-d.difference_m, unit, 2, True)} across the edge of {d.tile} "
             f"into {d.other} at lat {d.lat_deg:.6f}, lon {d.lon_deg:.6f} (largest over {d.points:,} seam points "
             f"near the study; more than {limit}): the tiles do not join; check their datums and units"
         )))  # fmt: skip

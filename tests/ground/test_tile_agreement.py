@@ -224,3 +224,23 @@ def test_demo_tile_in_feet_stops_on_the_command_line_naming_it(tmp_path, demo_co
     assert len(lines) == 1 and "terrain.vertical_unit" in lines[0] and "east.tif" in lines[0], lines
     assert "ground falls" not in lines[0]
     print(lines[0])
+
+
+def test_a_feet_tile_with_the_unit_key_set_says_the_key_sets_every_tile(tmp_path):
+    paths = _two_tiles(tmp_path, _plane, overlap_cols=0, second_scale=1.0 / M_PER_FT)
+    with Dem.open(paths, vertical_unit="m") as dem:
+        with pytest.raises(SiteFileError) as err:
+            check_tile_units(dem, 600.0)
+    text = str(err.value)
+    assert "b.tif looks in feet read as metres" in text and "unit now: site file" in text
+    assert "terrain.vertical_unit sets the unit of every tile: leave it out" in text
+
+
+def test_demo_tile_in_feet_stops_the_sweeps_solve_too(tmp_path, demo_col):
+    from geo.study.dem_checks import check_dem_before_solve
+    from geo.study.site_study import runway_of
+
+    _cut_demo(tmp_path, demo_col, overlap=0, scale=1.0 / M_PER_FT)
+    spec = load_site(_site(tmp_path, ["west.tif", "east.tif"]))
+    with pytest.raises(SiteFileError, match=r"terrain\.vertical_unit: .*east\.tif looks in feet"):
+        check_dem_before_solve(spec, runway_of(spec).frame)
