@@ -7,6 +7,7 @@ Modules, in the order a study uses them:
 
 - :mod:`geo.ground.tile`: one raster: opening, checks, windows, bilinear sampling; the only raster reader
 - :mod:`geo.ground.mosaic`: tiles as one surface, exact across seams
+- :mod:`geo.ground.tile_agreement`: how far tiles disagree in overlaps and across seams, height ratios
 - :mod:`geo.ground.dem`: :class:`~geo.ground.dem.Dem`: one raster or tiles, heights in the survey's datum
 - :mod:`geo.ground.vertical_datum`: EGM96 / EGM2008 / WGS 84 conversions of DEM heights
 - :mod:`geo.ground.display`: tiles warped onto one grid for the map's hillshade

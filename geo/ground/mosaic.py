@@ -52,6 +52,9 @@ class Mosaic:
         if not tiles:
             raise ValueError("a mosaic needs at least one tile")
         self.tiles = list(tiles)
+        #: (west, south, east, north) of every point :meth:`sample` was asked for, in the mosaic's CRS
+        #: (None before the first): the part of the DEM a study read, for :mod:`geo.ground.tile_agreement`.
+        self.asked_box: tuple[float, float, float, float] | None = None
 
     @property
     def crs_wkt(self) -> str:
@@ -74,6 +77,7 @@ class Mosaic:
         y = np.atleast_1d(np.asarray(y, dtype=float))
         if len(self.tiles) == 1:
             return self.tiles[0].sample(x, y)
+        self._note_asked(x, y)
         out = np.full(x.shape, np.nan)
         for k, tile in enumerate(self.tiles):
             todo = np.flatnonzero(~np.isfinite(out))
@@ -85,6 +89,17 @@ class Mosaic:
                 continue
             out[todo[on]] = tile.sample(tx[on], ty[on], border=lambda bx, by, k=k: self._border(k, bx, by))
         return out
+
+    def _note_asked(self, x: np.ndarray, y: np.ndarray) -> None:
+        """Grow :attr:`asked_box` by the finite points of one request."""
+        ok = np.isfinite(x) & np.isfinite(y)
+        if not ok.any():
+            return
+        box = (float(x[ok].min()), float(y[ok].min()), float(x[ok].max()), float(y[ok].max()))
+        if self.asked_box is not None:
+            a = self.asked_box
+            box = (min(a[0], box[0]), min(a[1], box[1]), max(a[2], box[2]), max(a[3], box[3]))
+        self.asked_box = box
 
     def _border(self, k: int, x: np.ndarray, y: np.ndarray) -> np.ndarray:
         """Heights [m] at cell centres just outside tile ``k`` (its CRS), from the other tiles.

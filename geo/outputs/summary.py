@@ -166,6 +166,37 @@ def _zone_covers_list(result: StudyResult) -> list[dict]:
 
 def terrain_dict(result: StudyResult) -> dict:
     """The terrain part of the summary (metre keys; twins are added by the caller)."""
+    out = _terrain_body(result)
+    if result.terrain_source.tile_agreement is not None:  # tiles only: one raster's summary stays as it was
+        out["tiles"] = tiles_dict(result.terrain_source.tile_agreement)
+    return out
+
+
+def tiles_dict(agreement) -> dict:
+    """How the DEM's tiles agree over the part the study read (metre keys)."""
+    from geo.study.tile_checks import TILE_TOLERANCE_M, TILE_TOLERANCE_SOURCE
+
+    def where(d, points_key):
+        if d is None:
+            return None
+        return {"tiles": [d.tile, d.other], "difference_m": d.difference_m, "lat": d.lat_deg, "lon": d.lon_deg,
+                points_key: d.points}  # fmt: skip
+
+    return {
+        "count": len(agreement.names),
+        "largest_overlap_disagreement": where(agreement.overlap, "overlap_cell_centres_compared"),
+        "largest_seam_step": where(agreement.seam, "seam_points_compared"),
+        "tolerance_m": TILE_TOLERANCE_M,
+        "tolerance_source": TILE_TOLERANCE_SOURCE,
+        "method": "overlap: each tile's cell heights minus the other tile's bilinear heights at those cell centres; "
+        "seam: each tile's edge cells extended linearly to its boundary minus the neighbour's, extended from its "
+        "side; difference_m is the first of tiles minus the second; over the box of every point the study "
+        "sampled, heights in the survey's datum",
+    }
+
+
+def _terrain_body(result: StudyResult) -> dict:
+    """The terrain part of the summary but the tiles (metre keys)."""
     t, p, src = result.terrain, result.profile, result.terrain_source
     return {
         "dem": src.dem_name,

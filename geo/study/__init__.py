@@ -8,6 +8,7 @@ Modules, in the order a study uses them:
 - :mod:`geo.study.array_setup`: the study's array over its plane, shared by every prediction
 - :mod:`geo.study.dem_checks`: the DEM at the threshold and the mast before the study
 - :mod:`geo.study.dem_causes`: the site-file key behind a DEM that disagrees with the survey, and its fix
+- :mod:`geo.study.tile_checks`: a DEM tile in the wrong unit (stops), tiles that disagree (warnings)
 - :mod:`geo.study.surface`: the surface prediction of one study and its findings
 - :mod:`geo.study.surface_sector`: the surface path's angle, half-sectors, asymmetry and RDH against
   the Annex 10 tolerances and monitor limits, with margins

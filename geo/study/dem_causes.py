@@ -36,7 +36,7 @@ from dataclasses import dataclass
 
 from geo.units import M_PER_FT, format_length, format_number, to_unit
 
-__all__ = ["AGREEMENT_M", "HeightKeys", "likely_cause"]
+__all__ = ["AGREEMENT_M", "HeightKeys", "likely_cause", "unit_slip"]
 
 #: A corrected DEM within this of the survey at the threshold names the correction (as the warning's 5 m). [m]
 AGREEMENT_M = 5.0
@@ -96,12 +96,13 @@ def likely_cause(dem_m: float, survey_m: float, keys: HeightKeys | None = None) 
     keys = keys or HeightKeys()
     diff = dem_m - survey_m
     ratio = dem_m / survey_m if abs(survey_m) > 30.0 else float("nan")
-    if abs(ratio - 1.0 / M_PER_FT) < 0.05 / M_PER_FT:
+    slip = unit_slip(ratio)
+    if slip == "feet read as metres":
         return "terrain.vertical_unit", (
             f"the ratio {ratio:.3f} is near 3.281 ft per m: the DEM's heights look like feet read as metres; "
             'set terrain.vertical_unit = "ft"'
         )
-    if abs(ratio - M_PER_FT) < 0.05 * M_PER_FT:
+    if slip == "metres read as feet":
         return "terrain.vertical_unit", (
             f"the ratio {ratio:.3f} is near 0.305 m per ft: the DEM's heights look like metres read as feet; "
             'set terrain.vertical_unit = "m"'
@@ -113,6 +114,26 @@ def likely_cause(dem_m: float, survey_m: float, keys: HeightKeys | None = None) 
     if GEOID_BAND_M[0] <= abs(diff) <= GEOID_BAND_M[1]:
         return _datum_band_cause(keys)
     return "terrain.vertical_offset", "check terrain.vertical_offset and that terrain.dem is the DEM of this airfield"
+
+
+def unit_slip(ratio: float) -> str | None:
+    """The unit slip a ratio of heights (read / true) points at, within 5 % of 3.281 or 0.305 [1]_.
+
+    Parameters
+    ----------
+    ratio : float
+        Heights as read over the heights they should be (NaN: none).
+
+    Returns
+    -------
+    str or None
+        ``"feet read as metres"``, ``"metres read as feet"``, or None.
+    """
+    if abs(ratio - 1.0 / M_PER_FT) < 0.05 / M_PER_FT:
+        return "feet read as metres"
+    if abs(ratio - M_PER_FT) < 0.05 * M_PER_FT:
+        return "metres read as feet"
+    return None
 
 
 def _corrections(diff_m: float, keys: HeightKeys) -> list[tuple[float, str, str]]:

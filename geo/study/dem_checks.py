@@ -10,6 +10,8 @@
   of it could be right; so does more than a few metres when the setback is to be
   solved for the target RDH, before the solve, with the field that looks wrong
   (:mod:`geo.study.dem_causes`).
+- Tiles: one whose heights are a unit slip of its neighbours' stops the study
+  before the threshold check (:mod:`geo.study.tile_checks`).
 """
 
 from __future__ import annotations
@@ -29,6 +31,7 @@ from geo.study.findings import (
     check_dem_threshold,
     dem_threshold_difference,
 )
+from geo.study.tile_checks import check_tile_units
 from geo.units import format_length
 
 __all__ = ["check_dem_covers_site", "check_dem_before_solve", "height_keys", "dem_extent_in_errors"]
@@ -70,7 +73,8 @@ def check_dem_covers_site(
         When the threshold or the mast is off the DEM (naming its extent and CRS), or when the DEM
         and the survey disagree by more than 100 m at the threshold.
     SiteFileError
-        When solving and they disagree by more than 5 m: the field that looks wrong, and its fix.
+        When solving and they disagree by more than 5 m: the field that looks wrong, and its fix; when a
+        tile's heights are about 3.281 or 0.305 times its neighbours' (:func:`geo.study.tile_checks.check_tile_units`).
     """
     for along, cross in mast_points:
         if not math.isfinite(float(dem.sample_frame(frame, np.array([along]), np.array([cross]))[0])):
@@ -86,6 +90,7 @@ def check_dem_covers_site(
             f"terrain.dem: the threshold at lat {lat:.6f}, lon {lon:.6f} is off the DEM or on nodata; "
             f"the DEM covers {dem.extent_text()}; give a DEM that covers the runway"
         )
+    check_tile_units(dem, survey_threshold_m, keys, frame)  # a tile in the wrong unit: named before the DEM as a whole
     finding = check_dem_threshold(z, survey_threshold_m, keys)
     if finding is not None and abs(z - survey_threshold_m) > DEM_MISMATCH_STOP_M:
         raise TerrainError(f"terrain.dem: {finding.message} No results written: the difference exceeds 100 m.")

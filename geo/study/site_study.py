@@ -25,6 +25,7 @@ from geo.errors import SiteFileError
 from geo.ground.profile import PROFILE_RANGE_M, ApproachProfile, approach_profile
 from geo.ground.roughness import ReceiverFamily, roughness_by_family
 from geo.ground.terrain import TerrainResult, solve_plane
+from geo.ground.tile_agreement import measure_tiles
 from geo.optics.surface_prediction import SurfacePrediction
 from geo.radio.arrays import antenna_heights_m, array_type, proximity_shifts_m
 from geo.radio.below_path import BelowPathCheck, check_below_path
@@ -39,6 +40,7 @@ from geo.study.array_setup import array_model
 from geo.study.dem_checks import check_dem_covers_site, dem_extent_in_errors, height_keys
 from geo.study.ground_beyond import GroundBeyond
 from geo.study.surface_sector import SurfaceSector
+from geo.study.tile_checks import tile_findings
 from geo.units import format_length
 
 __all__ = ["Antenna", "Runway", "Mast", "Gpip", "TerrainSource", "StudyResult", "run_study"]
@@ -295,6 +297,9 @@ class TerrainSource:
         The DEM at the threshold (site's datum). [m]
     crs : str
         The rasters' CRS, each once (``EPSG:code (name)``).
+    tile_agreement : geo.ground.tile_agreement.TileAgreement or None
+        Overlap disagreement and seam steps of the tiles over the part of the DEM the study
+        read (None for one raster).
     """
 
     dem_name: str
@@ -306,6 +311,7 @@ class TerrainSource:
     cells_in_zone: int | None = None
     dem_threshold_m: float | None = None
     crs: str = ""
+    tile_agreement: object = None
 
 
 def _placement(spec: SiteSpec, runway: Runway) -> tuple[str, float | None, float, str, str]:
@@ -408,6 +414,7 @@ class _Ground:
     profile: ApproachProfile | None = None
     source: TerrainSource | None = None
     dem_finding: checks.Finding | None = None
+    tile_findings: tuple = ()
 
 
 @naming_site_file
@@ -482,7 +489,7 @@ def run_study(spec: SiteSpec, before_surface=None, surface_check: bool = True) -
         rdh_m=rdh,
         path_height_over_threshold_m=over_threshold,
         gpip=gpip,
-        findings=_in_order(found, ground.dem_finding),
+        findings=_in_order(found, ground.dem_finding, ground.tile_findings),
         intercept_elevation_m=ground.intercept_m,
         terrain=terrain,
         profile=ground.profile,
@@ -544,6 +551,13 @@ def _dem_ground(spec, runway, lam, side, setback, offset, field_name, solve) -> 
         )
         source = TerrainSource(t.dem_path.name, dem.vertical_unit_source, dem.vertical_datum(), t.vertical_offset_m)
         source = _dem_source_details(source, dem, frame, side, setback, offset, terrain, dem_threshold)
+        tiles_found = ()
+        if len(dem.mosaic.tiles) > 1:  # over the part of the DEM the study read
+            from dataclasses import replace
+
+            agreement = measure_tiles(dem.mosaic, dem.mosaic.asked_box)
+            source = replace(source, tile_agreement=agreement)
+            tiles_found = tuple(tile_findings(agreement, spec.units))
     return _Ground(
         setback,
         terrain.ground_at_mast_m,
@@ -555,6 +569,7 @@ def _dem_ground(spec, runway, lam, side, setback, offset, field_name, solve) -> 
         profile,
         source,
         dem_finding,
+        tiles_found,
     )
 
 
@@ -666,8 +681,9 @@ def _top_of_mast_clearance(spec, runway, setback, top) -> MastClearance:
     )
 
 
-def _in_order(findings, dem_finding) -> list:
-    """The findings as shown: the DEM's first, the checks that found nothing left out."""
+def _in_order(findings, dem_finding, tile_findings=()) -> list:
+    """The findings as shown: the DEM's first, then its tiles', the checks that found nothing left out."""
+    findings = [*tile_findings, *findings]
     if dem_finding is not None:  # the likely cause of every other odd height: shown first
         findings = [dem_finding, *findings]
     return [f for f in findings if f is not None]
@@ -721,7 +737,7 @@ def _with_surface(result, found, ground, shifts, before_surface, check=True) -> 
         *sector_findings(sector, spec.units),
         ground_beyond_finding(beyond, spec.units),
     ]
-    found = _in_order(found, ground.dem_finding)
+    found = _in_order(found, ground.dem_finding, ground.tile_findings)
     return replace(result, surface=surface, surface_sector=sector, ground_beyond=beyond, findings=found)
 
 
