@@ -91,9 +91,9 @@ def summary_dict(result: StudyResult, report_pdf: dict | None = None) -> dict:
 
 
 def _runway_dict(result: StudyResult) -> dict:
-    """The runway: bearing, length, width, gradient, code number, threshold and end (metre keys)."""
+    """The runway: bearing, length, width, gradient, code number, threshold and end, magnetic bearing (metre keys)."""
     spec, runway = result.spec, result.runway
-    return {
+    body = {
         "true_bearing_deg": runway.true_bearing_deg,
         "length_m": runway.length_m,
         "width_m": runway.width_m,
@@ -105,6 +105,28 @@ def _runway_dict(result: StudyResult) -> dict:
             "elevation_m": spec.threshold.elevation_m,
         },
         "end": {"lat": spec.end.lat_deg, "lon": spec.end.lon_deg, "elevation_m": spec.end.elevation_m},
+    }
+    if result.magnetic is not None:
+        body["magnetic"] = _magnetic_dict(result)
+    return body
+
+
+def _magnetic_dict(result: StudyResult) -> dict:
+    """The landing direction's magnetic bearing, the variation with its model and date, the designator."""
+    mag, spec = result.magnetic, result.spec
+    v = mag.variation
+    return {
+        "designator": mag.designator,
+        "magnetic_bearing_deg": mag.magnetic_bearing_deg,
+        "bearing_designator": f"{mag.bearing_number:02d}",
+        "variation_east_deg": v.variation_deg,
+        "variation_change_deg_per_year": v.annual_change_deg,
+        "model": v.model,
+        "model_epoch_year": v.model_epoch_year,
+        "date": spec.magnetic_date.isoformat() if spec.magnetic_date is not None else None,
+        "date_year": v.date_year,
+        "date_source": mag.date_source,
+        "variation_unreliable": v.unreliable,
     }
 
 

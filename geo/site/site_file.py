@@ -16,9 +16,11 @@ import hashlib
 import math
 import tomllib
 from dataclasses import dataclass, field, replace
+from datetime import date, datetime
 from pathlib import Path
 from typing import Any
 
+from geo.airfield.magnetic import MODEL_SPAN_YEARS, decimal_year, parse_designator
 from geo.airfield.surfaces import DEFAULT_SURFACES, SurfaceSpec, surfaces_for_code
 from geo.errors import SiteFileError
 from geo.radio.arrays import ARRAY_TYPES
@@ -324,6 +326,11 @@ class SiteSpec:
         Geoid undulation N published with the threshold (ICAO Annex 15), ``h = H + N``. [m]
     report : ReportSpec
         The report's title block and page size (``[report]``).
+    designator : str or None
+        Runway designator of the landing direction, e.g. ``"27"`` or ``"09L"`` (``runway.designator``).
+    magnetic_date : datetime.date or None
+        Date of the magnetic variation the designator is checked with (``runway.magnetic_date``);
+        None: the World Magnetic Model's epoch (:data:`geo.airfield.magnetic.DEFAULT_EPOCH_YEAR`).
     """
 
     name: str
@@ -352,6 +359,8 @@ class SiteSpec:
     objects: tuple[ObjectSpec, ...] = ()
     areas: AreaSpec = field(default_factory=AreaSpec)
     report: ReportSpec = field(default_factory=ReportSpec)
+    designator: str | None = None
+    magnetic_date: date | None = None
 
 
 def load_site(path: str | Path) -> SiteSpec:
@@ -421,6 +430,7 @@ def parse_site(doc: dict[str, Any], source: str = "", sha256: str = "", base_dir
     name, notes = _site_texts(doc)
     runway = _table(doc, "runway")
     threshold, end, width_m, code = _runway(runway, scale, units)
+    designator, magnetic_date = _runway_magnetic(runway)
     angle_deg, localizer_mhz, frequency_mhz, array, target_rdh_m, category = _glide_path(doc, scale, units)
     mast = _mast(_table(doc, "mast"), scale, units, width_m, target_rdh_m)
     base_dir = base_dir if base_dir is not None else Path()
@@ -458,6 +468,8 @@ def parse_site(doc: dict[str, Any], source: str = "", sha256: str = "", base_dir
         objects=_objects(doc.get("object", []), scale, units),
         areas=_areas(doc.get("areas"), scale, units),
         report=_report(doc.get("report")),
+        designator=designator,
+        magnetic_date=magnetic_date,
     )
 
 
@@ -506,7 +518,11 @@ def _site_texts(doc: dict) -> tuple[str, str]:
 
 def _runway(runway: dict, scale: float, units: str) -> tuple[GeoPoint, GeoPoint, float, int | None]:
     """The ``[runway]`` table: threshold, end, width and aerodrome code number (its datum aside)."""
-    _only(runway, "runway", ("threshold", "end", "width", "code", "vertical_datum", "geoid_undulation"))
+    _only(
+        runway,
+        "runway",
+        ("threshold", "end", "width", "code", "vertical_datum", "geoid_undulation", "designator", "magnetic_date"),
+    )
     threshold = _point(runway, "runway", "threshold", scale, units, elevation="required")
     end = _point(runway, "runway", "end", scale, units, elevation="required")
     if abs(threshold.lat_deg - end.lat_deg) < 1e-9 and abs(_wrap(threshold.lon_deg - end.lon_deg)) < 1e-9:
@@ -525,6 +541,38 @@ def _runway(runway: dict, scale: float, units: str) -> tuple[GeoPoint, GeoPoint,
     if code is not None and (isinstance(code, bool) or not isinstance(code, int) or code not in (1, 2, 3, 4)):
         raise SiteFileError("runway.code", f"must be the aerodrome code number 1, 2, 3 or 4 (got {_show(code)})")
     return threshold, end, width_m, code
+
+
+def _runway_magnetic(runway: dict) -> tuple[str | None, date | None]:
+    """``runway.designator`` (01-36 and L, C or R) and ``runway.magnetic_date`` (within the magnetic models)."""
+    designator = runway.get("designator")
+    if designator is not None and (not isinstance(designator, str) or parse_designator(designator) is None):
+        raise SiteFileError(
+            "runway.designator",
+            "must be the landing direction's designator in quotes: two digits 01 to 36, then optionally "
+            f'L, C or R, e.g. "27" or "09L" (got {_show(designator)})',
+        )
+    day = runway.get("magnetic_date")
+    if day is None:
+        return designator, None
+    fix = "a date YYYY-MM-DD, e.g. magnetic_date = 2025-06-01"
+    if isinstance(day, str):
+        try:
+            day = date.fromisoformat(day) if len(day) == 10 else None
+        except ValueError:
+            day = None
+        if day is None:
+            raise SiteFileError("runway.magnetic_date", f"must be {fix} (got {_show(runway['magnetic_date'])})")
+    if isinstance(day, datetime) or not isinstance(day, date):
+        raise SiteFileError("runway.magnetic_date", f"must be {fix}, without a time (got {_show(day)})")
+    first, last = int(MODEL_SPAN_YEARS[0]), int(MODEL_SPAN_YEARS[1]) - 1
+    if not MODEL_SPAN_YEARS[0] <= decimal_year(day) < MODEL_SPAN_YEARS[1]:
+        raise SiteFileError(
+            "runway.magnetic_date",
+            f"{day.isoformat()} is outside the World Magnetic Models mastplan has (WMM-2010 to WMM-2025, "
+            f"{first}-01-01 to {last}-12-31); give a date within them",
+        )
+    return designator, day
 
 
 def _glide_path(doc: dict, scale: float, units: str) -> tuple:

@@ -6,6 +6,7 @@ Modules, in the order a study uses them:
 
 - :mod:`geo.study.site_study`: :func:`~geo.study.site_study.run_study`: one site, every result
 - :mod:`geo.study.array_setup`: the study's array over its plane, shared by every prediction
+- :mod:`geo.study.designator`: ``runway.designator`` against the landing direction's magnetic bearing
 - :mod:`geo.study.dem_checks`: the DEM at the threshold and the mast before the study
 - :mod:`geo.study.dem_causes`: the site-file key behind a DEM that disagrees with the survey, and its fix
 - :mod:`geo.study.tile_checks`: a DEM tile in the wrong unit (stops), tiles that disagree (warnings)

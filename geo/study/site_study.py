@@ -38,6 +38,7 @@ from geo.site.site_file import SiteSpec
 from geo.study import findings as checks
 from geo.study.array_setup import array_model
 from geo.study.dem_checks import check_dem_covers_site, dem_extent_in_errors, height_keys
+from geo.study.designator import RunwayMagnetic, runway_magnetic
 from geo.study.ground_beyond import GroundBeyond
 from geo.study.surface_sector import SurfaceSector
 from geo.study.tile_checks import tile_findings
@@ -211,6 +212,9 @@ class StudyResult:
     ground_beyond : GroundBeyond or None
         The ground along the approach beyond the surface prediction's integration area against the
         plane it is counted as (:mod:`geo.study.ground_beyond`; None without a surface prediction).
+    magnetic : RunwayMagnetic or None
+        The landing direction's magnetic bearing and variation (:mod:`geo.study.designator`; None
+        without ``runway.designator`` and ``runway.magnetic_date``).
     """
 
     spec: SiteSpec
@@ -239,6 +243,7 @@ class StudyResult:
     surface: SurfacePrediction | None = None
     surface_sector: SurfaceSector | None = None
     ground_beyond: GroundBeyond | None = None
+    magnetic: RunwayMagnetic | None = None
 
 
 def channel_of(spec: SiteSpec) -> Channel:
@@ -448,6 +453,7 @@ def run_study(spec: SiteSpec, before_surface=None, surface_check: bool = True) -
     channel = channel_of(spec)
     lam = wavelength_m(channel.glide_path_mhz)
     runway = runway_of(spec)
+    magnetic, designator_finding = runway_magnetic(spec, runway.true_bearing_deg)
     side, setback, offset, field_name, setback_source = _placement(spec, runway)
     solve = setback is None
     if spec.terrain is None:
@@ -460,7 +466,7 @@ def run_study(spec: SiteSpec, before_surface=None, surface_check: bool = True) -
     antennas = _antennas(runway.frame, side, setback, offset, roles, ground, shifts)
     mast = _mast(spec, side, setback, offset, setback_source, ground, antennas[0])
     rdh, over_threshold, gpip = _path_over_runway(spec, runway, ground.intercept_m, setback, offset)
-    found = _siting_findings(spec, channel, runway, rdh, setback, offset, solve, gpip)
+    found = [designator_finding, *_siting_findings(spec, channel, runway, rdh, setback, offset, solve, gpip)]
     if terrain is not None:
         found += _terrain_findings(spec, ground)
     gu, gw = (terrain.plane.forward_gradient, terrain.plane.lateral_gradient) if terrain else (0.0, 0.0)
@@ -504,6 +510,7 @@ def run_study(spec: SiteSpec, before_surface=None, surface_check: bool = True) -
         capture_effect=capture,
         roughness_families=families,
         surface=None,
+        magnetic=magnetic,
     )
     if terrain is None or not spec.prediction.surface:
         return result

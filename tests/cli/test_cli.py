@@ -286,3 +286,19 @@ def test_a_reader_that_goes_away_ends_the_run_quietly(tmp_path, write_site, site
     assert proc.returncode == 141, proc.stderr
     assert "Traceback" not in proc.stderr and "internal error" not in proc.stderr
     assert "BrokenPipeError" not in proc.stderr
+
+
+def test_swapped_runway_ends_exit_2_with_one_line(tmp_path):
+    path = demo_site_without_surface(tmp_path)
+    text = path.read_text(encoding="utf-8")
+    thr = "threshold = { lat = 46.35, lon = -101.2, elevation = 612.0 }"
+    end = "end = { lat = 46.351049044, lon = -101.236344979, elevation = 606.4 }"
+    assert thr in text and end in text
+    swapped = text.replace(thr, "threshold = { lat = 46.351049044, lon = -101.236344979, elevation = 606.4 }@")
+    swapped = swapped.replace(end, "end = { lat = 46.35, lon = -101.2, elevation = 612.0 }").replace("@", "")
+    path.write_text(swapped.replace("code = 4", 'code = 4\ndesignator = "27"', 1), encoding="utf-8")
+    res = _run("run", str(path), "--out", str(tmp_path / "r"))
+    assert res.exit_code == 2
+    assert len(res.output.strip().splitlines()) == 1 and "Traceback" not in res.output
+    assert "runway.threshold: threshold and end look swapped" in res.output
+    assert not (tmp_path / "r").exists()

@@ -177,3 +177,38 @@ def test_bad_report_fields_are_one_line_errors(write_site, site_text, line, fiel
         load_site(write_site(site_text + "\n[report]\n" + line + "\n"))
     message = str(err.value)
     assert field in message and "\n" not in message
+
+
+@pytest.mark.parametrize(
+    "line, words",
+    [
+        ('designator = "37"', "two digits 01 to 36"),
+        ('designator = "9"', "two digits 01 to 36"),
+        ('designator = "00"', "two digits 01 to 36"),
+        ('designator = "27X"', "then optionally L, C or R"),
+        ('designator = "27l"', "then optionally L, C or R"),
+        ("designator = 27", "in quotes"),
+        ("magnetic_date = 2031-01-01", "outside the World Magnetic Models"),
+        ("magnetic_date = 2009-12-31", "outside the World Magnetic Models"),
+        ('magnetic_date = "2024/05/01"', "YYYY-MM-DD"),
+        ('magnetic_date = "2024-02-30"', "YYYY-MM-DD"),
+        ("magnetic_date = 2024-05-01T10:00:00", "without a time"),
+        ("magnetic_date = 2024", "YYYY-MM-DD"),
+    ],
+)
+def test_bad_designator_or_magnetic_date_is_one_clear_error(write_site, site_text, line, words):
+    text = site_text.replace("width = 45", f"width = 45\n{line}", 1)
+    field = line.split(" =")[0]
+    with pytest.raises(SiteFileError) as info:
+        load_site(write_site(text))
+    assert info.value.field == f"runway.{field}" and words in str(info.value)
+    assert "\n" not in str(info.value)
+
+
+def test_designator_and_magnetic_date_are_read(write_site, site_text):
+    import datetime
+
+    text = site_text.replace("width = 45", 'width = 45\ndesignator = "09L"\nmagnetic_date = "2024-05-01"', 1)
+    spec = load_site(write_site(text))
+    assert spec.designator == "09L" and spec.magnetic_date == datetime.date(2024, 5, 1)
+    assert load_site(write_site(site_text)).designator is None

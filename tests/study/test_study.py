@@ -90,3 +90,77 @@ def test_mast_past_the_runway_end_is_an_input_error(write_site, site_text):
 def test_unpaired_frequency_is_a_warning(write_site, site_text):
     result = run_study(load_site(write_site(site_text.replace("localizer_mhz = 109.30", "frequency_mhz = 332.07"))))
     assert {f.code: f for f in result.findings}["channel"].severity == "warning"
+
+
+def _demo_with(tmp_path, runway_lines: str, swap: bool = False):
+    """The demo site (no surface prediction) with lines added to [runway], its ends swapped if asked."""
+    from tests_support import demo_site_without_surface
+
+    path = demo_site_without_surface(tmp_path)
+    text = path.read_text(encoding="utf-8")
+    if swap:
+        thr = "threshold = { lat = 46.35, lon = -101.2, elevation = 612.0 }"
+        end = "end = { lat = 46.351049044, lon = -101.236344979, elevation = 606.4 }"
+        assert thr in text and end in text
+        text = text.replace(thr, "@T").replace(end, "@E")
+        text = text.replace("@T", "threshold = " + end.split(" = ", 1)[1]).replace(
+            "@E", "end = " + thr.split(" = ", 1)[1]
+        )
+    path.write_text(text.replace("code = 4", f"code = 4\n{runway_lines}", 1), encoding="utf-8")
+    return path
+
+
+def _expected_demo_number(year: float) -> int:
+    """The demo's runway number from outside sources: pyproj.Geod's bearing, pygeomag's declination."""
+    from pygeomag import GeoMag
+
+    true_deg = GEOD.inv(-101.2, 46.35, -101.236344979, 46.351049044)[0] % 360.0
+    model = GeoMag(coefficients_file="wmm/WMM_2025.COF" if year >= 2025 else "wmm/WMM_2020.COF")
+    declination_deg = model.calculate(glat=46.35, glon=-101.2, alt=0.612, time=year).d
+    # ICAO Annex 14 Vol I 5.2.2 (from memory): magnetic bearing / 10, rounded.
+    return round(((true_deg - declination_deg) % 360.0) / 10.0)
+
+
+def test_demo_designator_27_agrees_with_its_magnetic_bearing(tmp_path):
+    assert _expected_demo_number(2025.0) == 27  # the demo is runway 27 (demo_airfield/site.toml)
+    result = run_study(load_site(_demo_with(tmp_path, 'designator = "27"')))
+    [found] = [f for f in result.findings if f.code == "runway-designator"]
+    assert found.severity == "pass" and "WMM-2025 at 2025.0" in found.message
+    assert result.magnetic.bearing_number == _expected_demo_number(2025.0)
+    from pygeomag import GeoMag
+
+    declination_deg = GeoMag(coefficients_file="wmm/WMM_2025.COF").calculate(46.35, -101.2, 0.612, 2025.0).d
+    assert result.magnetic.variation.variation_deg == pytest.approx(declination_deg, abs=1e-9)
+    true_deg = GEOD.inv(-101.2, 46.35, -101.236344979, 46.351049044)[0] % 360.0
+    assert result.magnetic.magnetic_bearing_deg == pytest.approx(true_deg - declination_deg, abs=1e-6)
+
+
+def test_demo_magnetic_date_takes_the_model_of_that_date(tmp_path):
+    result = run_study(load_site(_demo_with(tmp_path, 'designator = "27"\nmagnetic_date = 2022-01-01')))
+    assert result.magnetic.variation.model == "WMM-2020"
+    assert result.magnetic.bearing_number == _expected_demo_number(2022.0)
+
+
+def test_swapped_threshold_and_end_are_one_line_error(tmp_path):
+    path = _demo_with(tmp_path, 'designator = "27"', swap=True)
+    with pytest.raises(SiteFileError) as info:
+        run_study(load_site(path))
+    text = str(info.value)
+    assert info.value.field == "runway.threshold" and "\n" not in text
+    assert text.startswith(f"{path}: runway.threshold: threshold and end look swapped: ")
+    assert "swap runway.threshold and runway.end" in text
+    # The reversed demo lands on 092.4 deg true (pyproj.Geod), runway 09 (Annex 14 5.2.2, from memory).
+    assert "makes runway 09" in text and "true 092.4 deg" in text
+
+
+def test_a_designator_of_neither_direction_is_a_warning(tmp_path):
+    result = run_study(load_site(_demo_with(tmp_path, 'designator = "24R"')))
+    [found] = [f for f in result.findings if f.code == "runway-designator"]
+    assert found.severity == "warning"
+    assert 'runway.designator "24R"' in found.message and "runway 27, 3 numbers away" in found.message
+    assert "variation 5.8 deg E" in found.message and "magnetic bearing 266.6 deg" in found.message
+
+
+def test_without_designator_nothing_magnetic_is_computed(tmp_path):
+    result = run_study(load_site(_demo_with(tmp_path, "")))
+    assert result.magnetic is None and not [f for f in result.findings if f.code == "runway-designator"]
