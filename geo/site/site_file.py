@@ -11,12 +11,12 @@ name and one line saying what is allowed.
 
 from __future__ import annotations
 
-import datetime
 import hashlib
 import math
 import tomllib
 from dataclasses import dataclass, field, replace
 from datetime import date, datetime
+from datetime import time as time_of_day
 from pathlib import Path
 from typing import Any
 
@@ -480,7 +480,7 @@ def _report(table) -> ReportSpec:
     if not isinstance(table, dict):
         raise SiteFileError("report", f"must be a table [report] (got {_show(table)})")
     _only(table, "report", ("prepared_by", "checked_by", "revision", "date", "page"))
-    if isinstance(table.get("date"), (datetime.date, datetime.datetime, datetime.time)):
+    if isinstance(table.get("date"), (date, datetime, time_of_day)):
         raise SiteFileError(
             "report.date", f'must be a text in quotes, e.g. date = "2024-05-01" (got a TOML date {table["date"]})'
         )
