@@ -217,26 +217,59 @@ def protected_layer_name(kind: str) -> str:
     return f"Protected areas ({kind})"
 
 
-def _swatch(colour: str, shape: str = "box") -> str:
-    style = "display:inline-block;width:12px;height:12px;margin-right:6px;vertical-align:middle;"
-    if shape == "dot":
-        style += f"border-radius:50%;background:{colour}"
+#: How the centre lines are drawn; their legend swatches use the same colour, weight and dashes.
+CENTRELINE_STYLE = {"color": "#ffffff", "weight": 1.5, "dashArray": "8 6"}
+EXTENDED_STYLE = {"color": "#343a40", "weight": 1, "dashArray": "4 6"}
+RUNWAY_STYLE = {"color": "#495057", "fillColor": "#868e96", "weight": 1, "fillOpacity": 0.6}
+#: The mast's marker: a triangle (the GPIP and the threshold are dots). SVG path in an 18 px box.
+MAST_TRIANGLE = "M9 1 L17 16 L1 16 Z"
+
+
+def _swatch(colour: str, shape: str = "box", dash: str | None = None, ground: str | None = None) -> str:
+    """A legend symbol as inline SVG, drawn as the map draws the layer.
+
+    Parameters
+    ----------
+    colour : str
+        Stroke (and fill) colour.
+    shape : {"box", "dashed", "line", "dot", "triangle"}
+        A filled area, an area with a dashed outline, a line, a dot, the mast's triangle.
+    dash : str, optional
+        SVG dash array of a line.
+    ground : str, optional
+        Background behind a line (a white line drawn on the runway's grey).
+    """
+    if shape == "line":
+        back = f"<rect width='24' height='12' fill='{ground}'/>" if ground else ""
+        dashes = f" stroke-dasharray='{dash}'" if dash else ""
+        body = f"{back}<line x1='0' y1='6' x2='24' y2='6' stroke='{colour}' stroke-width='2'{dashes}/>"
+        width = 24
+    elif shape == "dot":
+        body, width = f"<circle cx='6' cy='6' r='5' fill='{colour}'/>", 12
+    elif shape == "triangle":
+        body = f"<path d='{MAST_TRIANGLE}' transform='scale(0.667)' fill='{colour}' stroke='#ffffff'/>"
+        width = 12
     elif shape == "dashed":
-        style += f"border:2px dashed {colour};width:8px;height:8px"
-    elif shape == "line":
-        style += f"height:0;border-top:2px dashed {colour}"
+        body = f"<rect x='1' y='1' width='10' height='10' fill='none' stroke='{colour}' stroke-dasharray='3 2'/>"
+        width = 12
     else:
-        style += f"background:{colour}"
-    return f"<span style='{style}'></span>"
+        body, width = f"<rect width='12' height='12' fill='{colour}'/>", 12
+    return (
+        f"<svg class='mastplan-swatch mastplan-swatch-{shape}' width='{width}' height='12' "
+        f"style='margin-right:6px;vertical-align:middle'>{body}</svg>"
+    )
 
 
 def legend_items(result: StudyResult) -> list[tuple[str, str, str]]:
     """``(swatch HTML, layer name, note)`` for every layer of the map but the online base map."""
-    items = [(_swatch("#868e96"), RUNWAY_LAYER, "")]
-    items += [(_swatch("#495057", "line"), CENTRELINE_LAYER, ""), (_swatch("#343a40", "line"), EXTENDED_LAYER, "")]
+    items = [(_swatch(RUNWAY_STYLE["fillColor"]), RUNWAY_LAYER, "")]
+    items += [
+        (_swatch(CENTRELINE_STYLE["color"], "line", "4 3", RUNWAY_STYLE["fillColor"]), CENTRELINE_LAYER, ""),
+        (_swatch(EXTENDED_STYLE["color"], "line", "2 3"), EXTENDED_LAYER, ""),
+    ]
     points = _swatch(THRESHOLD_COLOUR, "dot") + _swatch(GPIP_COLOUR, "dot")
-    items.append((points, POINTS_LAYER, "black: threshold, blue: GPIP"))
-    items.append((_swatch(MAST_COLOUR, "dot"), MAST_LAYER, ""))
+    items.append((points, POINTS_LAYER, "dots; black: threshold, blue: GPIP"))
+    items.append((_swatch(MAST_COLOUR, "triangle"), MAST_LAYER, "triangle"))
     for kind, shape in (("path", "box"), ("coverage", "dashed")):
         items += [(_swatch(ZONE_COLOURS[a.role], shape), zone_layer_name(kind, a.role), "") for a in result.antennas]
     items += [
@@ -371,8 +404,8 @@ def write_map(result: StudyResult, layers: dict[str, dict], path: Path) -> None:
         fmap.get_root().html.add_child(folium.Element(_candidates_legend()))
     if "derived_areas" in layers:
         derived_areas_group(layers["derived_areas"]).add_to(fmap)
-    _fit_to_path_zones(fmap, zones, result.spec.threshold)
-    folium.LayerControl(collapsed=False).add_to(fmap)
+    _fit_to_opening_box(fmap, result, layers)
+    folium.LayerControl(collapsed=True).add_to(fmap)
     path.write_text(_stable_ids(inlined.fill(fmap.get_root().render())), encoding="utf-8")
 
 
@@ -461,19 +494,11 @@ def _add_runway_layers(fmap, unit: str, layers: dict[str, dict]) -> None:
         unit,
         RUNWAY_LAYER,
         layers["runway"],
-        {"color": "#495057", "fillColor": "#868e96", "weight": 1, "fillOpacity": 0.6},
+        RUNWAY_STYLE,
         ("name", "length_m", "width_m", "true_bearing_deg"),
     )
-    _add_layer(
-        fmap, unit, CENTRELINE_LAYER, layers["centreline"], {"color": "#ffffff", "weight": 1.5, "dashArray": "8 6"}
-    )
-    _add_layer(
-        fmap,
-        unit,
-        EXTENDED_LAYER,
-        layers["extended_centreline"],
-        {"color": "#343a40", "weight": 1, "dashArray": "4 6"},
-    )
+    _add_layer(fmap, unit, CENTRELINE_LAYER, layers["centreline"], CENTRELINE_STYLE)
+    _add_layer(fmap, unit, EXTENDED_LAYER, layers["extended_centreline"], EXTENDED_STYLE)
 
 
 def _points_group(result: StudyResult):
@@ -503,31 +528,56 @@ def _points_group(result: StudyResult):
 
 
 def _mast_group(result: StudyResult):
-    """The mast as a dot whose popup lists the antennas."""
+    """The mast as a triangle (the threshold and the GPIP are dots) whose popup lists the antennas."""
     import folium
 
     mast = result.mast
     mast_group = folium.FeatureGroup(name=MAST_LAYER)
-    marker = folium.CircleMarker(
-        [mast.lat_deg, mast.lon_deg],
-        radius=8,
-        color=MAST_COLOUR,
-        fill=True,
-        fill_opacity=0.9,
-        tooltip="glide path mast",
-        class_name="mastplan-mast",
+    icon = folium.DivIcon(
+        html=(
+            "<svg width='18' height='18' style='display:block'>"
+            f"<path class='mastplan-mast' d='{MAST_TRIANGLE}' fill='{MAST_COLOUR}' fill-opacity='0.9' "
+            "stroke='#ffffff' stroke-width='1.5'/></svg>"
+        ),
+        icon_size=(18, 18),
+        icon_anchor=(9, 11),
+        class_name="mastplan-mast-icon",
     )
+    marker = folium.Marker([mast.lat_deg, mast.lon_deg], icon=icon, tooltip="glide path mast")
     marker.add_child(_popup(_mast_popup(result), 520))
     marker.add_to(mast_group)
     return mast_group
 
 
-def _fit_to_path_zones(fmap, zones: dict, thr) -> None:
-    """Open on what is shown at first: the path zones, the mast and the threshold."""
-    shown = [f for f in zones["features"] if f["properties"]["kind"] == "path"]
-    view_lons = [c[0] for f in shown for ring in _rings(f["geometry"]) for c in ring] + [thr.lon_deg]
-    view_lats = [c[1] for f in shown for ring in _rings(f["geometry"]) for c in ring] + [thr.lat_deg]
-    fmap.fit_bounds([[min(view_lats), min(view_lons)], [max(view_lats), max(view_lons)]], padding=(30, 30))
+def opening_box(result: StudyResult, layers: dict[str, dict]) -> tuple[float, float, float, float]:
+    """What the map opens on: the runway, the mast, the path zones and the protected areas.
+
+    Not the coverage zones (hidden at first, kilometres long) nor the hillshade.
+
+    Parameters
+    ----------
+    result : StudyResult
+    layers : dict
+        The study's GeoJSON FeatureCollections.
+
+    Returns
+    -------
+    tuple of float
+        West, south, east, north. [deg]
+    """
+    features = [f for f in layers["reflection_zones"]["features"] if f["properties"]["kind"] == "path"]
+    features += layers["runway"]["features"] + layers.get("protected_areas", {"features": []})["features"]
+    points = [c for f in features for ring in _rings(f["geometry"]) for c in ring]
+    points += [(result.mast.lon_deg, result.mast.lat_deg), (result.gpip.lon_deg, result.gpip.lat_deg)]
+    points += [(result.spec.threshold.lon_deg, result.spec.threshold.lat_deg)]
+    lons, lats = [p[0] for p in points], [p[1] for p in points]
+    return (min(lons), min(lats), max(lons), max(lats))
+
+
+def _fit_to_opening_box(fmap, result: StudyResult, layers: dict[str, dict]) -> None:
+    """Open on the runway, the mast and the zones (:func:`opening_box`)."""
+    west, south, east, north = opening_box(result, layers)
+    fmap.fit_bounds([[south, west], [north, east]], padding=(30, 30))
 
 
 def _stable_ids(page: str) -> str:
@@ -540,13 +590,25 @@ def _stable_ids(page: str) -> str:
     return re.sub(r"(?<=_)[0-9a-f]{32}(?![0-9a-f])", number, page)
 
 
+#: matplotlib's viridis colour map (perceptually uniform, readable with colour-blindness) at 17
+#: even steps from 0 to 1; scores between two steps are interpolated.
+VIRIDIS = (
+    "#440154", "#48186a", "#472d7b", "#424086", "#3b528b", "#33638d", "#2c728e", "#26828e", "#21918c",
+    "#1fa088", "#28ae80", "#3fbc73", "#5ec962", "#84d44b", "#addc30", "#d8e219", "#fde725",
+)  # fmt: skip
+#: The colour of candidates without a score (infeasible).
+NO_SCORE_COLOUR = "#adb5bd"
+
+
 def _score_colour(score) -> str:
-    """A colour ramp from red (low score) to green (high); grey for infeasible candidates."""
+    """The viridis colour of a score from 0 (dark purple) to 100 (yellow); grey without a score."""
     if score is None:
-        return "#adb5bd"
-    t = max(0.0, min(1.0, score / 100.0))
-    red, green = int(220 * (1 - t) + 30 * t), int(60 * (1 - t) + 160 * t)
-    return f"#{red:02x}{green:02x}40"
+        return NO_SCORE_COLOUR
+    t = max(0.0, min(1.0, score / 100.0)) * (len(VIRIDIS) - 1)
+    i = min(int(t), len(VIRIDIS) - 2)
+    low, high = (tuple(int(c[k : k + 2], 16) for k in (1, 3, 5)) for c in VIRIDIS[i : i + 2])
+    rgb = (round(a + (b - a) * (t - i)) for a, b in zip(low, high))
+    return "#" + "".join(f"{v:02x}" for v in rgb)
 
 
 def _candidates(fc: dict, unit: str = "m"):
@@ -591,7 +653,7 @@ def _candidates_legend() -> str:
     return (
         "<div class='mastplan-score-legend' style='position:fixed;bottom:48px;left:10px;z-index:1000;"
         "background:#fff;padding:6px 8px;border:1px solid #999;border-radius:4px;font:12px sans-serif'>"
-        f"<b>Sweep candidates: score</b><br>0 {steps} 100<br>"
+        f"<b>Sweep candidates: score (viridis)</b><br>0 {steps} 100<br>"
         f"<span style='display:inline-block;width:10px;height:10px;border-radius:5px;background:{_score_colour(None)}'>"
         "</span> infeasible; large dot: best</div>"
     )
