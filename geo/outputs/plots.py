@@ -147,8 +147,11 @@ def _minor_ticks_as_marks(ax) -> None:
 
 
 def _title(ax, text: str) -> None:
-    """A title at the top of the axes (placed, not searched for: the search draws every tick once more)."""
-    ax.set_title(text, y=1.0)
+    """A title at the top of the axes (placed, not searched for: the search draws every tick once more).
+
+    Above the NM axis when the axes has one (:func:`_distance_axis`, called first).
+    """
+    ax.set_title(text, y=1.0, pad=34.0 if ax.get_xlabel() == DISTANCE_LABEL else 6.0)
 
 
 def _feet_axis(ax, label: str = "elevation [ft]") -> None:
@@ -156,45 +159,99 @@ def _feet_axis(ax, label: str = "elevation [ft]") -> None:
     sec.set_ylabel(label)
 
 
+#: Metres per kilometre and per nautical mile (1 NM = 1852 m exactly).
+_M_PER_KM, _M_PER_NM = 1000.0, 1852.0
+#: The label of the distance axis of every plot along the approach.
+DISTANCE_LABEL = "distance before the threshold [km] (negative: past it, on the runway)"
+NM_LABEL = "distance before the threshold [NM]"
+
+
+def _km_before(along_m):
+    """Distance before the threshold in km from the runway frame's along (negative on the approach)."""
+    return -np.asarray(along_m, dtype=float) / _M_PER_KM
+
+
+def _distance_axis(ax, scale: str = "linear") -> None:
+    """The approach's distance axis: km below, NM above, the approach on the left, the threshold right.
+
+    Parameters
+    ----------
+    ax : matplotlib.axes.Axes
+    scale : {"linear", "log"}
+        Linear by default; log only for axes whose distances are all before the threshold.
+    """
+    if scale == "log":
+        _log_reversed_x(ax)
+    elif not ax.xaxis_inverted():
+        ax.invert_xaxis()
+    ax.set_xlabel(DISTANCE_LABEL)
+    nm = ax.secondary_xaxis(
+        "top", functions=(lambda km: km * _M_PER_KM / _M_PER_NM, lambda nm: nm * _M_PER_NM / _M_PER_KM)
+    )
+    if scale == "log":
+        nm.xaxis.set_major_formatter(_power_formatter_class()())
+        nm.xaxis.set_minor_formatter(_power_formatter_class()(labelOnlyBase=False))
+    nm.set_xlabel(NM_LABEL)
+
+
+def _distance_scale(result) -> str:
+    """The site file's scale of the distance axis along the approach (``[report] distance_axis``)."""
+    report = getattr(result.spec, "report", None)
+    return getattr(report, "distance_axis", "linear")
+
+
 def plot_profile(result: StudyResult, path: Path) -> None:
-    """Terrain and path along the extended centre line: the whole approach and the runway end of it."""
+    """Terrain and path along the extended centre line: the whole approach and the runway end of it.
+
+    The profile samples the DEM on the centre line only (no width across it), so the terrain is one
+    line without a band of heights across; the legend says so.
+    """
     prof, terrain, mast = result.profile, result.terrain, result.mast
     zone_near = mast.setback_m - terrain.zone.far_m
     zone_far = mast.setback_m - terrain.zone.near_m
     fig, axes = _figure(11, 8.5, rows=2)
-    fig.subplots_adjust(left=0.07, right=0.92, top=0.95, bottom=0.07, hspace=0.3)
+    fig.subplots_adjust(left=0.07, right=0.92, top=0.9, bottom=0.07, hspace=0.55)
     for ax, (lo, hi) in zip(axes, [(prof.along_m[0], prof.along_m[-1]), (-1500.0, mast.setback_m + 700.0)]):
         sel = (prof.along_m >= lo) & (prof.along_m <= hi)
-        x = prof.along_m[sel]
-        ax.fill_between(
+        x = _km_before(prof.along_m[sel])
+        ax.plot(
             x,
-            np.nanmin(prof.terrain_m[sel]) - 5.0,
             prof.terrain_m[sel],
-            color="#c8b48c",
-            label="terrain under the centre line (DEM)",
+            color="#8c6d31",
+            lw=1.2,
+            label="terrain on the centre line (DEM; sampled on the line only, so no band across)",
         )
         ax.plot(x, prof.path_straight_m[sel], color="#1f5fa8", label="straight path (from the RPI)")
         ax.plot(x, prof.path_actual_m[sel], color="#d9480f", ls="--", label="actual path (cone about the mast)")
         ax.axvline(0.0, color="k", lw=0.8)
-        ax.annotate("threshold", (0.0, ax.get_ylim()[1]), xytext=(3, -12), textcoords="offset points", fontsize=8)
-        ax.plot([result.gpip.along_m], [result.gpip.elevation_m], "v", color="#1f5fa8", label="GPIP")
+        ax.annotate(
+            "threshold",
+            (0.0, 1.0),
+            xycoords=("data", "axes fraction"),
+            xytext=(3, -12),
+            textcoords="offset points",
+            fontsize=8,
+        )
+        ax.plot(_km_before([result.gpip.along_m]), [result.gpip.elevation_m], "v", color="#1f5fa8", label="GPIP")
         top = mast.plane_elevation_m + result.antennas[-1].height_m
         ax.plot(
-            [mast.setback_m, mast.setback_m],
+            _km_before([mast.setback_m, mast.setback_m]),
             [mast.base_elevation_m, top],
             color="#2b8a3e",
             lw=3,
             label=f"mast abeam ({mast.offset_m:.0f} m off the centre line)",
         )
-        ax.axvspan(zone_near, zone_far, color="#2b8a3e", alpha=0.12, label="reflection zone used for the plane")
-        ax.set_xlim(lo, hi)
-        ax.set_xlabel("distance from the threshold along the centre line [m] (negative: approach)")
+        ax.axvspan(
+            *_km_before([zone_near, zone_far]), color="#2b8a3e", alpha=0.12, label="reflection zone used for the plane"
+        )
+        ax.set_xlim(*_km_before([lo, hi]))
+        _distance_axis(ax)
         ax.set_ylabel("elevation [m]")
         _feet_axis(ax)
         ax.grid(alpha=0.3)
-    _title(axes[0], f"{result.spec.name}: approach profile")
-    axes[0].legend(loc="upper right", fontsize=8)
-    _title(axes[1], "near the runway")
+    _title(axes[0], f"{result.spec.name}: ground and glide path along the approach")
+    axes[0].legend(loc="lower left", fontsize=8)
+    _title(axes[1], "Near the runway: ground, glide path and mast")
     _save(fig, path)
 
 
@@ -242,15 +299,14 @@ def plot_ddm(result: StudyResult, path: Path) -> None:
     p = result.prediction
     cols = path_columns(result)
     fig, axes = _figure(11, 8.5, rows=2)
-    fig.subplots_adjust(left=0.08, right=0.97, top=0.95, bottom=0.07, hspace=0.3)
+    fig.subplots_adjust(left=0.08, right=0.97, top=0.9, bottom=0.07, hspace=0.55)
     ax = axes[0]
     before = cols["along_m"] < 0.0
-    nm = -cols["along_m"][before] / 1852.0
-    ax.plot(nm, cols["ddm_on_nominal"][before], color="#1f5fa8", label="with proximity shifts")
-    ax.plot(nm, cols["ddm_on_nominal_no_shift"][before], color="#d9480f", ls="--", label="antennas not shifted")
+    km = _km_before(cols["along_m"][before])
+    ax.plot(km, cols["ddm_on_nominal"][before], color="#1f5fa8", label="with proximity shifts")
+    ax.plot(km, cols["ddm_on_nominal_no_shift"][before], color="#d9480f", ls="--", label="antennas not shifted")
     ax.axhline(0.0, color="k", lw=0.8)
-    _log_reversed_x(ax)
-    ax.set_xlabel("distance before the threshold [NM]")
+    _distance_axis(ax, _distance_scale(result))
     ax.set_ylabel("DDM on the designed straight path (+: 150 Hz)")
     _title(ax, f"{result.spec.name}: DDM along the designed path")
     ax.legend(fontsize=8)
@@ -270,6 +326,7 @@ def plot_ddm(result: StudyResult, path: Path) -> None:
     ax.set_xlabel("elevation angle [deg]")
     ax.set_ylabel("DDM (+: 150 Hz, below the path)")
     ax.set_ylim(-0.4, 0.4)
+    _title(ax, "DDM against the elevation angle, far from the runway")
     ax.legend(fontsize=8)
     ax.grid(alpha=0.3)
     _save(fig, path)
@@ -281,10 +338,12 @@ def plot_path(result: StudyResult, path: Path) -> None:
 
     cols = path_columns(result)
     fig, axes = _figure(11, 8.5, rows=2)
-    fig.subplots_adjust(left=0.08, right=0.92, top=0.95, bottom=0.07, hspace=0.3)
-    x = cols["along_m"]
+    fig.subplots_adjust(left=0.08, right=0.92, top=0.9, bottom=0.07, hspace=0.55)
+    along = cols["along_m"]
+    x = _km_before(along)
     for ax, near in zip(axes, (False, True)):
-        sel = x >= -1500.0 if near else np.ones(x.size, dtype=bool)
+        sel = along >= -1500.0 if near else np.ones(along.size, dtype=bool)
+        _distance_axis(ax)
         if near:
             ax.plot(
                 x[sel],
@@ -301,58 +360,92 @@ def plot_path(result: StudyResult, path: Path) -> None:
             )
             ax.axhline(0.0, color="k", lw=0.8)
             ax.set_ylabel("height difference [m]")
-            _title(ax, "near the threshold: what the proximity shifts buy")
+            _title(ax, "Near the threshold: how much the proximity shifts change the path")
         else:
             ax.plot(x, cols["nominal_height_m"], color="#868e96", label="designed straight path")
             ax.plot(x, cols["geometric_actual_height_m"], color="#2b8a3e", ls=":", label="geometric actual path (cone)")
             ax.plot(x, cols["predicted_height_m"], color="#1f5fa8", label="predicted path (DDM = 0)")
             ax.set_ylabel("height above the threshold [m]")
             _feet_axis(ax, "height above the threshold [ft]")
-            _title(ax, f"{result.spec.name}: predicted path")
-        ax.set_xlabel("distance from the threshold along the centre line [m]")
+            _title(ax, f"{result.spec.name}: predicted glide path against the designed one")
         ax.legend(fontsize=8)
         ax.grid(alpha=0.3)
     _save(fig, path)
 
 
+def _segment_labels(ax, labels: list[tuple[float, float, str]]) -> list:
+    """Label each segment above its limit line; a label that would overlap another moves up a line.
+
+    The axes' limits must be final. Each label is centred on its segment, kept inside the axes
+    across, and measured as drawn (the figure's renderer); it is raised by its own height until its
+    box meets none of those placed before it.
+
+    Parameters
+    ----------
+    ax : matplotlib.axes.Axes
+    labels : list of (float, float, str)
+        Each label's x and y (data) and its text.
+
+    Returns
+    -------
+    list of matplotlib.text.Annotation
+    """
+    renderer = ax.figure.canvas.get_renderer()
+    frame = ax.get_window_extent(renderer)
+    placed = []
+    for x, y, text in labels:
+        note = ax.annotate(
+            text, (x, y), xytext=(0, 4), textcoords="offset points", ha="center", fontsize=7, gid="segment-label"
+        )
+        box = note.get_window_extent(renderer)
+        shift_x = max(frame.x0 + 2 - box.x0, 0.0) + min(frame.x1 - 2 - box.x1, 0.0)
+        shift_y = 0.0
+        while any(box.translated(shift_x, shift_y).overlaps(other.get_window_extent(renderer)) for other in placed):
+            shift_y += box.height + 1.0
+        points = 72.0 / ax.figure.dpi
+        note.xyann = (shift_x * points, 4 + shift_y * points)
+        placed.append(note)
+    return placed
+
+
 def plot_surface_structure(result: StudyResult, path: Path) -> None:
     """DDM on the designed path over the DEM surface beside image theory, and the bends against the limits."""
     sp = result.surface
+    scale = _distance_scale(result)
     fig, axes = _figure(11, 8.5, rows=2)
-    fig.subplots_adjust(left=0.08, right=0.97, top=0.95, bottom=0.07, hspace=0.3)
+    fig.subplots_adjust(left=0.08, right=0.97, top=0.9, bottom=0.07, hspace=0.55)
     before = sp.along_m < 0.0
-    nm = -sp.along_m[before] / 1852.0
+    km = _km_before(sp.along_m[before])
     ax = axes[0]
-    ax.plot(nm, sp.ddm_image[before], color="#1f5fa8", label="image theory over the plane")
-    ax.plot(nm, sp.ddm_nominal[before], color="#d9480f", lw=0.9, label="physical optics over the DEM surface")
+    ax.plot(km, sp.ddm_image[before], color="#1f5fa8", label="image theory over the plane")
+    ax.plot(km, sp.ddm_nominal[before], color="#d9480f", lw=0.9, label="physical optics over the DEM surface")
     ax.axhline(0.0, color="k", lw=0.8)
-    _log_reversed_x(ax)
-    ax.set_xlabel("distance before the threshold [NM]")
+    _distance_axis(ax, scale)
     ax.set_ylabel("DDM on the designed straight path (+: 150 Hz)")
-    _title(ax, f"{result.spec.name}: DDM over the surface (a prediction; flight inspection decides)")
+    _title(
+        ax, f"{result.spec.name}: DDM along the approach over the real ground (a prediction; flight inspection decides)"
+    )
     ax.legend(fontsize=8)
     ax.grid(alpha=0.3)
     ax = axes[1]
-    ax.plot(sp.bend_distance_m / 1852.0, sp.bend_ddm, color="#d9480f", lw=0.9, label="bends")
+    ax.plot(np.asarray(sp.bend_distance_m) / _M_PER_KM, sp.bend_ddm, color="#d9480f", lw=0.9, label="bends")
+    labels = []
     for seg in sp.structure:
-        x = np.array([seg.from_m, seg.to_m]) / 1852.0
+        x = np.array([seg.from_m, seg.to_m]) / _M_PER_KM
         for sign in (1.0, -1.0):
             ax.plot(x, [sign * seg.limit_ddm] * 2, color="#c92a2a", ls="--", lw=1)
         departure = "" if seg.departure_95_ddm is None else f", departure {seg.departure_95_ddm:.4f}"
-        ax.annotate(
-            f"{seg.segment}: 95 % {seg.bend_95_ddm:.4f}{departure}",
-            (x.mean(), seg.limit_ddm),
-            xytext=(0, 4),
-            textcoords="offset points",
-            ha="center",
-            fontsize=7,
-        )
-    _log_reversed_x(ax)
-    ax.set_xlabel("distance before the threshold [NM]")
+        middle = float(np.sqrt(x[0] * x[1])) if scale == "log" and x.min() > 0 else float(x.mean())
+        labels.append((middle, seg.limit_ddm, f"{seg.segment}: 95 % {seg.bend_95_ddm:.4f}{departure}"))
+    _distance_axis(ax, scale)
+    highest = max([abs(seg.limit_ddm) for seg in sp.structure] + [float(np.nanmax(np.abs(sp.bend_ddm)))])
+    ax.set_ylim(-1.2 * highest, 1.2 * highest + 0.04 * len(labels) * highest)
+    ax.set_xlim(ax.get_xlim())
     ax.set_ylabel("bend: filtered DDM minus the segment's line or mean")
-    _title(ax, "path bends against the Annex 10 limits (dashed; values from memory, confirm the edition)")
-    ax.legend(fontsize=8)
+    _title(ax, "Path bends against the Annex 10 limits (dashed; values from memory, confirm the edition)")
+    ax.legend(fontsize=8, loc="lower left")
     ax.grid(alpha=0.3)
+    _segment_labels(ax, labels)
     _save(fig, path)
 
 

@@ -262,6 +262,9 @@ class ReportSpec:
         taken from the clock.
     page : {"A4", "Letter"}
         Page size of ``report.pdf``.
+    distance_axis : {"linear", "log"}
+        Scale of the distance axis of the plots along the approach that show only the approach
+        (DDM along the path, surface structure); linear unless the site file asks for log.
     """
 
     prepared_by: str = ""
@@ -269,10 +272,13 @@ class ReportSpec:
     revision: str = ""
     date: str = ""
     page: str = "A4"
+    distance_axis: str = "linear"
 
 
 #: Page sizes of ``report.pdf`` (``[report] page``).
 REPORT_PAGES = ("A4", "Letter")
+#: Scales of the plots' distance axis along the approach (``[report] distance_axis``).
+DISTANCE_AXES = ("linear", "log")
 
 
 @dataclass(frozen=True)
@@ -474,12 +480,12 @@ def parse_site(doc: dict[str, Any], source: str = "", sha256: str = "", base_dir
 
 
 def _report(table) -> ReportSpec:
-    """The optional ``[report]`` table: title block texts and the PDF's page size."""
+    """The optional ``[report]`` table: title block texts, the PDF's page size, the plots' distance axis."""
     if table is None:
         return ReportSpec()
     if not isinstance(table, dict):
         raise SiteFileError("report", f"must be a table [report] (got {_show(table)})")
-    _only(table, "report", ("prepared_by", "checked_by", "revision", "date", "page"))
+    _only(table, "report", ("prepared_by", "checked_by", "revision", "date", "page", "distance_axis"))
     if isinstance(table.get("date"), (date, datetime, time_of_day)):
         raise SiteFileError(
             "report.date", f'must be a text in quotes, e.g. date = "2024-05-01" (got a TOML date {table["date"]})'
@@ -494,7 +500,10 @@ def _report(table) -> ReportSpec:
     page = table.get("page", "A4")
     if not _is_choice(page, REPORT_PAGES):
         raise SiteFileError("report.page", f'must be "A4" or "Letter" (got {_show(page)})')
-    return ReportSpec(**texts, page=page)
+    axis = table.get("distance_axis", "linear")
+    if not _is_choice(axis, DISTANCE_AXES):
+        raise SiteFileError("report.distance_axis", f'must be "linear" or "log" (got {_show(axis)})')
+    return ReportSpec(**texts, page=page, distance_axis=axis)
 
 
 def _units(doc: dict) -> tuple[str, float]:
