@@ -23,7 +23,7 @@ test: $(BIN)/.installed
 	$(BIN)/python -m pytest -n auto --dist worksteal
 
 lint: $(BIN)/.installed
-	$(BIN)/ruff check geo cli tests benchmarks demo_airfield
+	$(BIN)/ruff check geo cli tests benchmarks demo_airfield docs examples
 
 bench: $(BIN)/.installed
 	$(BIN)/python benchmarks/bench_run.py

@@ -10,6 +10,7 @@ import click
 from cli.areas import areas
 from cli.batch import batch
 from cli.demo import demo
+from cli.new_site import new_site
 from cli.run import run
 from cli.sweep import sweep
 from geo.version import __version__
@@ -29,6 +30,7 @@ main.add_command(demo)
 main.add_command(sweep)
 main.add_command(batch)
 main.add_command(areas)
+main.add_command(new_site)
 
 
 def entry() -> None:

@@ -25,6 +25,7 @@ from geo.airfield.surfaces import DEFAULT_SURFACES, SurfaceSpec, surfaces_for_co
 from geo.errors import SiteFileError
 from geo.radio.arrays import ARRAY_TYPES
 from geo.site.channels import CHANNEL_PAIRS_MHZ, GLIDE_PATH_BAND_MHZ
+from geo.site.keys import keys_of
 from geo.units import LENGTH_UNITS, format_length
 
 __all__ = [
@@ -424,14 +425,7 @@ def parse_site(doc: dict[str, Any], source: str = "", sha256: str = "", base_dir
     """
     if not isinstance(doc, dict):
         raise SiteFileError("", "the site document must be a TOML table")
-    _only(
-        doc,
-        "",
-        (
-            "units", "site", "runway", "glide_path", "mast", "terrain", "protected_area", "prediction", "surfaces",
-            "object", "areas", "report",
-        ),
-    )  # fmt: skip
+    _only(doc, "", keys_of(""))
     units, scale = _units(doc)
     name, notes = _site_texts(doc)
     runway = _table(doc, "runway")
@@ -485,7 +479,7 @@ def _report(table) -> ReportSpec:
         return ReportSpec()
     if not isinstance(table, dict):
         raise SiteFileError("report", f"must be a table [report] (got {_show(table)})")
-    _only(table, "report", ("prepared_by", "checked_by", "revision", "date", "page", "distance_axis"))
+    _only(table, "report", keys_of("report"))
     if isinstance(table.get("date"), (date, datetime, time_of_day)):
         raise SiteFileError(
             "report.date", f'must be a text in quotes, e.g. date = "2024-05-01" (got a TOML date {table["date"]})'
@@ -519,7 +513,7 @@ def _units(doc: dict) -> tuple[str, float]:
 def _site_texts(doc: dict) -> tuple[str, str]:
     """The ``[site]`` table: the site's name and notes."""
     site = _table(doc, "site")
-    _only(site, "site", ("name", "notes"))
+    _only(site, "site", keys_of("site"))
     name = _text(site, "site", "name", required=True)
     notes = _text(site, "site", "notes", required=False) or ""
     return name, notes
@@ -527,11 +521,7 @@ def _site_texts(doc: dict) -> tuple[str, str]:
 
 def _runway(runway: dict, scale: float, units: str) -> tuple[GeoPoint, GeoPoint, float, int | None]:
     """The ``[runway]`` table: threshold, end, width and aerodrome code number (its datum aside)."""
-    _only(
-        runway,
-        "runway",
-        ("threshold", "end", "width", "code", "vertical_datum", "geoid_undulation", "designator", "magnetic_date"),
-    )
+    _only(runway, "runway", keys_of("runway"))
     threshold = _point(runway, "runway", "threshold", scale, units, elevation="required")
     end = _point(runway, "runway", "end", scale, units, elevation="required")
     if abs(threshold.lat_deg - end.lat_deg) < 1e-9 and abs(_wrap(threshold.lon_deg - end.lon_deg)) < 1e-9:
@@ -587,7 +577,7 @@ def _runway_magnetic(runway: dict) -> tuple[str | None, date | None]:
 def _glide_path(doc: dict, scale: float, units: str) -> tuple:
     """The ``[glide_path]`` table: angle, localizer or glide path frequency, array, target RDH, category."""
     gp = _table(doc, "glide_path")
-    _only(gp, "glide_path", ("angle_deg", "localizer_mhz", "frequency_mhz", "array", "target_rdh", "category"))
+    _only(gp, "glide_path", keys_of("glide_path"))
     angle_deg = _number(
         gp,
         "glide_path",
@@ -673,7 +663,7 @@ def _surfaces(table, scale: float, units: str, runway_code: int | None = None) -
         "balked_landing_slope",
     )
     flag = "allow_in_obstacle_free_zone"
-    _only(table, "surfaces", (*lengths, *ratios, flag, "source"))
+    _only(table, "surfaces", keys_of("surfaces"))
     length = {"unit": units, "required": False, "at_least": 0.0, "at_most": 2000.0}
     ratio = {"unit": "(rise per run)", "required": False, "above": 0.0, "at_most": 1.0}
     values = {f"{k}_m": _number(table, "surfaces", k, scale, **length) for k in lengths}
@@ -689,19 +679,7 @@ def _surfaces(table, scale: float, units: str, runway_code: int | None = None) -
 def _prediction(table, antennas: int) -> PredictionSpec:
     if not isinstance(table, dict):
         raise SiteFileError("prediction", f"must be a table [prediction] (got {_show(table)})")
-    _only(
-        table,
-        "prediction",
-        (
-            "relative_permittivity",
-            "conductivity",
-            "half_sector",
-            "csb_feed",
-            "sbo_feed",
-            "below_path_down_to",
-            "surface",
-        ),
-    )
+    _only(table, "prediction", keys_of("prediction"))
     surface = table.get("surface", True)
     if not isinstance(surface, bool):
         raise SiteFileError("prediction.surface", f"must be true or false (got {_show(surface)})")
@@ -775,7 +753,7 @@ def _protected_areas(items, scale: float, units: str) -> tuple[ProtectedArea, ..
         prefix = f"protected_area[{i}]"
         if not isinstance(item, dict):
             raise SiteFileError(prefix, f"must be a table [[protected_area]] (got {_show(item)})")
-        _only(item, prefix, ("name", "kind", "ahead", "behind", "toward_runway", "away", "outline"))
+        _only(item, prefix, keys_of("protected_area"))
         name = _text(item, prefix, "name", required=True)
         kind = item.get("kind")
         if not _is_choice(kind, ("critical", "sensitive")):
@@ -823,7 +801,7 @@ def _outline(value, name: str, scale: float, units: str) -> tuple[tuple[float, f
 def _terrain(table, scale: float, units: str, base_dir: Path) -> TerrainSpec:
     if not isinstance(table, dict):
         raise SiteFileError("terrain", f"must be a table [terrain] (got {_show(table)})")
-    _only(table, "terrain", ("dem", "vertical_offset", "vertical_unit", "min_clearance", "vertical_datum"))
+    _only(table, "terrain", keys_of("terrain"))
     paths = _dem_paths(table, base_dir)
     dem_datum = _datum(table, "terrain")
     offset = (
@@ -849,7 +827,7 @@ def _terrain(table, scale: float, units: str, base_dir: Path) -> TerrainSpec:
 
 
 def _mast(mast: dict, scale: float, units: str, width_m: float, target_rdh_m) -> MastSpec:
-    _only(mast, "mast", ("side", "offset", "setback", "base_elevation", "position"))
+    _only(mast, "mast", keys_of("mast"))
     base = _number(
         mast,
         "mast",
@@ -1000,8 +978,7 @@ def _point(table: dict, prefix: str, key: str, scale: float, units: str, elevati
         )
     if not isinstance(value, dict):
         raise SiteFileError(name, f"must be an inline table {{ lat = ..., lon = ... }} (got {_show(value)})")
-    allowed = ("lat", "lon") if elevation == "absent" else ("lat", "lon", "elevation")
-    _only(value, name, allowed)
+    _only(value, name, keys_of(name))
     lat = _number(value, name, "lat", 1.0, required=True, at_least=-90.0, at_most=90.0, unit="deg")
     if abs(lat) > 89.9:
         raise SiteFileError(_join(name, "lat"), f"{lat:g} deg is too close to a pole for a runway frame")
@@ -1096,7 +1073,7 @@ def _objects(items, scale: float, units: str) -> tuple[ObjectSpec, ...]:
         prefix = f"object[{i}]"
         if not isinstance(item, dict):
             raise SiteFileError(prefix, f"must be a table [[object]] (got {_show(item)})")
-        _only(item, prefix, ("name", "height", "length", "width", "base", "headings"))
+        _only(item, prefix, keys_of("object"))
         name = _text(item, prefix, "name", required=True)
         size = {"required": True, "unit": units, "above": 0.0, "at_most": 100.0}
         height = _number(item, prefix, "height", scale, **size)
@@ -1125,8 +1102,7 @@ def _areas(table, scale: float, units: str) -> AreaSpec:
         return AreaSpec()
     if not isinstance(table, dict):
         raise SiteFileError("areas", f"must be a table [areas] (got {_show(table)})")
-    keys = ("critical_share", "sensitive_share", "grid", "ahead", "behind", "away", "beyond", "front_to_back_db")
-    _only(table, "areas", keys)
+    _only(table, "areas", keys_of("areas"))
     d = AreaSpec()
     share = {"required": False, "unit": "(fraction of the limit)", "above": 0.0, "at_most": 1.0}
     critical = _number(table, "areas", "critical_share", 1.0, **share)

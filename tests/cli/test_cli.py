@@ -302,3 +302,54 @@ def test_swapped_runway_ends_exit_2_with_one_line(tmp_path):
     assert len(res.output.strip().splitlines()) == 1 and "Traceback" not in res.output
     assert "runway.threshold: threshold and end look swapped" in res.output
     assert not (tmp_path / "r").exists()
+
+
+NEW_SITE = ("--threshold", "47.3", "-100.9", "560", "--end", "47.3", "-100.87", "562")
+
+
+@pytest.mark.parametrize("units, array", [("m", "null-reference"), ("ft", "capture-effect")])
+def test_new_site_writes_a_file_that_loads_and_runs(tmp_path, units, array):
+    from geo.site.site_file import load_site
+
+    path = tmp_path / "new" / "rwy.toml"  # its folder is made
+    res = _run("new-site", str(path), *NEW_SITE, "--units", units, "--array", array, "--name", 'Plover "Flats"')
+    assert res.exit_code == 0, res.output
+    spec = load_site(path)
+    assert (spec.units, spec.array, spec.name) == (units, array, 'Plover "Flats"')
+    # The elevations are in the file's unit: 560 ft is 170.688 m (1 ft = 0.3048 m exactly).
+    assert spec.threshold.elevation_m == pytest.approx(560 * (0.3048 if units == "ft" else 1.0))
+    assert spec.terrain is None and spec.mast.setback_m is None and spec.target_rdh_m is not None
+    assert "# [terrain]" in path.read_text(encoding="utf-8")  # commented, as a starter
+    res = _run("run", str(path), "--out", str(tmp_path / "r"), "--outputs", "summary")
+    assert res.exit_code == 0, res.output
+    summary = json.loads((tmp_path / "r" / "summary.json").read_text())
+    assert summary["input"]["units"] == units and summary["array"] == array
+
+
+def test_new_site_refuses_an_existing_file_and_leaves_it_as_it_was(tmp_path):
+    path = tmp_path / "site.toml"
+    path.write_text("units = 'm'  # the user's own\n", encoding="utf-8")
+    res = _run("new-site", str(path), *NEW_SITE)
+    assert res.exit_code == 2
+    assert res.output.strip().splitlines() == [f"mastplan: error: {path}: already exists; choose another name, "
+                                               "or add --overwrite to replace it"]  # fmt: skip
+    assert path.read_text(encoding="utf-8") == "units = 'm'  # the user's own\n"
+    assert _run("new-site", str(path), *NEW_SITE, "--overwrite").exit_code == 0
+    assert "mastplan new-site" in path.read_text(encoding="utf-8")
+    assert [p.name for p in tmp_path.iterdir()] == ["site.toml"]  # no temporary file left
+
+
+@pytest.mark.parametrize(
+    "args, option",
+    [
+        (("--threshold", "95", "-100.9", "560", "--end", "47.3", "-100.87", "562"), "--threshold"),
+        (("--threshold", "47.3", "-100.9", "560", "--end", "47.3", "-100.9", "560"), "--end"),
+        (("--threshold", "47.3", "-100.9", "560", "--end", "47.3", "-100.87", "99999"), "--end"),
+    ],
+)
+def test_new_site_bad_position_names_the_option_and_writes_nothing(tmp_path, args, option):
+    path = tmp_path / "site.toml"
+    res = _run("new-site", str(path), *args)
+    assert res.exit_code == 2
+    assert len(res.output.strip().splitlines()) == 1 and res.output.startswith(f"mastplan: error: {option}: ")
+    assert not path.exists()
