@@ -246,8 +246,8 @@ def plot_ddm(result: StudyResult, path: Path) -> None:
     ax = axes[0]
     before = cols["along_m"] < 0.0
     nm = -cols["along_m"][before] / 1852.0
-    ax.plot(nm, cols["ddm_on_nominal"][before], color="#1f5fa8", label="with proximity shifts")
-    ax.plot(nm, cols["ddm_on_nominal_no_shift"][before], color="#d9480f", ls="--", label="antennas not shifted")
+    ax.plot(nm, cols["ddm_on_designed"][before], color="#1f5fa8", label="with proximity shifts")
+    ax.plot(nm, cols["ddm_on_designed_no_shift"][before], color="#d9480f", ls="--", label="antennas not shifted")
     ax.axhline(0.0, color="k", lw=0.8)
     _log_reversed_x(ax)
     ax.set_xlabel("distance before the threshold [NM]")
@@ -303,7 +303,7 @@ def plot_path(result: StudyResult, path: Path) -> None:
             ax.set_ylabel("height difference [m]")
             _title(ax, "near the threshold: what the proximity shifts buy")
         else:
-            ax.plot(x, cols["nominal_height_m"], color="#868e96", label="designed straight path")
+            ax.plot(x, cols["designed_height_m"], color="#868e96", label="designed straight path")
             ax.plot(x, cols["geometric_actual_height_m"], color="#2b8a3e", ls=":", label="geometric actual path (cone)")
             ax.plot(x, cols["predicted_height_m"], color="#1f5fa8", label="predicted path (DDM = 0)")
             ax.set_ylabel("height above the threshold [m]")
