@@ -12,6 +12,7 @@ from pathlib import Path
 import numpy as np
 
 from geo.optics.areas import AREAS_CAUTION, AreasResult
+from geo.outputs.summary import INFINITE_SHARE, share_value
 from geo.outputs.webmap import DERIVED_AREA_COLOURS
 from geo.units import with_foot_twins
 from geo.version import __version__
@@ -93,17 +94,17 @@ def areas_rows(areas: AreasResult) -> list[dict]:
                     "at_mast": bool(d.at_mast[g]),
                 }
                 for i, name in enumerate(names):
-                    row[f"ddm {name}"] = _cell(per_segment[g, i], 6)
+                    row[f"bend_95_ddm_{_slug(name)}"] = _cell(per_segment[g, i], 6)
                 row["share_of_limit"] = _cell(share[g], 4)
                 rows.append(row)
     return rows
 
 
 def _cell(value: float, decimals: int) -> str:
-    """A table cell: empty when not computed (NaN), ``inf`` when the object outweighs the array's carrier."""
+    """A table cell: empty when not computed (NaN), ``infinity`` when the object outweighs the array's carrier."""
     if math.isnan(value):
         return ""
-    return "inf" if math.isinf(value) else f"{value:.{decimals}f}"
+    return INFINITE_SHARE if math.isinf(value) else f"{value:.{decimals}f}"
 
 
 def write_areas_csv(areas: AreasResult, path: Path) -> None:
@@ -187,7 +188,7 @@ def areas_summary(areas: AreasResult) -> dict:
             "width_m": o.width_m,
             "headings": list(o.headings),
             "sizes_source": o.source,
-            "largest_share_of_limit": _finite(np.max(np.where(d.at_mast, -np.inf, d.worst_share))),
+            "largest_share_of_limit": _largest_share(d),
             "positions_against_mast": int(d.at_mast.sum()),
         }
         for area in areas.areas:
@@ -233,9 +234,10 @@ def areas_summary(areas: AreasResult) -> dict:
     return with_foot_twins(summary)
 
 
-def _finite(value) -> float | None:
-    value = float(value)
-    return value if math.isfinite(value) else None
+def _largest_share(disturbance) -> float | str | None:
+    """The worst share of the limit off the mast: a number, ``"infinity"``, or None with no position."""
+    shares = disturbance.worst_share[~disturbance.at_mast]
+    return share_value(float(np.max(shares))) if shares.size else None
 
 
 def write_areas(areas: AreasResult, out_dir, overwrite: bool = False, plots: bool = True) -> Path:
@@ -270,7 +272,7 @@ def write_areas(areas: AreasResult, out_dir, overwrite: bool = False, plots: boo
         write_json(folder / "layers" / "derived_areas.geojson", layers["derived_areas"], compact=True)
         write_areas_csv(areas, folder / "areas.csv")
         write_gpkg(layers, folder / "areas.gpkg")
-        write_kml(f"{spec.name}: derived areas", layers, folder / "areas.kml")
+        write_kml(f"{spec.name}: derived areas", layers, folder / "areas.kml", spec.units)
         write_map(areas.study, layers, folder / "map.html")
         if plots:
             for k, d in enumerate(areas.disturbances):

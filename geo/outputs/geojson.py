@@ -243,7 +243,7 @@ def _extended_centreline_layer(result: StudyResult) -> dict:
 
 
 def _mast_layer(result: StudyResult) -> dict:
-    """The mast with its placement, array and frequency."""
+    """The mast with its placement, the height of its top (upper antenna and allowance), array and frequency."""
     mast = result.mast
     return collection(
         [
@@ -254,6 +254,9 @@ def _mast_layer(result: StudyResult) -> dict:
                     "setback_m": mast.setback_m,
                     "offset_m": mast.offset_m,
                     "base_elevation_m": mast.base_elevation_m,
+                    "top_height_above_ground_m": result.antennas[-1].elevation_m
+                    + result.spec.surfaces.mast_allowance_m
+                    - mast.base_elevation_m,
                     "array": result.spec.array,
                     "frequency_mhz": result.channel.glide_path_mhz,
                 },
@@ -274,6 +277,7 @@ def _antennas_layer(result: StudyResult) -> dict:
                     "shift_toward_runway_m": a.shift_toward_runway_m,
                     "offset_m": a.offset_m,
                     "elevation_m": a.elevation_m,
+                    "height_above_ground_m": a.elevation_m - result.mast.base_elevation_m,
                 },
             )
             for a in result.antennas

@@ -15,7 +15,11 @@ __all__ = ["write_path_csv", "path_columns"]
 
 
 def path_columns(result: StudyResult) -> dict[str, np.ndarray]:
-    """Columns of the table: distances and heights above the threshold elevation (metres), DDM."""
+    """Columns of the table: distances and heights above the threshold elevation (metres), DDM.
+
+    The designed path is the straight line at the path angle through the GPIP's height; ``ddm_on_designed*``
+    columns are the DDM a receiver on it sees.
+    """
     p, q = result.prediction, result.prediction_no_shift
     offset = result.mast.plane_elevation_m - result.spec.threshold.elevation_m
     tan = math.tan(math.radians(result.spec.angle_deg))
@@ -26,15 +30,15 @@ def path_columns(result: StudyResult) -> dict[str, np.ndarray]:
     )
     cols = {
         "along_m": p.along_m,
-        "nominal_height_m": p.nominal_z_m + offset,
+        "designed_height_m": p.nominal_z_m + offset,
         "geometric_actual_height_m": geometric,
         "predicted_height_m": p.path_z_m + offset,
         "predicted_height_no_shift_m": q.path_z_m + offset,
-        "ddm_on_nominal": p.ddm_nominal,
-        "ddm_on_nominal_no_shift": q.ddm_nominal,
+        "ddm_on_designed": p.ddm_nominal,
+        "ddm_on_designed_no_shift": q.ddm_nominal,
     }
     if result.surface is not None:  # the surface (physical-optics) DDM beside the image-theory one
-        cols["ddm_on_nominal_surface"] = result.surface.ddm_nominal
+        cols["ddm_on_designed_surface"] = result.surface.ddm_nominal
     return cols
 
 

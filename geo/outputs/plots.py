@@ -303,8 +303,8 @@ def plot_ddm(result: StudyResult, path: Path) -> None:
     ax = axes[0]
     before = cols["along_m"] < 0.0
     km = _km_before(cols["along_m"][before])
-    ax.plot(km, cols["ddm_on_nominal"][before], color="#1f5fa8", label="with proximity shifts")
-    ax.plot(km, cols["ddm_on_nominal_no_shift"][before], color="#d9480f", ls="--", label="antennas not shifted")
+    ax.plot(km, cols["ddm_on_designed"][before], color="#1f5fa8", label="with proximity shifts")
+    ax.plot(km, cols["ddm_on_designed_no_shift"][before], color="#d9480f", ls="--", label="antennas not shifted")
     ax.axhline(0.0, color="k", lw=0.8)
     _distance_axis(ax, _distance_scale(result))
     ax.set_ylabel("DDM on the designed straight path (+: 150 Hz)")
@@ -362,7 +362,7 @@ def plot_path(result: StudyResult, path: Path) -> None:
             ax.set_ylabel("height difference [m]")
             _title(ax, "Near the threshold: how much the proximity shifts change the path")
         else:
-            ax.plot(x, cols["nominal_height_m"], color="#868e96", label="designed straight path")
+            ax.plot(x, cols["designed_height_m"], color="#868e96", label="designed straight path")
             ax.plot(x, cols["geometric_actual_height_m"], color="#2b8a3e", ls=":", label="geometric actual path (cone)")
             ax.plot(x, cols["predicted_height_m"], color="#1f5fa8", label="predicted path (DDM = 0)")
             ax.set_ylabel("height above the threshold [m]")

@@ -18,7 +18,43 @@ from geo.study.site_study import StudyResult
 from geo.units import with_foot_twins
 from geo.version import __version__
 
-__all__ = ["summary_dict", "zone_figures", "below_path_dict", "roughness_families_dict"]
+__all__ = [
+    "summary_dict",
+    "zone_figures",
+    "below_path_dict",
+    "roughness_families_dict",
+    "share_value",
+    "INFINITE_SHARE",
+]
+
+#: The frame of the surface prediction's integration area, as ``summary.json`` states it.
+INTEGRATION_AREA_FRAME = (
+    "mast frame: origin at the mast's foot, axes along and across the runway; ahead_of_mast is the distance "
+    "along the runway from the mast toward the approach (the threshold is setback_m ahead), toward_runway the "
+    "distance across it from the mast toward the centre line (the centre line is offset_m across)"
+)
+
+#: How an infinite share of a limit is written (JSON has no infinity; ``float("infinity")`` reads it back).
+INFINITE_SHARE = "infinity"
+
+
+def share_value(value: float) -> float | str | None:
+    """A share of a limit for JSON: the number, ``"infinity"`` where it is infinite, None where not computed.
+
+    Parameters
+    ----------
+    value : float
+        The share (NaN where it was not computed).
+
+    Returns
+    -------
+    float, str or None
+    """
+    if math.isnan(value):
+        return None
+    if math.isinf(value):
+        return INFINITE_SHARE if value > 0 else "-" + INFINITE_SHARE
+    return value
 
 
 def zone_figures(zone) -> dict:
@@ -243,10 +279,10 @@ def _terrain_body(result: StudyResult) -> dict:
         "max_abs_residual_m": t.plane.max_abs_residual_m,
         "samples": t.plane.samples,
         "iterations": t.iterations,
-        "plane_solve": {
+        "forward_slope_solution": {
             "status": t.solve_status,
             "evaluations": t.evaluations,
-            "lateral_passes": t.lateral_passes,
+            "lateral_gradient_updates": t.lateral_passes,
             "zone_slope_deg": t.zone_slope_deg,
             "bracket_slopes_deg": list(t.slope_bracket_deg),
             "bracket_plane_slopes_deg": list(t.bracket_plane_slopes_deg),
@@ -327,7 +363,7 @@ def prediction_dict(result: StudyResult) -> dict:
         ),
         "ddm_at_half_sector": 0.0875,
         "tone_modulation_percent": 40.0,
-        "scope": "CSB/SBO course signals by image theory over the reflecting plane; clearance signals, "
+        "model": "CSB/SBO course signals by image theory over the reflecting plane; clearance signals, "
         "multipath from objects and receiver effects are out of scope.",
     }
 
@@ -395,7 +431,7 @@ def below_path_dict(result: StudyResult) -> dict:
             "weak_carrier_db": 10.0,
         },
         "clearance": None,
-        "scope": "far field on the course, image theory over the reflecting plane; a prediction, confirmed only "
+        "model": "far field on the course, image theory over the reflecting plane; a prediction, confirmed only "
         "by flight inspection",
     }
     if cap is not None:
@@ -426,8 +462,8 @@ def roughness_families_dict(families) -> list[dict]:
             "family": f.name,
             "description": f.description,
             "grazing_angle_deg": f.grazing_deg,
-            "zone_share": f.zone_share,
-            "judged": f.judged,
+            "share_of_family_zone_in_fitted_zone": f.zone_share,
+            "judged_by_fitted_zone": f.judged,
             "strictest": f is worst,
             "criteria": {
                 v.criterion: {
@@ -494,7 +530,13 @@ def surface_dict(result: StudyResult) -> dict:
         if sp.method == "difference"
         else "direct + PO(surface)",
         "facets": sp.facets,
-        "area": {"u_from_m": u0, "u_to_m": u1, "w_from_m": w0, "w_to_m": w1},
+        "integration_area": {
+            "frame": INTEGRATION_AREA_FRAME,
+            "ahead_of_mast_from_m": u0,
+            "ahead_of_mast_to_m": u1,
+            "toward_runway_from_m": w0,
+            "toward_runway_to_m": w1,
+        },
         "off_dem_fraction": sp.off_dem_fraction,
         "below_path": {"computed": False, "reason": sp.below_path}
         if isinstance(sp.below_path, str)
@@ -506,8 +548,8 @@ def surface_dict(result: StudyResult) -> dict:
     }
 
 
-def _judged_dict(fig) -> dict:
-    """One judged figure: value, nominal, and per limit its interval, margin and share left (unit in the keys)."""
+def _figure_against_limits(fig) -> dict:
+    """One figure: value, designed value, and per limit its interval, margin and share left (unit in the keys)."""
 
     def number(value):
         return value if math.isfinite(value) else None
@@ -515,7 +557,7 @@ def _judged_dict(fig) -> dict:
     suffix = {"deg": "_deg", "m": "_m"}.get(fig.unit, "")
     return {
         f"value{suffix}": number(fig.value),
-        f"nominal{suffix}": fig.nominal,
+        f"designed{suffix}": fig.nominal,
         "severity": fig.severity,
         "limits": [
             {
@@ -523,7 +565,7 @@ def _judged_dict(fig) -> dict:
                 f"low{suffix}": b.low,
                 f"high{suffix}": b.high,
                 f"margin{suffix}": number(fig.margin(b)),
-                "share_of_allowance_left": number(fig.share_left(b)),
+                "share_of_allowance_left": share_value(fig.share_left(b)),
                 "severity_outside": b.broken,
                 "warns_when_near": b.warn_near,
                 "source": b.source,
@@ -540,7 +582,7 @@ def surface_limits_dict(sector) -> dict | None:
     if sector is None:
         return None
     theta = sector.design_angle_deg
-    figures = {f.name: _judged_dict(f) for f in sector.figures}
+    figures = {f.name: _figure_against_limits(f) for f in sector.figures}
     figures["path_angle"].update(
         fitted_from=sector.fitted_source,
         fit_from_m=sector.fit_range_m[0],
@@ -557,10 +599,11 @@ def surface_limits_dict(sector) -> dict | None:
     figures["rdh"]["image_prediction_rdh_m"] = sector.image_rdh_m
     return {
         **figures,
-        "worst_bend_share_of_limit": _finite(sector.worst_bend_share),
+        "worst_bend_share_of_limit": share_value(sector.worst_bend_share),
         "severity": sector.severity,
-        "margins": "margin: distance from the value to the end of the limit on its side of the nominal (negative "
-        "beyond it); share_of_allowance_left: the margin over the distance from the nominal to that end",
+        "margins": "margin: distance from the value to the end of the limit on its side of the designed value "
+        "(negative beyond it); share_of_allowance_left: the margin over the distance from the designed value to that "
+        "end",
         "warning_share_left": WARN_SHARE_LEFT,
         "warning_rule": f"a warning where less than {WARN_SHARE_LEFT:.0%} of an allowance is left (our choice)",
         "caution": SURFACE_CAUTION[0].upper() + SURFACE_CAUTION[1:] + ".",

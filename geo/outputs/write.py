@@ -219,7 +219,7 @@ def _fill_here(result: StudyResult, folder: Path, chosen: set, layers: dict | No
     if "kml" in chosen:
         from geo.outputs.kml import write_kml
 
-        write_kml(result.spec.name, layers, folder / "site.kml")
+        write_kml(result.spec.name, layers, folder / "site.kml", result.spec.units)
     if "gpkg" in chosen:
         from geo.outputs.gpkg import write_gpkg
 

@@ -750,7 +750,7 @@ def _protected_areas(items, scale: float, units: str) -> tuple[ProtectedArea, ..
         raise SiteFileError("protected_area", "must be an array of tables: write each as [[protected_area]]")
     out = []
     for i, item in enumerate(items):
-        prefix = f"protected_area[{i}]"
+        prefix = f"protected_area {i + 1}"  # counted from 1, as a reader counts
         if not isinstance(item, dict):
             raise SiteFileError(prefix, f"must be a table [[protected_area]] (got {_show(item)})")
         _only(item, prefix, keys_of("protected_area"))
@@ -1011,10 +1011,11 @@ def _dem_paths(table: dict, base_dir: Path) -> tuple[Path, ...]:
         if not value:
             raise SiteFileError("terrain.dem", 'is an empty list; give a raster or a list of tiles ["a.tif", "b.tif"]')
         names = []
-        for i, item in enumerate(value):
+        for i, item in enumerate(value, start=1):  # tiles counted from 1, as a reader counts
             if not isinstance(item, str):
-                raise SiteFileError(f"terrain.dem.{i}", f"must be a file path in quotes (got {_show(item)})")
-            names.append(_text({str(i): item}, "terrain.dem", str(i), required=True))
+                raise SiteFileError(f"terrain.dem tile {i}", f"must be a file path in quotes (got {_show(item)})")
+            field_name = f"terrain.dem tile {i}"
+            names.append(_text({field_name: item}, "", field_name, required=True))
     else:
         names = [_text(table, "terrain", "dem", required=True)]
     paths = []
@@ -1022,7 +1023,7 @@ def _dem_paths(table: dict, base_dir: Path) -> tuple[Path, ...]:
         path = Path(name)
         if not path.is_absolute():
             path = base_dir / path
-        field_name = "terrain.dem" if len(names) == 1 else f"terrain.dem.{i}"
+        field_name = "terrain.dem" if len(names) == 1 else f"terrain.dem tile {i + 1}"
         if not path.is_file():
             raise SiteFileError(field_name, f"no file at {path}; give the DEM's path, relative to the site file")
         if path in paths:
@@ -1070,7 +1071,7 @@ def _objects(items, scale: float, units: str) -> tuple[ObjectSpec, ...]:
         raise SiteFileError("object", "must be an array of tables: write each as [[object]]")
     out = []
     for i, item in enumerate(items):
-        prefix = f"object[{i}]"
+        prefix = f"object {i + 1}"  # counted from 1, as a reader counts
         if not isinstance(item, dict):
             raise SiteFileError(prefix, f"must be a table [[object]] (got {_show(item)})")
         _only(item, prefix, keys_of("object"))

@@ -60,13 +60,13 @@ def test_defaults_without_the_tables(write_site, site_text):
 @pytest.mark.parametrize(
     "old, new, field",
     [
-        ("height = 3.0", "height = -3", "object[0].height"),
-        ('headings = ["along"]', 'headings = ["sideways"]', "object[0].headings"),
-        ('name = "tug"', 'name = "tug"\ncolour = "red"', "object[0].colour"),
+        ("height = 3.0", "height = -3", "object 1.height"),
+        ('headings = ["along"]', 'headings = ["sideways"]', "object 1.headings"),
+        ('name = "tug"', 'name = "tug"\ncolour = "red"', "object 1.colour"),
         ("critical_share = 0.5", "critical_share = 0.1", "areas.sensitive_share"),
         ("grid = 40", "grid = 0.1", "areas.grid"),
         ("beyond = 40", "beyond = 40\nrings = 3", "areas.rings"),
-        ("height = 3.0", "height = 3.0\nbase = 4.0", "object[0].base"),
+        ("height = 3.0", "height = 3.0\nbase = 4.0", "object 1.base"),
         ("grid = 40", "grid = 40\nfront_to_back_db = -3", "areas.front_to_back_db"),
     ],
 )
@@ -116,10 +116,12 @@ def test_table_and_summary_agree(written):
     # 8 positions ahead (-40 to 240 m every 40 m) x 6 across (-40 m to the last step within
     # 130 + 40 m, i.e. 160 m) x 1 heading.
     assert len(rows) == 8 * 6
-    assert {"ddm coverage limit to A", "ddm A to B", "ddm B to C", "share_of_limit", "ahead_ft"} <= set(rows[0])
+    bends = {"bend_95_ddm_coverage_limit_to_a", "bend_95_ddm_a_to_b", "bend_95_ddm_b_to_c"}
+    assert bends | {"share_of_limit", "ahead_ft"} <= set(rows[0])
+    assert not [name for name in rows[0] if " " in name]  # every column name is one word (issue 21)
     summary = json.loads((out / "summary.json").read_text())
     (entry,) = summary["derived_areas"]
-    shares = [float(r["share_of_limit"]) for r in rows if r["share_of_limit"] not in ("", "inf")]
+    shares = [float(r["share_of_limit"]) for r in rows if r["share_of_limit"] not in ("", "infinity")]
     assert entry["largest_share_of_limit"] == pytest.approx(max(shares), rel=1e-3)
     assert summary["settings"]["shares_source"] == "site file [areas]"
     assert any("planning aid" in c for c in summary["cautions"])

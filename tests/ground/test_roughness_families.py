@@ -134,7 +134,7 @@ def test_demo_summary_and_finding_name_the_strictest_family(demo_study):
     assert [r["family"] for r in rows] == [f.name for f in result.roughness_families]
     strictest = [r for r in rows if r["strictest"]]
     assert len(strictest) == 1
-    assert strictest[0]["grazing_angle_deg"] == max(r["grazing_angle_deg"] for r in rows if r["judged"])
+    assert strictest[0]["grazing_angle_deg"] == max(r["grazing_angle_deg"] for r in rows if r["judged_by_fitted_zone"])
     assert "limit_ft" in strictest[0]["criteria"]["rayleigh"]  # the _m -> _ft twin rule (geo/units.py)
     finding = next(f for f in result.findings if f.code == "roughness-families")
     assert f"{strictest[0]['grazing_angle_deg']:.2f} deg" in finding.message

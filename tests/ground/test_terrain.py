@@ -96,7 +96,7 @@ def test_planar_dem_in_utm_gives_slopes_plane_and_rdh(tmp_path, write_site, site
     # A plane has an exact fixed point: the solve settles on it, and the summary says so.
     assert t.solve_status == "settled" and t.height_spread_mm <= 0.1
     assert t.zone_heights_m == pytest.approx(t.heights_m, abs=1e-4)
-    block = summary_dict(result)["terrain"]["plane_solve"]
+    block = summary_dict(result)["terrain"]["forward_slope_solution"]
     assert block["status"] == "settled" and block["evaluations"] == t.evaluations >= 2
     assert "plane-bracket" not in {f.code for f in result.findings}
 

@@ -343,9 +343,9 @@ def test_the_sweep_on_tiles_equals_the_sweep_on_the_single_file(tmp_path, single
     "value, field, words",
     [
         ("[]", "terrain.dem", "empty list"),
-        ('["tile_0_0.tif", 3]', "terrain.dem.1", "file path in quotes"),
-        ('["tile_0_0.tif", "missing.tif"]', "terrain.dem.1", "no file at"),
-        ('["tile_0_0.tif", "tile_0_0.tif"]', "terrain.dem.1", "listed twice"),
+        ('["tile_0_0.tif", 3]', "terrain.dem tile 2", "file path in quotes"),
+        ('["tile_0_0.tif", "missing.tif"]', "terrain.dem tile 2", "no file at"),
+        ('["tile_0_0.tif", "tile_0_0.tif"]', "terrain.dem tile 2", "listed twice"),
     ],
 )
 def test_bad_tile_lists_name_the_entry(tmp_path, value, field, words):

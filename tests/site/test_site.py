@@ -104,27 +104,27 @@ def test_broken_toml_and_missing_file(write_site, tmp_path):
     [
         (
             "[[protected_area]]\nname = 'a'\nkind = 'forbidden'\nahead = 1\ntoward_runway = 1\n",
-            "protected_area[0].kind",
+            "protected_area 1.kind",
             '"critical" or "sensitive"',
         ),
         (
             "[[protected_area]]\nname = 'a'\nkind = 'critical'\ntoward_runway = 1\n",
-            "protected_area[0].ahead",
+            "protected_area 1.ahead",
             "missing",
         ),
         (
             "[[protected_area]]\nname = 'a'\nkind = 'critical'\noutline = [[0, 0], [1, 1]]\n",
-            "protected_area[0].outline",
+            "protected_area 1.outline",
             "at least 3",
         ),
         (
             "[[protected_area]]\nname = 'a'\nkind = 'critical'\noutline = [[0, 0], [1, 1], [1, 'x']]\n",
-            "protected_area[0].outline",
+            "protected_area 1.outline",
             "pairs",
         ),
         (
             "[[protected_area]]\nname = 'a'\nkind = 'critical'\nahead = 5\ntoward_runway = 1\noutline = [[0, 0]]\n",
-            "protected_area[0].outline",
+            "protected_area 1.outline",
             "either",
         ),
         ("protected_area = 3\n", "protected_area", "array of tables"),
