@@ -41,7 +41,19 @@ __all__ = ["BackgroundWriter"]
 
 #: What a worker imports ahead, by output name.
 _WARM_MODULES = {
-    "plots": ("matplotlib.figure", "matplotlib.backends.backend_agg", "geo.outputs.plots"),
+    # The site plan of the report too: the hillshade's DEM (rasterio) and the frame's projection (pyproj).
+    "plots": (
+        "matplotlib.figure",
+        "matplotlib.backends.backend_agg",
+        "geo.outputs.plots",
+        "geo.outputs.site_plan",
+        "geo.ground.dem",
+        "geo.ground.hillshade",
+        "pyproj",
+        "rasterio",
+        "rasterio.warp",
+        "numpy.ma",
+    ),
     "gpkg": ("geo.outputs.gpkg",),
     # rasterio (and numpy.ma, for its masked reads) for the DEM the hillshade is drawn from: geo.ground.dem
     # opens it lazily, and the main process imports it only when the study starts, after the fork.
