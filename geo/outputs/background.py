@@ -13,6 +13,16 @@ The workers import folium and pyogrio without geopandas and pandas
 
 Stopping: when the main process is interrupted or fails, :meth:`BackgroundWriter.stop` ends the
 workers before the temporary folder is removed, so that nothing is written into it afterwards.
+
+When the main process is gone without a word (SIGKILL), each worker ends at once and quietly: a
+thread of the worker waits on a pipe of its own whose other end only the main process holds and never
+writes to; the system closes that end when the main process dies, the thread sees the end of the
+pipe and ends the worker (``os._exit``), whatever it was writing. Chosen over the alternatives
+because it is an event, not a poll (``os.getppid()`` read every so often lags and can be fooled by a
+reaper process), works on every system and start method multiprocessing has (Linux's
+``prctl(PR_SET_PDEATHSIG)`` is Linux only and fires when the *thread* that forked ends, not the
+process), and needs no signal handler. What a worker leaves half-written lies in the run's temporary
+folder, named for the main process, which the next run removes (:mod:`geo.outputs.write`).
 """
 
 from __future__ import annotations
@@ -31,7 +41,19 @@ __all__ = ["BackgroundWriter"]
 
 #: What a worker imports ahead, by output name.
 _WARM_MODULES = {
-    "plots": ("matplotlib.figure", "matplotlib.backends.backend_agg", "geo.outputs.plots"),
+    # The site plan of the report too: the hillshade's DEM (rasterio) and the frame's projection (pyproj).
+    "plots": (
+        "matplotlib.figure",
+        "matplotlib.backends.backend_agg",
+        "geo.outputs.plots",
+        "geo.outputs.site_plan",
+        "geo.ground.dem",
+        "geo.ground.hillshade",
+        "pyproj",
+        "rasterio",
+        "rasterio.warp",
+        "numpy.ma",
+    ),
     "gpkg": ("geo.outputs.gpkg",),
     # rasterio (and numpy.ma, for its masked reads) for the DEM the hillshade is drawn from: geo.ground.dem
     # opens it lazily, and the main process imports it only when the study starts, after the fork.
@@ -56,12 +78,41 @@ _NICENESS = 5
 _GROUPS = (("plots",), ("map", "gpkg"))
 
 
-def _serve(conn, outputs: Sequence[str], main_ends) -> None:
+def _end_with_main(watch) -> None:
+    """End this worker at once, quietly, when the main process is gone (``watch`` reaches its end).
+
+    Runs in a thread of the worker: the main process never writes to ``watch``, so the only thing
+    ``recv_bytes`` ever returns with is the end of the pipe (or an error reading it).
+    """
+    try:
+        watch.recv_bytes()
+    except (EOFError, OSError):
+        pass
+    os._exit(0)
+
+
+def _watch_main(watch) -> None:
+    """Start the thread that ends this worker with the main process (:func:`_end_with_main`)."""
+    import threading
+
+    threading.Thread(target=_end_with_main, args=(watch,), name="mastplan-writer-watch", daemon=True).start()
+
+
+def _reply(conn, message) -> None:
+    """Send ``message`` to the main process; end this worker quietly if the main process is gone."""
+    try:
+        conn.send(message)
+    except (BrokenPipeError, ConnectionResetError, EOFError):
+        os._exit(0)
+
+
+def _serve(conn, outputs: Sequence[str], main_ends, watch=None) -> None:
     """The worker's loop: import ahead, then run each ``(function, args)`` sent until ``None``.
 
     The worker closes its copies of the main process's ends of the pipes (its own and those of the
-    workers started before it), so that it sees the end of its pipe and stops when the main
-    process dies without a word (SIGKILL).
+    workers started before it, task and watch pipes alike), so that it sees the end of its pipes and
+    stops when the main process dies without a word (SIGKILL): at once, from ``watch``'s thread, even
+    in the middle of a task.
     """
     signal.signal(signal.SIGINT, signal.SIG_IGN)  # the main process decides what an interrupt stops
     signal.signal(signal.SIGTERM, signal.SIG_DFL)
@@ -71,6 +122,8 @@ def _serve(conn, outputs: Sequence[str], main_ends) -> None:
         pass
     for main_end in main_ends:
         main_end.close()
+    if watch is not None:
+        _watch_main(watch)
     try:
         for name in outputs:
             if name in _WARM_WITHOUT_DATAFRAMES:
@@ -92,24 +145,32 @@ def _serve(conn, outputs: Sequence[str], main_ends) -> None:
             func(*args)
         except BaseException as exc:  # noqa: BLE001 - handed to the main process, which raises it
             try:
-                conn.send(("error", exc))
+                ForkingPickler.dumps(exc)
             except Exception:  # an exception that does not pickle
-                conn.send(("error", RuntimeError(f"{type(exc).__name__}: {exc}")))
+                exc = RuntimeError(f"{type(exc).__name__}: {exc}")
+            _reply(conn, ("error", exc))
         else:
-            conn.send(("done", None))
+            _reply(conn, ("done", None))
     conn.close()
 
 
 class _Worker:
-    """One worker process and the main process's end of its pipe."""
+    """One worker process, the main process's end of its task pipe and of its watch pipe.
+
+    The watch pipe carries nothing: the worker sees its end when the main process is gone.
+    """
 
     def __init__(self, ctx, outputs: tuple[str, ...], before: Sequence[_Worker]) -> None:
         self.outputs = outputs
         self.conn, child = ctx.Pipe()
-        main_ends = [self.conn, *(worker.conn for worker in before)]
-        self.proc = ctx.Process(target=_serve, args=(child, outputs, main_ends), daemon=True, name="mastplan-writer")
+        watch, self.watched = ctx.Pipe(duplex=False)
+        main_ends = [self.conn, self.watched, *(end for worker in before for end in (worker.conn, worker.watched))]
+        self.proc = ctx.Process(
+            target=_serve, args=(child, outputs, main_ends, watch), daemon=True, name="mastplan-writer"
+        )
         self.proc.start()
         child.close()
+        watch.close()
         self.pending = 0
 
 
@@ -210,6 +271,7 @@ class BackgroundWriter:
             worker.proc.join()
             worker.pending = 0
             worker.conn.close()
+            worker.watched.close()
 
     def close(self) -> None:
         """Let the workers finish and end."""

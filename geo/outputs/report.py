@@ -2,9 +2,10 @@
 
 A title block (from the site file's ``[report]`` table, never the clock), the verdict with the count of
 findings by severity, the key figures, the ground the study stood on (DEM, CRS, cell size, vertical
-datums and the shift applied), the findings worst first, the reflection zones, the plots, and the
-standards and textbooks the findings cite, each once. Every text from the site file is HTML-escaped;
-the plots are linked, not embedded. ``report.pdf`` is this page printed (:mod:`geo.outputs.pdf`).
+datums and the shift applied), the site plan (``site_plan.png``, :mod:`geo.outputs.site_plan`), the
+findings worst first, the reflection zones, the plots, and the standards and textbooks the findings
+cite, each once. Every text from the site file is HTML-escaped; the plots are linked, not embedded.
+``report.pdf`` is this page printed (:mod:`geo.outputs.pdf`).
 """
 
 from __future__ import annotations
@@ -65,7 +66,7 @@ def severity_counts(findings) -> dict[str, int]:
     return {sev: sum(1 for f in findings if f.severity == sev) for sev in _WORST_FIRST}
 
 
-def write_report(result: StudyResult, path: Path, plots: bool) -> None:
+def write_report(result: StudyResult, path: Path, plots: bool, site_plan: bool = False) -> None:
     """Write ``report.html`` next to the other outputs of the study.
 
     Parameters
@@ -75,6 +76,8 @@ def write_report(result: StudyResult, path: Path, plots: bool) -> None:
         The file to write.
     plots : bool
         The plots are drawn: the report links them.
+    site_plan : bool
+        ``site_plan.png`` is drawn beside the report (:mod:`geo.outputs.site_plan`): the report shows it.
     """
     spec = result.spec
     figures = _key_figures(result) + _prediction_figures(result)
@@ -89,6 +92,7 @@ def write_report(result: StudyResult, path: Path, plots: bool) -> None:
 <p>{html.escape(spec.notes)}</p>
 <div class="caution">{"<br>".join(html.escape(c) for c in CAUTIONS)}</div>
 <h2>Key figures</h2><table>{_rows(figures)}</table>
+{_site_plan(site_plan)}
 <h2>Ground</h2><table>{_rows(_ground_rows(result))}</table>
 <h2>Antennas</h2><table><tr><th>antenna</th><th>height above the reflecting plane</th>
 <th>shift toward the runway</th><th>position (WGS 84)</th></tr>{_antenna_rows(result)}</table>
@@ -273,6 +277,16 @@ def _zone_rows(result: StudyResult) -> str:
         f"<td>{_len(z.shape.far_m, 0)}</td><td>{_len(z.shape.max_half_width_m, 0)}</td>"
         f"<td>{format_area(z.shape.area_m2, result.spec.units)}</td></tr>"
         for z in result.zones
+    )
+
+
+def _site_plan(drawn: bool) -> str:
+    """The site plan (``site_plan.png``), when it is drawn: runway, mast, zones and areas from above."""
+    if not drawn:
+        return ""
+    return (
+        "<h2>Site plan</h2><p><img src='site_plan.png' alt='site plan: runway, mast, reflection zones and "
+        "protected areas from above, with a north arrow and a scale bar'></p>"
     )
 
 

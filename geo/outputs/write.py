@@ -43,7 +43,8 @@ def write_json(path: Path, obj, compact: bool = False) -> None:
 
 
 #: The outputs of a study written by default, in the order they are written; ``mastplan run --outputs``
-#: picks among them and :data:`OPTIONAL_OUTPUTS`.
+#: picks among them and :data:`OPTIONAL_OUTPUTS`. ``report`` is ``report.html`` and, unless the plots
+#: are off, the site plan it shows beside it (``site_plan.png``, :data:`SITE_PLAN`).
 OUTPUTS = ("summary", "layers", "gpkg", "kml", "map", "tables", "plots", "report")
 #: Outputs written only when named: ``pdf`` (``report.pdf``, printed by headless Chromium; about 1.7 s more
 #: on the demo, so not by default; it writes ``report.html`` too).
@@ -72,7 +73,8 @@ class EarlyWrites:
         The temporary folder they write into; :func:`fill_study` moves its files into the output
         folder.
     outputs : frozenset of str
-        ``"plots"`` (every plot but ``surface.png``), ``"map"``, ``"gpkg"``.
+        ``"plots"`` (every plot but ``surface.png``), ``"map"``, ``"gpkg"``, ``"site_plan"`` (the
+        report's ``site_plan.png``, drawn by the plots' writer).
     """
 
     staging: Path
@@ -101,6 +103,8 @@ def write_early(
     _check_target(out, overwrite, [Path(partial.spec.source)] if partial.spec.source else [])
     chosen = set(outputs) - (set() if plots else {"plots"})
     early = set(background.outputs) & chosen & {"plots", "map", "gpkg"}
+    if _site_plan_wanted(chosen, plots) and "plots" in background.outputs:
+        early.add("site_plan")
     if not early:
         return None
     try:
@@ -113,10 +117,14 @@ def write_early(
         from geo.outputs.plots import write_plots
 
         background.submit(write_plots, partial, staging, output="plots")
-    if early & {"map", "gpkg"}:
+    if early & {"map", "gpkg", "site_plan"}:
         from geo.outputs.geojson import study_layers
 
         layers = study_layers(partial)
+        if "site_plan" in early:
+            from geo.outputs.site_plan import write_site_plan
+
+            background.submit(write_site_plan, partial, layers, staging / SITE_PLAN, output="plots")
         if "map" in early:
             from geo.outputs.webmap import write_map
 
@@ -126,6 +134,15 @@ def write_early(
 
             background.submit(write_gpkg, layers, staging / "site.gpkg", output="gpkg")
     return EarlyWrites(staging, frozenset(early))
+
+
+#: The report's site plan, beside ``report.html`` (:mod:`geo.outputs.site_plan`).
+SITE_PLAN = "site_plan.png"
+
+
+def _site_plan_wanted(chosen, plots: bool) -> bool:
+    """Whether ``site_plan.png`` is drawn: with the report (or its PDF), unless the plots are off (``--no-plots``)."""
+    return plots and bool(set(chosen) & {"report", "pdf"})
 
 
 def fill_study(
@@ -159,14 +176,23 @@ def fill_study(
     """
     chosen = set(outputs) - (set() if plots else {"plots"})
     chosen |= {"report"} if "pdf" in chosen else set()  # the PDF is the report printed
+    done = early.outputs if early is not None else frozenset()
+    site_plan = _site_plan_wanted(chosen, plots)
+    if site_plan and "site_plan" not in done:
+        chosen.add("site_plan")
     layers = None
-    if chosen & {"layers", "gpkg", "kml", "map"}:
+    if chosen & {"layers", "gpkg", "kml", "map", "site_plan"}:
         from geo.outputs.geojson import study_layers
 
         layers = {**study_layers(result), **(extra_layers or {})}
     elsewhere = set(background.outputs) & chosen if background is not None else set()
-    done = early.outputs if early is not None else frozenset()
+    if "site_plan" in chosen and "plots" in elsewhere:
+        elsewhere.add("site_plan")  # drawn by the plots' writer, whose matplotlib is imported
     try:
+        if "site_plan" in elsewhere:
+            from geo.outputs.site_plan import write_site_plan
+
+            background.submit(write_site_plan, result, layers, folder / SITE_PLAN, output="plots")
         if "plots" in elsewhere:
             from geo.outputs.plots import write_plots, write_surface_plot
 
@@ -180,7 +206,7 @@ def fill_study(
 
             background.submit(write_gpkg, layers, folder / "site.gpkg", output="gpkg")
         last = {"summary", "pdf"} if "pdf" in chosen else set()  # the summary says why there is no PDF
-        _fill_here(result, folder, chosen - elsewhere - last, layers, "plots" in chosen)
+        _fill_here(result, folder, chosen - elsewhere - last, layers, "plots" in chosen, site_plan)
         if elsewhere:
             background.wait()
         if early is not None:
@@ -206,8 +232,10 @@ def _fill_pdf_and_summary(result: StudyResult, folder: Path, summary: bool) -> N
         write_json(folder / "summary.json", summary_dict(result, report_pdf=note))
 
 
-def _fill_here(result: StudyResult, folder: Path, chosen: set, layers: dict | None, with_plots: bool) -> None:
-    """Write the chosen outputs in this process (``with_plots``: the report links the plots)."""
+def _fill_here(
+    result: StudyResult, folder: Path, chosen: set, layers: dict | None, with_plots: bool, site_plan: bool = False
+) -> None:
+    """Write the chosen outputs in this process (``with_plots``, ``site_plan``: the report shows them)."""
     if "summary" in chosen:
         from geo.outputs.summary import summary_dict
 
@@ -239,10 +267,14 @@ def _fill_here(result: StudyResult, folder: Path, chosen: set, layers: dict | No
         from geo.outputs.plots import write_plots
 
         write_plots(result, folder)
+    if "site_plan" in chosen:
+        from geo.outputs.site_plan import write_site_plan
+
+        write_site_plan(result, layers, folder / SITE_PLAN)
     if "report" in chosen:
         from geo.outputs.report import write_report
 
-        write_report(result, folder / "report.html", with_plots)
+        write_report(result, folder / "report.html", with_plots, site_plan)
 
 
 def _clean_stale(parent: Path, name: str) -> None:

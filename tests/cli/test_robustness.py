@@ -112,6 +112,63 @@ def test_a_run_killed_outright_is_cleaned_up_by_the_next(tmp_path, earlier_resul
     assert (out / "summary.json").exists()
 
 
+def _children(pid: int) -> list[int]:
+    """The processes whose parent is ``pid`` (from /proc)."""
+    found = []
+    for stat in Path("/proc").glob("[0-9]*/stat"):
+        try:
+            fields = stat.read_text().rsplit(")", 1)[1].split()
+        except (OSError, IndexError):
+            continue
+        if int(fields[1]) == pid:
+            found.append(int(stat.parent.name))
+    return found
+
+
+def _alive(pid: int) -> bool:
+    """Whether ``pid`` is a process that has not ended (a zombie waiting for its reaper has ended)."""
+    try:
+        return Path(f"/proc/{pid}/stat").read_text().rsplit(")", 1)[1].split()[0] != "Z"
+    except (OSError, IndexError):
+        return False
+
+
+def _writers_at_work(proc, parent: Path) -> list[int]:
+    """Wait until a writer process has begun a file in the run's temporary folder; the run's children then."""
+    while proc.poll() is None:
+        if any(any(folder.iterdir()) for folder in parent.glob(".out.partial-*")):
+            return _children(proc.pid)
+        time.sleep(0.005)  # polling the folder: no clock decides anything
+    return []
+
+
+@pytest.mark.skipif(not Path("/proc/self/stat").exists(), reason="reads processes from /proc")
+def test_writer_processes_end_quietly_when_the_run_is_killed(tmp_path):
+    """A run SIGKILLed while its writer processes write: they end by themselves, without a traceback."""
+    out = tmp_path / "out"
+    for _ in range(3):  # a run that finished before a writer was seen is run again
+        proc = _start(out)
+        writers = _writers_at_work(proc, tmp_path)
+        if writers:
+            break
+        proc.communicate(timeout=300)
+        shutil.rmtree(out, ignore_errors=True)
+    else:
+        pytest.fail("no writer process was ever seen at work")
+    proc.kill()  # SIGKILL: the writers are not told
+    proc.wait(timeout=300)
+    deadline = time.monotonic() + 300.0  # an upper bound only: fails solely when a writer never ends
+    while any(_alive(pid) for pid in writers) and time.monotonic() < deadline:
+        time.sleep(0.01)
+    left = [pid for pid in writers if _alive(pid)]
+    for pid in left:
+        os.kill(pid, signal.SIGKILL)
+    assert not left, f"writer processes {left} outlived the run"
+    err = proc.stderr.read()  # every writer has ended: the pipe is at its end
+    assert "Traceback" not in err and "Error" not in err, err
+    assert not out.exists()  # nothing reached the output folder; the temporary one is the next run's to remove
+
+
 def test_same_inputs_give_byte_identical_outputs(tmp_path, earlier_results):
     subprocess.run([sys.executable, "-m", "cli.main", "demo", "--out", str(tmp_path / "b"), "-q"], check=True)
     a, b = file_digests(earlier_results), file_digests(tmp_path / "b")
