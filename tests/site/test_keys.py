@@ -58,7 +58,7 @@ def accepted_keys(table: str) -> list[str]:
         parse_site(_planted(table))
     field = f"{table}.{PLANTED}" if table else PLANTED
     if table in ("protected_area", "object"):
-        field = f"{table}[0].{PLANTED}"
+        field = f"{table} 1.{PLANTED}"  # list entries counted from 1
     assert caught.value.field == field, caught.value
     return re.search(r"allowed: (.*)$", caught.value.problem).group(1).split(", ")
 
