@@ -34,7 +34,13 @@ from geo.study.findings import (
 from geo.study.tile_checks import check_tile_units
 from geo.units import format_length
 
-__all__ = ["check_dem_covers_site", "check_dem_before_solve", "height_keys", "dem_extent_in_errors"]
+__all__ = [
+    "check_dem_covers_site",
+    "check_dem_before_solve",
+    "check_runway_fall",
+    "height_keys",
+    "dem_extent_in_errors",
+]
 
 
 def check_dem_covers_site(
@@ -104,6 +110,57 @@ def check_dem_covers_site(
             "glide_path.target_rdh is not solved on a DEM this far from the survey.",
         )
     return finding, z
+
+
+#: The runway's fall from threshold to end on the DEM and in the survey must agree in sign when
+#: both exceed this; below it a runway is taken as level (our choice: DEM noise and tile steps
+#: stay below it on the demo and the test DEMs). [m]
+RUNWAY_FALL_TOLERANCE_M = 1.0
+
+
+def check_runway_fall(dem, frame, length_m: float, threshold_m: float, end_m: float, unit: str = "m"):
+    """Whether the ground along the runway falls the way the survey says, threshold to end.
+
+    The DEM at the threshold and at the end (on the centre line) against the surveyed
+    ``runway.threshold.elevation`` and ``runway.end.elevation``: when both changes exceed
+    ``RUNWAY_FALL_TOLERANCE_M`` and their signs differ, the ground falls the wrong way for the
+    landing direction the file gives: the ends may be swapped (positions without their
+    elevations), or an elevation mistyped. A warning, not an error: the threshold check has
+    already passed, so the heights are in the right datum.
+
+    Parameters
+    ----------
+    dem : geo.ground.dem.Dem
+    frame : geo.airfield.frame.RunwayFrame
+    length_m : float
+        Threshold to end. [m]
+    threshold_m, end_m : float
+        Surveyed elevations. [m]
+    unit : {"m", "ft"}
+        The site file's unit, first in the message.
+
+    Returns
+    -------
+    Finding or None
+    """
+    ground = dem.sample_frame(frame, np.array([0.0, length_m]), np.array([0.0, 0.0]))
+    if not np.all(np.isfinite(ground)):
+        return None
+    dem_fall, survey_fall = float(ground[1] - ground[0]), end_m - threshold_m
+    if min(abs(dem_fall), abs(survey_fall)) <= RUNWAY_FALL_TOLERANCE_M or dem_fall * survey_fall > 0.0:
+        return None
+
+    def words(change):
+        return f"{'rises' if change > 0 else 'falls'} by {format_length(abs(change), unit, 2)}"
+
+    return Finding(
+        "runway-fall",
+        "warning",
+        f"From runway.threshold to runway.end the ground {words(dem_fall)} on the DEM but {words(survey_fall)} "
+        "in the survey (the site file's elevations): the ground falls the wrong way for the landing direction "
+        "the file gives. Threshold and end may be swapped, their positions without their elevations, or an "
+        "elevation mistyped; check runway.threshold and runway.end (runway.designator checks the direction).",
+    )
 
 
 def height_keys(dem, terrain, unit: str, frame) -> HeightKeys:

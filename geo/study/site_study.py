@@ -37,7 +37,7 @@ from geo.site.named_errors import naming_site_file
 from geo.site.site_file import SiteSpec
 from geo.study import findings as checks
 from geo.study.array_setup import array_model
-from geo.study.dem_checks import check_dem_covers_site, dem_extent_in_errors, height_keys
+from geo.study.dem_checks import check_dem_covers_site, check_runway_fall, dem_extent_in_errors, height_keys
 from geo.study.designator import RunwayMagnetic, runway_magnetic
 from geo.study.ground_beyond import GroundBeyond
 from geo.study.surface_sector import SurfaceSector
@@ -558,13 +558,14 @@ def _dem_ground(spec, runway, lam, side, setback, offset, field_name, solve) -> 
         )
         source = TerrainSource(t.dem_path.name, dem.vertical_unit_source, dem.vertical_datum(), t.vertical_offset_m)
         source = _dem_source_details(source, dem, frame, side, setback, offset, terrain, dem_threshold)
-        tiles_found = ()
+        fall = check_runway_fall(dem, frame, runway.length_m, thr_elev, spec.end.elevation_m, spec.units)
+        tiles_found = () if fall is None else (fall,)
         if len(dem.mosaic.tiles) > 1:  # over the part of the DEM the study read
             from dataclasses import replace
 
             agreement = measure_tiles(dem.mosaic, dem.mosaic.asked_box)
             source = replace(source, tile_agreement=agreement)
-            tiles_found = tuple(tile_findings(agreement, spec.units))
+            tiles_found += tuple(tile_findings(agreement, spec.units))
     return _Ground(
         setback,
         terrain.ground_at_mast_m,

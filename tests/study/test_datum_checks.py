@@ -14,6 +14,7 @@ import re
 import shutil
 from pathlib import Path
 
+import numpy as np
 import pytest
 from tests_support import DEMO_SITE, NO_SURFACE
 
@@ -214,3 +215,31 @@ def test_datum_sign_stops_the_sweeps_setback_solve_too(tmp_path):
         solve_setbacks(load_site(path), SweepOptions((250.0, 310.0), (100.0, 150.0), sides=("right",)))
     assert info.value.field == "runway.geoid_undulation" and str(info.value).startswith(f"{path}: ")
     assert _difference_m(str(info.value)) == pytest.approx(-2.0 * N_EGM96_M, abs=DEM_NOISE_M)
+
+
+def test_the_ground_falling_the_wrong_way_along_the_runway_is_a_warning():
+    # demo_airfield/make_dem.py: the demo ground is 612.0 - 0.002 along - 0.003 cross (m; plus a few
+    # centimetres of noise, and its ditch, rise and hill lie away from the centre line's ends), so from
+    # the threshold to the end, L m along the centre line, the DEM falls by 0.002 L. The survey says
+    # 612.0 to 606.4 (demo_airfield/site.toml): the same way, no warning. An end surveyed 5.6 m above
+    # the threshold instead rises: the ground falls the wrong way for the landing direction.
+    from demo_airfield import SITE_FILE
+    from geo.airfield.frame import RunwayFrame
+    from geo.ground.dem import Dem
+    from geo.site.site_file import load_site
+    from geo.study.dem_checks import RUNWAY_FALL_TOLERANCE_M, check_runway_fall
+
+    spec = load_site(SITE_FILE)
+    thr, end = spec.threshold, spec.end
+    frame = RunwayFrame(thr.lat_deg, thr.lon_deg, end.lat_deg, end.lon_deg)
+    length = float(frame.to_plane(end.lat_deg, end.lon_deg)[0])
+    with Dem.open(spec.terrain) as dem:
+        ground = dem.sample_frame(frame, np.array([0.0, length]), np.array([0.0, 0.0]))
+        assert float(ground[1] - ground[0]) == pytest.approx(-0.002 * length, abs=0.1)  # make_dem's slope
+        assert check_runway_fall(dem, frame, length, thr.elevation_m, end.elevation_m) is None
+        wrong = check_runway_fall(dem, frame, length, thr.elevation_m, thr.elevation_m + 5.6, "ft")
+        level = check_runway_fall(dem, frame, length, thr.elevation_m, thr.elevation_m + 0.5 * RUNWAY_FALL_TOLERANCE_M)
+    assert wrong is not None and wrong.code == "runway-fall" and wrong.severity == "warning"
+    assert "falls by" in wrong.message and "rises by" in wrong.message and "runway.threshold" in wrong.message
+    assert "ft (" in wrong.message  # the site file's unit first, metres in brackets
+    assert level is None  # a level runway in the survey: no direction to judge
