@@ -21,10 +21,16 @@ import numpy as np
 
 from geo.errors import TerrainError
 
-__all__ = ["ApproachProfile", "approach_profile", "PROFILE_RANGE_M"]
+__all__ = ["ApproachProfile", "approach_profile", "BAND_HALF_WIDTH_M", "PROFILE_RANGE_M"]
 
 #: Farthest point of the profile before the threshold: 10 NM. [m]
 PROFILE_RANGE_M = 10 * 1852.0
+#: The band of terrain across the centre line: the ground within this distance either side, the
+#: half width of the inner approach surface at its start for code 3-4 precision approach runways
+#: (120 m wide: ICAO Annex 14 Vol I Table 4-1, from memory; confirm against the edition in force). [m]
+BAND_HALF_WIDTH_M = 60.0
+#: Lines across the band the terrain is sampled on (every 15 m for the 120 m band).
+BAND_LINES = 9
 
 
 @dataclass(frozen=True)
@@ -49,6 +55,10 @@ class ApproachProfile:
     approach_covered_m : float
         How far before the threshold the DEM reaches without a gap: the approach the clearance
         check covered, at most :data:`PROFILE_RANGE_M`. [m]
+    terrain_low_m, terrain_high_m : numpy.ndarray or None
+        Lowest and highest ground across the band, :data:`BAND_LINES` lines from
+        ``-BAND_HALF_WIDTH_M`` to ``+BAND_HALF_WIDTH_M`` across the centre line at each sample
+        (NaN where the DEM has none of them). [m]
     """
 
     along_m: np.ndarray
@@ -61,6 +71,8 @@ class ApproachProfile:
     min_clearance_along_m: float
     spacing_m: float
     approach_covered_m: float = 0.0
+    terrain_low_m: np.ndarray | None = None
+    terrain_high_m: np.ndarray | None = None
 
     @property
     def clearance_m(self) -> np.ndarray:
@@ -118,6 +130,7 @@ def approach_profile(
     clearance = (straight - terrain)[approach]
     i = int(np.nanargmin(clearance))
     lat, lon = frame.to_geographic(along, np.zeros(along.size))
+    low, high = _band(dem, frame, along)
     return ApproachProfile(
         along,
         np.atleast_1d(lat),
@@ -129,4 +142,19 @@ def approach_profile(
         float(along[approach][i]),
         float(spacing_m),
         approach_covered_m=float(max(0.0, -along[0])),
+        terrain_low_m=low,
+        terrain_high_m=high,
     )
+
+
+def _band(dem, frame, along_m: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Lowest and highest ground on :data:`BAND_LINES` lines across the band at each sample. [m]"""
+    across = np.linspace(-BAND_HALF_WIDTH_M, BAND_HALF_WIDTH_M, BAND_LINES)
+    aa, cc = np.meshgrid(along_m, across)
+    ground = dem.sample_frame(frame, aa.ravel(), cc.ravel()).reshape(aa.shape)
+    seen = np.isfinite(ground).any(axis=0)
+    low = np.full(along_m.size, np.nan)
+    high = np.full(along_m.size, np.nan)
+    low[seen] = np.nanmin(ground[:, seen], axis=0)
+    high[seen] = np.nanmax(ground[:, seen], axis=0)
+    return low, high

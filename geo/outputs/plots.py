@@ -166,6 +166,14 @@ DISTANCE_LABEL = "distance before the threshold [km] (negative: past it, on the 
 NM_LABEL = "distance before the threshold [NM]"
 
 
+def _band_words(result) -> str:
+    """The profile band's half width in the site file's unit first (both units)."""
+    from geo.ground.profile import BAND_HALF_WIDTH_M
+    from geo.units import format_length
+
+    return format_length(BAND_HALF_WIDTH_M, result.spec.units, 0)
+
+
 def _km_before(along_m):
     """Distance before the threshold in km from the runway frame's along (negative on the approach)."""
     return -np.asarray(along_m, dtype=float) / _M_PER_KM
@@ -203,8 +211,8 @@ def _distance_scale(result) -> str:
 def plot_profile(result: StudyResult, path: Path) -> None:
     """Terrain and path along the extended centre line: the whole approach and the runway end of it.
 
-    The profile samples the DEM on the centre line only (no width across it), so the terrain is one
-    line without a band of heights across; the legend says so.
+    The terrain is drawn as the line on the centre line with its band: the lowest to the highest
+    ground within :data:`geo.ground.profile.BAND_HALF_WIDTH_M` either side.
     """
     prof, terrain, mast = result.profile, result.terrain, result.mast
     zone_near = mast.setback_m - terrain.zone.far_m
@@ -214,13 +222,17 @@ def plot_profile(result: StudyResult, path: Path) -> None:
     for ax, (lo, hi) in zip(axes, [(prof.along_m[0], prof.along_m[-1]), (-1500.0, mast.setback_m + 700.0)]):
         sel = (prof.along_m >= lo) & (prof.along_m <= hi)
         x = _km_before(prof.along_m[sel])
-        ax.plot(
-            x,
-            prof.terrain_m[sel],
-            color="#8c6d31",
-            lw=1.2,
-            label="terrain on the centre line (DEM; sampled on the line only, so no band across)",
-        )
+        ax.plot(x, prof.terrain_m[sel], color="#8c6d31", lw=1.2, label="terrain on the centre line (DEM)")
+        if prof.terrain_low_m is not None:
+            ax.fill_between(
+                x,
+                prof.terrain_low_m[sel],
+                prof.terrain_high_m[sel],
+                color="#8c6d31",
+                alpha=0.25,
+                lw=0,
+                label=f"terrain within {_band_words(result)} either side of the centre line (lowest to highest)",
+            )
         ax.plot(x, prof.path_straight_m[sel], color="#1f5fa8", label="straight path (from the RPI)")
         ax.plot(x, prof.path_actual_m[sel], color="#d9480f", ls="--", label="actual path (cone about the mast)")
         ax.axvline(0.0, color="k", lw=0.8)

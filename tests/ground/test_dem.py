@@ -227,3 +227,35 @@ def _to_crs(ds, lat_lon):
 
     lat, lon = lat_lon
     return Transformer.from_crs("EPSG:4326", ds.crs.to_wkt(), always_xy=True).transform(lon, lat)
+
+
+def test_the_profile_carries_the_terrain_band_across_the_centre_line(tmp_path):
+    # demo_airfield/make_dem.py: the demo ground is 612.0 - 0.002 along - 0.003 cross (m), plus 3 cm
+    # of noise per post; 2 km before the threshold its ditch, rise and hill add nothing (their
+    # Gaussians are below 1e-4 m there). So across the band of +-60 m (BAND_HALF_WIDTH_M, Annex 14's
+    # inner approach half width, from memory) the ground spans 0.003 * 120 = 0.36 m, the centre line
+    # inside it, and profile.csv writes both edges in metres and feet.
+    import csv
+
+    from tests_support import demo_site_without_surface
+
+    from geo.ground.profile import BAND_HALF_WIDTH_M
+    from geo.outputs.profile_csv import write_profile_csv
+    from geo.site.site_file import load_site
+    from geo.study.site_study import run_study
+
+    prof = run_study(load_site(demo_site_without_surface(tmp_path))).profile
+    near = np.abs(prof.along_m + 2000.0) < 100.0
+    span = prof.terrain_high_m[near] - prof.terrain_low_m[near]
+    assert np.median(span) == pytest.approx(0.003 * 2 * BAND_HALF_WIDTH_M, abs=0.08)
+    ok = np.isfinite(prof.terrain_m)
+    assert np.all(prof.terrain_low_m[ok] <= prof.terrain_m[ok] + 1e-9)
+    assert np.all(prof.terrain_m[ok] <= prof.terrain_high_m[ok] + 1e-9)
+    write_profile_csv(prof, tmp_path / "profile.csv")
+    with (tmp_path / "profile.csv").open() as fh:
+        rows = list(csv.DictReader(fh))
+    assert {"terrain_lowest_across_m", "terrain_lowest_across_ft", "terrain_highest_across_m"} <= set(rows[0])
+    row = next(r for r in rows if r["terrain_lowest_across_m"])
+    assert float(row["terrain_lowest_across_ft"]) == pytest.approx(
+        float(row["terrain_lowest_across_m"]) / 0.3048, abs=2e-3
+    )
