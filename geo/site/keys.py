@@ -122,7 +122,7 @@ SITE_KEYS: dict[str, tuple[Key, ...]] = {
     "runway": (
         Key("threshold", _POINT, "", "required", "see [runway.threshold]", "the landing threshold"),
         Key("end", _POINT, "", "required", "see [runway.end]", "the far end, in the landing direction"),
-        Key("width", "number", LENGTH, "required", "above 0, at most 200 m", "runway width"),
+        Key("width", "number", LENGTH, "required", "10 to 200 m", "runway width"),
         Key("code", "integer", "", "none (code 3-4 surfaces)", "1 | 2 | 3 | 4", "aerodrome code number"),
         Key("vertical_datum", "text", "", "none (no conversion)", _DATUMS, "datum of every elevation in the file"),
         Key(

@@ -48,7 +48,9 @@ CATEGORIES = ("I", "II", "III")
 #: Hard limits on the path angle; outside 2.5-3.5 deg is a finding, not an error.
 ANGLE_LIMITS_DEG = (1.0, 6.0)
 _ELEVATION_LIMITS_M = (-500.0, 9000.0)
-_WIDTH_LIMITS_M = (0.0, 200.0)
+#: Runway width: at least 10 m (the narrowest runways, code letter A, are 18 m wide: ICAO Annex 14 Vol I
+#: 3.1.10, from memory), at most 200 m. [m]
+_WIDTH_LIMITS_M = (10.0, 200.0)
 _OFFSET_MAX_M = 1000.0
 _TARGET_RDH_LIMITS_M = (0.0, 100.0)
 
@@ -532,7 +534,7 @@ def _runway(runway: dict, scale: float, units: str) -> tuple[GeoPoint, GeoPoint,
         "width",
         scale,
         required=True,
-        above=_WIDTH_LIMITS_M[0],
+        at_least=_WIDTH_LIMITS_M[0],
         at_most=_WIDTH_LIMITS_M[1],
         unit=units,
     )

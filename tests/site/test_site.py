@@ -37,7 +37,9 @@ BAD = [
     # (replace this, with that, field in the message, words of the fix)
     ('units = "m"', 'units = "yards"', "units", '"m" or "ft"'),
     ('units = "m"', "", "units", "missing"),
-    ("width = 45", "width = -3", "runway.width", "greater than 0"),
+    ("width = 45", "width = -3", "runway.width", "at least 10"),
+    # Annex 14 Vol I 3.1.10 (from memory): no runway is narrower than 18 m; 10 m is the floor read.
+    ("width = 45", "width = 4e-226", "runway.width", "at least 10"),
     ("width = 45", 'width = "wide"', "runway.width", "must be a number"),
     ("width = 45", "width = nan", "runway.width", "finite"),
     ("width = 45", "width = inf", "runway.width", "finite"),
