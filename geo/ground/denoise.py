@@ -122,15 +122,19 @@ class Denoised:
     removed_rms_m: float | None = None
     _lattices: list = field(default_factory=list, repr=False)
 
+    def _as_given(self, u: np.ndarray, w: np.ndarray) -> np.ndarray:
+        """The heights as they are: the cell-scale detail is the ground's own (see the module notes). [m]"""
+        self.noise_sigma_m = self.noise_sigma_m or 0.0
+        self.removed_rms_m = 0.0
+        return np.asarray(self.heights(u.ravel(), w.ravel()), float).reshape(u.shape)
+
     def __call__(self, u_m, w_m) -> np.ndarray:
         """Heights with the noise shrunk away: ``s + shrink(z - s)``, read on the lattice. [m]"""
         u, w = np.broadcast_arrays(np.asarray(u_m, float), np.asarray(w_m, float))
         if u.size == 0:
             return np.zeros(u.shape)
-        if self.cell_m > CELL_LIMIT_M or (self.noise_sigma_m or 0.0) > NOISE_LIMIT_M:  # kept as it is
-            self.noise_sigma_m = self.noise_sigma_m or 0.0
-            self.removed_rms_m = 0.0
-            return np.asarray(self.heights(u.ravel(), w.ravel()), float).reshape(u.shape)
+        if self.cell_m > CELL_LIMIT_M or (self.noise_sigma_m or 0.0) > NOISE_LIMIT_M:
+            return self._as_given(u, w)
         box = (float(np.min(u)), float(np.max(u)), float(np.min(w)), float(np.max(w)))
         for held, lu, lw, lattice in self._lattices:  # a lattice made for a box that holds these points
             if held[0] <= box[0] and box[1] <= held[1] and held[2] <= box[2] and box[3] <= held[3]:
@@ -151,9 +155,8 @@ class Denoised:
         if self.noise_sigma_m is None:
             mad = float(np.median(np.abs(finite - np.median(finite)))) if finite.size else 0.0
             self.noise_sigma_m = mad / _MAD_PER_SIGMA
-        if self.noise_sigma_m > NOISE_LIMIT_M or self.cell_m > CELL_LIMIT_M:  # the ground's own detail: kept
-            self.removed_rms_m = 0.0
-            return np.asarray(self.heights(u.ravel(), w.ravel()), float).reshape(u.shape)
+        if self.noise_sigma_m > NOISE_LIMIT_M:
+            return self._as_given(u, w)
         t = THRESHOLD_SIGMAS * self.noise_sigma_m
         kept = np.sign(detail) * np.maximum(np.abs(detail) - t, 0.0)
         if self.removed_rms_m is None:

@@ -595,6 +595,19 @@ def _checked(job: _Job, chosen):
     return np.concatenate([chosen, far_index])
 
 
+def _angle_changes(other, base) -> tuple:
+    """Moves of the path angle and of the larger half-sector between two sectors (None: a crossing lost). [deg]"""
+    if not (len(other) and all(math.isfinite(v) for v in (*other, *base))):
+        return None, None  # a crossing fell outside the check's windows (the angles moved more than 0.06 theta)
+    return abs(other[0] - base[0]), max(abs(other[1] - base[1]), abs(other[2] - base[2]))
+
+
+def _step(refine: float, facets: int, angles=(0.0, 0.0), ddm_change: float = 0.0, **more) -> dict:
+    """One convergence check's record: its sampling and grid, the angles' moves and the DDM's."""
+    return {"refine": refine, **more, "facets": facets, "path_angle_change_deg": angles[0],
+            "half_sector_change_deg": angles[1], "ddm_change_max": ddm_change}  # fmt: skip
+
+
 def _change(job, chosen, ddm_base, sector_base, refine, zone_factor):
     """Changes of the angles and the DDM of the checked receivers at ``refine`` / ``zone_factor``."""
     index = _checked(job, chosen)
@@ -602,20 +615,9 @@ def _change(job, chosen, ddm_base, sector_base, refine, zone_factor):
     if refine == 1.0 and not all(math.isfinite(v) for v in other):  # the crossings left the windows: a wide one
         other = _wide_sector(job.model, job.heights, job.cell_m, job.image, job.angle_deg, job.scale, job.method,
                              job.visibility, zone_factor)  # fmt: skip
-    found = all(math.isfinite(v) for v in (*other, *sector_base))
     ddm_change = float(np.max(np.abs(again[: chosen.size] - ddm_base[chosen]))) if chosen.size else 0.0
-    return {
-        "refine": refine,
-        "zone_factor": zone_factor,
-        "facets": facets,
-        # None: a crossing fell outside the check's windows (the angles moved more than 0.06 theta)
-        "path_angle_change_deg": abs(other[0] - sector_base[0]) if found else None,
-        "half_sector_change_deg": max(abs(other[1] - sector_base[1]), abs(other[2] - sector_base[2]))
-        if found
-        else None,
-        "ddm_change_max": ddm_change,
-        "path_points_checked": int(chosen.size),
-    }
+    step = _step(refine, facets, _angle_changes(other, sector_base), ddm_change, zone_factor=zone_factor)
+    return {**step, "path_points_checked": int(chosen.size)}
 
 
 def _within(change: dict) -> bool:
@@ -641,7 +643,7 @@ def _bands(job: _Job, along_dense, chosen) -> list[_Band]:
     out = []
     for i, point in enumerate(chosen):
         members = np.flatnonzero(nearest == i)
-        far_m, near_m = -along_dense[members].min(), max(-along_dense[members].max(), 0.0)
+        far_m, near_m = -along_dense[members].min(), max(-along_dense[members].max(), 0.0) + 0.0  # no -0
         out.append(_Band(f"path {near_m:.0f}-{far_m:.0f} m before the threshold", members, np.array([point])))
     far = job.n_path + np.arange(job.windows.size)
     every_other = job.n_path + np.arange(job.windows.size).reshape(job.windows.shape)[:, ::2].ravel()
@@ -649,50 +651,33 @@ def _bands(job: _Job, along_dense, chosen) -> list[_Band]:
     return out
 
 
-def _band_change(job: _Job, band: _Band, ddm_path, sector, refine: float, zone_factor: float) -> dict:
-    """The band's checked receivers again at ``refine``: the change of their DDM or of the angles."""
-    if band.checked[0] >= job.n_path:  # the far-field band: the angles
-        _, other, facets, _ = _evaluate(job, band.checked, refine, zone_factor)
-        found = all(math.isfinite(v) for v in (*other, *sector))
-        return {
-            "refine": refine,
-            "facets": facets,
-            "path_angle_change_deg": abs(other[0] - sector[0]) if found else None,
-            "half_sector_change_deg": max(abs(other[1] - sector[1]), abs(other[2] - sector[2])) if found else None,
-            "ddm_change_max": 0.0,
-        }
-    again, _, facets, _ = _evaluate(job, band.checked, refine, zone_factor)
-    change = float(np.max(np.abs(again - ddm_path[band.checked])))
-    return {"refine": refine, "facets": facets, "path_angle_change_deg": 0.0, "half_sector_change_deg": 0.0,
-            "ddm_change_max": change}  # fmt: skip
+def _checks(job: _Job, bands: list[_Band], ddm_path, sector, refine: float, zone_factor: float) -> list[dict]:
+    """The checked receivers of ``bands`` again at ``refine``, in one evaluation.
 
-
-def _first_checks(job: _Job, bands: list[_Band], ddm_path, sector, zone_factor: float) -> None:
-    """Every band's first check (facets halved) in one evaluation: the receivers do not depend on each other."""
+    The receivers do not depend on each other. Per band: the move of its DDM (path bands) or of the
+    angles (the far-field band).
+    """
     index = np.concatenate([band.checked for band in bands])
-    again, other, facets, _ = _evaluate(job, index, 2.0, zone_factor)
-    found = all(math.isfinite(v) for v in (*other, *sector)) if len(other) else False
-    k = 0
+    again, other, facets, _ = _evaluate(job, index, refine, zone_factor)
+    out, k = [], 0
     for band in bands:
-        step = {"refine": 2.0, "facets": facets, "path_angle_change_deg": 0.0, "half_sector_change_deg": 0.0,
-                "ddm_change_max": 0.0}  # fmt: skip
         if band.checked[0] >= job.n_path:
-            step["path_angle_change_deg"] = abs(other[0] - sector[0]) if found else None
-            step["half_sector_change_deg"] = (
-                max(abs(other[1] - sector[1]), abs(other[2] - sector[2])) if found else None
-            )
+            out.append(_step(refine, facets, _angle_changes(other, sector)))
         else:
             n = band.checked.size
-            step["ddm_change_max"] = float(np.max(np.abs(again[k : k + n] - ddm_path[band.checked])))
+            out.append(
+                _step(refine, facets, ddm_change=float(np.max(np.abs(again[k : k + n] - ddm_path[band.checked]))))
+            )
             k += n
-        band.steps.append(step)
-        band.passed = _within(step)
+    return out
 
 
 def _refine_bands(job: _Job, bands: list[_Band], ddm_path, sector, zone_factor: float):
     """Each band refined until the doubling no longer moves it, or the cost limit (see :func:`_refined`)."""
     reason = None
-    _first_checks(job, bands, ddm_path, sector, zone_factor)
+    for band, step in zip(bands, _checks(job, bands, ddm_path, sector, 2.0, zone_factor)):  # every band's first
+        band.steps.append(step)
+        band.passed = _within(step)
     for band in bands:
         while not band.passed:
             facets = band.steps[-1]["facets"]
@@ -709,7 +694,7 @@ def _refine_bands(job: _Job, bands: list[_Band], ddm_path, sector, zone_factor: 
             else:
                 ddm_path = ddm_path.copy()
                 ddm_path[band.members] = values
-            step = _band_change(job, band, ddm_path, sector, 2.0 * band.refine, zone_factor)
+            step = _checks(job, [band], ddm_path, sector, 2.0 * band.refine, zone_factor)[0]
             band.steps.append(step)
             band.passed = _within(step)
     return ddm_path, sector, reason
