@@ -65,18 +65,34 @@ CELL_LIMIT_M = 10.0
 _MAD_PER_SIGMA = 0.6745
 
 
+def _convolve_axis(values: np.ndarray, taps: np.ndarray, axis: int) -> np.ndarray:
+    """``values`` convolved with symmetric ``taps`` along ``axis``, zeros beyond the edges.
+
+    A sum of shifted copies (numpy only, so that a study does not import scipy.ndimage, about
+    0.3 s, for one small separable filter).
+    """
+    half = taps.size // 2
+    n = values.shape[axis]
+    padding = [(0, 0)] * values.ndim
+    padding[axis] = (half, half)
+    padded = np.pad(values, padding)
+    out = np.zeros_like(values, dtype=float)
+    before = (slice(None),) * axis
+    for k, tap in enumerate(taps):
+        out += tap * padded[before + (slice(k, k + n),)]
+    return out
+
+
 def _gaussian_smooth(values: np.ndarray, sigma_steps: float) -> np.ndarray:
     """Separable Gaussian convolution of a 2-D lattice, NaN-aware (normalised by the valid weights) [3]_."""
-    from scipy.ndimage import convolve1d
-
     half = int(math.ceil(3.0 * sigma_steps))
     taps = np.exp(-0.5 * (np.arange(-half, half + 1) / sigma_steps) ** 2)
     valid = np.isfinite(values)
     filled = np.where(valid, values, 0.0)
     weight = valid.astype(float)
     for axis in (0, 1):
-        filled = convolve1d(filled, taps, axis=axis, mode="constant", cval=0.0)
-        weight = convolve1d(weight, taps, axis=axis, mode="constant", cval=0.0)
+        filled = _convolve_axis(filled, taps, axis)
+        weight = _convolve_axis(weight, taps, axis)
     with np.errstate(invalid="ignore", divide="ignore"):
         return np.where(valid & (weight > 0.0), filled / weight, np.nan)
 

@@ -121,11 +121,32 @@ def knife_edge_field(v):
     return (1.0 + 1.0j) / 2.0 * ((0.5 - c) - 1.0j * (0.5 - s))
 
 
+def _fresnel_integrals_on_grid(steps: int, step: float) -> np.ndarray:
+    """``C(v) + j S(v)`` at ``v = 0, step, ..., steps * step``: the integral of ``exp(j pi s^2 / 2)``.
+
+    Six-point Gauss-Legendre quadrature on every step, summed from 0 [1]_ (the phase turns by at
+    most ``pi v step`` in a step, 0.25 rad at ``v = 40``: the rule's error is far below the
+    interpolation's). Numpy only, so that a study does not import scipy.special (about 0.35 s).
+
+    References
+    ----------
+    .. [1] Abramowitz, M. and Stegun, I. A., *Handbook of Mathematical Functions*, NBS, 1964,
+           25.4.30 (Gauss-Legendre integration); 7.3.1-7.3.2 (the Fresnel integrals).
+    """
+    nodes, weights = np.polynomial.legendre.leggauss(6)
+    starts = np.arange(steps) * step
+    s = starts[:, None] + 0.5 * step * (nodes[None, :] + 1.0)
+    pieces = np.exp(0.5j * math.pi * s * s) @ (0.5 * step * weights)
+    return np.r_[0.0, np.cumsum(pieces)]
+
+
 def _table():
     """``F`` on the table's grid and its steps (complex), made once."""
     if not _TABLE:
-        v = np.linspace(-TABLE_LIMIT, TABLE_LIMIT, int(2 * TABLE_LIMIT * _STEPS_PER_UNIT) + 1)
-        f = knife_edge_field(v)
+        half = int(TABLE_LIMIT * _STEPS_PER_UNIT)
+        positive = _fresnel_integrals_on_grid(half, 1.0 / _STEPS_PER_UNIT)
+        cs = np.r_[-positive[:0:-1], positive]  # C and S are odd [2]_
+        f = (1.0 + 1.0j) / 2.0 * ((0.5 - cs.real) - 1.0j * (0.5 - cs.imag))
         _TABLE.append((f, np.r_[np.diff(f), 0.0]))
     return _TABLE[0]
 
