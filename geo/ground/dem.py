@@ -25,6 +25,7 @@ References
 
 from __future__ import annotations
 
+import functools
 import math
 from dataclasses import dataclass
 from pathlib import Path
@@ -209,6 +210,10 @@ class Dem:
         pts = [back.transform(float(a), float(b)) for a, b in zip(cx, cy)]
         return min(math.dist(pts[0], pts[1]), math.dist(pts[0], pts[2]))
 
+    def _metres_per_unit(self) -> float:
+        """Ground length of a unit of the first raster's CRS (a degree counted as 111 km of latitude). [m]"""
+        return _metres_per_unit(self.mosaic.crs_wkt)
+
     def _transformer(self, frame, inverse: bool = False):
         from geo.airfield.frame import frame_transformer
 
@@ -228,8 +233,10 @@ class Dem:
         numpy.ndarray
             Heights in the site's vertical datum (scaled, offset, converted). [m]
         """
+        from geo.ground.lattice_transform import transform_many
+
         east, north = frame.to_tm(along_m, cross_m)
-        x, y = self._transformer(frame).transform(east, north)
+        x, y = transform_many(self._transformer(frame), east, north, self._metres_per_unit())
         return self.sample_native(np.asarray(x, dtype=float), np.asarray(y, dtype=float))
 
     def sample_native(self, x, y) -> np.ndarray:
@@ -313,3 +320,14 @@ def _to_wgs84(crs_wkt: str):
     from geo.ground.mosaic import transformer_between
 
     return transformer_between(crs_wkt, CRS.from_epsg(4326).to_wkt())
+
+
+@functools.lru_cache(maxsize=8)
+def _metres_per_unit(crs_wkt: str) -> float:
+    """Ground length of a unit of a CRS: 1 for metres, 0.3048 for feet, 111 km for a degree. [m]"""
+    from pyproj import CRS
+
+    crs = CRS.from_wkt(crs_wkt)
+    if crs.is_geographic:
+        return 111_000.0
+    return float(crs.axis_info[0].unit_conversion_factor) if crs.axis_info else 1.0

@@ -22,8 +22,11 @@ flat plane it misses the path angle by 0.086 deg with the zones scaled 3 times, 
 the taper over a few Fresnel zones converges slowly).
 
 **Receivers.** The designed path sampled evenly from 10 NM to the threshold, at most
-``APPROACH_STEP_M`` (20 m) apart, so that the structure is measured on the samples the integral
-gives (not on an interpolation between sparse ones), and distant receivers (plane waves) in
+``APPROACH_STEP_M`` (20 m) apart, so that the structure is measured on the DDM at every sample
+(not on a DDM interpolated between sparse ones). The integral itself is taken at every sample
+near the threshold and farther out at nodes spaced by the scattered field's own band, read between
+them by band-limited interpolation (:mod:`geo.optics.approach_nodes`; on the demo 329 of 927
+samples, within 4e-5 DDM of the integral at every sample), and distant receivers (plane waves) in
 elevation windows around the image theory's path and half-sectors, where a cubic through the
 samples around each crossing gives the far-field path angle and half-sectors. Their areas are the
 zones of receivers at ``FAR_RANGE_M``. Where aircraft fly, the path angle is the elevation of a
@@ -62,6 +65,7 @@ from dataclasses import dataclass, field, replace
 import numpy as np
 
 from geo.ground.denoise import Denoised, denoise_heights
+from geo.optics.approach_nodes import approach_nodes, facet_points
 from geo.optics.kernel import ground_fields
 from geo.optics.surface_facets import SurfaceGrid, area_limits, surface_grid
 from geo.radio.prediction import ArrayModel, PathPrediction, ddm
@@ -218,6 +222,7 @@ def surface_fields(
     rx_index=None,
     far: bool = False,
     roughness_m: float = 0.0,
+    along_m=None,
 ) -> tuple[np.ndarray, np.ndarray]:
     """CSB and SBO fields at receivers over the surface of ``grid`` (see the module notes).
 
@@ -245,6 +250,10 @@ def surface_fields(
         RMS height of roughness not in the geometry: the reflected field (image and bracket) is
         scaled by the Ament factor at each receiver's grazing angle seen from the mast's foot
         (:func:`geo.radio.reflection.coherent_roughness_factor`; method "difference" only). [m]
+    along_m : array_like, optional
+        The receivers' distances along the path they lie on, in equal steps (method "difference",
+        near receivers): the bracket is integrated at the nodes of :mod:`geo.optics.approach_nodes`
+        only and read between them by band-limited interpolation. [m]
 
     Returns
     -------
@@ -254,10 +263,27 @@ def surface_fields(
     rx = np.atleast_2d(np.asarray(receivers_m, float))
     plane_nodes = _plane_z(model, *np.meshgrid(grid.u_m, grid.w_m))
     z = np.where(np.isfinite(grid.z_m), grid.z_m, plane_nodes)
+    if along_m is not None and method == "difference" and not far:
+        plan = approach_nodes(along_m, rx, facet_points(grid.u_m, grid.w_m, z), model.wavelength_m)
+        if plan.nodes.size < rx.shape[0]:
+            index = plan.nodes if rx_index is None else np.asarray(rx_index)[plan.nodes]
+            po = _bracket(model, grid, rx[plan.nodes], visibility, index, z, plane_nodes)
+            return _with_image(model, rx, plan.spread(po), far, roughness_m)
+    if method == "raw":
+        po, _, _ = _scattered(model, grid, rx, visibility, rx_index, z, far)
+        direct = _direct(model, rx, far)
+        return model.csb @ (direct + po), model.sbo @ (direct + po)
+    if method != "difference":
+        raise ValueError(f"method {method!r} is not one of 'difference', 'raw'")
+    po = _bracket(model, grid, rx, visibility, rx_index, z, plane_nodes, far)
+    return _with_image(model, rx, po, far, roughness_m)
+
+
+def _scattered(model: ArrayModel, grid: SurfaceGrid, rx, visibility, rx_index, z, far: bool = False):
+    """PO of the surface ``z`` (S, R) at ``rx``, the facets counted and the kernel options (:func:`surface_fields`)."""
     surface = SurfaceGrid(grid.u_m, grid.w_m, z, grid.limits)
     own_areas = rx_index is not None  # each receiver's own area and foot ramp, in the pair weights
     facets = surface.facets(foot=not own_areas)
-    consts = (model.wavelength_m, model.relative_permittivity, model.conductivity_s_m)
     shadowing = {True: "hard", False: "none"}.get(visibility, visibility)
     n = model.normal
     slope = (-n[0] / n[2], -n[1] / n[2])
@@ -276,14 +302,21 @@ def surface_fields(
             }
         # the same weights for the surface and the plane: their facets share (u, w)
         options["pair_weight"] = _receiver_weights(grid.limits, facets.centres_m, rx_index)
+    consts = (model.wavelength_m, model.relative_permittivity, model.conductivity_s_m)
     po = ground_fields(model.positions_m, facets, rx, *consts, source_visible=vis, **receiver_side, **options)
-    if method == "raw":
-        direct = _direct(model, rx, far)
-        return model.csb @ (direct + po), model.sbo @ (direct + po)
-    if method != "difference":
-        raise ValueError(f"method {method!r} is not one of 'difference', 'raw'")
-    plane = SurfaceGrid(grid.u_m, grid.w_m, plane_nodes, grid.limits).facets(foot=not own_areas).subset(counted)
-    po = po - ground_fields(model.positions_m, plane, rx, *consts, **options)
+    return po, counted, options
+
+
+def _bracket(model: ArrayModel, grid: SurfaceGrid, rx, visibility, rx_index, z, plane_nodes, far: bool = False):
+    """``PO(surface) - PO(plane)`` (S, R) at ``rx``, with the same facets and weights (module notes)."""
+    po, counted, options = _scattered(model, grid, rx, visibility, rx_index, z, far)
+    plane = SurfaceGrid(grid.u_m, grid.w_m, plane_nodes, grid.limits).facets(foot=rx_index is None).subset(counted)
+    consts = (model.wavelength_m, model.relative_permittivity, model.conductivity_s_m)
+    return po - ground_fields(model.positions_m, plane, rx, *consts, **options)
+
+
+def _with_image(model: ArrayModel, rx, po, far: bool, roughness_m: float):
+    """CSB and SBO: the image fields plus the bracket ``po`` (S, R), the reflected part under the Ament factor."""
     if far:
         elevation = np.arcsin(np.clip(rx[:, 2], -1.0, 1.0))
         csb, sbo = model.far_fields(elevation)
@@ -559,6 +592,7 @@ class _Job:
     method: str
     visibility: bool | str
     roughness_m: float = 0.0
+    along_m: np.ndarray | None = None  # the path points' distances along the approach (even steps) [m]
     image: PathPrediction | None = None
     angle_deg: float = 3.0
     zone_factor: float = ZONE_FACTOR
@@ -577,7 +611,11 @@ def _evaluate(job: _Job, index, refine=1.0, zone_factor=ZONE_FACTOR, visibility=
     options = dict(method=job.method, visibility=vis, roughness_m=job.roughness_m)
     c = s = np.zeros(0, complex)
     if path.any():
-        c, s = surface_fields(job.model, grid, job.receivers[index[path]], rx_index=local[path], **options)
+        run = index[path]
+        if run.size > 1 and np.all(np.diff(run) == 1):  # consecutive samples of the approach: integrated at nodes
+            options["along_m"] = job.along_m[run]
+        c, s = surface_fields(job.model, grid, job.receivers[run], rx_index=local[path], **options)
+        options.pop("along_m", None)
     far_index = index[~path]
     far_elev = job.windows.ravel()[far_index - job.n_path]
     directions = job.receivers[far_index] / FAR_RANGE_M
@@ -846,6 +884,7 @@ def predict_surface(
     job = _Job(model, ground, cell_m, receivers, dense.size, windows, image.sbo_scale, method, visibility,
                image=image, angle_deg=angle_deg, zone_factor=zone_factor)  # fmt: skip
     job.roughness_m = float(getattr(ground, "removed_rms_m", 0.0))
+    job.along_m = dense
     ddm_dense, sector, facets, grid, converged = _refined(job, dense, check, zone_factor)
     c, s = model.fields(points)
     ddm_dense_image = ddm(c, s, job.scale)
