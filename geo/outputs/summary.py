@@ -143,7 +143,10 @@ def conditions_list(result: StudyResult) -> list[dict]:
                 "ground": c.condition.ground,
                 "ground_constants": None
                 if g is None
-                else {"relative_permittivity": g.relative_permittivity, "conductivity_siemens_per_metre": g.conductivity_s_m},
+                else {
+                    "relative_permittivity": g.relative_permittivity,
+                    "conductivity_siemens_per_metre": g.conductivity_s_m,
+                },
                 "prediction": {
                     "path_angle_deg": c.path_angle_deg,
                     "half_sector_below_deg": c.half_sector_below_deg,

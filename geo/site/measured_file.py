@@ -18,12 +18,12 @@ CSV (``.csv``): the DDM, or the path's angle, along the approach, one sample per
 names the columns: a distance before the threshold with its unit (``distance_m``, ``distance_ft``,
 ``distance_km`` or ``distance_nm``), then ``ddm`` or ``angle_deg`` (one of the two), and optionally
 ``run`` (a name: several runs in one file) and the aircraft's height above the threshold with its
-unit (``height_m`` or ``height_ft``; without it the samples lie on the designed path, as on an
-approach flown on the path). DDM is positive below the path (150 Hz dominating). The angle is the
-path's elevation seen from where the designed straight path meets the reflecting plane abeam the
-mast. Lines starting with ``#`` and empty lines are skipped.
+unit (``height_m`` or ``height_ft``; without it, or with its cells empty for a whole run, the
+samples lie on the designed path, as on an approach flown on the path). DDM is positive below the
+path (150 Hz dominating). The angle is the path's elevation seen from where the designed straight
+path meets the reflecting plane abeam the mast. Lines starting with ``#`` and empty lines are skipped.
 
-Errors are one line naming the file, the row (counted from 1, the header being row 1) and the
+Errors are one line naming the file, the row (the file's line, counted from 1) and the
 column, what is wrong and the fix: :class:`geo.errors.SiteFileError`.
 """
 
@@ -153,7 +153,9 @@ def _from_toml(text: str, name: str) -> MeasuredResults:
         if isinstance(value, bool) or not isinstance(value, (int, float)) or not math.isfinite(value):
             raise SiteFileError(f"measured.{key}", f"must be a number in {unit} (got {value!r})")
         if not (0.0 < value <= (100.0 if FIGURE_KEYS[key] else 20.0)):
-            raise SiteFileError(f"measured.{key}", f"must be above 0 and at most {100 if FIGURE_KEYS[key] else 20} {unit}")
+            raise SiteFileError(
+                f"measured.{key}", f"must be above 0 and at most {100 if FIGURE_KEYS[key] else 20} {unit}"
+            )
         figures["rdh_m" if key == "rdh" else key] = float(value) * (LENGTH_UNITS[units] if FIGURE_KEYS[key] else 1.0)
     conditions = _conditions(doc, units)
     return MeasuredResults(name, units, figures, conditions, ())
@@ -168,28 +170,28 @@ def _conditions(doc: dict, units: str) -> tuple[ConditionSpec, ...]:
     return got
 
 
-def _header(fields: list[str]) -> tuple[str, str, str | None, str | None]:
-    """The distance, value, height and run columns the header names (row 1)."""
+def _header(fields: list[str], row: int) -> tuple[str, str, str | None, str | None]:
+    """The distance, value, height and run columns the header names (the file's ``row``)."""
     names = [f.strip() for f in fields]
     known = (*DISTANCE_UNITS, *_QUANTITIES, *_HEIGHT_UNITS, "run")
     for i, n in enumerate(names):
         if n not in known:
-            raise SiteFileError(f"row 1, column {i + 1} ({n!r})", f"unknown column; use {', '.join(known)}")
+            raise SiteFileError(f"row {row}, column {i + 1} ({n!r})", f"unknown column; use {', '.join(known)}")
         if names.count(n) > 1:
-            raise SiteFileError(f"row 1, column {n}", "named twice; name each column once")
+            raise SiteFileError(f"row {row}, column {n}", "named twice; name each column once")
 
     def one(group, what):
         found = [n for n in names if n in group]
         if len(found) > 1:
-            raise SiteFileError("row 1", f"names {' and '.join(found)}; give one {what} column")
+            raise SiteFileError(f"row {row}", f"names {' and '.join(found)}; give one {what} column")
         return found[0] if found else None
 
     distance = one(DISTANCE_UNITS, "distance")
     if distance is None:
-        raise SiteFileError("row 1", f"names no distance column; add one of {', '.join(DISTANCE_UNITS)}")
+        raise SiteFileError(f"row {row}", f"names no distance column; add one of {', '.join(DISTANCE_UNITS)}")
     value = one(_QUANTITIES, "value")
     if value is None:
-        raise SiteFileError("row 1", "names no value column; add ddm or angle_deg")
+        raise SiteFileError(f"row {row}", "names no value column; add ddm or angle_deg")
     return distance, value, one(_HEIGHT_UNITS, "height"), ("run" if "run" in names else None)
 
 
@@ -211,7 +213,7 @@ def _from_csv(text: str, name: str) -> MeasuredResults:
         raise SiteFileError("row 1", "the file is empty; give a header and one sample per row")
     reader = csv.reader([line for _, line in lines])
     rows = list(reader)
-    distance, value, height, run = _header(rows[0])
+    distance, value, height, run = _header(rows[0], lines[0][0])
     col = {n.strip(): i for i, n in enumerate(rows[0])}
     samples: dict[str, list] = {}
     for (number, _), cells in zip(lines[1:], rows[1:]):
@@ -220,7 +222,7 @@ def _from_csv(text: str, name: str) -> MeasuredResults:
         d = _cell_number(cells[col[distance]], number, distance, 0.0, 50_000.0 / DISTANCE_UNITS[distance])
         v = _cell_number(cells[col[value]], number, value, *_BOUNDS[value])
         h = None
-        if height is not None:
+        if height is not None and cells[col[height]].strip():
             h = _cell_number(cells[col[height]], number, height, 0.0, 10_000.0 / _HEIGHT_UNITS[height])
             h *= _HEIGHT_UNITS[height]
         key = cells[col[run]].strip() if run is not None else "1"
@@ -228,14 +230,19 @@ def _from_csv(text: str, name: str) -> MeasuredResults:
             raise SiteFileError(f"row {number}, column run", "is empty; name the run (any text)")
         samples.setdefault(key, []).append((d * DISTANCE_UNITS[distance], v, h, number))
     if not samples:
-        raise SiteFileError("row 2", "no samples after the header; give one sample per row")
+        raise SiteFileError(f"row {lines[0][0]}", "no samples after the header; give one sample per row")
     runs = []
     for key, items in samples.items():
         if len(items) < 2:
-            raise SiteFileError(f"row {items[0][3]}, column {run or distance}", f"run {key!r} has one sample; give two or more")
+            raise SiteFileError(
+                f"row {items[0][3]}, column {run or distance}", f"run {key!r} has one sample; give two or more"
+            )
         d, v, h, n = (list(t) for t in zip(*items))
-        runs.append(
-            MeasuredRun(key, value, np.array(d), np.array(v), None if height is None else np.array(h), tuple(n))
-        )
+        given = [x is not None for x in h]
+        if any(given) and not all(given):
+            row = n[given.index(False)] if given[0] else n[given.index(True)]
+            raise SiteFileError(f"row {row}, column {height}", f"run {key!r} gives heights on some rows only; "
+                                "give a height on every row of the run or on none (on the designed path)")  # fmt: skip
+        runs.append(MeasuredRun(key, value, np.array(d), np.array(v), np.array(h) if all(given) else None, tuple(n)))
     units = "ft" if distance == "distance_ft" else "m"
     return MeasuredResults(name, units, {}, (), tuple(runs))

@@ -45,7 +45,15 @@ from geo.radio.arrays import array_type
 from geo.study.measured import FIGURE_SIGMA, Observation, observations, predicted_values
 from geo.study.variants import Variant, study_heights
 
-__all__ = ["Setting", "settings_for", "Adjustment", "adjust", "DEFAULT_STEP_M", "ADJUSTMENT_CAUTION"]
+__all__ = [
+    "Setting",
+    "settings_for",
+    "Adjustment",
+    "adjust",
+    "surface_correction",
+    "DEFAULT_STEP_M",
+    "ADJUSTMENT_CAUTION",
+]
 
 #: Height moves are rounded to this step unless told otherwise (common practice, no source). [m]
 DEFAULT_STEP_M = 0.005
@@ -96,11 +104,14 @@ def settings_for(result) -> list[Setting]:
     for name, feeds in (("sbo", sbo), ("csb", csb)):
         for i, f in enumerate(feeds):
             if i > 0 and abs(f) > 0:
-                out += [Setting(roles[i], i, "amplitude", name, 0.1, 0.005), Setting(roles[i], i, "phase", name, 10.0, 0.5)]
+                out += [
+                    Setting(roles[i], i, "amplitude", name, 0.1, 0.005),
+                    Setting(roles[i], i, "phase", name, 10.0, 0.5),
+                ]
     return out
 
 
-def _variant(result, settings, x, moves=None, condition: Variant = Variant()) -> Variant:
+def _variant(result, settings, x, moves=None, condition: Variant | None = None) -> Variant:
     """The array with the state ``x`` (bias first, then the settings) and the ``moves`` (settings)."""
     total = np.array(x[1:], float) + (0.0 if moves is None else np.asarray(moves, float))
     heights = list(study_heights(result))
@@ -114,7 +125,8 @@ def _variant(result, settings, x, moves=None, condition: Variant = Variant()) ->
         else:
             feeds[s.feed][s.index] *= complex(math.cos(math.radians(v)), math.sin(math.radians(v)))
     scaled = tuple((1.0 + x[0]) * h for h in heights)
-    return replace(condition, heights_m=scaled, csb=tuple(feeds["csb"]), sbo=tuple(feeds["sbo"]))
+    base = condition if condition is not None else Variant()
+    return replace(base, heights_m=scaled, csb=tuple(feeds["csb"]), sbo=tuple(feeds["sbo"]))
 
 
 def _jacobian(func, x, steps, f0):
@@ -249,7 +261,9 @@ def adjust(result, measured, step_m: float = DEFAULT_STEP_M, correction=None) ->
     f_before = state_model(x0)
     prior = np.array([_BIAS_PRIOR, *[s.prior for s in settings]])
     x, f_fit = _gauss_newton(state_model, x0, measured_values, sigma, np.diag(1.0 / prior), steps)
-    targets_obs = [Observation(k, 0.0, FIGURE_SIGMA[k]) for k in _DESIGN_FIGURES] + [o for o in obs if o.run is not None]
+    targets_obs = [Observation(k, 0.0, FIGURE_SIGMA[k]) for k in _DESIGN_FIGURES] + [
+        o for o in obs if o.run is not None
+    ]
     target = predicted_values(result, targets_obs, Variant())
     if correction is not None:
         target = target + correction(x0, None, targets_obs)
@@ -263,8 +277,11 @@ def adjust(result, measured, step_m: float = DEFAULT_STEP_M, correction=None) ->
     moves, _ = _gauss_newton(move_model, np.zeros(len(settings)), target, t_sigma, penalty, steps[1:])
     rounded = _rounded(settings, moves, step_m)
     after_variant = _variant(result, settings, x, rounded)
-    _, after = _figures(result, after_variant)
+    fig_obs, after = _figures(result, after_variant)
     _, before = _figures(result, _variant(result, settings, x))
+    if correction is not None:
+        after = after + correction(x, rounded, fig_obs)
+        before = before + correction(x, None, fig_obs)
     return Adjustment(
         settings, float(x[0]), x[1:], moves, rounded, step_m,
         dict(zip(_DESIGN_FIGURES, before)), dict(zip(_DESIGN_FIGURES, after)), dict(zip(_DESIGN_FIGURES, target[:4])),
@@ -272,3 +289,74 @@ def adjust(result, measured, step_m: float = DEFAULT_STEP_M, correction=None) ->
         float(np.sqrt(np.mean(((f_fit - measured_values) / sigma) ** 2))),
         variant_prediction(result, after_variant), correction is not None,
     )  # fmt: skip
+
+
+#: The surface's finite differences take steps this many times the image model's (2 cm of height): the
+#: surface prediction's sampling follows the antennas' zones, so a smaller step measures its grid.
+_SURFACE_STEP_FACTOR = 10.0
+
+
+def surface_correction(result, settings: list[Setting] | None = None):
+    """The surface prediction's departure from image theory and its sensitivities, for :func:`adjust`.
+
+    The path over the DEM surface (:func:`geo.study.surface.surface_for_study`, without its convergence
+    check) for the study's array and for each setting moved by its step: the departure ``D`` of the
+    surface's value from image theory's, and its finite-difference slope per setting. The fits then
+    use image theory plus ``D0 + sum_k dD/dk * change_k``: the surface's sensitivities, the image
+    model's curvature. Values the surface prediction has no counterpart for (DDM off the designed
+    path) get no correction. The bias's change is ``s h`` per height (first order).
+
+    Parameters
+    ----------
+    result : geo.study.site_study.StudyResult
+        With its surface prediction.
+    settings : list of Setting, optional
+        :func:`settings_for`'s by default.
+
+    Returns
+    -------
+    callable
+        ``correction(x, moves, obs) -> numpy.ndarray``.
+    """
+    from geo.study.measured import surface_values
+    from geo.study.surface import surface_for_study
+    from geo.study.variants import variant_prediction
+
+    settings = settings if settings is not None else settings_for(result)
+    mast = result.mast
+    heights = list(study_heights(result))
+    shifts = [a.shift_toward_runway_m for a in result.antennas]
+
+    def surface_at(variant):
+        feeds = (variant.csb or result.feeds[0], variant.sbo or result.feeds[1], result.feeds[2])
+        sp = surface_for_study(
+            result.spec, result.runway, mast.side, mast.setback_m, mast.offset_m, result.terrain,
+            list(variant.heights_m or heights), shifts, feeds, result.wavelength_m, variant_prediction(result, variant),
+            result.rdh_m, check=False,
+        )  # fmt: skip
+        return replace(result, surface=sp), variant
+
+    zero = np.zeros(len(settings) + 1)
+    states = [surface_at(_variant(result, settings, zero))]
+    steps = [_SURFACE_STEP_FACTOR * st.step for st in settings]
+    for k, h in enumerate(steps):
+        step = np.zeros(len(settings))
+        step[k] = h
+        states.append(surface_at(_variant(result, settings, zero, step)))
+    cache: dict = {}
+
+    def tables(obs):
+        key = tuple((o.name, o.run, o.distance_m, o.height_m) for o in obs)
+        if key not in cache:
+            dep = [np.nan_to_num(surface_values(r, obs) - predicted_values(result, obs, v)) for r, v in states]
+            slopes = np.column_stack([(d - dep[0]) / h for d, h in zip(dep[1:], steps)])
+            cache[key] = (dep[0], slopes)
+        return cache[key]
+
+    def correction(x, moves, obs):
+        d0, slopes = tables(obs)
+        change = np.array(x[1:], float) + (0.0 if moves is None else np.asarray(moves, float))
+        change = change + np.array([x[0] * heights[st.index] if st.kind == "height" else 0.0 for st in settings])
+        return d0 + slopes @ change
+
+    return correction

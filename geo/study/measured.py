@@ -1,5 +1,7 @@
-"""Measured results against the prediction: the same figures and samples from the model, their differences
-and the findings against the Annex 10 tolerances and the structure limits.
+"""Measured results against the prediction, their differences and the findings.
+
+The same figures and samples from the model, and the findings against the Annex 10 tolerances and
+the structure limits.
 
 Every measured figure (path angle, half-sectors, RDH) and every sample of a run (DDM, or the path's
 angle, at a distance before the threshold) is an *observation*. :func:`predicted_values` computes
@@ -102,20 +104,22 @@ def _figure(p, name: str, base_m: float) -> float:
     return float(getattr(p, name))
 
 
-def predicted_values(result, obs: list[Observation], variant: Variant = Variant()) -> np.ndarray:
+def predicted_values(result, obs: list[Observation], variant: Variant | None = None) -> np.ndarray:
     """The model's value of every observation for ``variant`` (heights, feeds, ground, snow), by image theory.
 
     Parameters
     ----------
     result : geo.study.site_study.StudyResult
     obs : list of Observation
-    variant : Variant
+    variant : Variant, optional
+        None: the study's array.
 
     Returns
     -------
     numpy.ndarray
         In the order of ``obs``.
     """
+    variant = variant if variant is not None else Variant()
     spec, mast = result.spec, result.mast
     p = variant_prediction(result, variant)
     base = mast.plane_elevation_m - spec.threshold.elevation_m
@@ -205,7 +209,10 @@ def _measured_variant(measured) -> Variant:
 
 
 def measured_findings(result, measured) -> list[Finding]:
-    """The measured figures against the Annex 10 tolerances, and each DDM run on the path against the structure limits [1]_."""
+    """The measured figures against the Annex 10 tolerances, each DDM run on the path against the structure limits.
+
+    Values from memory [1]_.
+    """
     spec = result.spec
     theta = spec.angle_deg
     out = []
