@@ -138,17 +138,35 @@ def _jacobian(func, x, steps, f0):
     return np.column_stack(cols)
 
 
-def _gauss_newton(func, x0, target, sigma, penalty, steps, iterations: int = 8):
-    """``min sum(((func(x) - target) / sigma)^2) + |penalty x|^2`` by Gauss-Newton [2]_; x and its values."""
+def _cost(f, target, sigma, penalty, x) -> float:
+    return float(np.sum(((f - target) / sigma) ** 2) + np.sum((penalty @ x) ** 2))
+
+
+def _gauss_newton(func, x0, target, sigma, penalty, steps, iterations: int = 10):
+    """``min sum(((func(x) - target) / sigma)^2) + |penalty x|^2`` by Gauss-Newton [2]_; x and its values.
+
+    A step that raises the cost, or where the array gives no path, is halved (up to 8 times).
+    """
     x = np.array(x0, float)
     f = func(x)
+    cost = _cost(f, target, sigma, penalty, x)
     for _ in range(iterations):
         jac = _jacobian(func, x, steps, f)
         a = np.vstack([jac / sigma[:, None], penalty])
         b = np.r_[(target - f) / sigma, -penalty @ x]
         dx = np.linalg.lstsq(a, b, rcond=None)[0]
-        x = x + dx
-        f = func(x)
+        for _ in range(8):
+            try:
+                f_new = func(x + dx)
+                new_cost = _cost(f_new, target, sigma, penalty, x + dx)
+            except (ValueError, ZeroDivisionError, FloatingPointError):
+                new_cost = math.inf
+            if new_cost <= cost:
+                break
+            dx = dx / 2.0
+        else:
+            break
+        x, f, cost = x + dx, f_new, new_cost
         if np.all(np.abs(dx) <= 1e-3 * steps):
             break
     return x, f
@@ -199,7 +217,7 @@ class Adjustment:
 
 #: The moves' priors (our choice): free moves, but heights kept in the array's ratios (a common scale)
 #: where the path says nothing of one of them, within 1 % of the heights.
-_MOVE_PRIOR = {"height": 10.0, "amplitude": 10.0, "phase": 900.0}
+_MOVE_PRIOR = {"height": 10.0, "amplitude": 0.5, "phase": 45.0}
 _RATIO_PRIOR = 0.01
 
 
