@@ -89,7 +89,6 @@ def test_moves_recover_known_antenna_errors(study):
         value = independent_ddm(installed, d, h) + rng.normal(0.0, 0.0005, d.size)
         runs.append(MeasuredRun(name, "ddm", d, value, h if with_height else None, tuple(range(2, d.size + 2))))
     got = adjust(study, MeasuredResults("t.csv", "m", {}, (), tuple(runs)), step_m=1e-6)
-    print("recovered moves", got.moves, "bias", got.bias_scale)
     assert got.moves == pytest.approx(-errors, abs=3e-3)
     assert got.moves_rounded == pytest.approx(-errors, abs=3e-3)
     assert abs(got.bias_scale) < 0.01
