@@ -123,7 +123,8 @@ def condition_lines(result: StudyResult) -> list[str]:
     rows += [(c.condition.words(result.spec.units), c.path_angle_deg, c.half_sector_below_deg,
               c.half_sector_above_deg, c.rdh_m) for c in result.conditions]  # fmt: skip
     width = max(len(r[0]) for r in rows)
-    lines = [f"Conditions (image theory): {'condition':<{width}}  angle deg  below deg  above deg  RDH"]
+    lines = ["Conditions (image theory, the study's SBO level; half-sectors below / above the path):",
+             f"  {'condition':<{width}}  angle deg  below deg  above deg  RDH"]  # fmt: skip
     lines += [f"  {r[0]:<{width}}  {r[1]:9.4f}  {r[2]:9.4f}  {r[3]:9.4f}  {_len(r[4])}" for r in rows]
     return lines
 
