@@ -73,6 +73,7 @@ def test_every_readme_command_runs_as_written(tmp_path, monkeypatch):
     shutil.copytree(ROOT / "examples", tmp_path / "examples", ignore=shutil.ignore_patterns("*.py", "__pycache__"))
     (tmp_path / "demo_airfield").mkdir()
     shutil.copy2(ROOT / "demo_airfield" / "dem.tif", tmp_path / "demo_airfield")
+    shutil.copy2(ROOT / "demo_airfield" / "site.toml", tmp_path / "demo_airfield")  # compare-measured's site
     monkeypatch.chdir(tmp_path)
     for line in command_lines((ROOT / "README.md").read_text(encoding="utf-8")):
         args = shlex.split(line)[1:]

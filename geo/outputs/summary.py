@@ -121,9 +121,43 @@ def summary_dict(result: StudyResult, report_pdf: dict | None = None) -> dict:
         body["below_path"] = below_path_dict(result)
     if result.roughness_families and "terrain" in body:
         body["terrain"]["roughness_by_family"] = roughness_families_dict(result.roughness_families)
+    if result.conditions:
+        body["conditions"] = conditions_list(result)
     if report_pdf is not None:
         body["report_pdf"] = dict(report_pdf)
     return with_foot_twins(body)
+
+
+def conditions_list(result: StudyResult) -> list[dict]:
+    """The path under each condition of ``[conditions]`` (metre keys), beside ``prediction`` for the file's ground."""
+    from geo.radio.ground_constants import GROUND_CLASSES, GROUND_SOURCE, SNOW_SOURCE
+    from geo.study.conditions import CONDITIONS_MODEL
+
+    out = []
+    for c in result.conditions:
+        g = GROUND_CLASSES.get(c.condition.ground)
+        out.append(
+            {
+                "snow_depth_m": c.condition.snow_depth_m,
+                "snow": c.condition.snow,
+                "ground": c.condition.ground,
+                "ground_constants": None
+                if g is None
+                else {
+                    "relative_permittivity": g.relative_permittivity,
+                    "conductivity_siemens_per_metre": g.conductivity_s_m,
+                },
+                "prediction": {
+                    "path_angle_deg": c.path_angle_deg,
+                    "half_sector_below_deg": c.half_sector_below_deg,
+                    "half_sector_above_deg": c.half_sector_above_deg,
+                    "rdh_m": c.rdh_m,
+                },
+                "model": CONDITIONS_MODEL,
+                "sources": {"ground": GROUND_SOURCE, "snow": SNOW_SOURCE},
+            }
+        )
+    return out
 
 
 def _runway_dict(result: StudyResult) -> dict:

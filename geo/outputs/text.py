@@ -66,6 +66,7 @@ def summary_text(result: StudyResult) -> str:
             f"  without proximity shifts: over the threshold {_len(float(q.path_z_m[-1]) + base - thr)}",
         ]
     lines += surface_lines(result)
+    lines += condition_lines(result)
     lines += ["Findings:"]
     lines += [f"  [{f.severity}] {f.message}" for f in result.findings]
     lines += ["Caution:"] + [f"  {c}" for c in CAUTIONS]
@@ -108,6 +109,24 @@ def surface_lines(result: StudyResult) -> list[str]:
         f"{sp.half_sector_above_deg:.4f} deg, RDH {_len(sp.straight_fit[0] + base)}",
         f"  {bends}; {verdict}",
     ]
+
+
+def condition_lines(result: StudyResult) -> list[str]:
+    """The path under each condition of ``[conditions]``, side by side with the file's ground (one row each)."""
+    if not result.conditions or result.prediction is None:
+        return []
+    _len = _lengths(result.spec.units)
+    p = result.prediction
+    base = result.mast.plane_elevation_m - result.spec.threshold.elevation_m
+    rows = [("the site file's ground (the study)", p.path_angle_deg, p.half_sector_below_deg, p.half_sector_above_deg,
+             p.straight_fit[0] + base)]  # fmt: skip
+    rows += [(c.condition.words(result.spec.units), c.path_angle_deg, c.half_sector_below_deg,
+              c.half_sector_above_deg, c.rdh_m) for c in result.conditions]  # fmt: skip
+    width = max(len(r[0]) for r in rows)
+    lines = ["Conditions (image theory, the study's SBO level; half-sectors below / above the path):",
+             f"  {'condition':<{width}}  angle deg  below deg  above deg  RDH"]  # fmt: skip
+    lines += [f"  {r[0]:<{width}}  {r[1]:9.4f}  {r[2]:9.4f}  {r[3]:9.4f}  {_len(r[4])}" for r in rows]
+    return lines
 
 
 def past_or_before(along_m: float) -> str:

@@ -33,7 +33,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from geo.radio.reflection import reflection_coefficient_h
+from geo.radio.reflection import layered_reflection_coefficient_h, reflection_coefficient_h
 
 __all__ = ["DDM_AT_HALF_SECTOR", "ArrayModel", "PathPrediction", "predict_path", "ddm", "far_field_ddm"]
 
@@ -59,6 +59,10 @@ class ArrayModel:
         Unit normal of the plane through the origin.
     relative_permittivity, conductivity_s_m : float or None
         Ground constants; ``None`` for a perfect conductor.
+    layer : tuple or None
+        A layer on the reflecting plane (dry snow): ``(complex permittivity, thickness_m)``; the plane
+        is then the layer's top and the ground constants are those under it
+        (:func:`geo.radio.reflection.layered_reflection_coefficient_h`).
     """
 
     positions_m: np.ndarray
@@ -68,6 +72,7 @@ class ArrayModel:
     normal: np.ndarray
     relative_permittivity: float | None = None
     conductivity_s_m: float | None = None
+    layer: tuple | None = None
 
     @classmethod
     def build(
@@ -138,6 +143,11 @@ class ArrayModel:
         return p - 2.0 * (p @ self.normal)[:, None] * self.normal[None, :]
 
     def _gamma(self, sin_grazing):
+        if self.layer is not None:
+            eps = self.relative_permittivity
+            ground = None if eps is None else eps - 1j * 60.0 * self.wavelength_m * (self.conductivity_s_m or 0.0)
+            psi = np.arcsin(np.clip(sin_grazing, -1.0, 1.0))
+            return layered_reflection_coefficient_h(psi, self.layer[0], self.layer[1], ground, self.wavelength_m)
         return reflection_coefficient_h(
             np.arcsin(np.clip(sin_grazing, -1.0, 1.0)),
             self.relative_permittivity,

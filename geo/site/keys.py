@@ -335,6 +335,32 @@ SITE_KEYS: dict[str, tuple[Key, ...]] = {
 }
 
 
+#: ``[conditions]``: the seasons' ground under the same antennas (:mod:`geo.site.conditions`).
+SITE_KEYS[""] = (
+    *SITE_KEYS[""],
+    Key("conditions", "table", "", "none", "[conditions]", "snow and ground conditions predicted side by side"),
+)
+SITE_KEYS["conditions"] = (
+    Key(
+        "snow_depth",
+        "number or list of numbers",
+        LENGTH,
+        "0 (no snow)",
+        "0 to 3 m each, below the lowest antenna",
+        "depth of snow on the ground; a list gives one condition each",
+    ),
+    Key("snow", "text", "", "required with snow", '"dry" | "wet"', "dry snow: a layer; wet snow: reflects at its top"),
+    Key(
+        "ground",
+        "text or list of texts",
+        "",
+        "the [prediction] ground",
+        '"dry" | "medium" | "wet"',
+        "ITU-R P.527 ground class (values from memory); a list gives one condition each",
+    ),
+)
+
+
 def keys_of(table: str) -> tuple[str, ...]:
     """The keys a table may hold, in the parser's order.
 

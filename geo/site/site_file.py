@@ -340,6 +340,8 @@ class SiteSpec:
     magnetic_date : datetime.date or None
         Date of the magnetic variation the designator is checked with (``runway.magnetic_date``);
         None: the World Magnetic Model's epoch (:data:`geo.airfield.magnetic.DEFAULT_EPOCH_YEAR`).
+    conditions : tuple of geo.site.conditions.ConditionSpec
+        ``[conditions]``: snow and ground conditions predicted beside the study's own ground.
     """
 
     name: str
@@ -370,6 +372,7 @@ class SiteSpec:
     report: ReportSpec = field(default_factory=ReportSpec)
     designator: str | None = None
     magnetic_date: date | None = None
+    conditions: tuple = ()
 
 
 def load_site(path: str | Path) -> SiteSpec:
@@ -472,7 +475,15 @@ def parse_site(doc: dict[str, Any], source: str = "", sha256: str = "", base_dir
         report=_report(doc.get("report")),
         designator=designator,
         magnetic_date=magnetic_date,
+        conditions=_conditions(doc, scale, units),
     )
+
+
+def _conditions(doc: dict, scale: float, units: str) -> tuple:
+    """``[conditions]``: snow and ground conditions predicted beside the study (:mod:`geo.site.conditions`)."""
+    from geo.site.conditions import parse_conditions
+
+    return parse_conditions(doc["conditions"], "conditions", scale, units) if "conditions" in doc else ()
 
 
 def _report(table) -> ReportSpec:

@@ -215,6 +215,8 @@ class StudyResult:
     magnetic : RunwayMagnetic or None
         The landing direction's magnetic bearing and variation (:mod:`geo.study.designator`; None
         without ``runway.designator`` and ``runway.magnetic_date``).
+    conditions : tuple of geo.study.conditions.ConditionPrediction
+        The path under each condition of ``[conditions]`` (:mod:`geo.study.conditions`; empty without).
     """
 
     spec: SiteSpec
@@ -244,6 +246,7 @@ class StudyResult:
     surface_sector: SurfaceSector | None = None
     ground_beyond: GroundBeyond | None = None
     magnetic: RunwayMagnetic | None = None
+    conditions: tuple = ()
 
 
 def channel_of(spec: SiteSpec) -> Channel:
@@ -512,9 +515,21 @@ def run_study(spec: SiteSpec, before_surface=None, surface_check: bool = True) -
         surface=None,
         magnetic=magnetic,
     )
+    result = _with_conditions(result)
     if terrain is None or not spec.prediction.surface:
         return result
     return _with_surface(result, found, ground, shifts, before_surface, surface_check)
+
+
+def _with_conditions(result: StudyResult) -> StudyResult:
+    """The study with its path under each condition of ``[conditions]`` (:mod:`geo.study.conditions`)."""
+    if not result.spec.conditions:
+        return result
+    from dataclasses import replace
+
+    from geo.study.conditions import study_conditions
+
+    return replace(result, conditions=study_conditions(result))
 
 
 def _flat_ground(spec, runway, lam, setback, field_name, solve) -> _Ground:
