@@ -404,6 +404,10 @@ def write_map(result: StudyResult, layers: dict[str, dict], path: Path) -> None:
         fmap.get_root().html.add_child(folium.Element(_candidates_legend()))
     if "derived_areas" in layers:
         derived_areas_group(layers["derived_areas"]).add_to(fmap)
+    if "buildings" in layers:
+        from geo.outputs.buildings_out import buildings_group
+
+        buildings_group(layers["buildings"], result.spec.units).add_to(fmap)
     _fit_to_opening_box(fmap, result, layers)
     folium.LayerControl(collapsed=True).add_to(fmap)
     path.write_text(_stable_ids(inlined.fill(fmap.get_root().render())), encoding="utf-8")

@@ -215,6 +215,8 @@ class StudyResult:
     magnetic : RunwayMagnetic or None
         The landing direction's magnetic bearing and variation (:mod:`geo.study.designator`; None
         without ``runway.designator`` and ``runway.magnetic_date``).
+    buildings : geo.study.buildings.BuildingsResult or None
+        The path with and without the site file's buildings (None without ``[[building]]``).
     """
 
     spec: SiteSpec
@@ -244,6 +246,7 @@ class StudyResult:
     surface_sector: SurfaceSector | None = None
     ground_beyond: GroundBeyond | None = None
     magnetic: RunwayMagnetic | None = None
+    buildings: object = None
 
 
 def channel_of(spec: SiteSpec) -> Channel:
@@ -512,9 +515,22 @@ def run_study(spec: SiteSpec, before_surface=None, surface_check: bool = True) -
         surface=None,
         magnetic=magnetic,
     )
-    if terrain is None or not spec.prediction.surface:
+    if terrain is not None and spec.prediction.surface:
+        result = _with_surface(result, found, ground, shifts, before_surface, surface_check)
+    return _with_buildings(result)
+
+
+def _with_buildings(result: StudyResult) -> StudyResult:
+    """The study with the site file's buildings (:mod:`geo.study.buildings`), after its surface prediction."""
+    if not result.spec.buildings:
         return result
-    return _with_surface(result, found, ground, shifts, before_surface, surface_check)
+    from dataclasses import replace
+
+    from geo.study.buildings import building_findings, buildings_for_study
+
+    found = buildings_for_study(result)
+    more = building_findings(found, result.spec.units, result.spec.areas.critical_share)
+    return replace(result, buildings=found, findings=[*result.findings, *more])
 
 
 def _flat_ground(spec, runway, lam, setback, field_name, solve) -> _Ground:
