@@ -9,6 +9,7 @@ import click
 
 from cli.areas import areas
 from cli.batch import batch
+from cli.building_heights import building_heights
 from cli.demo import demo
 from cli.new_site import new_site
 from cli.run import run
@@ -31,6 +32,7 @@ main.add_command(sweep)
 main.add_command(batch)
 main.add_command(areas)
 main.add_command(new_site)
+main.add_command(building_heights)
 
 
 def entry() -> None:

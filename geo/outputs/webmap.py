@@ -408,6 +408,10 @@ def write_map(result: StudyResult, layers: dict[str, dict], path: Path) -> None:
         from geo.outputs.buildings_out import buildings_group
 
         buildings_group(layers["buildings"], result.spec.units).add_to(fmap)
+    if "height_contours" in layers:
+        from geo.outputs.heights_out import contours_group
+
+        contours_group(layers["height_contours"], result.spec.units).add_to(fmap)
     _fit_to_opening_box(fmap, result, layers)
     folium.LayerControl(collapsed=True).add_to(fmap)
     path.write_text(_stable_ids(inlined.fill(fmap.get_root().render())), encoding="utf-8")
