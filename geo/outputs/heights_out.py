@@ -21,15 +21,13 @@ from pathlib import Path
 import numpy as np
 
 from geo.optics.building_heights import HEIGHTS_CAUTION, HeightMap
-from geo.units import M_PER_FT, format_length, with_foot_twins
+from geo.units import M_PER_FT, with_foot_twins
 from geo.version import __version__
 
 __all__ = [
     "CONTOUR_LEVELS_M",
-    "CONTOURS_LAYER",
     "write_geotiffs",
     "contour_layer",
-    "contours_group",
     "plot_heights",
     "heights_summary",
     "write_cells_csv",
@@ -38,8 +36,6 @@ __all__ = [
 
 #: Contours of allowed height above the ground. [m]
 CONTOUR_LEVELS_M = (5.0, 10.0, 15.0, 20.0, 30.0, 40.0, 60.0, 80.0)
-#: The map's name of the contours' layer.
-CONTOURS_LAYER = "Allowed building height, contours (building restricted area)"
 
 
 def _to_geographic(hm: HeightMap, u, w):
@@ -135,20 +131,6 @@ def contour_layer(hm: HeightMap) -> dict:
         finally:
             plt.close(fig)
     return collection(features)
-
-
-def contours_group(fc: dict, unit: str):
-    """The map's layer of the contours, each with its height in a tooltip."""
-    import folium
-
-    group = folium.FeatureGroup(name=CONTOURS_LAYER)
-    for f in fc["features"]:
-        words = (
-            f"Allowed building height {format_length(f['properties']['allowed_height_m'], unit, 0)} above the ground"
-        )
-        style = {"color": "#c92a2a", "weight": 2}
-        folium.GeoJson(f, style_function=lambda _f, s=style: s, tooltip=words).add_to(group)
-    return group
 
 
 def plot_heights(hm: HeightMap, path: Path) -> None:
