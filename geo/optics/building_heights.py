@@ -11,12 +11,15 @@ structure rule (:func:`geo.radio.structure.structure_arrays`: per segment the 95
 ground paths of :func:`geo.optics.scatter_paths.four_path_field`, and its knife-edge shadow).
 
 **Bracketing.** A taller building of the same footprint scatters more and shadows more, so the
-disturbance grows with height (taken so; not proved: at a single cell interference may make it
-dip, which the bracket does not search for). Every cell is evaluated at once at the bracket's
-top (``max_height_m``): cells that pass are allowed at least that height. The rest are evaluated
-at ``min_height_m``; cells that fail there are allowed nothing (0). Between, bisection halves the
-bracket until it is narrower than ``resolution_m``, and the lower end is reported (the last height
-found to pass): a few evaluations per cell, all cells of a step in one vectorised call.
+disturbance grows with height on the whole; not at every height: a wall and its image in the
+ground form a vertical aperture whose lobes swing across the path's receivers as it grows, so the
+share of a cell can dip at some heights (a bisection from the top may then stop in a dip). The bracket is therefore grown from below: every cell is
+evaluated at ``min_height_m`` (cells that fail there are allowed nothing, 0), then at doubled
+heights up to ``max_height_m`` until it fails (cells that never fail are allowed at least the
+top). Between the last height that passed and the first that failed, bisection halves the bracket
+until it is narrower than ``resolution_m``; the lower end is reported. A failure between two
+heights of the ladder that both pass is not searched for. All cells of a step are evaluated in
+one vectorised call.
 
 **Speed.** Facets follow the phase criterion (:func:`geo.optics.objects.facet_side_m`) at each
 cell's distance from the antennas and receivers: far from both, each wall is a few large facets.
@@ -300,6 +303,29 @@ def _at_mast(model, u, w, settings, orientation) -> np.ndarray:
     return hit
 
 
+def _grow_bracket(evaluate, todo: np.ndarray, settings: HeightSettings):
+    """From ``min_height_m`` up, doubling, until each cell fails (or passes ``max_height_m``).
+
+    Returns per cell of ``todo``: the last height that passed (0 when the lowest failed), its share
+    and segment, the first height that failed (NaN: none up to the top), and ``todo`` itself.
+    """
+    lo = np.zeros(todo.size)
+    hi = np.full(todo.size, np.nan)
+    s_lo, seg_lo = evaluate(todo, np.full(todo.size, settings.min_height_m))
+    passed = s_lo <= settings.share
+    lo[passed] = settings.min_height_m
+    hi[~passed] = settings.min_height_m
+    active = np.flatnonzero(passed)
+    while active.size:
+        trial = np.minimum(2.0 * lo[active], settings.max_height_m)
+        s_t, seg_t = evaluate(todo[active], trial)
+        ok = s_t <= settings.share
+        lo[active[ok]], s_lo[active[ok]], seg_lo[active[ok]] = trial[ok], s_t[ok], seg_t[ok]
+        hi[active[~ok]] = trial[~ok]
+        active = active[ok & (trial < settings.max_height_m)]
+    return lo, s_lo, seg_lo, hi, todo
+
+
 def allowed_heights(model, receivers, segments, u, w, base_m, settings, orientation, workers=None, progress=None):
     """The tallest height under the share at every cell, by bracketing and bisection (module notes) [2]_.
 
@@ -328,28 +354,19 @@ def allowed_heights(model, receivers, segments, u, w, base_m, settings, orientat
         return np.concatenate([a for a, _ in got]), np.concatenate([b for _, b in got])
 
     try:
-        top = np.full(todo.size, settings.max_height_m)
-        s_top, seg_top = evaluate(todo, top)
-        ok = s_top <= settings.share
-        height[todo[ok]], share[todo[ok]], segment[todo[ok]] = settings.max_height_m, s_top[ok], seg_top[ok]
-        rest = todo[~ok]
-        s_low, seg_low = evaluate(rest, np.full(rest.size, settings.min_height_m))
-        none = s_low > settings.share
-        height[rest[none]], share[rest[none]], segment[rest[none]] = 0.0, s_low[none], seg_low[none]
-        rest, lo, s_lo, seg_lo = (
-            rest[~none],
-            np.full((~none).sum(), settings.min_height_m),
-            s_low[~none],
-            seg_low[~none],
-        )
-        hi = np.full(rest.size, settings.max_height_m)
-        while rest.size and np.max(hi - lo) > settings.resolution_m:
+        lo, s_lo, seg_lo, hi, index = _grow_bracket(evaluate, todo, settings)
+        for k in (0, 1, 2):  # cells allowed nothing (lo 0) or at least the top (hi NaN) are settled here
+            (height, share, segment)[k][index] = (lo, s_lo, seg_lo)[k]
+        rest = np.flatnonzero(np.isfinite(hi) & (lo > 0.0))
+        lo, hi, s_lo, seg_lo = lo[rest], hi[rest], s_lo[rest], seg_lo[rest]
+        index = index[rest]
+        while index.size and np.max(hi - lo) > settings.resolution_m:
             mid = (lo + hi) / 2.0
-            s_mid, seg_mid = evaluate(rest, mid)
+            s_mid, seg_mid = evaluate(index, mid)
             passed = s_mid <= settings.share
             lo, hi = np.where(passed, mid, lo), np.where(passed, hi, mid)
             s_lo, seg_lo = np.where(passed, s_mid, s_lo), np.where(passed, seg_mid, seg_lo)
-        height[rest], share[rest], segment[rest] = lo, s_lo, seg_lo
+        height[index], share[index], segment[index] = lo, s_lo, seg_lo
     finally:
         pool.shutdown(wait=True, cancel_futures=True)
     return AllowedHeights(orientation, height, share, segment, count[0])

@@ -157,7 +157,7 @@ def plot_heights(hm: HeightMap, path: Path) -> None:
         ax.set_xlabel("toward the approach from the mast [m]")
         ax.set_ylabel("toward the runway from the mast [m]")
         s = hm.settings
-        ax.set_title(f"Building restricted area: {s.length_m:g} m x {s.width_m:g} m footprint, lower of "
+        ax.set_title(f"Building restricted area: {s.length_m:g} m x {s.width_m:g} m footprint,\nlower of "
                      f"{' and '.join(s.orientations)}, share {s.share:g} of the limits", fontsize=9)  # fmt: skip
         ax.set_aspect("equal")
         ax.legend(loc="lower left", fontsize=7)

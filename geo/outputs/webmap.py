@@ -363,8 +363,6 @@ def height_contours_group(fc: dict, unit: str):
     """The map's layer of the contours, each with its height in a tooltip."""
     import folium
 
-    from geo.units import format_length
-
     group = folium.FeatureGroup(name=CONTOURS_LAYER)
     for f in fc["features"]:
         words = (
