@@ -13,13 +13,13 @@ ground paths of :func:`geo.optics.scatter_paths.four_path_field`, and its knife-
 **Bracketing.** A taller building of the same footprint scatters more and shadows more, so the
 disturbance grows with height on the whole; not at every height: a wall and its image in the
 ground form a vertical aperture whose lobes swing across the path's receivers as it grows, so the
-share of a cell can dip at some heights (a bisection from the top may then stop in a dip). The bracket is therefore grown from below: every cell is
-evaluated at ``min_height_m`` (cells that fail there are allowed nothing, 0), then at doubled
-heights up to ``max_height_m`` until it fails (cells that never fail are allowed at least the
-top). Between the last height that passed and the first that failed, bisection halves the bracket
-until it is narrower than ``resolution_m``; the lower end is reported. A failure between two
-heights of the ladder that both pass is not searched for. All cells of a step are evaluated in
-one vectorised call.
+share of a cell can dip at some heights (a bisection from the top may then stop in a dip). The
+bracket is therefore grown from below: every cell is evaluated at ``min_height_m`` (cells that fail
+there are allowed nothing, 0), then at doubled heights up to ``max_height_m`` until it fails
+(cells that never fail are allowed at least the top). Between the last height that passed and
+the first that failed, bisection halves the bracket until it is narrower than ``resolution_m``;
+the lower end is reported. A failure between two heights of the ladder that both pass is not
+searched for. All cells of a step are evaluated in one vectorised call.
 
 **Speed.** Facets follow the phase criterion (:func:`geo.optics.objects.facet_side_m`) at each
 cell's distance from the antennas and receivers: far from both, each wall is a few large facets.
