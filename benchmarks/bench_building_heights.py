@@ -22,10 +22,11 @@ from pathlib import Path
 
 import numpy as np
 
-from geo.optics.areas import array_model, path_receivers
+from geo.optics.areas import array_model
 from geo.optics.building_heights import HeightSettings, _ground, allowed_heights, cell_grid
 from geo.radio.structure_limits import structure_segments
 from geo.site.site_file import load_site
+from geo.study.buildings import study_receivers
 from geo.study.site_study import run_study
 
 SITE = Path(__file__).resolve().parents[1] / "demo_airfield" / "site.toml"
@@ -40,7 +41,7 @@ def main(argv: list[str]) -> None:
     settings = HeightSettings()  # 2 km each way, 20 m: the 40,000 cells
     model = array_model(result)
     segments = structure_segments(spec.category, result.rdh_m, spec.angle_deg)
-    receivers = path_receivers(result, model, segments)
+    receivers = study_receivers(result)  # as the command gives them
     u_axis, w_axis = cell_grid(settings)
     if not full:
         pick = np.linspace(0, u_axis.size - 1, per_side).round().astype(int)

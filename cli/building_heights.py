@@ -85,13 +85,14 @@ def building_heights(site: Path, out_dir: str, overwrite: bool, extent, step, le
     from geo.outputs.write import check_target
     from geo.site.site_file import load_site
     from geo.study.building_screening import screen_buildings, screening_findings
+    from geo.study.buildings import study_receivers
     from geo.study.site_study import run_study
 
     spec = load_site(site)
     settings = _settings(spec, extent, step, length, width, orientations, share, max_height)
     check_target(out_dir, overwrite, [Path(spec.source)] if spec.source else [])
     result = run_study(replace(spec, prediction=replace(spec.prediction, surface=False), buildings=()))
-    hm = compute(result, settings)
+    hm = compute(result, settings, receivers=study_receivers(result))
     if spec.buildings:
         hm = replace(hm, screening=screen_buildings(hm, replace(result, spec=spec)))
     folder = write_heights(hm, out_dir, overwrite=overwrite)

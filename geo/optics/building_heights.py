@@ -390,7 +390,7 @@ def _ground(result, u, w, model) -> tuple[np.ndarray, np.ndarray]:
     return ground, np.maximum(ground - plane, 0.0)
 
 
-def building_heights(result, settings: HeightSettings, workers=None, progress=None) -> HeightMap:
+def building_heights(result, settings: HeightSettings, workers=None, progress=None, receivers=None) -> HeightMap:
     """Allowed heights of ``settings``' footprint around the mast of a study (module notes).
 
     Parameters
@@ -401,6 +401,10 @@ def building_heights(result, settings: HeightSettings, workers=None, progress=No
         Threads over the chunks of cells (default 2; each kernel call has its own threads).
     progress : callable, optional
         ``progress(cells_done)`` after each evaluation step.
+    receivers : geo.optics.areas.PathReceivers, optional
+        The path's receivers (default :func:`geo.optics.areas.path_receivers`, the derived areas');
+        ``mastplan building-heights`` gives those of ``mastplan run``'s buildings
+        (:func:`geo.study.buildings.study_receivers`), so that the map and the run measure alike.
 
     Returns
     -------
@@ -409,7 +413,7 @@ def building_heights(result, settings: HeightSettings, workers=None, progress=No
     spec = result.spec
     model = array_model(result)
     segments = structure_segments(spec.category, result.rdh_m, spec.angle_deg)
-    receivers = path_receivers(result, model, segments)
+    receivers = path_receivers(result, model, segments) if receivers is None else receivers
     u_axis, w_axis = cell_grid(settings)
     uu, ww = np.meshgrid(u_axis, w_axis)  # rows across the runway (w), columns along it (u)
     u, w = uu.ravel(), ww.ravel()

@@ -50,6 +50,7 @@ __all__ = [
     "BuildingsResult",
     "building_shapes",
     "approach_receivers",
+    "study_receivers",
     "buildings_for_study",
     "building_findings",
 ]
@@ -176,6 +177,27 @@ def approach_receivers(result) -> tuple[np.ndarray, np.ndarray]:
         dense = np.linspace(along[0], along[-1], int(math.ceil((along[-1] - along[0]) / APPROACH_STEP_M)) + 1)
     z = np.interp(dense, image.along_m, image.nominal_z_m)  # the designed path: a straight line
     return dense, np.column_stack([mast.setback_m - dense, np.full(dense.size, mast.offset_m), z])
+
+
+def study_receivers(result):
+    """The receivers of :func:`approach_receivers` as :class:`geo.optics.areas.PathReceivers` (for the map).
+
+    With the array's fields over the reflecting plane and each receiver's segment and limit, as
+    :func:`geo.optics.areas.path_receivers` gives them for its own receivers.
+    """
+    from geo.optics.areas import PathReceivers
+
+    spec = result.spec
+    segments = structure_segments(spec.category, result.rdh_m, spec.angle_deg)
+    along, points = approach_receivers(result)
+    csb, sbo = array_model(result).fields(points)
+    before = -along
+    limit, segment = np.full(before.size, np.nan), np.full(before.size, -1)
+    for i in range(len(segments) - 1, -1, -1):  # the first segment containing a receiver wins
+        inside = segments[i].contains(before)
+        limit = np.where(inside, segments[i].limit_at(before), limit)
+        segment = np.where(inside, i, segment)
+    return PathReceivers(points, before, csb, sbo, result.prediction.sbo_scale, limit, segment)
 
 
 def _height_slope(model, points, scale):
