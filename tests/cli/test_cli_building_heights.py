@@ -69,9 +69,15 @@ def test_outputs_and_screening(tmp_path, site_with_building):
         # plane at the mast's 511.2 m base).
         diff = datum.read(1) - ground.read(1)
         assert np.allclose(diff[np.isfinite(diff)], 511.2, atol=0.01)
+        # Each cell of cells.csv, placed by its WGS 84 position through pyproj into the raster's CRS, falls
+        # on the pixel holding its allowed height (the rotated grid's transform is right).
+        from pyproj import Transformer
+
+        to_raster = Transformer.from_crs("EPSG:4326", ground.crs.to_wkt(), always_xy=True)
         heights = ground.read(1)
         for r in rows:
-            assert float(r["allowed_height_m"]) in heights
+            row, col = ground.index(*to_raster.transform(float(r["lon"]), float(r["lat"])))
+            assert heights[row, col] == pytest.approx(float(r["allowed_height_m"]), abs=0.06)
 
 
 def test_bad_options_are_one_line_errors(tmp_path, write_site, site_text):
