@@ -9,6 +9,7 @@ import click
 
 from cli.areas import areas
 from cli.batch import batch
+from cli.building_heights import building_heights
 from cli.compare_measured import compare_measured
 from cli.demo import demo
 from cli.new_site import new_site
@@ -33,6 +34,7 @@ main.add_command(batch)
 main.add_command(areas)
 main.add_command(new_site)
 main.add_command(compare_measured)
+main.add_command(building_heights)
 
 
 def entry() -> None:

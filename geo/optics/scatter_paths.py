@@ -67,6 +67,7 @@ def four_path_field(
     normal,
     relative_permittivity=None,
     conductivity_s_m=None,
+    facet_constants=(None, None),
 ) -> np.ndarray:
     """Field of the object at each position from one source, the four ground paths summed.
 
@@ -87,6 +88,9 @@ def four_path_field(
         Unit normal of the ground plane through the origin.
     relative_permittivity, conductivity_s_m : float or None
         Ground constants; ``None``: a perfect conductor.
+    facet_constants : tuple of (float or None)
+        (relative permittivity, conductivity S/m) of the facets' own material (a building's
+        cladding); ``(None, None)``: perfectly conducting plates.
 
     Returns
     -------
@@ -103,7 +107,7 @@ def four_path_field(
     gamma_receiver = grazing_gamma(centres_m, rx_image, *ground)  # (G, R)
 
     def leg(a, r):
-        return scattered_field(a, facets, r, wavelength_m, groups=groups)
+        return scattered_field(a, facets, r, wavelength_m, *facet_constants, groups=groups)
 
     direct = leg(src, rx) + gamma_source * leg(src_image, rx)
     via_ground = leg(src, rx_image) + gamma_source * leg(src_image, rx_image)

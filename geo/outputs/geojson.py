@@ -175,6 +175,8 @@ def study_layers(result: StudyResult) -> dict[str, dict]:
     layers["reflection_zones"] = _zones_layer(result)
     if result.spec.protected_areas:
         layers["protected_areas"] = _protected_areas_layer(result)
+    if result.spec.buildings:
+        layers["buildings"] = _buildings_layer(result)
     return layers
 
 
@@ -318,3 +320,22 @@ def _protected_areas_layer(result: StudyResult) -> dict:
             for a in result.spec.protected_areas
         ]
     )
+
+
+def _buildings_layer(result: StudyResult) -> dict:
+    """The site file's buildings: footprint, height, cladding and, once computed, their effect on the path."""
+    import shapely
+
+    from geo.study.buildings import building_shapes
+
+    found = result.buildings
+    shapes = [e.shape for e in found.effects] if found is not None else building_shapes(result)
+    effects = found.effects if found is not None else [None] * len(shapes)
+    out = []
+    for b, shape, e in zip(result.spec.buildings, shapes, effects):
+        props = {"name": b.name, "height_above_ground_m": b.height_m, "cladding": b.cladding}
+        if e is not None:
+            props["largest_share_of_limit"] = round(e.worst_share, 4)
+            props["path_angle_shift_deg"] = round(e.angle_shift_deg, 5)
+        out.append(feature(_mast_plane_polygon(result, shapely.Polygon(shape.outline_m)), props))
+    return collection(out)

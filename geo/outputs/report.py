@@ -97,6 +97,7 @@ def write_report(result: StudyResult, path: Path, plots: bool, site_plan: bool =
 <h2>Antennas</h2><table><tr><th>antenna</th><th>height above the reflecting plane</th>
 <th>shift toward the runway</th><th>position (WGS 84)</th></tr>{_antenna_rows(result)}</table>
 <h2>Findings</h2>{_memory_note(cited)}<ul>{_finding_items(result, cited)}</ul>
+{_buildings_section(result)}
 <h2>Reflection zones</h2><table><tr><th>antenna</th><th>kind</th><th>nearest</th><th>farthest</th>
 <th>largest half-width</th><th>area</th></tr>{_zone_rows(result)}</table>
 {_images(result, plots)}
@@ -105,6 +106,12 @@ def write_report(result: StudyResult, path: Path, plots: bool, site_plan: bool =
 </body></html>
 """
     path.write_text(page, encoding="utf-8")
+
+
+def _buildings_section(result: StudyResult) -> str:
+    from geo.outputs.buildings_out import buildings_report
+
+    return buildings_report(result)
 
 
 def _title_block(result: StudyResult) -> str:

@@ -128,6 +128,8 @@ def _draw_areas(ax, result: StudyResult, layers: dict) -> list[np.ndarray]:
             lw=1.6,
             zorder=5,
         )
+    drawn += _draw_polygons(ax, frame, _features(layers, "buildings"), "Buildings (site file)",
+                            facecolor=("#5f3dc4", 0.35), edgecolor="#5f3dc4", lw=1.2, zorder=6)  # fmt: skip
     return drawn
 
 

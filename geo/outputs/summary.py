@@ -115,6 +115,10 @@ def summary_dict(result: StudyResult, report_pdf: dict | None = None) -> dict:
     if result.prediction is not None:
         body["prediction"] = prediction_dict(result)
         body["prediction"]["surface"] = surface_dict(result)
+        if result.buildings is not None:
+            from geo.outputs.buildings_out import buildings_summary
+
+            body["prediction"]["surface"]["buildings"] = buildings_summary(result)
     if result.terrain is not None:
         body["terrain"] = terrain_dict(result)
     if result.below_path is not None:

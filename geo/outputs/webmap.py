@@ -355,6 +355,24 @@ def _hillshade_overlay(result: StudyResult, path_bounds, inlined: _Inlined):
     )
 
 
+#: The map's name of the layer of ``mastplan building-heights``' contours.
+CONTOURS_LAYER = "Allowed building height, contours (building restricted area)"
+
+
+def height_contours_group(fc: dict, unit: str):
+    """The map's layer of the contours, each with its height in a tooltip."""
+    import folium
+
+    group = folium.FeatureGroup(name=CONTOURS_LAYER)
+    for f in fc["features"]:
+        words = (
+            f"Allowed building height {format_length(f['properties']['allowed_height_m'], unit, 0)} above the ground"
+        )
+        style = {"color": "#c92a2a", "weight": 2}
+        folium.GeoJson(f, style_function=lambda _f, s=style: s, tooltip=words).add_to(group)
+    return group
+
+
 def derived_areas_group(fc: dict):
     """A folium layer of the derived areas (``mastplan areas``)."""
     import folium
@@ -404,6 +422,12 @@ def write_map(result: StudyResult, layers: dict[str, dict], path: Path) -> None:
         fmap.get_root().html.add_child(folium.Element(_candidates_legend()))
     if "derived_areas" in layers:
         derived_areas_group(layers["derived_areas"]).add_to(fmap)
+    if "buildings" in layers:
+        from geo.outputs.buildings_out import buildings_group
+
+        buildings_group(layers["buildings"], result.spec.units).add_to(fmap)
+    if "height_contours" in layers:
+        height_contours_group(layers["height_contours"], result.spec.units).add_to(fmap)
     _fit_to_opening_box(fmap, result, layers)
     folium.LayerControl(collapsed=True).add_to(fmap)
     path.write_text(_stable_ids(inlined.fill(fmap.get_root().render())), encoding="utf-8")

@@ -114,6 +114,7 @@ SITE_KEYS: dict[str, tuple[Key, ...]] = {
         Key("object", "array of tables", "", "three generic classes", "[[object]]", "objects of mastplan areas"),
         Key("areas", "table", "", "defaults below", "[areas]", "the derived areas' shares and grid"),
         Key("report", "table", "", "empty title block", "[report]", "the report's title block"),
+        Key("building", "array of tables", "", "none", "[[building]]", "buildings beside the runway"),
     ),
     "site": (
         Key("name", "text", "", "required", "one line, not empty", "the site's name, in every output"),
@@ -359,6 +360,23 @@ SITE_KEYS["conditions"] = (
         "ITU-R P.527 ground class (values from memory); a list gives one condition each",
     ),
 )
+#: ``[[building]]`` (geo/site/buildings.py reads it).
+SITE_KEYS["building"] = (
+    Key("name", "text", "", "required", "one line, not empty, each building its own", "the building's name"),
+    Key("height", "number", LENGTH, "required", "above 0, at most 300 m", "top of the roof above the ground"),
+    Key("footprint", "list of inline tables { lat, lon }", "deg", "none (give centre, length, width)",
+        "3 to 200 corners in order, a simple polygon", "the outline, WGS 84"),
+    Key("centre", "inline table { lat, lon }", "deg", "none (give footprint)", "WGS 84", "a rectangle's centre"),
+    Key("length", "number", LENGTH, "required with centre", "1 to 2,000 m", "a rectangle's side along heading_deg"),
+    Key("width", "number", LENGTH, "required with centre", "1 to 2,000 m", "a rectangle's other side"),
+    Key("heading_deg", "number", "deg", "0", "-360 to 360", "true bearing of the rectangle's length"),
+    Key("cladding", "text", "", '"metal"', '"metal" | "concrete" | "glass"',
+        "walls and roof: metal a perfect conductor, the others ITU-R P.2040 constants"),
+    Key("relative_permittivity", "number", "", "from cladding", "1 to 100, with conductivity",
+        "the walls' own constant, instead of the cladding's"),
+    Key("conductivity", "number", "S/m", "from cladding", "0 to 1e8, with relative_permittivity",
+        "the walls' own conductivity"),
+)  # fmt: skip
 
 
 def keys_of(table: str) -> tuple[str, ...]:
@@ -379,7 +397,7 @@ def keys_of(table: str) -> tuple[str, ...]:
 def _heading(table: str) -> str:
     if table == "":
         return "## The top level"
-    if table in ("protected_area", "object"):
+    if table in ("protected_area", "object", "building"):
         return f"## `[[{table}]]` (one table per item)"
     return f"## `[{table}]`"
 

@@ -24,6 +24,7 @@ from geo.airfield.magnetic import MODEL_SPAN_YEARS, decimal_year, parse_designat
 from geo.airfield.surfaces import DEFAULT_SURFACES, SurfaceSpec, surfaces_for_code
 from geo.errors import SiteFileError
 from geo.radio.arrays import ARRAY_TYPES
+from geo.site.buildings import BuildingSpec, parse_buildings
 from geo.site.channels import CHANNEL_PAIRS_MHZ, GLIDE_PATH_BAND_MHZ
 from geo.site.keys import keys_of
 from geo.units import LENGTH_UNITS, format_length
@@ -373,6 +374,7 @@ class SiteSpec:
     designator: str | None = None
     magnetic_date: date | None = None
     conditions: tuple = ()
+    buildings: tuple[BuildingSpec, ...] = ()
 
 
 def load_site(path: str | Path) -> SiteSpec:
@@ -476,6 +478,7 @@ def parse_site(doc: dict[str, Any], source: str = "", sha256: str = "", base_dir
         designator=designator,
         magnetic_date=magnetic_date,
         conditions=_conditions(doc, scale, units),
+        buildings=parse_buildings(doc.get("building", []), scale, units, _reader_checks()),
     )
 
 
@@ -484,6 +487,13 @@ def _conditions(doc: dict, scale: float, units: str) -> tuple:
     from geo.site.conditions import parse_conditions
 
     return parse_conditions(doc["conditions"], "conditions", scale, units) if "conditions" in doc else ()
+
+
+def _reader_checks():
+    """The checks ``[[building]]`` (:mod:`geo.site.buildings`) reads its keys with, as every other table's."""
+    from types import SimpleNamespace
+
+    return SimpleNamespace(_number=_number, _text=_text, _only=_only, _show=_show, _is_choice=_is_choice)
 
 
 def _report(table) -> ReportSpec:

@@ -217,6 +217,8 @@ class StudyResult:
         without ``runway.designator`` and ``runway.magnetic_date``).
     conditions : tuple of geo.study.conditions.ConditionPrediction
         The path under each condition of ``[conditions]`` (:mod:`geo.study.conditions`; empty without).
+    buildings : geo.study.buildings.BuildingsResult or None
+        The path with and without the site file's buildings (None without ``[[building]]``).
     """
 
     spec: SiteSpec
@@ -247,6 +249,7 @@ class StudyResult:
     ground_beyond: GroundBeyond | None = None
     magnetic: RunwayMagnetic | None = None
     conditions: tuple = ()
+    buildings: object = None
 
 
 def channel_of(spec: SiteSpec) -> Channel:
@@ -516,9 +519,22 @@ def run_study(spec: SiteSpec, before_surface=None, surface_check: bool = True) -
         magnetic=magnetic,
     )
     result = _with_conditions(result)
-    if terrain is None or not spec.prediction.surface:
+    if terrain is not None and spec.prediction.surface:
+        result = _with_surface(result, found, ground, shifts, before_surface, surface_check)
+    return _with_buildings(result)
+
+
+def _with_buildings(result: StudyResult) -> StudyResult:
+    """The study with the site file's buildings (:mod:`geo.study.buildings`), after its surface prediction."""
+    if not result.spec.buildings:
         return result
-    return _with_surface(result, found, ground, shifts, before_surface, surface_check)
+    from dataclasses import replace
+
+    from geo.study.buildings import building_findings, buildings_for_study
+
+    found = buildings_for_study(result)
+    more = building_findings(found, result.spec.units, result.spec.areas.critical_share)
+    return replace(result, buildings=found, findings=[*result.findings, *more])
 
 
 def _with_conditions(result: StudyResult) -> StudyResult:

@@ -15,7 +15,7 @@ from click.testing import CliRunner
 from cli.main import main
 
 ROOT = Path(__file__).resolve().parents[2]
-COMMANDS = ("run", "demo", "sweep", "batch", "areas")
+COMMANDS = ("run", "demo", "sweep", "batch", "areas", "building-heights")
 as_root = pytest.mark.skipif(os.geteuid() == 0, reason="root ignores folder permissions")
 
 
