@@ -274,9 +274,17 @@ class _PairSpace:
         return self.ws.take(name, self.shape, self.dt if dtype is None else dtype)
 
 
-def _gamma_table(relative_permittivity: float, conductivity_s_m: float | None, wavelength_m: float, dt):
-    """``-Gamma`` (real, imaginary) and its steps on ``_GAMMA_TABLE_RAD``, in ``dt``, and steps per radian."""
-    gamma = -reflection_coefficient_h(_GAMMA_TABLE_RAD, relative_permittivity, conductivity_s_m, wavelength_m)
+def _gamma_table(
+    relative_permittivity: float, conductivity_s_m: float | None, wavelength_m: float, dt, reflection=None
+):
+    """``-Gamma`` (real, imaginary) and its steps on ``_GAMMA_TABLE_RAD``, in ``dt``, and steps per radian.
+
+    ``reflection(grazing_rad) -> Gamma``, when given, instead of the half-space's coefficient (a layer on the ground).
+    """
+    if reflection is not None:
+        gamma = -np.asarray(reflection(_GAMMA_TABLE_RAD), dtype=complex)
+    else:
+        gamma = -reflection_coefficient_h(_GAMMA_TABLE_RAD, relative_permittivity, conductivity_s_m, wavelength_m)
     table = np.stack([gamma.real, gamma.imag, np.r_[np.diff(gamma.real), 0.0], np.r_[np.diff(gamma.imag), 0.0]])
     table = table.astype(dt)
     per_rad = (_GAMMA_TABLE_RAD.size - 1) / _GAMMA_TABLE_RAD[-1]
@@ -687,6 +695,7 @@ def _pair_fields(
     pair_weight=None,
     far: bool = False,
     threads: int | None = None,
+    reflection=None,
 ) -> np.ndarray:
     """The one physical-optics kernel: every source, facet group and receiver (see the module notes).
 
@@ -749,6 +758,9 @@ def _pair_fields(
         once per chunk, from the worker threads, in any order.
     far : bool
         ``receivers_m`` are unit directions; far-field units.
+    reflection : callable, optional
+        ``reflection(grazing_rad) -> Gamma`` of the ground (horizontal polarisation), e.g. a layer on it;
+        instead of the half-space coefficient of ``relative_permittivity`` and ``conductivity_s_m``.
     threads : int, optional
         Worker threads; None: 2 when called from the main thread with more than one chunk, else 1
         (a caller that runs the kernel in a pool of its own already keeps the cores busy), and no
@@ -779,10 +791,10 @@ def _pair_fields(
     visible = None if source_visible is None else np.asarray(source_visible, dtype=float)
     if horizon_tan is not None and horizon_obstacle is not None:
         raise ValueError("horizon_tan (hard) and horizon_obstacle (knife edge) exclude each other")
-    lossy = relative_permittivity is not None
+    lossy = relative_permittivity is not None or reflection is not None
     table, per_rad = None, None
     if lossy:
-        table, per_rad = _gamma_table(relative_permittivity, conductivity_s_m, wavelength_m, dt)
+        table, per_rad = _gamma_table(relative_permittivity, conductivity_s_m, wavelength_m, dt, reflection)
     rows_per_chunk = max(1, _PAIRS_PER_CHUNK // count_r)
     call = _Call(
         src=src,
@@ -891,6 +903,7 @@ def ground_fields(
     pair_weight=None,
     far: bool = False,
     horizon_obstacle=None,
+    reflection=None,
 ) -> np.ndarray:
     """Fields of one-sided ground facets for several sources at once, in single precision.
 
@@ -915,6 +928,8 @@ def ground_fields(
     horizon_tan : numpy.ndarray, shape (P,), optional
         Tangent of each facet's horizon toward the receivers: a receiver whose elevation seen from
         the facet has a smaller tangent is hidden from it. None: every receiver is seen.
+    reflection : callable, optional
+        ``reflection(grazing_rad) -> Gamma`` of the ground instead of the half-space's (a layer on it).
     horizon_obstacle : tuple of numpy.ndarray, optional
         ``(tangent, distance_m, excess_m)`` of each facet's obstacle toward the receivers: each
         pair weighted by the knife edge over it instead (:func:`_receiver_knife_edge`).
@@ -942,7 +957,7 @@ def ground_fields(
     """
     if facets.two_sided:
         raise ValueError("ground_fields takes one-sided ground facets; use scattered_field for plates")
-    ground = dict(relative_permittivity=relative_permittivity, conductivity_s_m=conductivity_s_m)
+    ground = dict(relative_permittivity=relative_permittivity, conductivity_s_m=conductivity_s_m, reflection=reflection)
     shading = dict(
         source_visible=source_visible,
         horizon_tan=horizon_tan,

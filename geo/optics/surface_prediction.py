@@ -303,8 +303,14 @@ def _scattered(model: ArrayModel, grid: SurfaceGrid, rx, visibility, rx_index, z
         # the same weights for the surface and the plane: their facets share (u, w)
         options["pair_weight"] = _receiver_weights(grid.limits, facets.centres_m, rx_index)
     consts = (model.wavelength_m, model.relative_permittivity, model.conductivity_s_m)
+    options.update(_layer(model))
     po = ground_fields(model.positions_m, facets, rx, *consts, source_visible=vis, **receiver_side, **options)
     return po, counted, options
+
+
+def _layer(model: ArrayModel) -> dict:
+    """The kernel's ``reflection`` where the ground carries a layer (dry snow): the model's own coefficient."""
+    return {"reflection": model.ground_reflection} if getattr(model, "layer", None) is not None else {}
 
 
 def _bracket(model: ArrayModel, grid: SurfaceGrid, rx, visibility, rx_index, z, plane_nodes, far: bool = False):

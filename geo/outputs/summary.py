@@ -157,11 +157,31 @@ def conditions_list(result: StudyResult) -> list[dict]:
                     "half_sector_above_deg": c.half_sector_above_deg,
                     "rdh_m": c.rdh_m,
                 },
+                "surface": _condition_surface(c.surface),
                 "model": CONDITIONS_MODEL,
                 "sources": {"ground": GROUND_SOURCE, "snow": SNOW_SOURCE},
             }
         )
     return out
+
+
+def _condition_surface(sp) -> dict | None:
+    """A condition's path over the surface: its angles and structure per segment (None without one)."""
+    if sp is None:
+        return None
+    segments = [
+        {"segment": s.segment, "from_m": s.from_m, "to_m": s.to_m, "limit_ddm": s.limit_ddm,
+         "bend_95_ddm": s.bend_95_ddm, "pass": s.passed, "departure_95_ddm": s.departure_95_ddm}
+        for s in sp.structure
+    ]  # fmt: skip
+    return {
+        "path_angle_deg": _finite(sp.path_angle_deg),
+        "fitted_path_angle_deg": _finite(sp.fitted_angle_deg),
+        "half_sector_below_deg": _finite(sp.half_sector_below_deg),
+        "half_sector_above_deg": _finite(sp.half_sector_above_deg),
+        "structure": segments,
+        "converged": "not checked (one facet per DEM cell, as the study's first sampling)",
+    }
 
 
 def _runway_dict(result: StudyResult) -> dict:

@@ -126,6 +126,14 @@ def condition_lines(result: StudyResult) -> list[str]:
     lines = ["Conditions (image theory, the study's SBO level; half-sectors below / above the path):",
              f"  {'condition':<{width}}  angle deg  below deg  above deg  RDH"]  # fmt: skip
     lines += [f"  {r[0]:<{width}}  {r[1]:9.4f}  {r[2]:9.4f}  {r[3]:9.4f}  {_len(r[4])}" for r in rows]
+    surfaces = [(result.surface, "the site file's ground (the study)")] + [
+        (c.surface, c.condition.words(result.spec.units)) for c in result.conditions
+    ]
+    if all(sp is not None for sp, _ in surfaces):
+        lines.append("  over the DEM surface, 95 % bends per segment (DDM):")
+        for sp, words in surfaces:
+            bends = ", ".join(f"{s.segment} {s.bend_95_ddm:.4f}" for s in sp.structure)
+            lines.append(f"  {words:<{width}}  {bends}")
     return lines
 
 

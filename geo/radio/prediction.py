@@ -142,6 +142,10 @@ class ArrayModel:
         p = self.positions_m
         return p - 2.0 * (p @ self.normal)[:, None] * self.normal[None, :]
 
+    def ground_reflection(self, grazing_rad):
+        """The plane's reflection coefficient (horizontal polarisation) at grazing angles, its layer included. [-]"""
+        return self._gamma(np.sin(np.asarray(grazing_rad, dtype=float)))
+
     def _gamma(self, sin_grazing):
         if self.layer is not None:
             eps = self.relative_permittivity

@@ -518,10 +518,9 @@ def run_study(spec: SiteSpec, before_surface=None, surface_check: bool = True) -
         surface=None,
         magnetic=magnetic,
     )
-    result = _with_conditions(result)
     if terrain is not None and spec.prediction.surface:
         result = _with_surface(result, found, ground, shifts, before_surface, surface_check)
-    return _with_buildings(result)
+    return _with_buildings(_with_conditions(result))  # the conditions after the surface: their own surfaces
 
 
 def _with_buildings(result: StudyResult) -> StudyResult:

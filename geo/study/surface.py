@@ -53,7 +53,7 @@ def skipped_reason(spec) -> str:
 
 def surface_for_study(
     spec, runway, side, setback_m, offset_m, terrain, heights_m, shifts_m, feeds, wavelength_m, prediction, rdh_m,
-    check=True,
+    check=True, model=None, below=True,
 ) -> SurfacePrediction:  # fmt: skip
     """The path over the DEM surface for the study's mast, array and image prediction.
 
@@ -78,6 +78,11 @@ def surface_for_study(
         The study's RDH (places ILS point C). [m]
     check : bool
         Run the convergence check (sampling doubled, area doubled).
+    model : geo.radio.prediction.ArrayModel, optional
+        The array over its plane as given (a condition's: snow, another ground; ``heights_m``,
+        ``shifts_m`` and ``feeds`` are then not used); default: built from them as the study's.
+    below : bool
+        Also the DDM below the path over the surface (``below_path``; None without).
 
     Returns
     -------
@@ -88,7 +93,8 @@ def surface_for_study(
 
     p = spec.prediction
     plane = terrain.plane
-    model = array_model(spec, heights_m, shifts_m, feeds, wavelength_m, plane.forward_gradient, plane.lateral_gradient)
+    gradients = (plane.forward_gradient, plane.lateral_gradient)
+    model = model or array_model(spec, heights_m, shifts_m, feeds, wavelength_m, *gradients)
     sign = 1.0 if side == "right" else -1.0
     segments = structure_segments(spec.category, rdh_m, spec.angle_deg)
     t = spec.terrain
@@ -104,6 +110,8 @@ def surface_for_study(
         surface = predict_surface(
             model, prediction, ground, terrain.cell_size_m, spec.angle_deg, setback_m, offset_m, segments, check=check
         )
+        if not below:
+            return surface
         # The DDM below the path over the surface too (Annex 10 Vol I 3.1.5.6.5, from memory): the
         # far-field DDM computed once at BELOW_PATH_SAMPLES elevations from the path down to 0.30 theta
         # and the band's lower edge, a cubic between them (it is smooth in elevation).

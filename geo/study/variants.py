@@ -124,12 +124,13 @@ def variant_model(result, variant: Variant) -> ArrayModel:
     return replace(model, positions_m=lowered, layer=(eps, d))
 
 
-def variant_prediction(result, variant: Variant) -> PathPrediction:
+def variant_prediction(result, variant: Variant, bare_plane: bool = True) -> PathPrediction:
     """The image-theory path of ``variant`` at the study's SBO level (heights in ``Z`` above the bare plane).
 
     The prediction's ``Z`` is measured from the reflecting plane (the snow's top with snow); its
     heights (``path_z_m``, ``nominal_z_m``, ``straight_fit``) are given back from the bare ground's
-    plane, as the study's.
+    plane, as the study's; ``bare_plane=False`` keeps them from the reflecting plane (the frame of
+    :func:`variant_model`'s antennas, which the surface prediction works in).
     """
     model = variant_model(result, variant)
     d = variant.snow_depth_m if variant.snow_depth_m > 0.0 else 0.0
@@ -144,7 +145,7 @@ def variant_prediction(result, variant: Variant) -> PathPrediction:
         spec.prediction.half_sector,
         sbo_scale=result.prediction.sbo_scale,
     )
-    if d == 0.0:
+    if d == 0.0 or not bare_plane:
         return p
     fit = (p.straight_fit[0] + d, p.straight_fit[1])
     return replace(p, path_z_m=p.path_z_m + d, nominal_z_m=p.nominal_z_m + d, straight_fit=fit)

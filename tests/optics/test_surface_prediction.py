@@ -297,3 +297,44 @@ def test_the_site_file_can_switch_the_surface_prediction_off(tmp_path):
     bad.write_text(text + '\n[prediction]\nsurface = "no"\n')
     with pytest.raises(SiteFileError, match="prediction.surface"):
         load_site(bad)
+
+
+def test_each_condition_over_a_plane_dem_gets_its_own_image_path_back(tmp_path, write_site, site_text):
+    # Stationary phase again (Born and Wolf, app. III), now for each condition of [conditions]: the
+    # snow's top lies the depth above the tilted plane DEM everywhere, so each condition's surface
+    # prediction (its own antennas, lowered, and its own coefficient on every facet, the layer's for
+    # dry snow) must give that condition's image path back: angles within 0.002 deg (issue 11's
+    # tolerances), no bends. A surface read in the wrong frame (the snow's top taken as the ground's)
+    # would lie the depth off the plane and fail.
+    x0, y0 = Transformer.from_crs("EPSG:4326", CRS, always_xy=True).transform(148.92, -35.41)
+    _dem(tmp_path, "plane.tif", lambda x, y: 510.0 + 0.004 * (x - x0) - 0.006 * (y - y0))
+    text = _site(site_text, "plane.tif") + '\n[conditions]\nsnow_depth = [0.3]\nsnow = "dry"\nground = ["wet"]\n'
+    dry = run_study(load_site(write_site(text)))
+    wet = run_study(load_site(write_site(text.replace('snow = "dry"', 'snow = "wet"'), "wet.toml")))
+    for c in (*dry.conditions, *wet.conditions):
+        assert c.surface is not None
+        assert abs(c.surface.path_angle_deg - c.path_angle_deg) <= 0.002
+        assert abs(c.surface.half_sector_below_deg - c.half_sector_below_deg) <= 0.002
+        assert abs(c.surface.half_sector_above_deg - c.half_sector_above_deg) <= 0.002
+        assert max(s.bend_95_ddm for s in c.surface.structure) < 2e-4
+    # and the conditions differ from the bare ground by far more than that (the check is not empty)
+    assert abs(dry.conditions[0].path_angle_deg - dry.prediction.path_angle_deg) > 0.05
+
+
+def test_a_reflection_function_in_the_kernel_is_the_constants_it_stands_for():
+    # The kernel's reflection(grazing) instead of (permittivity, conductivity): the half-space's own
+    # coefficient as a function gives the same fields (the Fresnel formula both ways, Born and Wolf 1.5.2).
+    from geo.optics.kernel import Facets, ground_fields
+    from geo.radio.reflection import reflection_coefficient_h
+
+    rng = np.random.default_rng(4)
+    n = 400
+    centres = np.column_stack([rng.uniform(0, 600, n), rng.uniform(-50, 150, n), rng.normal(0, 0.3, n)])
+    facets = Facets(centres, np.tile([2.0, 0.0, 0.01], (n, 1)), np.tile([0.0, 2.0, -0.01], (n, 1)), two_sided=False)
+    antennas = np.array([[0.0, 0.0, 4.5], [0.0, 0.0, 9.0]])
+    receivers = np.column_stack([np.linspace(1000, 9000, 12), np.full(12, 120.0), np.linspace(60, 480, 12)])
+    by_constants = ground_fields(antennas, facets, receivers, LAM, 15.0, 0.005)
+    by_function = ground_fields(
+        antennas, facets, receivers, LAM, reflection=lambda g: reflection_coefficient_h(g, 15.0, 0.005, LAM)
+    )
+    assert np.max(np.abs(by_function - by_constants)) <= 1e-6 * np.max(np.abs(by_constants))
