@@ -10,7 +10,9 @@ Fresnel coefficient ``Gamma`` at the leg's grazing angle [2]_ (``-1`` for a perf
 with ``a'`` and ``r'`` the images of antenna and receiver. Each ``E(.)`` is the physical-optics
 field of the object's facets (:func:`geo.optics.kernel.scattered_field`, which includes the forward
 scatter that forms the object's shadow); so the object also blocks the ground reflection (the
-``a'`` paths shadow the image wave behind the object). ``Gamma`` is taken at the grazing angle
+``a'`` paths shadow the image wave behind the object). The source's element pattern, when given,
+weights each facet by the element's field along the leg's direction leaving the real antenna.
+``Gamma`` is taken at the grazing angle
 of the leg between the image and the object's centre (one value per object position and
 antenna, and per position and receiver), which keeps the sum reciprocal: swapping antenna and
 receiver swaps the second and third paths.
@@ -67,6 +69,7 @@ def four_path_field(
     normal,
     relative_permittivity=None,
     conductivity_s_m=None,
+    element=None,
 ) -> np.ndarray:
     """Field of the object at each position from one source, the four ground paths summed.
 
@@ -87,6 +90,11 @@ def four_path_field(
         Unit normal of the ground plane through the origin.
     relative_permittivity, conductivity_s_m : float or None
         Ground constants; ``None``: a perfect conductor.
+    element : callable, optional
+        ``element(directions (..., 3)) -> field``: the source's element pattern toward directions
+        leaving it (:meth:`geo.radio.prediction.ArrayModel.element_field`). It weights each facet on
+        the legs from the source (toward the facet) and from its image (toward the ground point on
+        the way, the image's direction mirrored in the plane). None: a point source.
 
     Returns
     -------
@@ -102,9 +110,18 @@ def four_path_field(
     gamma_source = grazing_gamma(centres_m, src_image[None, :], *ground)  # (G, 1)
     gamma_receiver = grazing_gamma(centres_m, rx_image, *ground)  # (G, R)
 
-    def leg(a, r):
-        return scattered_field(a, facets, r, wavelength_m, groups=groups)
+    lit = {"direct": facets, "image": facets}
+    if element is not None:
+        own = np.ones(len(facets)) if facets.weights is None else facets.weights
+        from_image = facets.centres_m - src_image
+        toward_ground = from_image - 2.0 * (from_image @ n)[:, None] * n
+        for name, direction in (("direct", facets.centres_m - src), ("image", toward_ground)):
+            weights = own * element(direction)
+            lit[name] = Facets(facets.centres_m, facets.edge_a_m, facets.edge_b_m, facets.two_sided, weights)
 
-    direct = leg(src, rx) + gamma_source * leg(src_image, rx)
-    via_ground = leg(src, rx_image) + gamma_source * leg(src_image, rx_image)
+    def leg(a, r, which):
+        return scattered_field(a, lit[which], r, wavelength_m, groups=groups)
+
+    direct = leg(src, rx, "direct") + gamma_source * leg(src_image, rx, "image")
+    via_ground = leg(src, rx_image, "direct") + gamma_source * leg(src_image, rx_image, "image")
     return direct + gamma_receiver * via_ground

@@ -5,7 +5,11 @@ it gives a smooth path. Here the reflected wave of each antenna is the physical-
 integral over the DEM surface in front of the mast (:mod:`geo.optics.kernel`, :mod:`geo.optics.surface_facets`):
 facets with their own normals, the Fresnel coefficient at each facet's grazing angle, terrain
 shadowing toward the antenna and the receivers. The CSB and SBO feeds, the SBO scale and the
-DDM are those of the image prediction, so the two differ only by the ground.
+DDM are those of the image prediction, so the two differ only by the ground. The antennas'
+element pattern (:attr:`geo.radio.prediction.ArrayModel.element`) weights each facet's
+illumination by the element's field toward it (the kernel's source-side weights, times the
+shadowing ones), for the surface and the plane alike, as image theory weights the reflected wave
+by the field toward its specular point.
 
 **How the integral is taken.** A raw integral over a finite area converges slowly to the image
 wave of a plane: its truncated edges and the ground under the antennas (where ``1 / r1`` varies
@@ -276,6 +280,8 @@ def surface_fields(
             }
         # the same weights for the surface and the plane: their facets share (u, w)
         options["pair_weight"] = _receiver_weights(grid.limits, facets.centres_m, rx_index)
+    gain = _element_weights(model, facets)  # the element's pattern toward each facet, on the source side
+    vis = gain if vis is None else (vis if gain is None else vis * gain)
     po = ground_fields(model.positions_m, facets, rx, *consts, source_visible=vis, **receiver_side, **options)
     if method == "raw":
         direct = _direct(model, rx, far)
@@ -283,7 +289,8 @@ def surface_fields(
     if method != "difference":
         raise ValueError(f"method {method!r} is not one of 'difference', 'raw'")
     plane = SurfaceGrid(grid.u_m, grid.w_m, plane_nodes, grid.limits).facets(foot=not own_areas).subset(counted)
-    po = po - ground_fields(model.positions_m, plane, rx, *consts, **options)
+    plane_gain = _element_weights(model, plane)
+    po = po - ground_fields(model.positions_m, plane, rx, *consts, source_visible=plane_gain, **options)
     if far:
         elevation = np.arcsin(np.clip(rx[:, 2], -1.0, 1.0))
         csb, sbo = model.far_fields(elevation)
@@ -305,9 +312,20 @@ def _direct(model: ArrayModel, rx: np.ndarray, far: bool) -> np.ndarray:
     """Direct waves of each antenna at the receivers (S, R), in the units of ``fields`` / ``far_fields``."""
     k = 2.0 * math.pi / model.wavelength_m
     if far:
-        return np.exp(1j * k * model.positions_m @ rx.T)
-    r = np.linalg.norm(rx[None, :, :] - model.positions_m[:, None, :], axis=2)
-    return np.exp(-1j * k * r) / r
+        return np.exp(1j * k * model.positions_m @ rx.T) * model.element_field(rx)
+    d = rx[None, :, :] - model.positions_m[:, None, :]
+    r = np.linalg.norm(d, axis=2)
+    return np.exp(-1j * k * r) / r * model.element_field(d)
+
+
+def _element_weights(model: ArrayModel, facets) -> np.ndarray | None:
+    """The element's field from each antenna toward each facet centre (S, P), the kernel's source-side weights.
+
+    None for point sources (:attr:`ArrayModel.element`), which leaves the kernel's call as it was.
+    """
+    if model.element is None or model.element.is_isotropic:
+        return None
+    return model.element_field(facets.centres_m[None, :, :] - model.positions_m[:, None, :])
 
 
 def _receiver_weights(limits, centres_m, rx_index):
