@@ -50,7 +50,7 @@ import numpy as np
 
 from geo.optics.disturbance_rule import judged_figures, shift_receivers, steady_shifts, terrain_shares
 from geo.optics.objects import GENERIC_OBJECTS, object_facets, object_half_diagonal_m
-from geo.optics.scatter_paths import four_path_field
+from geo.optics.scatter_paths import four_path_fields
 from geo.radio.bend_filter import MAX_GAP_M
 from geo.radio.element import element_for
 from geo.radio.prediction import ArrayModel, ddm
@@ -324,25 +324,20 @@ def object_fields(
     reach = math.hypot(object_half_diagonal_m(obj), (obj.height_m - obj.base_m) / 2.0)
     ranges = np.minimum(to_antennas, to_receivers) - reach
     facets, groups = object_facets(obj, heading, feet, ranges, model.wavelength_m, refine)
-    d_csb = np.zeros((feet.shape[0], rx.shape[0]), dtype=complex)
-    d_sbo = np.zeros_like(d_csb)
     element = None if model.element is None or model.element.is_isotropic else model.element_field
-    for position, c, s in zip(model.positions_m, model.csb, model.sbo):
-        e = four_path_field(
-            position,
-            facets,
-            groups,
-            centres,
-            rx,
-            model.wavelength_m,
-            model.normal,
-            model.relative_permittivity,
-            model.conductivity_s_m,
-            element=element,
-        )
-        d_csb += c * e
-        d_sbo += s * e
-    return d_csb, d_sbo
+    e = four_path_fields(
+        model.positions_m,
+        facets,
+        groups,
+        centres,
+        rx,
+        model.wavelength_m,
+        model.normal,
+        model.relative_permittivity,
+        model.conductivity_s_m,
+        element=element,
+    )  # (antennas, G, R): every antenna through the kernel at once
+    return np.tensordot(model.csb, e, axes=1), np.tensordot(model.sbo, e, axes=1)
 
 
 def element_pattern(model: ArrayModel, direction_m: np.ndarray) -> np.ndarray:

@@ -33,7 +33,7 @@ import numpy as np
 from geo.optics.kernel import Facets, mirror_points, scattered_field
 from geo.radio.reflection import reflection_coefficient_h
 
-__all__ = ["grazing_gamma", "four_path_field"]
+__all__ = ["grazing_gamma", "four_path_field", "four_path_fields"]
 
 
 def grazing_gamma(points_m, images_m, normal, wavelength_m, relative_permittivity=None, conductivity_s_m=None):
@@ -101,27 +101,45 @@ def four_path_field(
     numpy.ndarray of complex, shape (G, R)
         In units of the direct field ``exp(-j k r) / r`` of the source.
     """
-    src = np.asarray(source_m, dtype=float)
+    src = np.asarray(source_m, dtype=float)[None, :]
+    ground = (relative_permittivity, conductivity_s_m, element)
+    return four_path_fields(src, facets, groups, centres_m, receivers_m, wavelength_m, normal, *ground)[0]
+
+
+def four_path_fields(
+    sources_m,
+    facets: Facets,
+    groups: np.ndarray,
+    centres_m: np.ndarray,
+    receivers_m,
+    wavelength_m: float,
+    normal,
+    relative_permittivity=None,
+    conductivity_s_m=None,
+    element=None,
+) -> np.ndarray:
+    """:func:`four_path_field` for several sources (A, 3) at once: shape (A, G, R).
+
+    The sources and their images go through the kernel together (two calls, toward the receivers
+    and toward their images), which shares the facet-receiver work among them.
+    """
+    src = np.atleast_2d(np.asarray(sources_m, dtype=float))
+    count = src.shape[0]
     rx = np.atleast_2d(np.asarray(receivers_m, dtype=float))
     n = np.asarray(normal, dtype=float) / np.linalg.norm(normal)
     src_image = mirror_points(src, n)
     rx_image = mirror_points(rx, n)
     ground = (n, wavelength_m, relative_permittivity, conductivity_s_m)
-    gamma_source = grazing_gamma(centres_m, src_image[None, :], *ground)  # (G, 1)
+    gamma_source = grazing_gamma(centres_m, src_image, *ground).T[:, :, None]  # (A, G, 1)
     gamma_receiver = grazing_gamma(centres_m, rx_image, *ground)  # (G, R)
-
-    lit = {"direct": facets, "image": facets}
+    weights = None
     if element is not None:
-        own = np.ones(len(facets)) if facets.weights is None else facets.weights
-        from_image = facets.centres_m - src_image
-        toward_ground = from_image - 2.0 * (from_image @ n)[:, None] * n
-        for name, direction in (("direct", facets.centres_m - src), ("image", toward_ground)):
-            weights = own * element(direction)
-            lit[name] = Facets(facets.centres_m, facets.edge_a_m, facets.edge_b_m, facets.two_sided, weights)
-
-    def leg(a, r, which):
-        return scattered_field(a, lit[which], r, wavelength_m, groups=groups)
-
-    direct = leg(src, rx, "direct") + gamma_source * leg(src_image, rx, "image")
-    via_ground = leg(src, rx_image, "direct") + gamma_source * leg(src_image, rx_image, "image")
-    return direct + gamma_receiver * via_ground
+        from_image = facets.centres_m[None, :, :] - src_image[:, None, :]
+        toward_ground = from_image - 2.0 * (from_image @ n)[..., None] * n
+        weights = np.concatenate([element(facets.centres_m[None, :, :] - src[:, None, :]), element(toward_ground)])
+    every = np.concatenate([src, src_image])
+    to_rx = scattered_field(every, facets, rx, wavelength_m, groups=groups, source_weights=weights)
+    to_image = scattered_field(every, facets, rx_image, wavelength_m, groups=groups, source_weights=weights)
+    direct = to_rx[:count] + gamma_source * to_rx[count:]
+    via_ground = to_image[:count] + gamma_source * to_image[count:]
+    return direct + gamma_receiver[None, :, :] * via_ground
