@@ -49,7 +49,15 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from geo.optics.disturbance_rule import judged_figures, shift_receivers, steady_shifts, terrain_shares
-from geo.optics.objects import GENERIC_OBJECTS, object_facets, object_half_diagonal_m
+from geo.optics.kernel import Facets
+from geo.optics.objects import (
+    GENERIC_OBJECTS,
+    HEADING_SAMPLES,
+    HEADING_SPREAD_DEG,
+    heading_offsets_deg,
+    object_facets,
+    object_half_diagonal_m,
+)
 from geo.optics.scatter_paths import four_path_fields
 from geo.radio.bend_filter import MAX_GAP_M
 from geo.radio.element import element_for
@@ -295,8 +303,9 @@ def object_fields(
     w: np.ndarray,
     receivers_m: np.ndarray,
     refine: float = 1.0,
+    offsets_deg=None,
 ) -> tuple[np.ndarray, np.ndarray]:
-    """CSB and SBO fields the object scatters, per position and receiver.
+    """CSB and SBO fields the object scatters, per position and receiver (and turned heading).
 
     Parameters
     ----------
@@ -310,10 +319,13 @@ def object_fields(
     receivers_m : numpy.ndarray, shape (R, 3)
     refine : float
         Finer facets than the phase criterion asks (for checks).
+    offsets_deg : array_like, shape (N,), optional
+        Headings turned by these about the vertical (:func:`geo.optics.objects.heading_offsets_deg`),
+        all through the kernel at once. [deg]
 
     Returns
     -------
-    d_csb, d_sbo : numpy.ndarray of complex, shape (G, R)
+    d_csb, d_sbo : numpy.ndarray of complex, shape (G, R), or (N, G, R) with ``offsets_deg``
         In the units of :meth:`geo.radio.prediction.ArrayModel.fields`.
     """
     feet = _feet(model, np.asarray(u, float), np.asarray(w, float))
@@ -323,7 +335,13 @@ def object_fields(
     to_receivers = np.linalg.norm(centres[:, None, :] - rx[None, :, :], axis=2).min(axis=1)
     reach = math.hypot(object_half_diagonal_m(obj), (obj.height_m - obj.base_m) / 2.0)
     ranges = np.minimum(to_antennas, to_receivers) - reach
-    facets, groups = object_facets(obj, heading, feet, ranges, model.wavelength_m, refine)
+    turns = [0.0] if offsets_deg is None else [float(t) for t in np.atleast_1d(offsets_deg)]
+    cut = [object_facets(obj, heading, feet, ranges, model.wavelength_m, refine, t) for t in turns]
+    count = feet.shape[0]
+    facets = Facets(*(np.concatenate([getattr(f, k) for f, _ in cut]) for k in ("centres_m", "edge_a_m", "edge_b_m")),
+                    two_sided=True)  # fmt: skip
+    groups = np.concatenate([g + i * count for i, (_, g) in enumerate(cut)])  # heading i, position g
+    centres = np.tile(centres, (len(turns), 1))
     element = None if model.element is None or model.element.is_isotropic else model.element_field
     e = four_path_fields(
         model.positions_m,
@@ -336,8 +354,11 @@ def object_fields(
         model.relative_permittivity,
         model.conductivity_s_m,
         element=element,
-    )  # (antennas, G, R): every antenna through the kernel at once
-    return np.tensordot(model.csb, e, axes=1), np.tensordot(model.sbo, e, axes=1)
+    )  # (antennas, N G, R): every antenna and heading through the kernel at once
+    d_csb, d_sbo = np.tensordot(model.csb, e, axes=1), np.tensordot(model.sbo, e, axes=1)
+    if offsets_deg is None:
+        return d_csb, d_sbo
+    return d_csb.reshape(len(turns), count, -1), d_sbo.reshape(len(turns), count, -1)
 
 
 def element_pattern(model: ArrayModel, direction_m: np.ndarray) -> np.ndarray:
@@ -389,6 +410,7 @@ def disturbance(
     refine: float = 1.0,
     terrain_share=None,
     figures: dict | None = None,
+    spread=(HEADING_SPREAD_DEG, HEADING_SAMPLES),
 ) -> tuple[np.ndarray, np.ndarray]:
     """95 % bend of the disturbance per segment (G, S) and the position's judged share (G,) at (u, w).
 
@@ -397,7 +419,10 @@ def disturbance(
     outweighs the array's at a receiver of the segment; then judged by
     :mod:`geo.optics.disturbance_rule`: the bend share combined with the terrain's own
     (``terrain_share`` per segment, zero by default) by root sum of squares, and the steady shifts
-    of the path angle and the sector in the far segments against the monitor limits.
+    of the path angle and the sector in the far segments against the monitor limits. Each figure is
+    the 95th percentile over the headings sampled about ``heading``
+    (:func:`geo.optics.objects.heading_offsets_deg`; signed figures: of their magnitude, with the
+    sign of the largest).
 
     Parameters
     ----------
@@ -405,14 +430,18 @@ def disturbance(
         The terrain's own 95 % bend over the limit per segment.
     figures : dict, optional
         Filled with every figure per position (:func:`geo.optics.disturbance_rule.judged_figures`).
+    spread : tuple of (float, int)
+        Headings spread over ``+-spread[0]`` degrees, ``spread[1]`` samples (1: the exact heading).
     """
     shift = shift_receivers(receivers, segments, model.fields, lambda c, s: ddm(c, s, receivers.sbo_scale))
     r, q = receivers.points_m.shape[0], shift.before_threshold_m.size
     points = np.concatenate([receivers.points_m, shift.below_m, shift.above_m])
-    d_csb, d_sbo = object_fields(model, obj, heading, u, w, points, refine)
+    d_csb, d_sbo = object_fields(model, obj, heading, u, w, points, refine, heading_offsets_deg(*spread))
+    turns, count = d_csb.shape[:2]
     c, s = model.fields(points[r:])
     c, s = np.r_[receivers.csb, c], np.r_[receivers.sbo, s]
-    change, swamped = _ddm_change(c, s, d_csb, d_sbo, receivers.sbo_scale)
+    change, swamped = _ddm_change(c, s, d_csb.reshape(turns * count, -1), d_sbo.reshape(turns * count, -1),
+                                  receivers.sbo_scale)  # fmt: skip
     found = structure_arrays(segments, receivers.before_threshold_m, change[:, :r])
     per_segment = found.bend_95_ddm
     ratio = found.ratio_95.copy()
@@ -424,9 +453,25 @@ def disturbance(
     shifts["shift_share"] = np.where(swamped[:, r:].any(axis=1), np.inf, shifts["shift_share"])
     terrain = np.zeros(len(segments)) if terrain_share is None else np.asarray(terrain_share, float)
     judged = judged_figures(ratio, terrain, shifts)
+    signed = ("angle_shift_deg", "sensitivity_change")
+    judged = {k: _over_headings(v.reshape(turns, count), k in signed) for k, v in judged.items()}
     if figures is not None:
         figures.update(judged)
-    return per_segment, judged["judged_share"]
+    return _over_headings(per_segment.reshape(turns, count, -1)), judged["judged_share"]
+
+
+def _over_headings(values: np.ndarray, signed: bool = False) -> np.ndarray:
+    """The 95th percentile over the sampled headings (axis 0; linear between samples), inf kept.
+
+    Signed values: the percentile of the magnitude, with the sign of the largest magnitude.
+    """
+    v = np.abs(values) if signed else values
+    top = np.percentile(np.where(np.isinf(v), 1e300, v), 95.0, axis=0)
+    top = np.where(top >= 1e299, np.inf, top)
+    if not signed:
+        return top
+    largest = np.take_along_axis(values, np.nanargmax(np.abs(values), axis=0)[None], axis=0)[0]
+    return np.sign(largest) * top
 
 
 def cell_union(u, w, mask, step_m: float):

@@ -12,6 +12,7 @@ from pathlib import Path
 import numpy as np
 
 from geo.optics.areas import AREAS_CAUTION, AreasResult
+from geo.optics.objects import FIN_SWEEP_DEG, FIN_TAPER, HEADING_SAMPLES, HEADING_SPREAD_DEG
 from geo.outputs.summary import INFINITE_SHARE, share_value
 from geo.outputs.webmap import DERIVED_AREA_COLOURS
 from geo.units import with_foot_twins
@@ -27,7 +28,11 @@ __all__ = [
 ]
 
 MODEL_TEXT = (
-    "Each object is three plates through its middle (side, end, top) scattering by physical optics, "
+    "Each object is three plates through its middle (side, end, top; a fin on a base above the ground "
+    f"as a tapered, swept plate: taper {FIN_TAPER:g}, leading-edge sweep {FIN_SWEEP_DEG:g} deg, generic, from "
+    f"memory) scattering by physical optics, at headings spread over +-{HEADING_SPREAD_DEG:g} deg about along "
+    f"and across ({HEADING_SAMPLES} samples, the middles of equal bins; every figure the 95th percentile over "
+    "them), "
     "with the four ground paths over the study's reflecting plane; its field adds to the CSB and SBO "
     "of every antenna. Disturbance: the change of the DDM it causes along the designed straight path "
     "(receivers 20 m apart), measured as flight inspection measures bends: the recorder's filter, then per "

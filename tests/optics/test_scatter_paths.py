@@ -39,7 +39,11 @@ def test_four_paths_over_a_conductor_are_the_object_and_its_image():
     # object is that of the object and its mirror image in free space, lit by the antenna and by
     # its image (with the coefficient -1 of horizontal polarisation).
     facets, groups, centres = _tail([[120.0, -20.0, 0.0]], "along")
-    image = Facets(mirror_points(facets.centres_m, UP), facets.edge_a_m, facets.edge_b_m, two_sided=True)
+
+    def flip(v):  # an edge vector mirrored in the ground (a swept fin's edges slant)
+        return v - 2.0 * (v @ UP)[:, None] * UP
+
+    image = Facets(mirror_points(facets.centres_m, UP), flip(facets.edge_a_m), flip(facets.edge_b_m), two_sided=True)
     both = Facets(
         np.vstack([facets.centres_m, image.centres_m]),
         np.vstack([facets.edge_a_m, image.edge_a_m]),
