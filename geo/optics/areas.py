@@ -22,7 +22,8 @@ monitor limits) exceeds ``critical_share``, **sensitive** above ``sensitive_shar
 where the object would stand against the mast count as both. The
 areas are the union of the grid cells (squares of the grid spacing centred on the positions) over
 the object's headings: a cell union, not a contour, so the outline shows the grid it came from.
-Ground: the reflecting plane of the study (flat ground, or the plane fitted to the DEM).
+Ground: with a DEM, the objects stand on it and their four ground paths reflect on its local
+surface at each specular point (:mod:`geo.optics.object_ground`); on flat ground, the plane.
 
 The antennas' element pattern is the study's (``[prediction] element``, :mod:`geo.radio.element`;
 generic by default), in the undisturbed fields and in the illumination of the objects
@@ -50,6 +51,7 @@ import numpy as np
 
 from geo.optics.disturbance_rule import judged_figures, shift_receivers, steady_shifts, terrain_shares
 from geo.optics.kernel import Facets
+from geo.optics.object_ground import local_ground
 from geo.optics.objects import (
     GENERIC_OBJECTS,
     HEADING_SAMPLES,
@@ -304,6 +306,8 @@ def object_fields(
     receivers_m: np.ndarray,
     refine: float = 1.0,
     offsets_deg=None,
+    ground=None,
+    blocks=None,
 ) -> tuple[np.ndarray, np.ndarray]:
     """CSB and SBO fields the object scatters, per position and receiver (and turned heading).
 
@@ -322,6 +326,11 @@ def object_fields(
     offsets_deg : array_like, shape (N,), optional
         Headings turned by these about the vertical (:func:`geo.optics.objects.heading_offsets_deg`),
         all through the kernel at once. [deg]
+    ground : geo.optics.object_ground.LocalGround, optional
+        The DEM: the object stands on it and its ground paths reflect on its local surface
+        (:mod:`geo.optics.object_ground`); None: the plane of ``model``.
+    blocks : list of numpy.ndarray, optional
+        Receivers that share a reflecting plane per position over the DEM (an approach segment each).
 
     Returns
     -------
@@ -329,6 +338,8 @@ def object_fields(
         In the units of :meth:`geo.radio.prediction.ArrayModel.fields`.
     """
     feet = _feet(model, np.asarray(u, float), np.asarray(w, float))
+    if ground is not None:  # standing on the DEM
+        feet[:, 2] = ground.surface(feet[:, 0], feet[:, 1])[0]
     centres = feet + np.array([0.0, 0.0, (obj.height_m + obj.base_m) / 2.0])
     to_antennas = np.linalg.norm(centres[:, None, :] - model.positions_m[None, :, :], axis=2).min(axis=1)
     rx = np.asarray(receivers_m, float)
@@ -354,6 +365,8 @@ def object_fields(
         model.relative_permittivity,
         model.conductivity_s_m,
         element=element,
+        ground=ground,
+        blocks=blocks,
     )  # (antennas, N G, R): every antenna and heading through the kernel at once
     d_csb, d_sbo = np.tensordot(model.csb, e, axes=1), np.tensordot(model.sbo, e, axes=1)
     if offsets_deg is None:
@@ -411,6 +424,7 @@ def disturbance(
     terrain_share=None,
     figures: dict | None = None,
     spread=(HEADING_SPREAD_DEG, HEADING_SAMPLES),
+    ground=None,
 ) -> tuple[np.ndarray, np.ndarray]:
     """95 % bend of the disturbance per segment (G, S) and the position's judged share (G,) at (u, w).
 
@@ -432,11 +446,16 @@ def disturbance(
         Filled with every figure per position (:func:`geo.optics.disturbance_rule.judged_figures`).
     spread : tuple of (float, int)
         Headings spread over ``+-spread[0]`` degrees, ``spread[1]`` samples (1: the exact heading).
+    ground : geo.optics.object_ground.LocalGround, optional
+        The DEM under the objects and their ground paths (one plane per position and segment for
+        the receivers); None: the fitted plane.
     """
     shift = shift_receivers(receivers, segments, model.fields, lambda c, s: ddm(c, s, receivers.sbo_scale))
     r, q = receivers.points_m.shape[0], shift.before_threshold_m.size
     points = np.concatenate([receivers.points_m, shift.below_m, shift.above_m])
-    d_csb, d_sbo = object_fields(model, obj, heading, u, w, points, refine, heading_offsets_deg(*spread))
+    blocks = None if ground is None else _segment_blocks(segments, receivers, shift)
+    turns = heading_offsets_deg(*spread)
+    d_csb, d_sbo = object_fields(model, obj, heading, u, w, points, refine, turns, ground, blocks)
     turns, count = d_csb.shape[:2]
     c, s = model.fields(points[r:])
     c, s = np.r_[receivers.csb, c], np.r_[receivers.sbo, s]
@@ -458,6 +477,20 @@ def disturbance(
     if figures is not None:
         figures.update(judged)
     return _over_headings(per_segment.reshape(turns, count, -1)), judged["judged_share"]
+
+
+def _segment_blocks(segments, receivers: PathReceivers, shift) -> list[np.ndarray]:
+    """Indices of the receivers (path, then below and above it) of each segment, the first containing one."""
+    r, q = receivers.before_threshold_m.size, shift.before_threshold_m.size
+    taken = np.zeros(r + 2 * q, dtype=bool)
+    distance = np.r_[receivers.before_threshold_m, shift.before_threshold_m, shift.before_threshold_m]
+    blocks = []
+    for seg in segments:
+        inside = seg.contains(distance) & ~taken
+        taken |= inside
+        blocks.append(np.flatnonzero(inside))
+    blocks.append(np.flatnonzero(~taken))
+    return [b for b in blocks if b.size]
 
 
 def _over_headings(values: np.ndarray, signed: bool = False) -> np.ndarray:
@@ -522,11 +555,15 @@ def derive_areas(result, progress=None, receivers_count: int | None = None, work
 
     terrain, terrain_source = terrain_shares(result.surface, segments)
     figures = {key: {} for key in share}
+    ground = local_ground(result, model, (u.min() - 100.0, u.max() + 1000.0, w.min() - 100.0, w.max() + 100.0))
 
     def run(job):
         k, heading, index = job
         out = {}
-        found = disturbance(model, receivers, segments, objects[k], heading, u[index], w[index], 1.0, terrain, out)
+        obj = objects[k]
+        found = disturbance(
+            model, receivers, segments, obj, heading, u[index], w[index], 1.0, terrain, out, ground=ground
+        )
         return job, found, out
 
     done = 0
@@ -565,5 +602,7 @@ def derive_areas(result, progress=None, receivers_count: int | None = None, work
             polygon = cell_union(u, w, inside, settings.grid_m)
             areas.append(DerivedArea(obj.name, kind, polygon, limit, bool((inside & edge).any())))
     source = "site file" if spec.objects else GENERIC_OBJECTS[0].source
+    on = "the DEM's local surface at each specular point" if ground is not None else "the fitted plane"
     rule = {"element": model.element, "terrain_share": tuple(map(float, terrain)), "terrain_source": terrain_source}
+    rule["ground"] = on
     return AreasResult(result, settings, segments, receivers, disturbances, areas, source, rule)

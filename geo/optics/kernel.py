@@ -294,7 +294,7 @@ def _source_terms(facets: Facets, src: np.ndarray, k: float, dt, visible, lossy:
     normal = np.cross(a, b, axis=0)
     area = np.sqrt(_dot(normal, normal))
     n = normal / area
-    d1 = facets.centres_m.T[None, :, :] - src[:, :, None]  # (S, 3, P)
+    d1 = facets.centres_m.T[None, :, :] - (src[:, :, None] if src.ndim == 2 else src)  # (S, 3, P)
     r1 = np.sqrt(_dot(d1, d1))
     s1 = d1 / r1[:, None, :]
     ns1 = _dot(s1, n)
@@ -721,8 +721,9 @@ def _pair_fields(
 
     Parameters
     ----------
-    sources_m : array_like, shape (S, 3)
-        [m]
+    sources_m : array_like, shape (S, 3) or (S, 3, P)
+        [m]; with shape (S, 3, P), each source's position for each facet (an image in the ground
+        under that facet's own group).
     facets : Facets
     receivers_m : array_like, shape (R, 3)
         Points [m], or unit directions toward distant receivers with ``far``.
@@ -839,8 +840,8 @@ def scattered_field(
 
     Parameters
     ----------
-    source_m : array_like, shape (3,) or (S, 3)
-        The antenna (or antennas). [m]
+    source_m : array_like, shape (3,), (S, 3) or (S, 3, P)
+        The antenna (or antennas; or each antenna's position per facet, see :func:`_pair_fields`). [m]
     facets : Facets
         Plates (two-sided) or ground (one-sided).
     receivers_m : array_like, shape (R, 3)
@@ -877,7 +878,7 @@ def scattered_field(
         def pair_weight(sl):
             return every, receiver_visible(np.arange(sl.start, sl.stop), every)
 
-    several = np.ndim(source_m) == 2
+    several = np.ndim(source_m) >= 2
     source = np.atleast_2d(np.asarray(source_m, dtype=float))
     ground = dict(relative_permittivity=relative_permittivity, conductivity_s_m=conductivity_s_m)
     out = _pair_fields(

@@ -117,12 +117,21 @@ def four_path_fields(
     relative_permittivity=None,
     conductivity_s_m=None,
     element=None,
+    ground=None,
+    blocks=None,
 ) -> np.ndarray:
     """:func:`four_path_field` for several sources (A, 3) at once: shape (A, G, R).
 
     The sources and their images go through the kernel together (two calls, toward the receivers
-    and toward their images), which shares the facet-receiver work among them.
+    and toward their images), which shares the facet-receiver work among them. With ``ground`` (a
+    :class:`geo.optics.object_ground.LocalGround`) the legs reflect on the DEM's local surface
+    instead of the plane of ``normal`` (:func:`_over_local_ground`); ``blocks`` (index arrays of the
+    receivers) each get their own plane per position there.
     """
+    if ground is not None:
+        ground_constants = (relative_permittivity, conductivity_s_m)
+        return _over_local_ground(sources_m, facets, groups, centres_m, receivers_m, wavelength_m, ground,
+                                  ground_constants, element, blocks)  # fmt: skip
     src = np.atleast_2d(np.asarray(sources_m, dtype=float))
     count = src.shape[0]
     rx = np.atleast_2d(np.asarray(receivers_m, dtype=float))
@@ -143,3 +152,49 @@ def four_path_fields(
     direct = to_rx[:count] + gamma_source * to_rx[count:]
     via_ground = to_image[:count] + gamma_source * to_image[count:]
     return direct + gamma_receiver[None, :, :] * via_ground
+
+
+def _gamma(sin_psi, wavelength_m, constants):
+    return reflection_coefficient_h(np.arcsin(np.clip(sin_psi, 0.0, 1.0)), *constants, wavelength_m)
+
+
+def _over_local_ground(sources_m, facets, groups, centres_m, receivers_m, wavelength_m, ground, constants,
+                       element, blocks) -> np.ndarray:  # fmt: skip
+    """The four paths over the DEM's local surface (:mod:`geo.optics.object_ground`): shape (A, G, R).
+
+    The antenna's image is taken per position in the tangent plane at its leg's specular point (a
+    source position per facet for the kernel). A receiver's image leg ``E(a -> object -> r')``, with
+    ``r'`` the image in the position's plane ``M`` for its block, is computed as ``E(M a -> M object ->
+    r)`` (a mirror moves every point alike), so the receivers stay common to every position.
+    """
+    from geo.optics.object_ground import block_plane, grazing_sin, mirror_in, specular_planes
+
+    src = np.atleast_2d(np.asarray(sources_m, dtype=float))
+    rx = np.atleast_2d(np.asarray(receivers_m, dtype=float))
+    count, g = src.shape[0], np.asarray(groups)
+    point, normal = specular_planes(ground, src, centres_m)  # (G, A, 3)
+    image = mirror_in(src[None, :, :], point, normal)  # (G, A, 3)
+    gamma_source = _gamma(grazing_sin(centres_m[:, None, :], image, normal), wavelength_m, constants).T[:, :, None]
+    per_facet = np.concatenate([np.broadcast_to(src[:, :, None], (count, 3, g.size)), image[g].transpose(1, 2, 0)])
+    weights = None
+    if element is not None:
+        from_image = facets.centres_m[None, :, :] - image[g].transpose(1, 0, 2)  # (A, P, 3)
+        toward_ground = mirror_in(from_image, 0.0, normal[g].transpose(1, 0, 2))
+        weights = np.concatenate([element(facets.centres_m[None, :, :] - src[:, None, :]), element(toward_ground)])
+    to_rx = scattered_field(per_facet, facets, rx, wavelength_m, groups=g, source_weights=weights)
+    out = np.zeros((count, centres_m.shape[0], rx.shape[0]), dtype=complex)
+    for block in [np.arange(rx.shape[0])] if blocks is None else blocks:
+        if len(block) == 0:
+            continue
+        p_r, n_r = block_plane(ground, rx[block], centres_m)  # (G, 3)
+        rx_image = mirror_in(rx[None, block, :], p_r[:, None, :], n_r[:, None, :])  # (G, b, 3)
+        gamma_receiver = _gamma(grazing_sin(centres_m[:, None, :], rx_image, n_r[:, None, :]), wavelength_m, constants)
+        pf, nf = p_r[g], n_r[g]  # the plane of each facet's position
+        turned = Facets(mirror_in(facets.centres_m, pf, nf), mirror_in(facets.edge_a_m, 0.0, nf),
+                        mirror_in(facets.edge_b_m, 0.0, nf), facets.two_sided, facets.weights)  # fmt: skip
+        sources = mirror_in(per_facet.transpose(0, 2, 1), pf[None], nf[None]).transpose(0, 2, 1)
+        to_image = scattered_field(sources, turned, rx[block], wavelength_m, groups=g, source_weights=weights)
+        direct = to_rx[:count][:, :, block] + gamma_source * to_rx[count:][:, :, block]
+        via_ground = to_image[:count] + gamma_source * to_image[count:]
+        out[:, :, block] = direct + gamma_receiver[None, :, :] * via_ground
+    return out

@@ -33,7 +33,8 @@ MODEL_TEXT = (
     f"memory) scattering by physical optics, at headings spread over +-{HEADING_SPREAD_DEG:g} deg about along "
     f"and across ({HEADING_SAMPLES} samples, the middles of equal bins; every figure the 95th percentile over "
     "them), "
-    "with the four ground paths over the study's reflecting plane; its field adds to the CSB and SBO "
+    "with the four ground paths over the DEM's local surface at each specular point (over flat ground, the "
+    "plane); its field adds to the CSB and SBO "
     "of every antenna. Disturbance: the change of the DDM it causes along the designed straight path "
     "(receivers 20 m apart), measured as flight inspection measures bends: the recorder's filter, then per "
     "segment about a straight line (coverage limit to A, A to B) or the mean (nearer the threshold), 95 % "
@@ -226,7 +227,7 @@ def areas_summary(areas: AreasResult) -> dict:
         "site_file_sha256": study.spec.sha256,
         "category": study.spec.category,
         "wavelength_m": study.wavelength_m,
-        "ground": "flat ground" if study.terrain is None else "plane fitted to the DEM",
+        "ground": "flat ground" if study.terrain is None else areas.rule.get("ground", "plane fitted to the DEM"),
         "settings": {
             "critical_share": s.critical_share,
             "sensitive_share": s.sensitive_share,
