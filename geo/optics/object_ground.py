@@ -10,11 +10,11 @@ the surface is: at the specular point of the leg on the DEM, in the surface's ta
   found by fixed-point iteration: start on the fitted plane, mirror the antenna in the current
   plane, intersect the line from the object's centre to that image with the plane, move halfway
   there (the first step all the way), take the DEM's height and slope there as the next plane
-  (:data:`ITERATIONS` times). The antenna's image in that
-  tangent plane lights the object;
+  (:data:`ITERATIONS` times). The antenna's image in that tangent plane lights the object;
 - for each object position and block of receivers (an approach segment), the receivers' specular
-  points are found the same way, and one plane stands for them: through the mean of the points,
-  with the mean of their normals. The receivers' images in that plane see the object.
+  points are found the same way (for at most :data:`BLOCK_SAMPLES` of them, evenly picked), and one
+  plane stands for them: through the mean of the points, with the mean of their normals. The
+  receivers' images in that plane see the object.
 
 Heights and slopes: bilinear interpolation of the DEM's heights and of their central differences,
 sampled once on a regular grid in the mast frame (:class:`LocalGround`); off that grid the fitted
@@ -38,7 +38,16 @@ from dataclasses import dataclass
 
 import numpy as np
 
-__all__ = ["ITERATIONS", "LocalGround", "mirror_in", "specular_planes", "block_plane", "local_ground", "grazing_sin"]
+__all__ = [
+    "ITERATIONS",
+    "BLOCK_SAMPLES",
+    "LocalGround",
+    "mirror_in",
+    "specular_planes",
+    "block_plane",
+    "local_ground",
+    "grazing_sin",
+]
 
 #: Fixed-point steps for a specular point: the first onto the plane's specular point, the others
 #: halfway toward the next estimate (damped: over a mound the plain step overshoots and cycles).
@@ -131,16 +140,29 @@ def specular_planes(ground: LocalGround, ends_m, centres_m) -> tuple[np.ndarray,
     return point, normal
 
 
+#: Receivers of a block whose specular points make its plane (evenly picked: the plane is their mean).
+BLOCK_SAMPLES = 64
+
+
 def block_plane(ground: LocalGround, receivers_m, centres_m) -> tuple[np.ndarray, np.ndarray]:
     """One plane per object position for a block of receivers: the mean of their specular points and normals.
+
+    At most :data:`BLOCK_SAMPLES` receivers, evenly picked along the block, and each distinct centre
+    once (the headings of a position share it).
 
     Returns
     -------
     point, normal : numpy.ndarray, shape (G, 3)
     """
-    point, normal = specular_planes(ground, receivers_m, centres_m)
+    rx = np.asarray(receivers_m, float)
+    if rx.shape[0] > BLOCK_SAMPLES:
+        rx = rx[np.linspace(0, rx.shape[0] - 1, BLOCK_SAMPLES).round().astype(int)]
+    centres, back = np.unique(np.asarray(centres_m, float), axis=0, return_inverse=True)
+    point, normal = specular_planes(ground, rx, centres)
     mean_normal = normal.mean(axis=1)
-    return point.mean(axis=1), mean_normal / np.linalg.norm(mean_normal, axis=-1, keepdims=True)
+    mean_normal /= np.linalg.norm(mean_normal, axis=-1, keepdims=True)
+    back = np.ravel(back)
+    return point.mean(axis=1)[back], mean_normal[back]
 
 
 def local_ground(result, model, box_m: tuple[float, float, float, float]) -> LocalGround | None:
