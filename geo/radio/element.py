@@ -23,7 +23,7 @@ and in elevation ``2 arccos(2^(-1 / (2 m)))`` (90 deg for ``m = 1``).
 
 **Generic values** (:data:`GENERIC_ELEMENT`), generic and from memory, no source at hand: glide
 path elements have a horizontal half-power beamwidth of about 40-70 deg and a front-to-back ratio
-of 20-30 dB; here ``n = 5`` (HPBW 62.0 deg with the back level), FB = 25 dB, ``m = 1``.
+of 20-30 dB; here ``n = 5`` (HPBW 62.1 deg with the back level; 60.0 deg without it), FB = 25 dB, ``m = 1``.
 :data:`ISOTROPIC` is the choice that leaves every field as a point source's.
 
 References
