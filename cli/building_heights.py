@@ -26,7 +26,7 @@ def _settings(spec, extent, step, length, width, orientations, share, max_height
     from geo.units import LENGTH_UNITS
 
     scale = LENGTH_UNITS[spec.units]
-    s = HeightSettings(share=spec.areas.critical_share, front_to_back_db=spec.areas.front_to_back_db)
+    s = HeightSettings(share=spec.areas.critical_share)
     given = {
         "extent_m": _length(extent, "--extent", scale, 100.0, 10_000.0),
         "step_m": _length(step, "--step", scale, 1.0, 1000.0),

@@ -15,15 +15,19 @@ object's carrier outweighs the array's at a receiver, the position's share is in
 change at one receiver as the scattered phase turns: an upper bound of the change, no longer the
 measure of the areas.
 
-A position is **critical** when the disturbance's 95 % bend exceeds ``critical_share`` of the limit
-in some segment (the 95th percentile of ``|bend| / limit``), **sensitive** above
-``sensitive_share``; positions where the object would stand against the mast count as both. The
+A position is **critical** when its judged share (:mod:`geo.optics.disturbance_rule`: the 95th
+percentile of ``|bend| / limit`` in the worst segment combined with the terrain's own bends by root
+sum of squares, or the steady shift of the path angle or the sector in the far segments over the
+monitor limits) exceeds ``critical_share``, **sensitive** above ``sensitive_share``; positions
+where the object would stand against the mast count as both. The
 areas are the union of the grid cells (squares of the grid spacing centred on the positions) over
 the object's headings: a cell union, not a contour, so the outline shows the grid it came from.
-Ground: the reflecting plane of the study (flat ground, or the plane fitted to the DEM).
+Ground: with a DEM, the objects stand on it and their four ground paths reflect on its local
+surface at each specular point (:mod:`geo.optics.object_ground`); on flat ground, the plane.
 
-The antenna elements are isotropic, as the predicted path takes them, unless ``[areas]`` gives
-their front-to-back ratio (:func:`element_pattern`, weighting the illumination of the objects).
+The antennas' element pattern is the study's (``[prediction] element``, :mod:`geo.radio.element`;
+generic by default), in the undisturbed fields and in the illumination of the objects
+(:func:`element_pattern`), so objects behind the mast see the element's back level.
 
 Derived areas are a planning aid beside the authority's rules and flight inspection, never in
 place of them.
@@ -41,14 +45,24 @@ from __future__ import annotations
 import math
 import os
 from concurrent.futures import ThreadPoolExecutor
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 
+from geo.optics.disturbance_rule import judged_figures, shift_receivers, steady_shifts, terrain_shares
 from geo.optics.kernel import Facets
-from geo.optics.objects import GENERIC_OBJECTS, object_facets, object_half_diagonal_m
-from geo.optics.scatter_paths import four_path_field
+from geo.optics.object_ground import local_ground
+from geo.optics.objects import (
+    GENERIC_OBJECTS,
+    HEADING_SAMPLES,
+    HEADING_SPREAD_DEG,
+    heading_offsets_deg,
+    object_facets,
+    object_half_diagonal_m,
+)
+from geo.optics.scatter_paths import four_path_fields
 from geo.radio.bend_filter import MAX_GAP_M
+from geo.radio.element import element_for
 from geo.radio.prediction import ArrayModel, ddm
 from geo.radio.structure import structure_arrays
 from geo.radio.structure_limits import COVERAGE_M, Segment, structure_segments
@@ -124,8 +138,11 @@ class ObjectDisturbance:
         Per heading, the 95 % bend of the disturbance per segment (NaN at the mast, inf where the
         object's carrier outweighs the array's). [DDM]
     share : dict of str to numpy.ndarray, shape (G,)
-        Per heading, the largest over the segments of the 95th percentile of ``|bend| / limit``
-        (inf at the mast).
+        Per heading, the judged share of :mod:`geo.optics.disturbance_rule`: the larger of the bend
+        share (the 95th percentile of ``|bend| / limit``, the worst segment, combined with the
+        terrain's) and the shift share of the far segments (inf at the mast).
+    figures : dict of str to dict of str to numpy.ndarray, shape (G,)
+        Per heading, every figure of :func:`geo.optics.disturbance_rule.judged_figures` (NaN at the mast).
     """
 
     obj: ObjectSpec
@@ -134,6 +151,7 @@ class ObjectDisturbance:
     at_mast: np.ndarray
     segment_ddm: dict
     share: dict
+    figures: dict = field(default_factory=dict)
 
     @property
     def worst_share(self) -> np.ndarray:
@@ -195,6 +213,9 @@ class AreasResult:
         Critical then sensitive, per object.
     objects_source : str
         ``"site file"`` or ``"generic, no source"``.
+    rule : dict
+        How the disturbance was judged: ``element`` (the antennas' :class:`geo.radio.element.ElementPattern`
+        or None), ``terrain_share`` (per segment) and ``terrain_source``.
     """
 
     study: object
@@ -204,6 +225,7 @@ class AreasResult:
     disturbances: list[ObjectDisturbance]
     areas: list[DerivedArea]
     objects_source: str
+    rule: dict = field(default_factory=dict)
 
 
 def array_model(result) -> ArrayModel:
@@ -222,6 +244,7 @@ def array_model(result) -> ArrayModel:
         spec.prediction.relative_permittivity,
         spec.prediction.conductivity_s_m,
         phase_for_angle_deg=spec.angle_deg,
+        element=element_for(spec.prediction.element, spec.prediction.element_front_to_back_db),
     )
 
 
@@ -282,13 +305,17 @@ def object_fields(
     w: np.ndarray,
     receivers_m: np.ndarray,
     refine: float = 1.0,
-    front_to_back_db: float = 0.0,
+    offsets_deg=None,
+    ground=None,
+    blocks=None,
 ) -> tuple[np.ndarray, np.ndarray]:
-    """CSB and SBO fields the object scatters, per position and receiver.
+    """CSB and SBO fields the object scatters, per position and receiver (and turned heading).
 
     Parameters
     ----------
     model : ArrayModel
+        With its element pattern (:attr:`ArrayModel.element`), which weights the object's
+        illumination along each leg from the antenna (:func:`element_pattern`).
     obj : ObjectSpec
     heading : {"along", "across"}
     u, w : numpy.ndarray, shape (G,)
@@ -296,68 +323,72 @@ def object_fields(
     receivers_m : numpy.ndarray, shape (R, 3)
     refine : float
         Finer facets than the phase criterion asks (for checks).
-    front_to_back_db : float
-        The elements' front-to-back ratio (:func:`element_pattern`; 0: isotropic). [dB]
+    offsets_deg : array_like, shape (N,), optional
+        Headings turned by these about the vertical (:func:`geo.optics.objects.heading_offsets_deg`),
+        all through the kernel at once. [deg]
+    ground : geo.optics.object_ground.LocalGround, optional
+        The DEM: the object stands on it and its ground paths reflect on its local surface
+        (:mod:`geo.optics.object_ground`); None: the plane of ``model``.
+    blocks : list of numpy.ndarray, optional
+        Receivers that share a reflecting plane per position over the DEM (an approach segment each).
 
     Returns
     -------
-    d_csb, d_sbo : numpy.ndarray of complex, shape (G, R)
+    d_csb, d_sbo : numpy.ndarray of complex, shape (G, R), or (N, G, R) with ``offsets_deg``
         In the units of :meth:`geo.radio.prediction.ArrayModel.fields`.
     """
     feet = _feet(model, np.asarray(u, float), np.asarray(w, float))
+    if ground is not None:  # standing on the DEM
+        feet[:, 2] = ground.surface(feet[:, 0], feet[:, 1])[0]
     centres = feet + np.array([0.0, 0.0, (obj.height_m + obj.base_m) / 2.0])
     to_antennas = np.linalg.norm(centres[:, None, :] - model.positions_m[None, :, :], axis=2).min(axis=1)
     rx = np.asarray(receivers_m, float)
     to_receivers = np.linalg.norm(centres[:, None, :] - rx[None, :, :], axis=2).min(axis=1)
     reach = math.hypot(object_half_diagonal_m(obj), (obj.height_m - obj.base_m) / 2.0)
     ranges = np.minimum(to_antennas, to_receivers) - reach
-    facets, groups = object_facets(obj, heading, feet, ranges, model.wavelength_m, refine)
-    d_csb = np.zeros((feet.shape[0], rx.shape[0]), dtype=complex)
-    d_sbo = np.zeros_like(d_csb)
-    for position, c, s in zip(model.positions_m, model.csb, model.sbo):
-        lit = facets
-        if front_to_back_db > 0.0:
-            weights = element_pattern(facets.centres_m - position, front_to_back_db)
-            lit = Facets(facets.centres_m, facets.edge_a_m, facets.edge_b_m, True, weights)
-        e = four_path_field(
-            position,
-            lit,
-            groups,
-            centres,
-            rx,
-            model.wavelength_m,
-            model.normal,
-            model.relative_permittivity,
-            model.conductivity_s_m,
-        )
-        d_csb += c * e
-        d_sbo += s * e
-    return d_csb, d_sbo
+    turns = [0.0] if offsets_deg is None else [float(t) for t in np.atleast_1d(offsets_deg)]
+    cut = [object_facets(obj, heading, feet, ranges, model.wavelength_m, refine, t) for t in turns]
+    count = feet.shape[0]
+    facets = Facets(*(np.concatenate([getattr(f, k) for f, _ in cut]) for k in ("centres_m", "edge_a_m", "edge_b_m")),
+                    two_sided=True)  # fmt: skip
+    groups = np.concatenate([g + i * count for i, (_, g) in enumerate(cut)])  # heading i, position g
+    centres = np.tile(centres, (len(turns), 1))
+    element = None if model.element is None or model.element.is_isotropic else model.element_field
+    e = four_path_fields(
+        model.positions_m,
+        facets,
+        groups,
+        centres,
+        rx,
+        model.wavelength_m,
+        model.normal,
+        model.relative_permittivity,
+        model.conductivity_s_m,
+        element=element,
+        ground=ground,
+        blocks=blocks,
+    )  # (antennas, N G, R): every antenna and heading through the kernel at once
+    d_csb, d_sbo = np.tensordot(model.csb, e, axes=1), np.tensordot(model.sbo, e, axes=1)
+    if offsets_deg is None:
+        return d_csb, d_sbo
+    return d_csb.reshape(len(turns), count, -1), d_sbo.reshape(len(turns), count, -1)
 
 
-def element_pattern(direction_m: np.ndarray, front_to_back_db: float) -> np.ndarray:
-    """Field pattern of an element facing the approach (+u), in azimuth: ``b + (1 - b)(1 + cos phi) / 2``.
+def element_pattern(model: ArrayModel, direction_m: np.ndarray) -> np.ndarray:
+    """The field of the model's element toward directions (P, 3) leaving an antenna (1 for point sources).
 
-    A cardioid [1]_ raised to the back level ``b = 10^(-F/B / 20)``: 1 toward the approach, ``b``
-    straight behind, smooth between; isotropic at 0 dB. It weights only the illumination of the
-    objects (the receivers on the approach are in front, where it is 1).
-
-    Parameters
-    ----------
-    direction_m : numpy.ndarray, shape (P, 3)
-        From the element toward each facet.
-    front_to_back_db : float
-        [dB]
+    The element of :mod:`geo.radio.element` (generic by default: a raised ``cos^(2n)(phi / 2)``
+    in azimuth with its front-to-back ratio, ``cos e`` in elevation), facing the approach (+u).
+    Along the four ground paths it weights the leg from the antenna toward each facet and the leg
+    toward the ground on the way to it (:func:`geo.optics.scatter_paths.four_path_field`), as the
+    image prediction weights its direct and reflected waves.
 
     References
     ----------
-    .. [1] Balanis, C. A., *Antenna Theory*, 3rd ed., Wiley, 2005, sec. 6.2 (two-element array,
-           the cardioid ``(1 + cos phi) / 2``); IEEE Std 145-2013 (front-to-back ratio).
+    .. [1] Balanis, C. A., *Antenna Theory*, 3rd ed., Wiley, 2005, sec. 6.2 (the cardioid);
+           IEEE Std 145-2013 (front-to-back ratio).
     """
-    back = 10.0 ** (-front_to_back_db / 20.0)
-    horizontal = np.hypot(direction_m[:, 0], direction_m[:, 1])
-    cos_phi = np.divide(direction_m[:, 0], horizontal, out=np.ones_like(horizontal), where=horizontal > 0)
-    return back + (1.0 - back) * (1.0 + cos_phi) / 2.0
+    return np.broadcast_to(model.element_field(np.asarray(direction_m, float)), np.shape(direction_m)[:-1])
 
 
 def bend_amplitude(csb, sbo, d_csb, d_sbo, sbo_scale: float) -> np.ndarray:
@@ -373,6 +404,14 @@ def bend_amplitude(csb, sbo, d_csb, d_sbo, sbo_scale: float) -> np.ndarray:
     return np.where(np.isnan(margin), np.inf, bend)
 
 
+def _ddm_change(c, s, d_csb, d_sbo, k: float) -> tuple[np.ndarray, np.ndarray]:
+    """The exact DDM change (0 where swamped) and where the object's carrier outweighs the array's."""
+    swamped = np.abs(d_csb) >= np.abs(c)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        change = np.where(swamped, 0.0, ddm(c + d_csb, s + d_sbo, k) - ddm(c, s, k))
+    return change, swamped
+
+
 def disturbance(
     model: ArrayModel,
     receivers: PathReceivers,
@@ -382,27 +421,90 @@ def disturbance(
     u,
     w,
     refine: float = 1.0,
-    front_to_back_db: float = 0.0,
+    terrain_share=None,
+    figures: dict | None = None,
+    spread=(HEADING_SPREAD_DEG, HEADING_SAMPLES),
+    ground=None,
 ) -> tuple[np.ndarray, np.ndarray]:
-    """95 % bend of the disturbance per segment (G, S) and its largest share of the limit (G,) at (u, w).
+    """95 % bend of the disturbance per segment (G, S) and the position's judged share (G,) at (u, w).
 
     The change of the DDM along the path (exact, no linearisation) measured by
-    :func:`geo.radio.structure.structure_arrays` (module notes); infinite where the object's carrier
-    outweighs the array's at a receiver of the segment.
+    :func:`geo.radio.structure.structure_arrays` (module notes), infinite where the object's carrier
+    outweighs the array's at a receiver of the segment; then judged by
+    :mod:`geo.optics.disturbance_rule`: the bend share combined with the terrain's own
+    (``terrain_share`` per segment, zero by default) by root sum of squares, and the steady shifts
+    of the path angle and the sector in the far segments against the monitor limits. Each figure is
+    the 95th percentile over the headings sampled about ``heading``
+    (:func:`geo.optics.objects.heading_offsets_deg`; signed figures: of their magnitude, with the
+    sign of the largest).
+
+    Parameters
+    ----------
+    terrain_share : array_like, shape (S,), optional
+        The terrain's own 95 % bend over the limit per segment.
+    figures : dict, optional
+        Filled with every figure per position (:func:`geo.optics.disturbance_rule.judged_figures`).
+    spread : tuple of (float, int)
+        Headings spread over ``+-spread[0]`` degrees, ``spread[1]`` samples (1: the exact heading).
+    ground : geo.optics.object_ground.LocalGround, optional
+        The DEM under the objects and their ground paths (one plane per position and segment for
+        the receivers); None: the fitted plane.
     """
-    d_csb, d_sbo = object_fields(model, obj, heading, u, w, receivers.points_m, refine, front_to_back_db)
-    c, s, k = receivers.csb, receivers.sbo, receivers.sbo_scale
-    swamped = np.abs(d_csb) >= np.abs(c)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        change = np.where(swamped, 0.0, ddm(c + d_csb, s + d_sbo, k) - ddm(c, s, k))
-    found = structure_arrays(segments, receivers.before_threshold_m, change)
+    shift = shift_receivers(receivers, segments, model.fields, lambda c, s: ddm(c, s, receivers.sbo_scale))
+    r, q = receivers.points_m.shape[0], shift.before_threshold_m.size
+    points = np.concatenate([receivers.points_m, shift.below_m, shift.above_m])
+    blocks = None if ground is None else _segment_blocks(segments, receivers, shift)
+    turns = heading_offsets_deg(*spread)
+    d_csb, d_sbo = object_fields(model, obj, heading, u, w, points, refine, turns, ground, blocks)
+    turns, count = d_csb.shape[:2]
+    c, s = model.fields(points[r:])
+    c, s = np.r_[receivers.csb, c], np.r_[receivers.sbo, s]
+    change, swamped = _ddm_change(c, s, d_csb.reshape(turns * count, -1), d_sbo.reshape(turns * count, -1),
+                                  receivers.sbo_scale)  # fmt: skip
+    found = structure_arrays(segments, receivers.before_threshold_m, change[:, :r])
     per_segment = found.bend_95_ddm
     ratio = found.ratio_95.copy()
     for i in range(len(segments)):
-        hit = swamped[:, segments[i].contains(receivers.before_threshold_m)].any(axis=1)
+        hit = swamped[:, :r][:, segments[i].contains(receivers.before_threshold_m)].any(axis=1)
         per_segment[hit, i] = np.inf
         ratio[hit, i] = np.inf
-    return per_segment, np.nanmax(ratio, axis=1)
+    shifts = steady_shifts(segments, receivers, change[:, :r], shift, change[:, r : r + q], change[:, r + q :])
+    shifts["shift_share"] = np.where(swamped[:, r:].any(axis=1), np.inf, shifts["shift_share"])
+    terrain = np.zeros(len(segments)) if terrain_share is None else np.asarray(terrain_share, float)
+    judged = judged_figures(ratio, terrain, shifts)
+    signed = ("angle_shift_deg", "sensitivity_change")
+    judged = {k: _over_headings(v.reshape(turns, count), k in signed) for k, v in judged.items()}
+    if figures is not None:
+        figures.update(judged)
+    return _over_headings(per_segment.reshape(turns, count, -1)), judged["judged_share"]
+
+
+def _segment_blocks(segments, receivers: PathReceivers, shift) -> list[np.ndarray]:
+    """Indices of the receivers (path, then below and above it) of each segment, the first containing one."""
+    r, q = receivers.before_threshold_m.size, shift.before_threshold_m.size
+    taken = np.zeros(r + 2 * q, dtype=bool)
+    distance = np.r_[receivers.before_threshold_m, shift.before_threshold_m, shift.before_threshold_m]
+    blocks = []
+    for seg in segments:
+        inside = seg.contains(distance) & ~taken
+        taken |= inside
+        blocks.append(np.flatnonzero(inside))
+    blocks.append(np.flatnonzero(~taken))
+    return [b for b in blocks if b.size]
+
+
+def _over_headings(values: np.ndarray, signed: bool = False) -> np.ndarray:
+    """The 95th percentile over the sampled headings (axis 0; linear between samples), inf kept.
+
+    Signed values: the percentile of the magnitude, with the sign of the largest magnitude.
+    """
+    v = np.abs(values) if signed else values
+    top = np.percentile(np.where(np.isinf(v), 1e300, v), 95.0, axis=0)
+    top = np.where(top >= 1e299, np.inf, top)
+    if not signed:
+        return top
+    largest = np.take_along_axis(values, np.nanargmax(np.abs(values), axis=0)[None], axis=0)[0]
+    return np.sign(largest) * top
 
 
 def cell_union(u, w, mask, step_m: float):
@@ -451,19 +553,28 @@ def derive_areas(result, progress=None, receivers_count: int | None = None, work
     segment_ddm = {(k, h): np.full((u.size, len(segments)), np.nan) for k, o in enumerate(objects) for h in o.headings}
     share = {(k, h): np.full(u.size, np.inf) for k, o in enumerate(objects) for h in o.headings}
 
+    terrain, terrain_source = terrain_shares(result.surface, segments)
+    figures = {key: {} for key in share}
+    ground = local_ground(result, model, (u.min() - 100.0, u.max() + 1000.0, w.min() - 100.0, w.max() + 100.0))
+
     def run(job):
         k, heading, index = job
-        return job, disturbance(
-            model, receivers, segments, objects[k], heading, u[index], w[index], 1.0, settings.front_to_back_db
+        out = {}
+        obj = objects[k]
+        found = disturbance(
+            model, receivers, segments, obj, heading, u[index], w[index], 1.0, terrain, out, ground=ground
         )
+        return job, found, out
 
     done = 0
     threads = workers or min(os.cpu_count() or 1, 4)
     pool = ThreadPoolExecutor(max_workers=threads)
     try:
-        for (k, heading, index), (per_segment, worst) in pool.map(run, jobs):
+        for (k, heading, index), (per_segment, worst), out in pool.map(run, jobs):
             segment_ddm[k, heading][index] = per_segment
             share[k, heading][index] = worst
+            for name, values in out.items():
+                figures[k, heading].setdefault(name, np.full(u.size, np.nan))[index] = values
             done += 1
             if progress is not None:
                 progress(done, len(jobs))
@@ -481,6 +592,7 @@ def derive_areas(result, progress=None, receivers_count: int | None = None, work
             at_mast,
             {h: segment_ddm[k, h] for h in obj.headings},
             {h: share[k, h] for h in obj.headings},
+            {h: figures[k, h] for h in obj.headings},
         )
         disturbances.append(d)
         worst = d.worst_share
@@ -490,4 +602,7 @@ def derive_areas(result, progress=None, receivers_count: int | None = None, work
             polygon = cell_union(u, w, inside, settings.grid_m)
             areas.append(DerivedArea(obj.name, kind, polygon, limit, bool((inside & edge).any())))
     source = "site file" if spec.objects else GENERIC_OBJECTS[0].source
-    return AreasResult(result, settings, segments, receivers, disturbances, areas, source)
+    on = "the DEM's local surface at each specular point" if ground is not None else "the fitted plane"
+    rule = {"element": model.element, "terrain_share": tuple(map(float, terrain)), "terrain_source": terrain_source}
+    rule["ground"] = on
+    return AreasResult(result, settings, segments, receivers, disturbances, areas, source, rule)

@@ -111,8 +111,6 @@ class HeightSettings:
         The bracket. [m]
     resolution_m : float
         Bisection stops when the bracket is narrower. [m]
-    front_to_back_db : float
-        The elements' front-to-back ratio (0: isotropic). [dB]
     """
 
     extent_m: float = 2000.0
@@ -124,7 +122,6 @@ class HeightSettings:
     min_height_m: float = 2.0
     max_height_m: float = 100.0
     resolution_m: float = 1.0
-    front_to_back_db: float = 0.0
     footprint_source: str = FOOTPRINT_SOURCE
     share_source: str = "the derived areas' critical share (common practice, no source)"
 
@@ -273,7 +270,7 @@ def box_disturbance(model, receivers, segments, u, w, base_m, heights_m, setting
     """
     rx = receivers.points_m
     facets, groups, centres = _box_plates(model, u, w, base_m, heights_m, settings, orientation, rx)
-    d_csb, d_sbo = scattered_fields(model, facets, groups, centres, rx, (None, None), settings.front_to_back_db)
+    d_csb, d_sbo = scattered_fields(model, facets, groups, centres, rx, (None, None))
     reach = 0.5 * math.hypot(settings.length_m, settings.width_m)
     for g in np.flatnonzero(_in_ray_fan(model, u, w, reach, rx)):
         (shape,) = box_shapes(

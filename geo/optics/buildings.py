@@ -40,10 +40,9 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from geo.optics.areas import element_pattern
 from geo.optics.kernel import Facets, mirror_points
 from geo.optics.objects import facet_side_m
-from geo.optics.scatter_paths import four_path_field
+from geo.optics.scatter_paths import four_path_fields
 from geo.radio.knife_edge import fresnel_parameter, knife_edge_field_fast
 
 __all__ = [
@@ -259,11 +258,12 @@ def building_facets(model, shapes, receivers_m, refine: float = 1.0) -> tuple[Fa
     return facets, groups, np.array(centres)
 
 
-def scattered_fields(model, facets, groups, centres_m, receivers_m, constants=(None, None), front_to_back_db=0.0):
+def scattered_fields(model, facets, groups, centres_m, receivers_m, constants=(None, None)):
     """CSB and SBO the walls and roofs scatter, per group and receiver (four ground paths).
 
-    The same composition as the objects' (:func:`geo.optics.areas.object_fields`): each antenna's
-    four-path field, weighted by its feeds and by the elements' pattern toward the facets.
+    The same composition as the objects' (:func:`geo.optics.areas.object_fields`): every antenna's
+    four-path field (its element's pattern on the legs from it, :attr:`ArrayModel.element`),
+    weighted by its feeds.
 
     Returns
     -------
@@ -271,20 +271,12 @@ def scattered_fields(model, facets, groups, centres_m, receivers_m, constants=(N
         In the units of :meth:`geo.radio.prediction.ArrayModel.fields`.
     """
     rx = np.atleast_2d(np.asarray(receivers_m, float))
-    d_csb = np.zeros((centres_m.shape[0], rx.shape[0]), dtype=complex)
-    d_sbo = np.zeros_like(d_csb)
-    for position, c, s in zip(model.positions_m, model.csb, model.sbo):
-        lit = facets
-        if front_to_back_db > 0.0:
-            weights = element_pattern(facets.centres_m - position, front_to_back_db)
-            lit = Facets(facets.centres_m, facets.edge_a_m, facets.edge_b_m, False, weights)
-        e = four_path_field(
-            position, lit, groups, centres_m, rx, model.wavelength_m, model.normal,
-            model.relative_permittivity, model.conductivity_s_m, facet_constants=constants,
-        )  # fmt: skip
-        d_csb += c * e
-        d_sbo += s * e
-    return d_csb, d_sbo
+    element = None if model.element is None or model.element.is_isotropic else model.element_field
+    e = four_path_fields(
+        model.positions_m, facets, groups, centres_m, rx, model.wavelength_m, model.normal,
+        model.relative_permittivity, model.conductivity_s_m, element=element, facet_constants=constants,
+    )  # fmt: skip
+    return np.tensordot(model.csb, e, axes=1), np.tensordot(model.sbo, e, axes=1)
 
 
 def _hull_planes(outline: np.ndarray):
@@ -379,7 +371,7 @@ def shadow_fields(model, shape: BuildingShape, receivers_m) -> tuple[np.ndarray,
     return d_csb, d_sbo
 
 
-def building_fields(model, shapes, receivers_m, refine: float = 1.0, front_to_back_db: float = 0.0):
+def building_fields(model, shapes, receivers_m, refine: float = 1.0):
     """Each building's change of CSB and SBO at the receivers: its scattered field and its shadow.
 
     Parameters
@@ -389,8 +381,6 @@ def building_fields(model, shapes, receivers_m, refine: float = 1.0, front_to_ba
     receivers_m : numpy.ndarray, shape (R, 3)
     refine : float
         Finer facets than the phase criterion (checks).
-    front_to_back_db : float
-        The elements' front-to-back ratio (:func:`geo.optics.areas.element_pattern`). [dB]
 
     Returns
     -------
@@ -402,7 +392,7 @@ def building_fields(model, shapes, receivers_m, refine: float = 1.0, front_to_ba
     for g, shape in enumerate(shapes):
         facets, groups, centres = building_facets(model, [shape], rx, refine)
         constants = (shape.relative_permittivity, shape.conductivity_s_m)
-        c, s = scattered_fields(model, facets, groups, centres, rx, constants, front_to_back_db)
+        c, s = scattered_fields(model, facets, groups, centres, rx, constants)
         sc, ss = shadow_fields(model, shape, rx)
         d_csb[g] = c[0] + sc
         d_sbo[g] = s[0] + ss

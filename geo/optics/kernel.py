@@ -302,7 +302,7 @@ def _source_terms(facets: Facets, src: np.ndarray, k: float, dt, visible, lossy:
     normal = np.cross(a, b, axis=0)
     area = np.sqrt(_dot(normal, normal))
     n = normal / area
-    d1 = facets.centres_m.T[None, :, :] - src[:, :, None]  # (S, 3, P)
+    d1 = facets.centres_m.T[None, :, :] - (src[:, :, None] if src.ndim == 2 else src)  # (S, 3, P)
     r1 = np.sqrt(_dot(d1, d1))
     s1 = d1 / r1[:, None, :]
     ns1 = _dot(s1, n)
@@ -730,8 +730,9 @@ def _pair_fields(
 
     Parameters
     ----------
-    sources_m : array_like, shape (S, 3)
-        [m]
+    sources_m : array_like, shape (S, 3) or (S, 3, P)
+        [m]; with shape (S, 3, P), each source's position for each facet (an image in the ground
+        under that facet's own group).
     facets : Facets
     receivers_m : array_like, shape (R, 3)
         Points [m], or unit directions toward distant receivers with ``far``.
@@ -842,15 +843,17 @@ def scattered_field(
     conductivity_s_m: float | None = None,
     receiver_visible=None,
     groups=None,
+    source_weights=None,
 ) -> np.ndarray:
     """Field scattered by ``facets`` from an isotropic horizontally polarised source (see module notes).
 
-    The kernel :func:`_pair_fields` in double precision, for one source.
+    The kernel :func:`_pair_fields` in double precision, for one source (or several at once, sharing
+    the pair work, with ``source_m`` of shape (S, 3)).
 
     Parameters
     ----------
-    source_m : array_like, shape (3,)
-        The antenna. [m]
+    source_m : array_like, shape (3,), (S, 3) or (S, 3, P)
+        The antenna (or antennas; or each antenna's position per facet, see :func:`_pair_fields`). [m]
     facets : Facets
         Plates (two-sided) or ground (one-sided).
     receivers_m : array_like, shape (R, 3)
@@ -865,11 +868,15 @@ def scattered_field(
         facet of a chunk sees each receiver (terrain shadowing); every pair by default.
     groups : array_like of int, shape (P,), optional
         Group of each facet (``0 .. G - 1``, e.g. one object position each).
+    source_weights : numpy.ndarray, shape (S, P), optional
+        A real factor per source and facet on the source's side (an element pattern toward each
+        facet), besides the facets' own weights; 1 by default.
 
     Returns
     -------
     numpy.ndarray of complex, shape (R,), or (G, R) with ``groups``
-        In the units of the direct field ``exp(-j k r) / r`` of the same source.
+        In the units of the direct field ``exp(-j k r) / r`` of the same source; with sources of
+        shape (S, 3), a leading axis of length S.
 
     References
     ----------
@@ -883,12 +890,15 @@ def scattered_field(
         def pair_weight(sl):
             return every, receiver_visible(np.arange(sl.start, sl.stop), every)
 
-    source = np.asarray(source_m, dtype=float)[None, :]
+    several = np.ndim(source_m) >= 2
+    source = np.atleast_2d(np.asarray(source_m, dtype=float))
     ground = dict(relative_permittivity=relative_permittivity, conductivity_s_m=conductivity_s_m)
     out = _pair_fields(
-        source, facets, rx, wavelength_m, dtype=np.float64, groups=groups, pair_weight=pair_weight, **ground
-    )
-    return out[0] if groups is not None else out[0, 0]
+        source, facets, rx, wavelength_m, dtype=np.float64, groups=groups, pair_weight=pair_weight,
+        source_visible=source_weights, **ground,
+    )  # fmt: skip
+    out = out if groups is not None else out[:, 0]
+    return out if several else out[0]
 
 
 def ground_fields(

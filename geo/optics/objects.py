@@ -1,8 +1,12 @@
 """Objects near the mast as flat plates, cut into facets for the physics of :mod:`geo.optics.kernel`.
 
-An object (a tail fin, a vehicle body) is taken as the three rectangular plates through its
-middle: the side plate (length x height, along its heading), the end plate (width x height,
-across it) and the top plate (length x width, horizontal). Each plate has the projected area
+An object (a tail fin, a vehicle body) is taken as the three plates through its middle: the side
+plate (length x height, along its heading), the end plate (width x height, across it) and the top
+plate (length x width, horizontal). A fin (an object on a base above the ground) has a tapered,
+swept side plate instead of a rectangle (:func:`fin_strips`: root chord = its length, taper
+:data:`FIN_TAPER`, leading-edge sweep :data:`FIN_SWEEP_DEG`; generic, from memory) and its top
+plate is its tip. Objects stand at headings spread about "along" and "across"
+(:func:`heading_offsets_deg`), not exactly aligned. Each plate has the projected area
 the box shows in that principal direction, which sets its specular return and its shadow;
 a thin fin is in effect its side plate alone. The plates are two-sided perfect conductors.
 
@@ -42,7 +46,13 @@ __all__ = [
     "MIN_RANGE_M",
     "facet_side_m",
     "heading_vector",
+    "heading_offsets_deg",
+    "HEADING_SPREAD_DEG",
+    "HEADING_SAMPLES",
     "object_plates",
+    "fin_strips",
+    "FIN_TAPER",
+    "FIN_SWEEP_DEG",
     "object_facets",
 ]
 
@@ -53,6 +63,17 @@ GENERIC_OBJECTS = (
     ObjectSpec("small aircraft tail", 9.0, 5.0, 0.5, 3.5, ("along", "across"), GENERIC_SOURCE),
     ObjectSpec("service vehicle", 3.0, 8.0, 2.5, 0.0, ("along", "across"), GENERIC_SOURCE),
 )
+#: A fin (an object standing on a base above the ground, ``base_m > 0``: a tail above its fuselage) is a
+#: tapered, swept plate: tip chord over root chord and leading-edge sweep (typical of transport aircraft
+#: fins; generic, from memory, no source), cut into this many strips up its height.
+FIN_TAPER = 0.4
+FIN_SWEEP_DEG = 35.0
+FIN_STRIPS = 2
+#: Headings as objects stand: spread evenly over +-12 deg about "along" and "across", sampled by 4
+#: (the middles of four 6 deg bins: +-3 and +-9 deg), judged at the 95th percentile over them (the
+#: spread: common practice, no source; a taxiing or parked aircraft is rarely exactly aligned).
+HEADING_SPREAD_DEG = 12.0
+HEADING_SAMPLES = 4
 #: Shortest distance used in the facet criterion (an object closer than this touches the mast). [m]
 MIN_RANGE_M = 5.0
 
@@ -70,26 +91,83 @@ def facet_side_m(range_m, wavelength_m: float):
     return np.sqrt(wavelength_m * np.maximum(range_m, MIN_RANGE_M)) / 2.0
 
 
-def heading_vector(heading: str) -> np.ndarray:
-    """Unit vector of a heading in the mast frame: ``along`` the runway (u) or ``across`` it (w)."""
-    return np.array([1.0, 0.0, 0.0]) if heading == "along" else np.array([0.0, 1.0, 0.0])
+def heading_vector(heading: str, offset_deg: float = 0.0) -> np.ndarray:
+    """Unit vector of a heading in the mast frame: ``along`` the runway (u) or ``across`` it (w).
+
+    ``offset_deg`` turns it about the vertical (from u toward w). [deg]
+    """
+    if offset_deg == 0.0:
+        return np.array([1.0, 0.0, 0.0]) if heading == "along" else np.array([0.0, 1.0, 0.0])
+    angle = math.radians((0.0 if heading == "along" else 90.0) + offset_deg)
+    return np.array([math.cos(angle), math.sin(angle), 0.0])
 
 
-def object_plates(obj: ObjectSpec, heading: str) -> list[tuple[np.ndarray, np.ndarray, np.ndarray]]:
+def heading_offsets_deg(spread_deg: float = HEADING_SPREAD_DEG, samples: int = HEADING_SAMPLES) -> np.ndarray:
+    """The sampled headings about a nominal one: the middles of ``samples`` equal bins over ``+-spread_deg``.
+
+    Each sample stands for an equal share of headings spread evenly over the range; with an even
+    count the exact heading (0) is not a sample. One sample: the nominal heading itself. [deg]
+    """
+    if samples <= 1 or spread_deg <= 0.0:
+        return np.zeros(1)
+    return -spread_deg + 2.0 * spread_deg * (np.arange(samples) + 0.5) / samples
+
+
+def object_plates(
+    obj: ObjectSpec, heading: str, offset_deg: float = 0.0
+) -> list[tuple[np.ndarray, np.ndarray, np.ndarray]]:
     """The object's plates relative to its foot: (centre offset, edge a, edge b), each shape (3,). [m]
 
-    Plates of zero area (a width of 0) are left out.
+    Plates of zero area (a width of 0) are left out. ``offset_deg`` turns the heading (:func:`heading_vector`).
     """
-    h = heading_vector(heading)
+    h = heading_vector(heading, offset_deg)
     s = np.cross([0.0, 0.0, 1.0], h)
     up = np.array([0.0, 0.0, 1.0])
     tall = obj.height_m - obj.base_m
     mid = np.array([0.0, 0.0, obj.base_m + tall / 2.0])
-    plates = [(mid, h * obj.length_m, up * tall)]
+    if obj.base_m > 0.0:  # a fin: tapered and swept
+        plates = fin_strips(obj, h)
+        tip_centre = -h * _fin_mid_slope(obj) * tall + np.array([0.0, 0.0, obj.height_m])
+        top = (tip_centre, h * obj.length_m * FIN_TAPER, s * obj.width_m)
+    else:
+        plates = [(mid, h * obj.length_m, up * tall)]
+        top = (np.array([0.0, 0.0, obj.height_m]), h * obj.length_m, s * obj.width_m)
     if obj.width_m > 0.0:
         plates.append((mid, s * obj.width_m, up * tall))
-        plates.append((np.array([0.0, 0.0, obj.height_m]), h * obj.length_m, s * obj.width_m))
+        plates.append(top)
     return plates
+
+
+def _fin_mid_slope(obj: ObjectSpec) -> float:
+    """How far the fin's mid-chord line moves back per metre of height. [-]
+
+    Leading edge ``L / 2 - z tan(sweep)``, chord ``L (1 - (1 - taper) z / T)`` at height ``z``
+    above the base (``T`` the fin's height): the mid-chord ``-z (tan(sweep) - (1 - taper) L / (2 T))``.
+    """
+    tall = obj.height_m - obj.base_m
+    return math.tan(math.radians(FIN_SWEEP_DEG)) - (1.0 - FIN_TAPER) * obj.length_m / (2.0 * tall)
+
+
+def fin_strips(obj: ObjectSpec, h: np.ndarray) -> list[tuple[np.ndarray, np.ndarray, np.ndarray]]:
+    """A fin's side plate as a tapered, swept trapezoid: :data:`FIN_STRIPS` parallelogram strips up its height.
+
+    The root chord is the object's length at its base; the chord falls linearly to
+    :data:`FIN_TAPER` of it at the tip and the leading edge sweeps back (against the heading) by
+    :data:`FIN_SWEEP_DEG`. Each strip is a parallelogram with the trapezoid's chord at its middle
+    height, slanted along the mid-chord line (:func:`_fin_mid_slope`): the strips hold the
+    trapezoid's area ``T L (1 + taper) / 2`` exactly (the chord is linear in height) and its
+    slanted outline, to within the steps of the strips.
+    """
+    tall = obj.height_m - obj.base_m
+    step = tall / FIN_STRIPS
+    slope = _fin_mid_slope(obj)
+    rise = np.array([0.0, 0.0, step]) - h * slope * step
+    strips = []
+    for i in range(FIN_STRIPS):
+        z = (i + 0.5) * step
+        chord = obj.length_m * (1.0 - (1.0 - FIN_TAPER) * z / tall)
+        strips.append((-h * slope * z + np.array([0.0, 0.0, obj.base_m + z]), h * chord, rise))
+    return strips
 
 
 def object_facets(
@@ -99,6 +177,7 @@ def object_facets(
     range_m: np.ndarray,
     wavelength_m: float,
     refine: float = 1.0,
+    offset_deg: float = 0.0,
 ) -> tuple[Facets, np.ndarray]:
     """Facets of the object standing at each foot position, grouped by position.
 
@@ -113,6 +192,8 @@ def object_facets(
     wavelength_m : float
     refine : float
         Divides the facet side (1: the phase criterion; larger: finer, for checks).
+    offset_deg : float
+        The heading turned by this about the vertical. [deg]
 
     Returns
     -------
@@ -124,10 +205,12 @@ def object_facets(
     feet = np.atleast_2d(np.asarray(feet_m, dtype=float))
     side = facet_side_m(np.asarray(range_m, dtype=float), wavelength_m) / refine
     centres, edges_a, edges_b, groups = [], [], [], []
-    for offset, a, b in object_plates(obj, heading):
+    for offset, a, b in object_plates(obj, heading, offset_deg):
         la, lb = float(np.linalg.norm(a)), float(np.linalg.norm(b))
-        na = np.maximum(1, np.ceil(la / side)).astype(int)
-        nb = np.maximum(1, np.ceil(lb / side)).astype(int)
+        # a slanted plate (a fin's strip): its facets' longer diagonal, not a square's, held to the criterion
+        slant = max(np.linalg.norm(a / la + b / lb), np.linalg.norm(a / la - b / lb)) / math.sqrt(2.0)
+        na = np.maximum(1, np.ceil(la * slant / side)).astype(int)
+        nb = np.maximum(1, np.ceil(lb * slant / side)).astype(int)
         for ca, cb in sorted(set(zip(na.tolist(), nb.tolist()))):
             which = np.flatnonzero((na == ca) & (nb == cb))
             ia, ib = np.meshgrid((np.arange(ca) + 0.5) / ca - 0.5, (np.arange(cb) + 0.5) / cb - 0.5)

@@ -5,7 +5,11 @@ it gives a smooth path. Here the reflected wave of each antenna is the physical-
 integral over the DEM surface in front of the mast (:mod:`geo.optics.kernel`, :mod:`geo.optics.surface_facets`):
 facets with their own normals, the Fresnel coefficient at each facet's grazing angle, terrain
 shadowing toward the antenna and the receivers. The CSB and SBO feeds, the SBO scale and the
-DDM are those of the image prediction, so the two differ only by the ground.
+DDM are those of the image prediction, so the two differ only by the ground. The antennas'
+element pattern (:attr:`geo.radio.prediction.ArrayModel.element`) weights each facet's
+illumination by the element's field toward it (the kernel's source-side weights, times the
+shadowing ones), for the surface and the plane alike, as image theory weights the reflected wave
+by the field toward its specular point.
 
 **How the integral is taken.** A raw integral over a finite area converges slowly to the image
 wave of a plane: its truncated edges and the ground under the antennas (where ``1 / r1`` varies
@@ -304,6 +308,8 @@ def _scattered(model: ArrayModel, grid: SurfaceGrid, rx, visibility, rx_index, z
         options["pair_weight"] = _receiver_weights(grid.limits, facets.centres_m, rx_index)
     consts = (model.wavelength_m, model.relative_permittivity, model.conductivity_s_m)
     options.update(_layer(model))
+    gain = _element_weights(model, facets)  # the element's pattern toward each facet, on the source side
+    vis = gain if vis is None else (vis if gain is None else vis * gain)
     po = ground_fields(model.positions_m, facets, rx, *consts, source_visible=vis, **receiver_side, **options)
     return po, counted, options
 
@@ -318,7 +324,8 @@ def _bracket(model: ArrayModel, grid: SurfaceGrid, rx, visibility, rx_index, z, 
     po, counted, options = _scattered(model, grid, rx, visibility, rx_index, z, far)
     plane = SurfaceGrid(grid.u_m, grid.w_m, plane_nodes, grid.limits).facets(foot=rx_index is None).subset(counted)
     consts = (model.wavelength_m, model.relative_permittivity, model.conductivity_s_m)
-    return po - ground_fields(model.positions_m, plane, rx, *consts, **options)
+    plane_gain = _element_weights(model, plane)
+    return po - ground_fields(model.positions_m, plane, rx, *consts, source_visible=plane_gain, **options)
 
 
 def _with_image(model: ArrayModel, rx, po, far: bool, roughness_m: float):
@@ -344,9 +351,20 @@ def _direct(model: ArrayModel, rx: np.ndarray, far: bool) -> np.ndarray:
     """Direct waves of each antenna at the receivers (S, R), in the units of ``fields`` / ``far_fields``."""
     k = 2.0 * math.pi / model.wavelength_m
     if far:
-        return np.exp(1j * k * model.positions_m @ rx.T)
-    r = np.linalg.norm(rx[None, :, :] - model.positions_m[:, None, :], axis=2)
-    return np.exp(-1j * k * r) / r
+        return np.exp(1j * k * model.positions_m @ rx.T) * model.element_field(rx)
+    d = rx[None, :, :] - model.positions_m[:, None, :]
+    r = np.linalg.norm(d, axis=2)
+    return np.exp(-1j * k * r) / r * model.element_field(d)
+
+
+def _element_weights(model: ArrayModel, facets) -> np.ndarray | None:
+    """The element's field from each antenna toward each facet centre (S, P), the kernel's source-side weights.
+
+    None for point sources (:attr:`ArrayModel.element`), which leaves the kernel's call as it was.
+    """
+    if model.element is None or model.element.is_isotropic:
+        return None
+    return model.element_field(facets.centres_m[None, :, :] - model.positions_m[:, None, :])
 
 
 def _receiver_weights(limits, centres_m, rx_index):

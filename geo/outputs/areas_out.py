@@ -12,6 +12,7 @@ from pathlib import Path
 import numpy as np
 
 from geo.optics.areas import AREAS_CAUTION, AreasResult
+from geo.optics.objects import FIN_SWEEP_DEG, FIN_TAPER, HEADING_SAMPLES, HEADING_SPREAD_DEG
 from geo.outputs.summary import INFINITE_SHARE, share_value
 from geo.outputs.webmap import DERIVED_AREA_COLOURS
 from geo.units import with_foot_twins
@@ -27,14 +28,21 @@ __all__ = [
 ]
 
 MODEL_TEXT = (
-    "Each object is three plates through its middle (side, end, top) scattering by physical optics, "
-    "with the four ground paths over the study's reflecting plane; its field adds to the CSB and SBO "
+    "Each object is three plates through its middle (side, end, top; a fin on a base above the ground "
+    f"as a tapered, swept plate: taper {FIN_TAPER:g}, leading-edge sweep {FIN_SWEEP_DEG:g} deg, generic, from "
+    f"memory) scattering by physical optics, at headings spread over +-{HEADING_SPREAD_DEG:g} deg about along "
+    f"and across ({HEADING_SAMPLES} samples, the middles of equal bins; every figure the 95th percentile over "
+    "them), "
+    "with the four ground paths over the DEM's local surface at each specular point (over flat ground, the "
+    "plane); its field adds to the CSB and SBO "
     "of every antenna. Disturbance: the change of the DDM it causes along the designed straight path "
     "(receivers 20 m apart), measured as flight inspection measures bends: the recorder's filter, then per "
     "segment about a straight line (coverage limit to A, A to B) or the mean (nearer the threshold), 95 % "
-    "amplitude (from memory of ICAO Annex 10 Vol I Attachment C). "
-    "Areas: union of grid cells where that 95 % bend exceeds the share of the structure limit "
-    "in some segment, over the object's headings; positions against the mast count as both."
+    "amplitude (from memory of ICAO Annex 10 Vol I Attachment C), combined with the terrain's own bends; "
+    "in the far segments also the steady shift of the path angle and the sector against the monitor "
+    "limits (disturbance_rule). The antennas carry the element pattern of the study (element). "
+    "Areas: union of grid cells where the judged share exceeds the area's share, over the object's "
+    "headings; positions against the mast count as both."
 )
 
 
@@ -96,8 +104,25 @@ def areas_rows(areas: AreasResult) -> list[dict]:
                 for i, name in enumerate(names):
                     row[f"bend_95_ddm_{_slug(name)}"] = _cell(per_segment[g, i], 6)
                 row["share_of_limit"] = _cell(share[g], 4)
+                row.update(_figure_cells(d.figures.get(heading, {}), g))
                 rows.append(row)
     return rows
+
+
+#: The columns of each position's figures (:func:`geo.optics.disturbance_rule.judged_figures`) and their decimals.
+FIGURE_COLUMNS = (
+    ("bend_share", 4),
+    ("combined_bend_share", 4),
+    ("angle_shift_deg", 6),
+    ("sensitivity_change", 5),
+    ("shift_share", 4),
+    ("judged_share", 4),
+)
+
+
+def _figure_cells(figures: dict, g: int) -> dict:
+    """Every figure of the disturbance rule at position ``g`` (empty cells where not computed)."""
+    return {name: _cell(float(figures[name][g]), digits) if name in figures else "" for name, digits in FIGURE_COLUMNS}
 
 
 def _cell(value: float, decimals: int) -> str:
@@ -202,7 +227,7 @@ def areas_summary(areas: AreasResult) -> dict:
         "site_file_sha256": study.spec.sha256,
         "category": study.spec.category,
         "wavelength_m": study.wavelength_m,
-        "ground": "flat ground" if study.terrain is None else "plane fitted to the DEM",
+        "ground": "flat ground" if study.terrain is None else areas.rule.get("ground", "plane fitted to the DEM"),
         "settings": {
             "critical_share": s.critical_share,
             "sensitive_share": s.sensitive_share,
@@ -213,8 +238,9 @@ def areas_summary(areas: AreasResult) -> dict:
             "away_m": s.away_m,
             "beyond_m": s.beyond_m,
             "receivers_on_path": int(areas.receivers.points_m.shape[0]),
-            "front_to_back_db": s.front_to_back_db,
         },
+        "element": _element_summary(areas.rule.get("element")),
+        "disturbance_rule": _rule_summary(areas),
         "segments": [
             {
                 "name": g.name,
@@ -232,6 +258,29 @@ def areas_summary(areas: AreasResult) -> dict:
         "cautions": [AREAS_CAUTION],
     }
     return with_foot_twins(summary)
+
+
+def _element_summary(element) -> dict:
+    """The antennas' element pattern as the fields took it."""
+    from geo.radio.element import ISOTROPIC
+
+    return (element or ISOTROPIC).summary()
+
+
+def _rule_summary(areas: AreasResult) -> dict:
+    """What a disturbance is per segment (:mod:`geo.optics.disturbance_rule`) and the terrain's own shares."""
+    from geo.optics.disturbance_rule import ANGLE_MONITOR, MONITOR_SOURCE, RULE_TEXT, SENSITIVITY_MONITOR, far_segments
+
+    terrain = areas.rule.get("terrain_share", ())
+    return {
+        "text": RULE_TEXT,
+        "far_segments": [areas.segments[i].name for i in far_segments(areas.segments)],
+        "angle_monitor_theta": list(ANGLE_MONITOR),
+        "sensitivity_monitor": SENSITIVITY_MONITOR,
+        "monitor_source": MONITOR_SOURCE,
+        "terrain_bend_share": {g.name: round(v, 4) for g, v in zip(areas.segments, terrain)},
+        "terrain_source": areas.rule.get("terrain_source", ""),
+    }
 
 
 def _largest_share(disturbance) -> float | str | None:

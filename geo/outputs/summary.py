@@ -380,6 +380,13 @@ def _feed_list(feeds) -> list[dict]:
     return [{"amplitude": abs(f), "phase_deg": math.degrees(cmath.phase(f)) if abs(f) > 0 else 0.0} for f in feeds]
 
 
+def _element_dict(prediction_spec) -> dict:
+    """The antennas' element pattern (``[prediction] element``, :mod:`geo.radio.element`)."""
+    from geo.radio.element import element_for
+
+    return element_for(prediction_spec.element, prediction_spec.element_front_to_back_db).summary()
+
+
 def prediction_dict(result: StudyResult) -> dict:
     """The predicted-path part of the summary (metre keys; twins added by the caller)."""
     p, q = result.prediction, result.prediction_no_shift
@@ -421,6 +428,7 @@ def prediction_dict(result: StudyResult) -> dict:
         ),
         "ddm_at_half_sector": 0.0875,
         "tone_modulation_percent": 40.0,
+        "element": _element_dict(spec),
         "model": "CSB/SBO course signals by image theory over the reflecting plane; clearance signals, "
         "multipath from objects and receiver effects are out of scope.",
     }

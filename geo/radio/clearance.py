@@ -224,6 +224,8 @@ def _with_feeds(course: ArrayModel, csb, sbo, wavelength_m: float, angle_deg: fl
         course.normal,
         course.relative_permittivity,
         course.conductivity_s_m,
+        layer=course.layer,
+        element=course.element,
     )
     turn = np.exp(-1j * np.radians(base.slope_phases_deg(angle_deg)))
     return ArrayModel(
@@ -234,6 +236,8 @@ def _with_feeds(course: ArrayModel, csb, sbo, wavelength_m: float, angle_deg: fl
         base.normal,
         base.relative_permittivity,
         base.conductivity_s_m,
+        layer=base.layer,
+        element=base.element,
     )
 
 

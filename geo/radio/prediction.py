@@ -4,8 +4,11 @@ Image theory: every antenna radiates a direct wave and a wave from its image in 
 plane (flat ground, or the plane fitted to the DEM), weighted by the ground's reflection
 coefficient (-1 for a perfect conductor in horizontal polarisation). Distances from the antenna
 positions (heights, proximity shifts) to each receiver are exact in 3-D, so proximity effects
-near the runway come out of the geometry. Elements are taken as isotropic in the vertical plane;
-clearance signals are out of scope.
+near the runway come out of the geometry. Each wave carries the element's field pattern
+(:mod:`geo.radio.element`) toward the direction it leaves the antenna: the direct wave toward the
+receiver, the reflected wave toward its specular point (the direction from the image to the
+receiver mirrored in the plane); without an element (``element=None``) the antennas are point
+sources. Clearance signals are out of scope.
 
 The difference in depth of modulation follows from the CSB (carrier with 90 and 150 Hz tones,
 40 % each, Annex 10 Vol I 3.1.5.5.1) and the SBO (the tones' sidebands only, in antiphase): with
@@ -33,6 +36,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from geo.radio.element import ElementPattern
 from geo.radio.reflection import layered_reflection_coefficient_h, reflection_coefficient_h
 
 __all__ = ["DDM_AT_HALF_SECTOR", "ArrayModel", "PathPrediction", "predict_path", "ddm", "far_field_ddm"]
@@ -63,6 +67,8 @@ class ArrayModel:
         A layer on the reflecting plane (dry snow): ``(complex permittivity, thickness_m)``; the plane
         is then the layer's top and the ground constants are those under it
         (:func:`geo.radio.reflection.layered_reflection_coefficient_h`).
+    element : ElementPattern or None
+        Every antenna's element, facing the approach (+u); ``None``: point sources.
     """
 
     positions_m: np.ndarray
@@ -73,6 +79,7 @@ class ArrayModel:
     relative_permittivity: float | None = None
     conductivity_s_m: float | None = None
     layer: tuple | None = None
+    element: ElementPattern | None = None
 
     @classmethod
     def build(
@@ -87,6 +94,7 @@ class ArrayModel:
         relative_permittivity=None,
         conductivity_s_m=None,
         phase_for_angle_deg: float | None = None,
+        element: ElementPattern | None = None,
     ) -> ArrayModel:
         """Antennas on a vertical mast at the origin, ``shifts_m`` toward the runway (+w).
 
@@ -109,13 +117,13 @@ class ArrayModel:
             normal,
             relative_permittivity,
             conductivity_s_m,
+            element=element,
         )
         if phase_for_angle_deg is None:
             return model
         turn = np.exp(-1j * np.radians(model.slope_phases_deg(phase_for_angle_deg)))
-        return cls(
-            positions, model.csb * turn, model.sbo * turn, wavelength_m, normal, relative_permittivity, conductivity_s_m
-        )
+        ground = (relative_permittivity, conductivity_s_m)
+        return cls(positions, model.csb * turn, model.sbo * turn, wavelength_m, normal, *ground, element=element)
 
     def slope_phases_deg(self, angle_deg: float) -> np.ndarray:
         """Phase of each antenna-image pair's centre toward a distant receiver, relative to the lowest.
@@ -159,6 +167,17 @@ class ArrayModel:
             self.wavelength_m,
         )
 
+    def element_field(self, direction_m) -> np.ndarray | float:
+        """The element's field toward directions (..., 3) leaving an antenna (1 without an element)."""
+        if self.element is None or self.element.is_isotropic:
+            return 1.0
+        return self.element.toward(direction_m)
+
+    def mirrored(self, direction_m) -> np.ndarray:
+        """Directions (..., 3) mirrored in the plane: from an image to a receiver, from the antenna to the ground."""
+        d = np.asarray(direction_m, dtype=float)
+        return d - 2.0 * (d @ self.normal)[..., None] * self.normal
+
     def fields(self, receivers_m: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         """CSB and SBO fields (complex, common arbitrary scale) at receivers, shape (N, 3) [1]_."""
         k = 2.0 * math.pi / self.wavelength_m
@@ -168,10 +187,11 @@ class ArrayModel:
         for pos, img, c, s in zip(self.positions_m, self.images_m, self.csb, self.sbo):
             d = rx - pos
             r_direct = np.sqrt(np.einsum("ij,ij->i", d, d))
+            g_direct = self.element_field(d)
             d = rx - img
             r_image = np.sqrt(np.einsum("ij,ij->i", d, d))
-            gamma = self._gamma((d @ self.normal) / r_image)
-            e = np.exp(-1j * k * r_direct) / r_direct + gamma * np.exp(-1j * k * r_image) / r_image
+            gamma = self._gamma((d @ self.normal) / r_image) * self.element_field(self.mirrored(d))
+            e = g_direct * np.exp(-1j * k * r_direct) / r_direct + gamma * np.exp(-1j * k * r_image) / r_image
             csb += c * e
             sbo += s * e
         return csb, sbo
@@ -189,8 +209,8 @@ class ArrayModel:
         k = 2.0 * math.pi / self.wavelength_m
         e = np.atleast_1d(np.asarray(elevation_rad, dtype=float))
         direction = np.column_stack([np.cos(e) * math.cos(azimuth_rad), np.cos(e) * math.sin(azimuth_rad), np.sin(e)])
-        gamma = self._gamma(direction @ self.normal)
-        direct = np.exp(1j * k * direction @ self.positions_m.T)
+        gamma = self._gamma(direction @ self.normal) * self.element_field(self.mirrored(direction))
+        direct = np.exp(1j * k * direction @ self.positions_m.T) * np.atleast_1d(self.element_field(direction))[:, None]
         image = gamma[:, None] * np.exp(1j * k * direction @ self.images_m.T)
         total = direct + image
         return total @ self.csb, total @ self.sbo

@@ -284,6 +284,22 @@ SITE_KEYS: dict[str, tuple[Key, ...]] = {
             "lower edge of the below-path band",
         ),
         Key("surface", "true/false", "", "true", "true | false", "with a DEM, also predict the path over the surface"),
+        Key(
+            "element",
+            "text",
+            "",
+            '"generic"',
+            '"generic" | "isotropic"',
+            "the antennas' element pattern, in every field (generic: 62 deg beamwidth, 25 dB front-to-back)",
+        ),
+        Key(
+            "element_front_to_back_db",
+            "number",
+            "dB",
+            "25 (generic, from memory)",
+            '0 to 60; element = "generic" only',
+            "the generic element's front-to-back ratio",
+        ),
     ),  # fmt: skip
     "surfaces": _surface_keys(),
     "object": (
@@ -316,7 +332,6 @@ SITE_KEYS: dict[str, tuple[Key, ...]] = {
         Key("behind", "number", LENGTH, "50 m", "0 to 5,000 m", "behind the mast"),
         Key("away", "number", LENGTH, "100 m", "0 to 5,000 m", "beyond the mast, away from the runway"),
         Key("beyond", "number", LENGTH, "100 m", "0 to 5,000 m", "past the centre line"),
-        Key("front_to_back_db", "number", "dB", "0 (isotropic)", "0 to 60", "the elements' front-to-back ratio"),
     ),  # fmt: skip
     "report": (
         Key("prepared_by", "text", "", '""', "one line", "title block"),

@@ -175,6 +175,10 @@ class PredictionSpec:
     surface : bool
         Predict the path over the DEM surface too (physical optics, :mod:`geo.study.surface`)
         when the site file gives a DEM; ``false`` skips it (a quicker study, e.g. in a batch).
+    element : str
+        The antennas' element pattern, ``"generic"`` or ``"isotropic"`` (:mod:`geo.radio.element`).
+    element_front_to_back_db : float or None
+        The generic element's front-to-back ratio; ``None``: its generic value. [dB]
     """
 
     relative_permittivity: float | None = None
@@ -185,6 +189,8 @@ class PredictionSpec:
     below_path_down_to: float = 0.45
     below_path_down_to_set: bool = False
     surface: bool = True
+    element: str = "generic"
+    element_front_to_back_db: float | None = None
 
 
 #: Headings an object may take: parallel to the runway (holding, parked) or across it (taxiing).
@@ -239,9 +245,6 @@ class AreaSpec:
     beyond_m : float
         Extent past the centre line, on the far side of the runway. [m]
     shares_source : str
-    front_to_back_db : float
-        Front-to-back ratio of the antenna elements toward the objects (0: isotropic, as the
-        predicted path takes them). [dB]
     """
 
     critical_share: float = 0.5
@@ -252,7 +255,6 @@ class AreaSpec:
     away_m: float = 100.0
     beyond_m: float = 100.0
     shares_source: str = "common practice, no source"
-    front_to_back_db: float = 0.0
 
 
 @dataclass(frozen=True)
@@ -765,7 +767,26 @@ def _prediction(table, antennas: int) -> PredictionSpec:
         below_path_down_to=down_to if down_to is not None else 0.45,
         below_path_down_to_set=down_to is not None,
         surface=surface,
+        **_element(table),
     )
+
+
+def _element(table) -> dict:
+    """``[prediction] element`` and ``element_front_to_back_db``: the antennas' element pattern."""
+    from geo.radio.element import ELEMENT_CHOICES
+
+    name = table.get("element", "generic")
+    if name not in ELEMENT_CHOICES:
+        choices = " or ".join(f'"{c}"' for c in ELEMENT_CHOICES)
+        raise SiteFileError("prediction.element", f"must be {choices} (got {_show(name)})")
+    ratio = _number(
+        table, "prediction", "element_front_to_back_db", 1.0, required=False, at_least=0.0, at_most=60.0, unit="dB"
+    )
+    if ratio is not None and name != "generic":
+        raise SiteFileError(
+            "prediction.element_front_to_back_db", 'applies to element = "generic" only; remove it or the element'
+        )
+    return {"element": name, "element_front_to_back_db": ratio}
 
 
 def _protected_areas(items, scale: float, units: str) -> tuple[ProtectedArea, ...]:
@@ -1126,6 +1147,7 @@ def _areas(table, scale: float, units: str) -> AreaSpec:
         return AreaSpec()
     if not isinstance(table, dict):
         raise SiteFileError("areas", f"must be a table [areas] (got {_show(table)})")
+    _retired_areas_keys(table)
     _only(table, "areas", keys_of("areas"))
     d = AreaSpec()
     share = {"required": False, "unit": "(fraction of the limit)", "above": 0.0, "at_most": 1.0}
@@ -1148,6 +1170,15 @@ def _areas(table, scale: float, units: str) -> AreaSpec:
         d.grid_m if grid is None else grid,
         *(getattr(d, f"{k}_m") if v is None else v for k, v in values.items()),
         shares_source=source,
-        front_to_back_db=_number(table, "areas", "front_to_back_db", 1.0, required=False, unit="dB", at_least=0.0,
-                                 at_most=60.0) or 0.0,
     )  # fmt: skip
+
+
+def _retired_areas_keys(table) -> None:
+    """``[areas] front_to_back_db`` moved to the element pattern of every field: a one-line error naming the new key."""
+    if "front_to_back_db" in table:
+        raise SiteFileError(
+            "areas.front_to_back_db",
+            "is no longer read: the element pattern now applies to every field (path, surface, areas); remove it "
+            'and set [prediction] element = "generic" (front-to-back ratio 25 dB) or "isotropic", or give the '
+            "ratio as [prediction] element_front_to_back_db",
+        )

@@ -6,6 +6,7 @@ The image prediction, the check below the path and the surface prediction all ta
 
 from __future__ import annotations
 
+from geo.radio.element import element_for
 from geo.radio.prediction import ArrayModel
 from geo.site.site_file import SiteSpec
 
@@ -16,7 +17,8 @@ def array_model(spec: SiteSpec, heights, shifts, feeds, lam: float, gu: float, g
     """The study's array over its plane: antennas, feeds, ground constants, slope phasing.
 
     The one place the study's :class:`geo.radio.prediction.ArrayModel` is built; the image prediction, the
-    check below the path and the surface prediction all use it.
+    check below the path and the surface prediction all use it, with the element pattern of
+    ``[prediction] element`` (:func:`geo.radio.element.element_for`).
     """
     p = spec.prediction
     return ArrayModel.build(
@@ -30,4 +32,5 @@ def array_model(spec: SiteSpec, heights, shifts, feeds, lam: float, gu: float, g
         relative_permittivity=p.relative_permittivity,
         conductivity_s_m=p.conductivity_s_m,
         phase_for_angle_deg=spec.angle_deg,
+        element=element_for(p.element, p.element_front_to_back_db),
     )

@@ -251,7 +251,7 @@ def buildings_for_study(result, buildings=None, refine: float = 1.0) -> Building
     surface = sp is not None and sp.approach_along_m is not None
     base = np.asarray(sp.approach_ddm, float) if surface else image
     shapes = building_shapes(result, buildings)
-    d_csb, d_sbo = building_fields(model, shapes, points, refine, spec.areas.front_to_back_db)
+    d_csb, d_sbo = building_fields(model, shapes, points, refine)
     each = ddm(c + d_csb, s + d_sbo, scale) - image
     together = ddm(c + d_csb.sum(axis=0), s + d_sbo.sum(axis=0), scale) - image
     added = structure_arrays(segments, -along, each)

@@ -45,7 +45,8 @@ def test_receivers_lie_on_the_designed_path_with_its_limits(flat):
 
 def test_a_symmetric_site_gives_a_symmetric_disturbance():
     # Mirror symmetry (independent construction): antennas on an unshifted mast over flat ground,
-    # receivers in the vertical plane through the mast; an object at +w and at -w scatters alike.
+    # receivers in the vertical plane through the mast; an object at +w and at -w scatters alike, the
+    # swept fin standing across the runway turned round (its mirror image faces the other way).
     lam = 0.9
     model = ArrayModel.build([4.3, 8.6], [0.0, 0.0], [1.0, 0.0], [-1.0, 1.0], lam)
     u = np.geomspace(300.0, 15000.0, 40)
@@ -53,7 +54,9 @@ def test_a_symmetric_site_gives_a_symmetric_disturbance():
     obj = GENERIC_OBJECTS[0]
     for heading in ("along", "across"):
         plus = object_fields(model, obj, heading, np.array([150.0, 60.0]), np.array([45.0, 110.0]), rx)
-        minus = object_fields(model, obj, heading, np.array([150.0, 60.0]), np.array([-45.0, -110.0]), rx)
+        turn = [180.0] if heading == "across" else [0.0]
+        minus = object_fields(model, obj, heading, np.array([150.0, 60.0]), np.array([-45.0, -110.0]), rx, 1.0, turn)
+        minus = (minus[0][0], minus[1][0])
         for p, m in zip(plus, minus):
             assert np.abs(p - m).max() <= 1e-9 * np.abs(p).max()
 
@@ -183,14 +186,19 @@ def test_front_to_back_ratio_scales_objects_behind_the_mast(flat):
     # the illumination of the object passes through the pattern (the path is in front), so an
     # object far behind the mast scatters a tenth (within the pattern's spread over the object).
     from geo.optics.areas import element_pattern
+    from geo.radio.element import ElementPattern
 
-    assert element_pattern(np.array([[1.0, 0.0, 0.0], [-1.0, 0.0, 0.0], [0.0, 1.0, 2.0]]), 20.0) == pytest.approx(
-        [1.0, 0.1, 0.55]
-    )
     result, segments, model, rc = flat
+    element = ElementPattern("test", 5.0, 20.0, 1.0, "test")
+    patterned = dataclasses.replace(model, element=element)
+    iso = dataclasses.replace(model, element=None)
+    # straight ahead 1, straight behind 10^(-20/20), straight up 0 (the cos e factor)
+    assert element_pattern(patterned, np.array([[1.0, 0.0, 0.0], [-1.0, 0.0, 0.0], [0.0, 0.0, 2.0]])) == pytest.approx(
+        [1.0, 0.1, 0.0]
+    )
     u, w = np.array([-600.0, -900.0]), np.array([0.0, 20.0])
     for heading in ("along", "across"):
-        iso = object_fields(model, GENERIC_OBJECTS[0], heading, u, w, rc.points_m)
-        fb = object_fields(model, GENERIC_OBJECTS[0], heading, u, w, rc.points_m, front_to_back_db=20.0)
-        for a, b in zip(iso, fb):
+        a_iso = object_fields(iso, GENERIC_OBJECTS[0], heading, u, w, rc.points_m)
+        a_fb = object_fields(patterned, GENERIC_OBJECTS[0], heading, u, w, rc.points_m)
+        for a, b in zip(a_iso, a_fb):
             assert np.abs(b - 0.1 * a).max() <= 0.01 * np.abs(a).max()

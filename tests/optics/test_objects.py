@@ -6,18 +6,19 @@ import numpy as np
 import pytest
 
 from geo.optics.kernel import scattered_field
-from geo.optics.objects import GENERIC_OBJECTS, facet_side_m, object_facets
+from geo.optics.objects import FIN_TAPER, GENERIC_OBJECTS, facet_side_m, heading_offsets_deg, object_facets
 from geo.site.site_file import ObjectSpec
 
 LAM = 0.9  # a glide path wavelength, 333 MHz [m]
-#: A thin plate 12 m long, standing from 8 m to 19 m (a large tail fin; width 0: its side plate only).
-FIN = ObjectSpec("fin", 19.0, 12.0, 0.0, 8.0)
+#: A thin rectangular plate 12 m long and 11 m tall standing on the ground (width 0: its side plate only;
+#: on a base above the ground it would be a tapered fin).
+FIN = ObjectSpec("plate", 11.0, 12.0, 0.0, 0.0)
 
 
-def monostatic_rcs_m2(facets, groups, direction, distance_m=1e6):
+def monostatic_rcs_m2(facets, groups, direction, distance_m=1e6, centre_z_m=5.5):
     """RCS ``4 pi r^2 |E_s|^2 / |E_i|^2`` seen from far along ``direction`` from the plate's centre."""
     d = np.asarray(direction, float) / np.linalg.norm(direction)
-    centre = np.array([0.0, 0.0, 13.5])
+    centre = np.array([0.0, 0.0, centre_z_m])
     point = centre + d * distance_m
     e_s = scattered_field(point, facets, point[None, :], LAM, groups=groups)[0, 0]
     return 4.0 * math.pi * distance_m**2 * abs(e_s) ** 2 * distance_m**2
@@ -87,3 +88,36 @@ def test_plates_have_the_object_sizes():
     assert set(groups) == {0}
     side = facets.normals[np.argmax(facets.areas_m2)]
     assert abs(side[0]) == pytest.approx(1.0)  # across the runway: the side plate faces along u
+
+
+@pytest.mark.parametrize("range_m", [1e6, 40.0])
+def test_a_tapered_swept_fin_has_the_peak_of_its_area(range_m):
+    # Knott et al., ch. 5: a flat plate of any outline has sigma = 4 pi A^2 / lambda^2 at normal
+    # incidence; the fin's trapezoid (root chord 12 m, tip 0.4 of it, 11 m tall) holds 11 x 12 x 1.4 / 2.
+    fin = ObjectSpec("fin", 19.0, 12.0, 0.0, 8.0)
+    facets, groups = object_facets(fin, "along", np.zeros((1, 3)), np.array([range_m]), LAM)
+    area = 11.0 * 12.0 * (1.0 + FIN_TAPER) / 2.0
+    assert facets.areas_m2.sum() == pytest.approx(area)
+    expected = 4.0 * math.pi * area**2 / LAM**2
+    got = monostatic_rcs_m2(facets, groups, [0.0, 1.0, 0.0], centre_z_m=13.5)
+    assert 10 * math.log10(got / expected) == pytest.approx(0.0, abs=0.05)
+
+
+def test_the_spread_headings_remove_the_exact_alignment_glint():
+    # Knott et al., ch. 5: a 12 m plate turned by d from normal incidence returns sigma0 sinc^2(k a
+    # sin d) cos^2 d, its main lobe ending at sin d = lambda / (2 a) (2.15 deg). The headings sampled
+    # over +-12 deg (the middles of four bins: +-3, +-9 deg) miss the lobe's peak: their 95th
+    # percentile is the closed form's first-sidelobe level at 3 deg, 13 dB below the glint.
+    assert heading_offsets_deg(12.0, 4) == pytest.approx([-9.0, -3.0, 3.0, 9.0])
+    k, a = 2.0 * math.pi / LAM, 12.0
+    sigma0 = 4.0 * math.pi * (a * 11.0) ** 2 / LAM**2
+    got = []
+    for offset in heading_offsets_deg(12.0, 4):
+        facets, groups = object_facets(FIN, "along", np.zeros((1, 3)), np.array([1e6]), LAM, offset_deg=offset)
+        got.append(monostatic_rcs_m2(facets, groups, [0.0, 1.0, 0.0]))
+    judged = float(np.percentile(got, 95.0))
+    d = math.radians(3.0)
+    x = k * a * math.sin(d)
+    closed = sigma0 * (math.sin(x) / x) ** 2 * math.cos(d) ** 2
+    assert 10 * math.log10(judged / closed) == pytest.approx(0.0, abs=0.5)
+    assert 10 * math.log10(judged / sigma0) < -13.0
