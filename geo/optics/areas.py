@@ -40,11 +40,11 @@ from __future__ import annotations
 
 import math
 import os
-from concurrent.futures import ThreadPoolExecutor
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 
+from geo.optics.area_grid import SIDES, grow_grids, initial_lattice
 from geo.optics.kernel import Facets
 from geo.optics.objects import GENERIC_OBJECTS, object_facets, object_half_diagonal_m
 from geo.optics.scatter_paths import four_path_field
@@ -69,6 +69,14 @@ __all__ = [
     "disturbance",
     "cell_union",
     "derive_areas",
+    "COARSE_OBJECT_SHARE",
+    "COARSE_ZONE_SHARE",
+    "coarse_grid_warnings",
+    "position_shares",
+    "area_objects",
+    "union_areas",
+    "UNION_NAME",
+    "SIDE_WORDS",
 ]
 
 AREAS_CAUTION = (
@@ -79,6 +87,21 @@ AREAS_CAUTION = (
 _PAIRS_PER_CHUNK = 30_000
 #: Clearance around the mast inside which an object counts as standing against it. [m]
 _MAST_CLEARANCE_M = 2.0
+#: A grid spacing above this share of an object's length is too coarse for it (our choice: the
+#: specular lobe of a plate of length L moves over about L on the ground; no source).
+COARSE_OBJECT_SHARE = 2.0
+#: A grid spacing above this share of the path zone's width is too coarse for it (our choice: at
+#: least four positions across the zone; no source).
+COARSE_ZONE_SHARE = 0.25
+#: Name of the union of the objects' areas in outputs.
+UNION_NAME = "all objects"
+#: Words of the grid's sides (geo.optics.area_grid.SIDES).
+SIDE_WORDS = {
+    "ahead": "ahead",
+    "behind": "behind",
+    "toward_runway": "toward the runway",
+    "away": "away from the runway",
+}
 
 
 @dataclass(frozen=True)
@@ -126,6 +149,10 @@ class ObjectDisturbance:
     share : dict of str to numpy.ndarray, shape (G,)
         Per heading, the largest over the segments of the 95th percentile of ``|bend| / limit``
         (inf at the mast).
+    extent_m : dict of str to float
+        Reach of the object's grid from the mast per side (:data:`geo.optics.area_grid.SIDES`). [m]
+    growth_rounds : int
+        Blocks the grid grew by after the first rectangle.
     """
 
     obj: ObjectSpec
@@ -134,6 +161,8 @@ class ObjectDisturbance:
     at_mast: np.ndarray
     segment_ddm: dict
     share: dict
+    extent_m: dict = field(default_factory=dict)
+    growth_rounds: int = 0
 
     @property
     def worst_share(self) -> np.ndarray:
@@ -153,19 +182,32 @@ class DerivedArea:
         In the mast frame (u toward the approach, w toward the runway). [m]
     share : float
         The share of the structure limit that defines it.
-    reaches_grid_edge : bool
-        The area touches the edge of the grid: it may go on beyond it (widen the grid).
+    open_sides : tuple of str
+        Sides (:data:`geo.optics.area_grid.SIDES`) where the area still has cells on the edge of the
+        grid grown to ``[areas] max_extent``: it may go on beyond (empty: closed).
     """
 
     object_name: str
     kind: str
     polygon: object
     share: float
-    reaches_grid_edge: bool = False
+    open_sides: tuple = ()
+
+    @property
+    def reaches_grid_edge(self) -> bool:
+        """The area has cells on the edge of the grid at its largest extent: it is not closed."""
+        return bool(self.open_sides)
 
     @property
     def area_m2(self) -> float:
         return float(self.polygon.area)
+
+    @property
+    def outline(self):
+        """The planner's outline: the rectangle in the mast frame, sides along and across the runway, holding it."""
+        import shapely
+
+        return shapely.Polygon() if self.polygon.is_empty else shapely.box(*self.polygon.bounds)
 
     def reach_m(self) -> dict:
         """Reach from the mast: ahead, behind, toward the runway and away from it (0 when not reached). [m]"""
@@ -195,6 +237,10 @@ class AreasResult:
         Critical then sensitive, per object.
     objects_source : str
         ``"site file"`` or ``"generic, no source"``.
+    warnings : tuple of str
+        Areas left open at the largest extent, grids too coarse for an object or the zone.
+    unions : tuple of DerivedArea
+        Per kind, the union of every object's area (``object_name`` :data:`UNION_NAME`).
     """
 
     study: object
@@ -204,6 +250,8 @@ class AreasResult:
     disturbances: list[ObjectDisturbance]
     areas: list[DerivedArea]
     objects_source: str
+    warnings: tuple = ()
+    unions: tuple = ()
 
 
 def array_model(result) -> ArrayModel:
@@ -251,12 +299,11 @@ def path_receivers(result, model: ArrayModel, segments: list[Segment], count: in
 
 
 def position_grid(result, settings: AreaSpec) -> tuple[np.ndarray, np.ndarray]:
-    """Object positions (u, w) around the mast: behind to ahead, beyond the mast to past the centre line. [m]"""
-    step = settings.grid_m
-    u = np.arange(-settings.behind_m, settings.ahead_m + step / 2, step)
-    w = np.arange(-settings.away_m, result.mast.offset_m + settings.beyond_m + step / 2, step)
-    uu, ww = np.meshgrid(u, w, indexing="ij")
-    return uu.ravel(), ww.ravel()
+    """The first object positions (u, w) around the mast: behind to ahead, beyond the mast to past the centre line.
+
+    Whole steps of the lattice anchored at the mast (:func:`geo.optics.area_grid.initial_lattice`). [m]
+    """
+    return initial_lattice(settings, result.mast.offset_m).positions()
 
 
 def _feet(model: ArrayModel, u: np.ndarray, w: np.ndarray) -> np.ndarray:
@@ -417,18 +464,68 @@ def cell_union(u, w, mask, step_m: float):
     return shapely.union_all(cells).simplify(0.0)
 
 
-def derive_areas(result, progress=None, receivers_count: int | None = None, workers: int | None = None) -> AreasResult:
-    """Disturbance maps and derived areas for every object of a study's site.
+def position_shares(model, receivers, segments, obj: ObjectSpec, heading: str, u, w, settings: AreaSpec):
+    """The disturbance at positions (u, w): 95 % bend per segment (NaN at the mast) and share (inf at the mast).
+
+    The one call of :func:`disturbance` for the grid, the taxiways and the holding positions.
+    """
+    u, w = np.asarray(u, float), np.asarray(w, float)
+    per_segment = np.full((u.size, len(segments)), np.nan)
+    share = np.full(u.size, np.inf)
+    free = ~_at_mast(obj, heading, model, u, w)
+    if free.any():
+        per_segment[free], share[free] = disturbance(
+            model, receivers, segments, obj, heading, u[free], w[free], 1.0, settings.front_to_back_db
+        )
+    return per_segment, share
+
+
+def coarse_grid_warnings(result, settings: AreaSpec, objects) -> list[str]:
+    """Warnings where the grid spacing exceeds a share of an object's length or of the path zone's width."""
+    from geo.units import format_length
+
+    unit, step = result.spec.units, settings.grid_m
+    out = []
+    for obj in objects:
+        if step > COARSE_OBJECT_SHARE * obj.length_m:
+            out.append(
+                f"{obj.name}: the grid spacing {format_length(step, unit, 1)} is more than {COARSE_OBJECT_SHARE:g} "
+                f"times the object's length {format_length(obj.length_m, unit, 1)}: its areas may be missed or "
+                f"misshapen; set [areas] grid to at most {format_length(COARSE_OBJECT_SHARE * obj.length_m, unit, 1)}"
+            )
+    widths = [z.shape.polygon.bounds[3] - z.shape.polygon.bounds[1] for z in result.zones if z.kind == "path"]
+    if widths and step > COARSE_ZONE_SHARE * min(widths):
+        width = min(widths)
+        out.append(
+            f"the grid spacing {format_length(step, unit, 1)} is more than {COARSE_ZONE_SHARE:g} of the path zone's "
+            f"width {format_length(width, unit, 1)}: set [areas] grid to at most "
+            f"{format_length(COARSE_ZONE_SHARE * width, unit, 1)}"
+        )
+    return out
+
+
+def area_objects(spec) -> tuple[ObjectSpec, ...]:
+    """The objects whose areas are derived: the site file's, or the generic classes."""
+    return tuple(spec.objects) or GENERIC_OBJECTS
+
+
+def derive_areas(
+    result, progress=None, receivers_count: int | None = None, workers: int | None = None, plan=None
+) -> AreasResult:
+    """Disturbance maps and derived areas for every object of a study's site, on grids grown until closed.
 
     Parameters
     ----------
     result : StudyResult
     progress : callable, optional
-        ``progress(done, total)`` after each chunk of positions.
+        ``progress(done, total)`` in position-headings, after each chunk (the total grows with the grid).
     receivers_count : int, optional
         Receivers on the designed path (default: at most 20 m apart, :func:`path_receivers`).
     workers : int, optional
         Threads (default: the processor count, at most 4).
+    plan : callable, optional
+        ``plan(positions, seconds)`` once, after a small timed first block: the position-headings of
+        the first grid and an estimate of their time (:func:`geo.optics.area_grid.grow_grids`). [s]
 
     Returns
     -------
@@ -436,58 +533,84 @@ def derive_areas(result, progress=None, receivers_count: int | None = None, work
     """
     spec = result.spec
     settings = spec.areas
-    objects = spec.objects or GENERIC_OBJECTS
+    objects = area_objects(spec)
     segments = structure_segments(spec.category, result.rdh_m, spec.angle_deg)
     model = array_model(result)
     receivers = path_receivers(result, model, segments, receivers_count)
-    u, w = position_grid(result, settings)
-    jobs = []
-    chunk = max(_PAIRS_PER_CHUNK // receivers.before_threshold_m.size, 1)
-    for k, obj in enumerate(objects):
-        for heading in obj.headings:
-            free = np.flatnonzero(~_at_mast(obj, heading, model, u, w))
-            for start in range(0, free.size, chunk):
-                jobs.append((k, heading, free[start : start + chunk]))
-    segment_ddm = {(k, h): np.full((u.size, len(segments)), np.nan) for k, o in enumerate(objects) for h in o.headings}
-    share = {(k, h): np.full(u.size, np.inf) for k, o in enumerate(objects) for h in o.headings}
 
-    def run(job):
-        k, heading, index = job
-        return job, disturbance(
-            model, receivers, segments, objects[k], heading, u[index], w[index], 1.0, settings.front_to_back_db
-        )
+    def evaluate(k, heading, u, w):
+        return position_shares(model, receivers, segments, objects[k], heading, u, w, settings)
 
-    done = 0
-    threads = workers or min(os.cpu_count() or 1, 4)
-    pool = ThreadPoolExecutor(max_workers=threads)
-    try:
-        for (k, heading, index), (per_segment, worst) in pool.map(run, jobs):
-            segment_ddm[k, heading][index] = per_segment
-            share[k, heading][index] = worst
-            done += 1
-            if progress is not None:
-                progress(done, len(jobs))
-    finally:  # an interrupted run stops after the chunks in hand, not after every chunk
-        pool.shutdown(wait=True, cancel_futures=True)
+    grids = grow_grids(
+        initial_lattice(settings, result.mast.offset_m),
+        [o.headings for o in objects],
+        len(segments),
+        evaluate,
+        settings.sensitive_share,
+        settings.max_extent_m,
+        max(_PAIRS_PER_CHUNK // receivers.before_threshold_m.size, 1),
+        workers or min(os.cpu_count() or 1, 4),
+        progress,
+        plan,
+    )
     disturbances, areas = [], []
-    for k, obj in enumerate(objects):
-        at_mast = np.zeros(u.size, dtype=bool)
-        for h in obj.headings:
-            at_mast |= _at_mast(obj, h, model, u, w)
-        d = ObjectDisturbance(
-            obj,
-            u,
-            w,
-            at_mast,
-            {h: segment_ddm[k, h] for h in obj.headings},
-            {h: share[k, h] for h in obj.headings},
-        )
+    warnings = coarse_grid_warnings(result, settings, objects)
+    for obj, g in zip(objects, grids):
+        d = _object_disturbance(obj, g, model)
         disturbances.append(d)
-        worst = d.worst_share
-        edge = (u == u.min()) | (u == u.max()) | (w == w.min()) | (w == w.max())
+        edges = g.lattice.edge(d.ahead_m, d.toward_runway_m)
         for kind, limit in (("critical", settings.critical_share), ("sensitive", settings.sensitive_share)):
-            inside = worst > limit
-            polygon = cell_union(u, w, inside, settings.grid_m)
-            areas.append(DerivedArea(obj.name, kind, polygon, limit, bool((inside & edge).any())))
+            inside = d.worst_share > limit
+            open_sides = tuple(s for s in SIDES if (inside & edges[s]).any())
+            areas.append(DerivedArea(obj.name, kind, cell_union(d.ahead_m, d.toward_runway_m, inside, settings.grid_m),
+                                     limit, open_sides))  # fmt: skip
+            if open_sides:
+                warnings.append(_open_warning(obj.name, kind, open_sides, spec.units, settings.max_extent_m))
     source = "site file" if spec.objects else GENERIC_OBJECTS[0].source
-    return AreasResult(result, settings, segments, receivers, disturbances, areas, source)
+    return AreasResult(
+        result, settings, segments, receivers, disturbances, areas, source, tuple(warnings), union_areas(areas)
+    )
+
+
+def union_areas(areas) -> tuple[DerivedArea, ...]:
+    """Per kind, the union of the objects' areas: the design objects' area a planner paints."""
+    import shapely
+
+    out = []
+    for kind in ("critical", "sensitive"):
+        mine = [a for a in areas if a.kind == kind]
+        if not mine:
+            continue
+        polygon = shapely.union_all([a.polygon for a in mine]).simplify(0.0)
+        sides = tuple(s for s in SIDES if any(s in a.open_sides for a in mine))
+        out.append(DerivedArea(UNION_NAME, kind, polygon, mine[0].share, sides))
+    return tuple(out)
+
+
+def _object_disturbance(obj: ObjectSpec, grid, model: ArrayModel) -> ObjectDisturbance:
+    """One object's grid in the order ahead, then toward the runway, with its positions against the mast."""
+    order = np.lexsort((grid.w, grid.u))
+    u, w = grid.u[order], grid.w[order]
+    at_mast = np.zeros(u.size, dtype=bool)
+    for h in obj.headings:
+        at_mast |= _at_mast(obj, h, model, u, w)
+    return ObjectDisturbance(
+        obj,
+        u,
+        w,
+        at_mast,
+        {h: grid.segment_ddm[h][order] for h in obj.headings},
+        {h: grid.share[h][order] for h in obj.headings},
+        grid.lattice.extent_m(),
+        grid.rounds,
+    )
+
+
+def _open_warning(name: str, kind: str, sides, unit: str, max_extent_m: float) -> str:
+    from geo.units import format_length
+
+    where = ", ".join(SIDE_WORDS[s] for s in sides)
+    return (
+        f"{name}: the {kind} area stays open {where} at the largest extent of the grid, "
+        f"{format_length(max_extent_m, unit, 0)} from the mast: it may go on beyond; raise [areas] max_extent"
+    )

@@ -316,6 +316,14 @@ SITE_KEYS: dict[str, tuple[Key, ...]] = {
         Key("away", "number", LENGTH, "100 m", "0 to 5,000 m", "beyond the mast, away from the runway"),
         Key("beyond", "number", LENGTH, "100 m", "0 to 5,000 m", "past the centre line"),
         Key("front_to_back_db", "number", "dB", "0 (isotropic)", "0 to 60", "the elements' front-to-back ratio"),
+        Key(
+            "max_extent",
+            "number",
+            LENGTH,
+            "1,500 m",
+            "50 to 10,000 m",
+            "the grid grows until every area closes, on no side farther than this from the mast",
+        ),
     ),  # fmt: skip
     "report": (
         Key("prepared_by", "text", "", '""', "one line", "title block"),

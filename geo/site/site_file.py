@@ -241,6 +241,8 @@ class AreaSpec:
     front_to_back_db : float
         Front-to-back ratio of the antenna elements toward the objects (0: isotropic, as the
         predicted path takes them). [dB]
+    max_extent_m : float
+        The grid grows until every area closes, on no side farther than this from the mast. [m]
     """
 
     critical_share: float = 0.5
@@ -252,6 +254,7 @@ class AreaSpec:
     beyond_m: float = 100.0
     shares_source: str = "common practice, no source"
     front_to_back_db: float = 0.0
+    max_extent_m: float = 1500.0
 
 
 @dataclass(frozen=True)
@@ -1129,4 +1132,11 @@ def _areas(table, scale: float, units: str) -> AreaSpec:
         shares_source=source,
         front_to_back_db=_number(table, "areas", "front_to_back_db", 1.0, required=False, unit="dB", at_least=0.0,
                                  at_most=60.0) or 0.0,
+        max_extent_m=_max_extent(table, scale, units, d),
     )  # fmt: skip
+
+
+def _max_extent(table, scale: float, units: str, d: AreaSpec) -> float:
+    """``[areas] max_extent``: how far from the mast the grid may grow (50 to 10,000 m)."""
+    value = _number(table, "areas", "max_extent", scale, required=False, unit=units, at_least=50.0, at_most=10000.0)
+    return d.max_extent_m if value is None else value
