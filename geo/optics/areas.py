@@ -93,6 +93,8 @@ COARSE_OBJECT_SHARE = 2.0
 #: A grid spacing above this share of the path zone's width is too coarse for it (our choice: at
 #: least four positions across the zone; no source).
 COARSE_ZONE_SHARE = 0.25
+#: Largest spacing of the points along a taxiway (the grid's when finer). [m]
+SAMPLE_STEP_M = 10.0
 #: Name of the union of the objects' areas in outputs.
 UNION_NAME = "all objects"
 #: Words of the grid's sides (geo.optics.area_grid.SIDES).
@@ -241,6 +243,10 @@ class AreasResult:
         Areas left open at the largest extent, grids too coarse for an object or the zone.
     unions : tuple of DerivedArea
         Per kind, the union of every object's area (``object_name`` :data:`UNION_NAME`).
+    taxiways : tuple of geo.optics.taxiways.TaxiwayResult
+    holding_checks : tuple of geo.optics.taxiways.HoldingCheck
+    findings : tuple of (code, severity, message)
+        The taxiways' holding positions and the holding positions checked.
     """
 
     study: object
@@ -252,6 +258,9 @@ class AreasResult:
     objects_source: str
     warnings: tuple = ()
     unions: tuple = ()
+    taxiways: tuple = ()
+    holding_checks: tuple = ()
+    findings: tuple = ()
 
 
 def array_model(result) -> ArrayModel:
@@ -505,8 +514,44 @@ def coarse_grid_warnings(result, settings: AreaSpec, objects) -> list[str]:
 
 
 def area_objects(spec) -> tuple[ObjectSpec, ...]:
-    """The objects whose areas are derived: the site file's, or the generic classes."""
-    return tuple(spec.objects) or GENERIC_OBJECTS
+    """The objects whose areas are derived: the site file's (or the generic classes), then taxiway users.
+
+    The design aircraft of the taxiways and holding positions whose code no object has.
+    """
+    from geo.optics.taxiways import object_for_code
+
+    objects = tuple(spec.objects) or GENERIC_OBJECTS
+    taxiway_codes = {t.name: t.code for t in spec.taxiways}
+    codes = [t.code for t in spec.taxiways] + [h.code or taxiway_codes[h.taxiway] for h in spec.holding_positions]
+    have = {o.code for o in objects}
+    for code in dict.fromkeys(codes):
+        if code not in have:
+            objects += (object_for_code(code),)
+    return objects
+
+
+def _taxiways(result, objects, areas, position, settings):
+    """The taxiways followed and the holding positions checked, with their findings (:mod:`geo.optics.taxiways`)."""
+    from geo.optics.taxiways import check_holding, follow_taxiway, taxiway_findings
+
+    spec = result.spec
+    index = {o.code: k for k, o in reversed(list(enumerate(objects))) if o.code is not None}
+    critical = {a.object_name: a.polygon for a in areas if a.kind == "critical"}
+
+    def shares(code):
+        return lambda heading, u, w: position(index[code], heading, u, w)[1]
+
+    step = min(SAMPLE_STEP_M, settings.grid_m)
+    taxiways = tuple(
+        follow_taxiway(result, t, shares(t.code), critical[objects[index[t.code]].name], settings.critical_share, step)
+        for t in spec.taxiways
+    )
+    by_name = {t.name: t for t in spec.taxiways}
+    holds = []
+    for h in spec.holding_positions:
+        code = h.code or by_name[h.taxiway].code
+        holds.append(check_holding(result, h, code, by_name.get(h.taxiway), shares(code), settings.critical_share))
+    return taxiways, tuple(holds), tuple(taxiway_findings(taxiways, holds, spec.units))
 
 
 def derive_areas(
@@ -567,9 +612,9 @@ def derive_areas(
             if open_sides:
                 warnings.append(_open_warning(obj.name, kind, open_sides, spec.units, settings.max_extent_m))
     source = "site file" if spec.objects else GENERIC_OBJECTS[0].source
-    return AreasResult(
-        result, settings, segments, receivers, disturbances, areas, source, tuple(warnings), union_areas(areas)
-    )
+    taxiways, holds, findings = _taxiways(result, objects, areas, evaluate, settings)
+    return AreasResult(result, settings, segments, receivers, disturbances, areas, source, tuple(warnings),
+                       union_areas(areas), taxiways, holds, findings)  # fmt: skip
 
 
 def union_areas(areas) -> tuple[DerivedArea, ...]:

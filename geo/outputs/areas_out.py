@@ -139,6 +139,7 @@ def screen_lines(areas: AreasResult) -> list[str]:
             f"{a.object_name}, {a.kind} (> {a.share:g} of the limit): {format_area(a.area_m2, unit)}; "
             f"outline {sides}" + ("" if a.open_sides else " (closed)")
         )
+    lines += [f"{severity.capitalize()}: {message}" for _, severity, message in areas.findings]
     lines += [f"Warning: {w}" for w in areas.warnings]
     return lines
 
@@ -308,6 +309,10 @@ def areas_summary(areas: AreasResult) -> dict:
         "warnings": list(areas.warnings),
         "cautions": [AREAS_CAUTION],
     }
+    if areas.taxiways or areas.holding_checks:
+        from geo.outputs.taxiways_out import taxiways_summary
+
+        return {**with_foot_twins(summary), **taxiways_summary(areas)}
     return with_foot_twins(summary)
 
 
@@ -336,6 +341,7 @@ def write_areas(areas: AreasResult, out_dir, overwrite: bool = False, plots: boo
     from geo.outputs.geojson import study_layers
     from geo.outputs.gpkg import write_gpkg
     from geo.outputs.kml import write_kml
+    from geo.outputs.taxiways_out import plot_taxiway, taxiway_file_stem, taxiway_layers, taxiway_rows
     from geo.outputs.webmap import write_map
     from geo.outputs.write import atomic_folder, write_json
 
@@ -347,11 +353,23 @@ def write_areas(areas: AreasResult, out_dir, overwrite: bool = False, plots: boo
             **study_layers(areas.study),
             "derived_areas": derived_areas_layer(areas),
             "derived_outlines": outlines_layer(areas),
+            **(taxiway_layers(areas) if areas.taxiways or areas.holding_checks else {}),
         }
         write_json(folder / "summary.json", areas_summary(areas))
         (folder / "layers").mkdir()
-        for name in ("derived_areas", "derived_outlines"):
-            write_json(folder / "layers" / f"{name}.geojson", layers[name], compact=True)
+        for name in (
+            "derived_areas",
+            "derived_outlines",
+            "taxiways",
+            "taxiway_critical_stretches",
+            "holding_positions",
+        ):
+            if name in layers:
+                write_json(folder / "layers" / f"{name}.geojson", layers[name], compact=True)
+        for k, t in enumerate(areas.taxiways):
+            write_rows_csv(taxiway_rows(t), folder / f"{taxiway_file_stem(k + 1, t.name)}.csv", spec.units)
+            if plots:
+                plot_taxiway(areas, k, folder / f"{taxiway_file_stem(k + 1, t.name)}.png")
         write_areas_csv(areas, folder / "areas.csv")
         write_rows_csv(outline_rows(areas), folder / "outlines.csv", spec.units)
         write_gpkg(layers, folder / "areas.gpkg")

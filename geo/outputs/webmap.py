@@ -398,11 +398,47 @@ def derived_layers(fc: dict) -> list[tuple[str, str, str, list]]:
     return out
 
 
+#: The taxiways' layers of ``mastplan areas``: (layer key, name, colour, legend shape).
+TAXIWAY_LAYERS = (
+    ("taxiways", "Taxiways", "#495057", "line"),
+    ("taxiway_critical_stretches", "Taxiway stretches in the critical area", "#e03131", "line"),
+    ("holding_positions", "Holding positions (proposed, checked)", "#000000", "dot"),
+)
+
+
 def derived_legend_items(layers: dict) -> list[tuple[str, str, str]]:
-    """Legend rows of the derived areas: one per object and kind, in its layer's colour."""
+    """Legend rows of the derived areas (one per object and kind, in its layer's colour) and the taxiways."""
     if "derived_areas" not in layers:
         return []
-    return [(_swatch(c), name, "cells; outline dashed") for name, c, _, _ in derived_layers(layers["derived_areas"])]
+    items = [(_swatch(c), name, "cells; outline dashed") for name, c, _, _ in derived_layers(layers["derived_areas"])]
+    items += [
+        (_swatch(c, shape), name, "") for key, name, c, shape in TAXIWAY_LAYERS if layers.get(key, {}).get("features")
+    ]
+    return items
+
+
+def _add_taxiway_layers(fmap, layers: dict) -> None:
+    """The taxiways, their stretches in the critical area and the holding positions, each a layer."""
+    import folium
+
+    for key, name, colour, shape in TAXIWAY_LAYERS:
+        fc = layers.get(key)
+        if not fc or not fc["features"]:
+            continue
+        group = folium.FeatureGroup(name=name)
+        if shape == "line":
+            style = {"color": colour, "weight": 4 if key != "taxiways" else 2}
+            folium.GeoJson(_escaped(fc), style_function=lambda _f, s=style: s,
+                           tooltip=folium.GeoJsonTooltip(fields=["name", "code"])).add_to(group)  # fmt: skip
+        else:
+            for f in fc["features"]:
+                lon, lat = f["geometry"]["coordinates"]
+                p = f["properties"]
+                fill = {"proposed": "#000000", "pass": "#2b8a3e", "fail": "#e03131"}[p["kind"]]
+                tip = html.escape(f"{p['name']}: {p['kind']}")
+                folium.CircleMarker([lat, lon], radius=6, color="#ffffff", weight=1, fill=True, fill_color=fill,
+                                    fill_opacity=1.0, tooltip=tip).add_to(group)  # fmt: skip
+        group.add_to(fmap)
 
 
 def add_derived_layers(fmap, unit: str, layers: dict) -> None:
@@ -459,6 +495,7 @@ def write_map(result: StudyResult, layers: dict[str, dict], path: Path) -> None:
         fmap.get_root().html.add_child(folium.Element(_candidates_legend()))
     if "derived_areas" in layers:
         add_derived_layers(fmap, result.spec.units, layers)
+        _add_taxiway_layers(fmap, layers)
     _fit_to_opening_box(fmap, result, layers)
     folium.LayerControl(collapsed=True).add_to(fmap)
     path.write_text(_stable_ids(inlined.fill(fmap.get_root().render())), encoding="utf-8")
