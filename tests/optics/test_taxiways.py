@@ -134,7 +134,8 @@ def test_summary_names_the_holding_position_in_both_units(crossing, tmp_path):
         ('[[taxiway]]\nname = "A"\nline = [{ lat = -35.41, lon = 148.92 }]\ncode = "E"\n', "taxiway 1.line"),
         ('[[taxiway]]\nname = "A"\nline = [{ lat = -35.41, lon = 148.92 }, { lat = -35.4, lon = 148.92 }]\n'
          'code = "G"\n', "taxiway 1.code"),
-        ('[[holding_position]]\nname = "A1"\nlat = -35.41\nlon = 148.92\ntaxiway = "Z"\n', "holding_position 1.taxiway"),
+        ('[[holding_position]]\nname = "A1"\nlat = -35.41\nlon = 148.92\ntaxiway = "Z"\n',
+         "holding_position 1.taxiway"),
         ('[[holding_position]]\nname = "A1"\nlat = -35.41\nlon = 148.92\n', "holding_position 1"),
         ('[[object]]\ncode = "E"\nheight = 5\n', "object 1.height"),
         ('[[object]]\ncode = "Q"\n', "object 1.code"),
