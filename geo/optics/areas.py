@@ -499,15 +499,16 @@ def coarse_grid_warnings(result, settings: AreaSpec, objects) -> list[str]:
     for obj in objects:
         if step > COARSE_OBJECT_SHARE * obj.length_m:
             out.append(
-                f"{obj.name}: the grid spacing {format_length(step, unit, 1)} is more than {COARSE_OBJECT_SHARE:g} "
-                f"times the object's length {format_length(obj.length_m, unit, 1)}: its areas may be missed or "
-                f"misshapen; set [areas] grid to at most {format_length(COARSE_OBJECT_SHARE * obj.length_m, unit, 1)}"
+                f"{obj.name}: the grid spacing {format_length(step, unit, 1)} is above "
+                f"{COARSE_OBJECT_SHARE:g} x the object's length {format_length(obj.length_m, unit, 1)}: its areas may "
+                f"be missed or misshapen; set [areas] grid to at most "
+                f"{format_length(COARSE_OBJECT_SHARE * obj.length_m, unit, 1)}"
             )
     widths = [z.shape.polygon.bounds[3] - z.shape.polygon.bounds[1] for z in result.zones if z.kind == "path"]
     if widths and step > COARSE_ZONE_SHARE * min(widths):
         width = min(widths)
         out.append(
-            f"the grid spacing {format_length(step, unit, 1)} is more than {COARSE_ZONE_SHARE:g} of the path zone's "
+            f"the grid spacing {format_length(step, unit, 1)} is above {COARSE_ZONE_SHARE:g} x the path zone's "
             f"width {format_length(width, unit, 1)}: set [areas] grid to at most "
             f"{format_length(COARSE_ZONE_SHARE * width, unit, 1)}"
         )

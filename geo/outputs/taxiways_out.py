@@ -152,11 +152,13 @@ def plot_taxiway(areas, index: int, path: Path) -> None:
     ax = fig.add_subplot(1, 1, 1)
     x = t.distance_m / LENGTH_UNITS[unit]
     share = np.where(np.isfinite(t.share), t.share, np.nan)
-    ax.plot(x, share, color="#1864ab", lw=1.5, label=f"code {t.code}: largest 95 % bend / structure limit")
+    ax.plot(x, share, color="#1864ab", lw=1.5, marker=".", label=f"code {t.code}: largest 95 % bend / structure limit")
     ax.axhline(s.critical_share, color="#a61e4d", ls="--", lw=1, label=f"critical share {s.critical_share:g}")
     ax.axhline(s.sensitive_share, color="#f08c00", ls=":", lw=1, label=f"sensitive share {s.sensitive_share:g}")
+    half = np.gradient(x) / 2.0 if x.size > 1 else np.zeros(1)
     for k, (a, b) in enumerate(t.stretches()):
-        ax.axvspan(x[a], x[b], color="#a61e4d", alpha=0.12, label="inside the critical area" if k == 0 else None)
+        label = "inside the critical area" if k == 0 else None
+        ax.axvspan(x[a] - half[a], x[b] + half[b], color="#a61e4d", alpha=0.12, label=label)
     if t.holding is not None:
         k = t.holding
         where = format_length(t.from_centre_line_m[k], unit, 0)
@@ -164,7 +166,7 @@ def plot_taxiway(areas, index: int, path: Path) -> None:
     ax.set_yscale("log")
     ax.set_xlabel(f"along the taxiway from its first point [{unit}]")
     ax.set_ylabel("share of the structure limit")
-    ax.set_title(f"Taxiway {t.name}: disturbance of the path by its code {t.code} aircraft", fontsize=10)
+    ax.set_title(f"Taxiway {t.name}: disturbance of the path by its largest user (code {t.code})", fontsize=10)
     ax.legend(loc="best", fontsize=8)
     fig.text(0.01, 0.01, AREAS_CAUTION, fontsize=7, color="#555")
     fig.savefig(path, dpi=110, bbox_inches="tight")

@@ -447,7 +447,7 @@ def add_derived_layers(fmap, unit: str, layers: dict) -> None:
 
     outlines = layers.get("derived_outlines", {"features": []})["features"]
     for name, colour, kind, features in derived_layers(layers["derived_areas"]):
-        group = folium.FeatureGroup(name=name, show=kind == "critical")
+        group = folium.FeatureGroup(name=name, show=kind == "critical" and not name.endswith(": all objects"))
         fc = _tooltip_values({"type": "FeatureCollection", "features": features}, DERIVED_FIELDS, unit)
         folium.GeoJson(
             _escaped(fc),

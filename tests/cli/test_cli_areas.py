@@ -148,3 +148,25 @@ def test_no_plots_and_overwrite(written, tmp_path):
     # Reproducible outputs (DEVELOPERS.md): the same site gives the same bytes.
     for name in ("summary.json", "areas.csv", "layers/derived_areas.geojson", "map.html", "areas.kml"):
         assert (tmp_path / "b" / name).read_bytes() == (out / name).read_bytes(), name
+
+
+def test_a_feet_site_shows_feet_first_on_screen_and_in_the_tables(tmp_path):
+    # The site file says its unit once (units = "ft"): every length shown goes through
+    # geo.units.format_length with it first, and the tables put each _ft twin before its _m.
+    from tests_support import FEET_SITE
+
+    tables = AREAS.replace("grid = 40", "grid = 130").replace("ahead = 240", "ahead = 780")
+    tables = tables.replace("sensitive_share = 0.2", "sensitive_share = 0.45")  # a smaller grid to close
+    for key in ("behind", "away", "beyond"):
+        tables = tables.replace(f"{key} = 40", f"{key} = 130")
+    site = tmp_path / "site.toml"
+    site.write_text(FEET_SITE + tables, encoding="utf-8")
+    res = _run("areas", str(site), "--out", str(tmp_path / "out"), "--no-plots")
+    assert res.exit_code == 0, res.output
+    line = next(x for x in res.output.splitlines() if x.startswith("tug, critical"))
+    assert " ft2 (" in line and " ft (" in line and " m (" not in line.split(";")[1].split("(")[0]
+    for name in ("areas.csv", "outlines.csv"):
+        header = (tmp_path / "out" / name).read_text(encoding="utf-8").splitlines()[0].split(",")
+        for k, column in enumerate(header):
+            if column.endswith("_m") and column[:-2] + "_ft" in header:
+                assert header.index(column[:-2] + "_ft") == k - 1, (name, column)
