@@ -12,8 +12,8 @@
 5. ``--closed``: the demo as ``mastplan areas`` runs it (its DEM's plane, default ``[areas]``, the
    generic objects), the grid growing until every area closes: the time on this machine's cores
    (the issue's goal: 30 s on 2 cores), the estimate printed before, positions, each area and its
-   outline, and where the grid stopped. ``--codes`` adds the design aircraft A-F and the three
-   vehicles (``[[object]] code``) on the same grid.
+   outline, and where the grid stopped. ``--codes`` takes the design aircraft A-F and the three
+   vehicles (``[[object]] code``) instead; ``--grid=20`` another spacing.
 
 Prints figures; never fails by timing.
 """
@@ -120,7 +120,7 @@ def demo_areas(front_to_back_db: float) -> None:
             )
 
 
-def closed_demo(codes: bool) -> None:
+def closed_demo(codes: bool, grid_m: float | None = None) -> None:
     from geo.optics.taxiways import object_for_code
     from geo.site.design_objects import DESIGN_OBJECTS
 
@@ -128,6 +128,8 @@ def closed_demo(codes: bool) -> None:
     spec = dataclasses.replace(spec, prediction=dataclasses.replace(spec.prediction, surface=False))
     if codes:
         spec = dataclasses.replace(spec, objects=tuple(object_for_code(c) for c in DESIGN_OBJECTS))
+    if grid_m is not None:
+        spec = dataclasses.replace(spec, areas=dataclasses.replace(spec.areas, grid_m=grid_m))
     result = run_study(spec)
     plans = []
     start, cpu = time.perf_counter(), time.process_time()
@@ -159,7 +161,8 @@ def closed_demo(codes: bool) -> None:
 
 def main() -> None:
     if "--closed" in sys.argv:
-        closed_demo("--codes" in sys.argv)
+        grid = [float(a.split("=")[1]) for a in sys.argv if a.startswith("--grid=")]
+        closed_demo("--codes" in sys.argv, grid[0] if grid else None)
         return
     plate_figures()
     speed()
