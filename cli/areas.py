@@ -35,31 +35,40 @@ def areas(site: Path, out_dir: str, overwrite: bool, plots: bool, quiet: bool) -
     spec = load_site(site)
     check_target(out_dir, overwrite, [Path(spec.source)] if spec.source else [])
     result = run_study(spec)
-    if sys.stderr.isatty() and not quiet:
-        with click.progressbar(length=1, label="Object positions", file=sys.stderr) as bar:
-            state = {"done": 0}
-
-            def progress(done: int, total: int) -> None:
-                bar.length = total
-                bar.update(done - state["done"])
-                state["done"] = done
-
-            derived = derive_areas(result, progress=progress)
-    else:
-        derived = derive_areas(result)
+    derived = _derive(derive_areas, result, quiet)
     folder = write_areas(derived, out_dir, overwrite=overwrite, plots=plots)
     if not quiet:
-        for a in derived.areas:
-            reach = a.reach_m()
-            click.echo(
-                f"{a.object_name}, {a.kind} (> {a.share:g} of the limit): {a.area_m2:,.0f} m2, "
-                f"{reach['ahead_m']:.0f} m ahead, {reach['toward_runway_m']:.0f} m toward the runway, "
-                f"{reach['away_m']:.0f} m away from it"
-                + (
-                    " (reaches the edge of the grid: widen [areas] ahead, behind, away or beyond)"
-                    if a.reaches_grid_edge
-                    else ""
-                )
-            )
+        from geo.outputs.areas_out import screen_lines
+
+        for line in screen_lines(derived):
+            click.echo(line)
         click.echo(AREAS_CAUTION)
         click.echo(f"Results written to {folder}")
+
+
+def _plan_line(positions: int, seconds: float) -> str:
+    """The first grid's size and the time it will take, before the long part of the run."""
+    return (
+        f"{positions:,} object positions x headings in the first grid; about {seconds:,.0f} s "
+        "(from a timed first block; the grid grows where an area stays open)"
+    )
+
+
+def _derive(derive_areas, result, quiet: bool):
+    """The areas, with the first grid's size and time estimate and, on a terminal, a progress bar."""
+
+    def plan(positions: int, seconds: float) -> None:
+        if not quiet:
+            click.echo(_plan_line(positions, seconds), err=True)
+
+    if not sys.stderr.isatty() or quiet:
+        return derive_areas(result, plan=plan)
+    with click.progressbar(length=1, label="Object positions", file=sys.stderr) as bar:
+        state = {"done": 0}
+
+        def progress(done: int, total: int) -> None:
+            bar.length = total
+            bar.update(done - state["done"])
+            state["done"] = done
+
+        return derive_areas(result, progress=progress, plan=plan)

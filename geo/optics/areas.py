@@ -44,11 +44,11 @@ from __future__ import annotations
 
 import math
 import os
-from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass, field
 
 import numpy as np
 
+from geo.optics.area_grid import SIDES, grow_grids, initial_lattice
 from geo.optics.disturbance_rule import judged_figures, shift_receivers, steady_shifts, terrain_shares
 from geo.optics.kernel import Facets
 from geo.optics.object_ground import local_ground
@@ -83,6 +83,14 @@ __all__ = [
     "disturbance",
     "cell_union",
     "derive_areas",
+    "COARSE_OBJECT_SHARE",
+    "COARSE_ZONE_SHARE",
+    "coarse_grid_warnings",
+    "position_shares",
+    "area_objects",
+    "union_areas",
+    "UNION_NAME",
+    "SIDE_WORDS",
 ]
 
 AREAS_CAUTION = (
@@ -93,6 +101,24 @@ AREAS_CAUTION = (
 _PAIRS_PER_CHUNK = 30_000
 #: Clearance around the mast inside which an object counts as standing against it. [m]
 _MAST_CLEARANCE_M = 2.0
+#: A grid spacing above this share of an object's length is too coarse for it (our choice, no
+#: source; measured: a 10 m fuel truck's critical area on a flat invented site changed by 11 % from
+#: a 20 m grid to 10 m, by 3 % from 10 m to 5 m; tests/optics/test_areas_closed.py).
+COARSE_OBJECT_SHARE = 1.0
+#: A grid spacing above this share of the path zone's width is too coarse for it (our choice: at
+#: least four positions across the zone; no source).
+COARSE_ZONE_SHARE = 0.25
+#: Largest spacing of the points along a taxiway (the grid's when finer). [m]
+SAMPLE_STEP_M = 10.0
+#: Name of the union of the objects' areas in outputs.
+UNION_NAME = "all objects"
+#: Words of the grid's sides (geo.optics.area_grid.SIDES).
+SIDE_WORDS = {
+    "ahead": "ahead",
+    "behind": "behind",
+    "toward_runway": "toward the runway",
+    "away": "away from the runway",
+}
 
 
 @dataclass(frozen=True)
@@ -143,6 +169,12 @@ class ObjectDisturbance:
         terrain's) and the shift share of the far segments (inf at the mast).
     figures : dict of str to dict of str to numpy.ndarray, shape (G,)
         Per heading, every figure of :func:`geo.optics.disturbance_rule.judged_figures` (NaN at the mast).
+        Per heading, the largest over the segments of the 95th percentile of ``|bend| / limit``
+        (inf at the mast).
+    extent_m : dict of str to float
+        Reach of the object's grid from the mast per side (:data:`geo.optics.area_grid.SIDES`). [m]
+    growth_rounds : int
+        Blocks the grid grew by after the first rectangle.
     """
 
     obj: ObjectSpec
@@ -151,6 +183,8 @@ class ObjectDisturbance:
     at_mast: np.ndarray
     segment_ddm: dict
     share: dict
+    extent_m: dict = field(default_factory=dict)
+    growth_rounds: int = 0
     figures: dict = field(default_factory=dict)
 
     @property
@@ -171,19 +205,32 @@ class DerivedArea:
         In the mast frame (u toward the approach, w toward the runway). [m]
     share : float
         The share of the structure limit that defines it.
-    reaches_grid_edge : bool
-        The area touches the edge of the grid: it may go on beyond it (widen the grid).
+    open_sides : tuple of str
+        Sides (:data:`geo.optics.area_grid.SIDES`) where the area still has cells on the edge of the
+        grid grown to ``[areas] max_extent``: it may go on beyond (empty: closed).
     """
 
     object_name: str
     kind: str
     polygon: object
     share: float
-    reaches_grid_edge: bool = False
+    open_sides: tuple = ()
+
+    @property
+    def reaches_grid_edge(self) -> bool:
+        """The area has cells on the edge of the grid at its largest extent: it is not closed."""
+        return bool(self.open_sides)
 
     @property
     def area_m2(self) -> float:
         return float(self.polygon.area)
+
+    @property
+    def outline(self):
+        """The planner's outline: the rectangle in the mast frame, sides along and across the runway, holding it."""
+        import shapely
+
+        return shapely.Polygon() if self.polygon.is_empty else shapely.box(*self.polygon.bounds)
 
     def reach_m(self) -> dict:
         """Reach from the mast: ahead, behind, toward the runway and away from it (0 when not reached). [m]"""
@@ -216,6 +263,14 @@ class AreasResult:
     rule : dict
         How the disturbance was judged: ``element`` (the antennas' :class:`geo.radio.element.ElementPattern`
         or None), ``terrain_share`` (per segment) and ``terrain_source``.
+    warnings : tuple of str
+        Areas left open at the largest extent, grids too coarse for an object or the zone.
+    unions : tuple of DerivedArea
+        Per kind, the union of every object's area (``object_name`` :data:`UNION_NAME`).
+    taxiways : tuple of geo.optics.taxiways.TaxiwayResult
+    holding_checks : tuple of geo.optics.taxiways.HoldingCheck
+    findings : tuple of (code, severity, message)
+        The taxiways' holding positions and the holding positions checked.
     """
 
     study: object
@@ -226,6 +281,11 @@ class AreasResult:
     areas: list[DerivedArea]
     objects_source: str
     rule: dict = field(default_factory=dict)
+    warnings: tuple = ()
+    unions: tuple = ()
+    taxiways: tuple = ()
+    holding_checks: tuple = ()
+    findings: tuple = ()
 
 
 def array_model(result) -> ArrayModel:
@@ -274,12 +334,11 @@ def path_receivers(result, model: ArrayModel, segments: list[Segment], count: in
 
 
 def position_grid(result, settings: AreaSpec) -> tuple[np.ndarray, np.ndarray]:
-    """Object positions (u, w) around the mast: behind to ahead, beyond the mast to past the centre line. [m]"""
-    step = settings.grid_m
-    u = np.arange(-settings.behind_m, settings.ahead_m + step / 2, step)
-    w = np.arange(-settings.away_m, result.mast.offset_m + settings.beyond_m + step / 2, step)
-    uu, ww = np.meshgrid(u, w, indexing="ij")
-    return uu.ravel(), ww.ravel()
+    """The first object positions (u, w) around the mast: behind to ahead, beyond the mast to past the centre line.
+
+    Whole steps of the lattice anchored at the mast (:func:`geo.optics.area_grid.initial_lattice`). [m]
+    """
+    return initial_lattice(settings, result.mast.offset_m).positions()
 
 
 def _feet(model: ArrayModel, u: np.ndarray, w: np.ndarray) -> np.ndarray:
@@ -519,18 +578,110 @@ def cell_union(u, w, mask, step_m: float):
     return shapely.union_all(cells).simplify(0.0)
 
 
-def derive_areas(result, progress=None, receivers_count: int | None = None, workers: int | None = None) -> AreasResult:
-    """Disturbance maps and derived areas for every object of a study's site.
+def position_shares(model, receivers, segments, obj: ObjectSpec, heading: str, u, w, terrain=None, ground=None):
+    """The disturbance at (u, w): bend per segment, judged share and the rule's figures (NaN or inf at the mast).
+
+    The one call of :func:`disturbance` for the grid, the taxiways and the holding positions; ``terrain``
+    the terrain's own share per segment, ``ground`` the DEM's local surface (:func:`disturbance`).
+    """
+    u, w = np.asarray(u, float), np.asarray(w, float)
+    per_segment = np.full((u.size, len(segments)), np.nan)
+    share = np.full(u.size, np.inf)
+    figures: dict = {}
+    free = ~_at_mast(obj, heading, model, u, w)
+    if free.any():
+        found: dict = {}
+        per_segment[free], share[free] = disturbance(
+            model, receivers, segments, obj, heading, u[free], w[free], 1.0, terrain, found, ground=ground
+        )
+        for name, values in found.items():
+            figures.setdefault(name, np.full(u.size, np.nan))[free] = values
+    return per_segment, share, figures
+
+
+def coarse_grid_warnings(result, settings: AreaSpec, objects) -> list[str]:
+    """Warnings where the grid spacing exceeds a share of an object's length or of the path zone's width."""
+    from geo.units import format_length
+
+    unit, step = result.spec.units, settings.grid_m
+    out = []
+    for obj in objects:
+        if step > COARSE_OBJECT_SHARE * obj.length_m:
+            out.append(
+                f"{obj.name}: the grid spacing {format_length(step, unit, 1)} is above "
+                f"{COARSE_OBJECT_SHARE:g} x the object's length {format_length(obj.length_m, unit, 1)}: its areas may "
+                f"be missed or misshapen; set [areas] grid to at most "
+                f"{format_length(COARSE_OBJECT_SHARE * obj.length_m, unit, 1)}"
+            )
+    widths = [z.shape.polygon.bounds[3] - z.shape.polygon.bounds[1] for z in result.zones if z.kind == "path"]
+    if widths and step > COARSE_ZONE_SHARE * min(widths):
+        width = min(widths)
+        out.append(
+            f"the grid spacing {format_length(step, unit, 1)} is above {COARSE_ZONE_SHARE:g} x the path zone's "
+            f"width {format_length(width, unit, 1)}: set [areas] grid to at most "
+            f"{format_length(COARSE_ZONE_SHARE * width, unit, 1)}"
+        )
+    return out
+
+
+def area_objects(spec) -> tuple[ObjectSpec, ...]:
+    """The objects whose areas are derived: the site file's (or the generic classes), then taxiway users.
+
+    The design aircraft of the taxiways and holding positions whose code no object has.
+    """
+    from geo.optics.taxiways import object_for_code
+
+    objects = tuple(spec.objects) or GENERIC_OBJECTS
+    taxiway_codes = {t.name: t.code for t in spec.taxiways}
+    codes = [t.code for t in spec.taxiways] + [h.code or taxiway_codes[h.taxiway] for h in spec.holding_positions]
+    have = {o.code for o in objects}
+    for code in dict.fromkeys(codes):
+        if code not in have:
+            objects += (object_for_code(code),)
+    return objects
+
+
+def _taxiways(result, objects, areas, position, settings):
+    """The taxiways followed and the holding positions checked, with their findings (:mod:`geo.optics.taxiways`)."""
+    from geo.optics.taxiways import check_holding, follow_taxiway, taxiway_findings
+
+    spec = result.spec
+    index = {o.code: k for k, o in reversed(list(enumerate(objects))) if o.code is not None}
+    critical = {a.object_name: a.polygon for a in areas if a.kind == "critical"}
+
+    def shares(code):
+        return lambda heading, u, w: position(index[code], heading, u, w)[1]
+
+    step = min(SAMPLE_STEP_M, settings.grid_m)
+    taxiways = tuple(
+        follow_taxiway(result, t, shares(t.code), critical[objects[index[t.code]].name], settings.critical_share, step)
+        for t in spec.taxiways
+    )
+    by_name = {t.name: t for t in spec.taxiways}
+    holds = []
+    for h in spec.holding_positions:
+        code = h.code or by_name[h.taxiway].code
+        holds.append(check_holding(result, h, code, by_name.get(h.taxiway), shares(code), settings.critical_share))
+    return taxiways, tuple(holds), tuple(taxiway_findings(taxiways, holds, spec.units))
+
+
+def derive_areas(
+    result, progress=None, receivers_count: int | None = None, workers: int | None = None, plan=None
+) -> AreasResult:
+    """Disturbance maps and derived areas for every object of a study's site, on grids grown until closed.
 
     Parameters
     ----------
     result : StudyResult
     progress : callable, optional
-        ``progress(done, total)`` after each chunk of positions.
+        ``progress(done, total)`` in position-headings, after each chunk (the total grows with the grid).
     receivers_count : int, optional
         Receivers on the designed path (default: at most 20 m apart, :func:`path_receivers`).
     workers : int, optional
         Threads (default: the processor count, at most 4).
+    plan : callable, optional
+        ``plan(positions, seconds)`` once, after a small timed first block: the position-headings of
+        the first grid and an estimate of their time (:func:`geo.optics.area_grid.grow_grids`). [s]
 
     Returns
     -------
@@ -538,71 +689,93 @@ def derive_areas(result, progress=None, receivers_count: int | None = None, work
     """
     spec = result.spec
     settings = spec.areas
-    objects = spec.objects or GENERIC_OBJECTS
+    objects = area_objects(spec)
     segments = structure_segments(spec.category, result.rdh_m, spec.angle_deg)
     model = array_model(result)
     receivers = path_receivers(result, model, segments, receivers_count)
-    u, w = position_grid(result, settings)
-    jobs = []
-    chunk = max(_PAIRS_PER_CHUNK // receivers.before_threshold_m.size, 1)
-    for k, obj in enumerate(objects):
-        for heading in obj.headings:
-            free = np.flatnonzero(~_at_mast(obj, heading, model, u, w))
-            for start in range(0, free.size, chunk):
-                jobs.append((k, heading, free[start : start + chunk]))
-    segment_ddm = {(k, h): np.full((u.size, len(segments)), np.nan) for k, o in enumerate(objects) for h in o.headings}
-    share = {(k, h): np.full(u.size, np.inf) for k, o in enumerate(objects) for h in o.headings}
 
     terrain, terrain_source = terrain_shares(result.surface, segments)
-    figures = {key: {} for key in share}
-    ground = local_ground(result, model, (u.min() - 100.0, u.max() + 1000.0, w.min() - 100.0, w.max() + 100.0))
+    reach = settings.max_extent_m + 100.0  # the DEM's local surface over the largest grid and the ground before it
+    ground = local_ground(result, model, (-reach, reach + 900.0, -reach, reach))
 
-    def run(job):
-        k, heading, index = job
-        out = {}
-        obj = objects[k]
-        found = disturbance(
-            model, receivers, segments, obj, heading, u[index], w[index], 1.0, terrain, out, ground=ground
-        )
-        return job, found, out
+    def evaluate(k, heading, u, w):
+        return position_shares(model, receivers, segments, objects[k], heading, u, w, terrain, ground)
 
-    done = 0
-    threads = workers or min(os.cpu_count() or 1, 4)
-    pool = ThreadPoolExecutor(max_workers=threads)
-    try:
-        for (k, heading, index), (per_segment, worst), out in pool.map(run, jobs):
-            segment_ddm[k, heading][index] = per_segment
-            share[k, heading][index] = worst
-            for name, values in out.items():
-                figures[k, heading].setdefault(name, np.full(u.size, np.nan))[index] = values
-            done += 1
-            if progress is not None:
-                progress(done, len(jobs))
-    finally:  # an interrupted run stops after the chunks in hand, not after every chunk
-        pool.shutdown(wait=True, cancel_futures=True)
+    grids = grow_grids(
+        initial_lattice(settings, result.mast.offset_m),
+        [o.headings for o in objects],
+        len(segments),
+        evaluate,
+        settings.sensitive_share,
+        settings.max_extent_m,
+        max(_PAIRS_PER_CHUNK // receivers.before_threshold_m.size, 1),
+        workers or min(os.cpu_count() or 1, 4),
+        progress,
+        plan,
+    )
     disturbances, areas = [], []
-    for k, obj in enumerate(objects):
-        at_mast = np.zeros(u.size, dtype=bool)
-        for h in obj.headings:
-            at_mast |= _at_mast(obj, h, model, u, w)
-        d = ObjectDisturbance(
-            obj,
-            u,
-            w,
-            at_mast,
-            {h: segment_ddm[k, h] for h in obj.headings},
-            {h: share[k, h] for h in obj.headings},
-            {h: figures[k, h] for h in obj.headings},
-        )
+    warnings = coarse_grid_warnings(result, settings, objects)
+    for obj, g in zip(objects, grids):
+        d = _object_disturbance(obj, g, model)
         disturbances.append(d)
-        worst = d.worst_share
-        edge = (u == u.min()) | (u == u.max()) | (w == w.min()) | (w == w.max())
+        edges = g.lattice.edge(d.ahead_m, d.toward_runway_m)
         for kind, limit in (("critical", settings.critical_share), ("sensitive", settings.sensitive_share)):
-            inside = worst > limit
-            polygon = cell_union(u, w, inside, settings.grid_m)
-            areas.append(DerivedArea(obj.name, kind, polygon, limit, bool((inside & edge).any())))
+            inside = d.worst_share > limit
+            open_sides = tuple(s for s in SIDES if (inside & edges[s]).any())
+            areas.append(DerivedArea(obj.name, kind, cell_union(d.ahead_m, d.toward_runway_m, inside, settings.grid_m),
+                                     limit, open_sides))  # fmt: skip
+            if open_sides:
+                warnings.append(_open_warning(obj.name, kind, open_sides, spec.units, settings.max_extent_m))
     source = "site file" if spec.objects else GENERIC_OBJECTS[0].source
+    taxiways, holds, findings = _taxiways(result, objects, areas, evaluate, settings)
     on = "the DEM's local surface at each specular point" if ground is not None else "the fitted plane"
     rule = {"element": model.element, "terrain_share": tuple(map(float, terrain)), "terrain_source": terrain_source}
     rule["ground"] = on
-    return AreasResult(result, settings, segments, receivers, disturbances, areas, source, rule)
+    return AreasResult(result, settings, segments, receivers, disturbances, areas, source, rule=rule,
+                       warnings=tuple(warnings), unions=union_areas(areas), taxiways=taxiways, holding_checks=holds,
+                       findings=findings)  # fmt: skip
+
+
+def union_areas(areas) -> tuple[DerivedArea, ...]:
+    """Per kind, the union of the objects' areas: the design objects' area a planner paints."""
+    import shapely
+
+    out = []
+    for kind in ("critical", "sensitive"):
+        mine = [a for a in areas if a.kind == kind]
+        if not mine:
+            continue
+        polygon = shapely.union_all([a.polygon for a in mine]).simplify(0.0)
+        sides = tuple(s for s in SIDES if any(s in a.open_sides for a in mine))
+        out.append(DerivedArea(UNION_NAME, kind, polygon, mine[0].share, sides))
+    return tuple(out)
+
+
+def _object_disturbance(obj: ObjectSpec, grid, model: ArrayModel) -> ObjectDisturbance:
+    """One object's grid in the order ahead, then toward the runway, with its positions against the mast."""
+    order = np.lexsort((grid.w, grid.u))
+    u, w = grid.u[order], grid.w[order]
+    at_mast = np.zeros(u.size, dtype=bool)
+    for h in obj.headings:
+        at_mast |= _at_mast(obj, h, model, u, w)
+    return ObjectDisturbance(
+        obj,
+        u,
+        w,
+        at_mast,
+        {h: grid.segment_ddm[h][order] for h in obj.headings},
+        {h: grid.share[h][order] for h in obj.headings},
+        grid.lattice.extent_m(),
+        grid.rounds,
+        {h: {name: v[order] for name, v in grid.figures.get(h, {}).items()} for h in obj.headings},
+    )
+
+
+def _open_warning(name: str, kind: str, sides, unit: str, max_extent_m: float) -> str:
+    from geo.units import format_length
+
+    where = ", ".join(SIDE_WORDS[s] for s in sides)
+    return (
+        f"{name}: the {kind} area stays open {where} at the largest extent of the grid, "
+        f"{format_length(max_extent_m, unit, 0)} from the mast: it may go on beyond; raise [areas] max_extent"
+    )

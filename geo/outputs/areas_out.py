@@ -11,6 +11,7 @@ from pathlib import Path
 
 import numpy as np
 
+from geo.optics.area_grid import BLOCK_M
 from geo.optics.areas import AREAS_CAUTION, AreasResult
 from geo.optics.objects import FIN_SWEEP_DEG, FIN_TAPER, HEADING_SAMPLES, HEADING_SPREAD_DEG
 from geo.outputs.summary import INFINITE_SHARE, share_value
@@ -53,6 +54,7 @@ def _slug(text: str) -> str:
 
 def _area_properties(areas: AreasResult, area) -> dict:
     reach = area.reach_m()
+    outline = area.outline
     return {
         "object": area.object_name,
         "kind": area.kind,
@@ -62,9 +64,24 @@ def _area_properties(areas: AreasResult, area) -> dict:
         "reach_behind_m": reach["behind_m"],
         "reach_toward_runway_m": reach["toward_runway_m"],
         "reach_away_m": reach["away_m"],
+        "outline_area_m2": round(float(outline.area), 1),
         "grid_m": areas.settings.grid_m,
         "reaches_grid_edge": area.reaches_grid_edge,
+        "open_sides": ", ".join(area.open_sides),
     }
+
+
+def unit_first(row: dict, unit: str) -> dict:
+    """A row with each foot twin before its metre key when the site file is in feet (the file's unit first)."""
+    if unit != "ft":
+        return row
+    out = {}
+    for key, value in row.items():
+        for suffix, twin in (("_m", "_ft"), ("_m2", "_ft2")):
+            if key.endswith(suffix) and key[: -len(suffix)] + twin in row:
+                out[key[: -len(suffix)] + twin] = row[key[: -len(suffix)] + twin]
+        out.setdefault(key, value)
+    return out
 
 
 def derived_areas_layer(areas: AreasResult) -> dict:
@@ -72,12 +89,67 @@ def derived_areas_layer(areas: AreasResult) -> dict:
     from geo.outputs.geojson import _mast_plane_polygon, collection, feature
 
     features = []
-    for area in areas.areas:
+    for area in [*areas.areas, *areas.unions]:
         if area.polygon.is_empty:
             continue
         props = with_foot_twins(_area_properties(areas, area))
         features.append(feature(_mast_plane_polygon(areas.study, area.polygon), props))
     return collection(features)
+
+
+def outlines_layer(areas: AreasResult) -> dict:
+    """The planner's outlines (rectangles along and across the runway holding each area) as GeoJSON."""
+    from geo.outputs.geojson import _mast_plane_polygon, collection, feature
+
+    features = []
+    for area in [*areas.areas, *areas.unions]:
+        if area.polygon.is_empty:
+            continue
+        props = with_foot_twins(_area_properties(areas, area))
+        features.append(feature(_mast_plane_polygon(areas.study, area.outline), props))
+    return collection(features)
+
+
+def outline_rows(areas: AreasResult) -> list[dict]:
+    """``outlines.csv``: per object (and the union of the objects) and kind, the outline's sides from the mast."""
+    rows = []
+    for area in [*areas.areas, *areas.unions]:
+        p = _area_properties(areas, area)
+        rows.append({k: p[k] for k in ("object", "kind", "share_of_limit", "reach_ahead_m", "reach_behind_m",
+                                       "reach_toward_runway_m", "reach_away_m", "area_m2", "outline_area_m2",
+                                       "open_sides")})  # fmt: skip
+    return rows
+
+
+def write_rows_csv(rows: list[dict], path: Path, unit: str) -> None:
+    """A table with foot twins, the site file's unit first."""
+    rows = [unit_first(with_foot_twins(r, digits=2), unit) for r in rows]
+    with path.open("w", newline="", encoding="utf-8") as fh:
+        writer = csv.DictWriter(fh, fieldnames=list(rows[0]) if rows else ["object"], lineterminator="\n")
+        writer.writeheader()
+        writer.writerows(rows)
+
+
+def screen_lines(areas: AreasResult) -> list[str]:
+    """What ``mastplan areas`` prints: per area its size and outline (the file's unit first), then the warnings."""
+    from geo.units import format_area, format_length
+
+    unit = areas.study.spec.units
+    lines = []
+    for a in [*areas.areas, *areas.unions]:
+        r = a.reach_m()
+        sides = ", ".join(
+            f"{format_length(r[k + '_m'], unit, 0)} {w}"
+            for k, w in (("ahead", "ahead"), ("behind", "behind"), ("toward_runway", "toward the runway"),
+                         ("away", "away"))
+        )  # fmt: skip
+        lines.append(
+            f"{a.object_name}, {a.kind} (> {a.share:g} of the limit): {format_area(a.area_m2, unit)}; "
+            f"outline {sides}" + ("" if a.open_sides else " (closed)")
+        )
+    lines += [f"{severity.capitalize()}: {message}" for _, severity, message in areas.findings]
+    lines += [f"Warning: {w}" for w in areas.warnings]
+    return lines
 
 
 def areas_rows(areas: AreasResult) -> list[dict]:
@@ -133,12 +205,8 @@ def _cell(value: float, decimals: int) -> str:
 
 
 def write_areas_csv(areas: AreasResult, path: Path) -> None:
-    """``areas.csv``: one row per object, position and heading (lengths with foot twins)."""
-    rows = [with_foot_twins(r, digits=2) for r in areas_rows(areas)]
-    with path.open("w", newline="", encoding="utf-8") as fh:
-        writer = csv.DictWriter(fh, fieldnames=list(rows[0]), lineterminator="\n")
-        writer.writeheader()
-        writer.writerows(rows)
+    """``areas.csv``: one row per object, position and heading (lengths with foot twins, the file's unit first)."""
+    write_rows_csv(areas_rows(areas), path, areas.study.spec.units)
 
 
 def plot_disturbance(areas: AreasResult, index: int, path: Path) -> None:
@@ -215,6 +283,9 @@ def areas_summary(areas: AreasResult) -> dict:
             "sizes_source": o.source,
             "largest_share_of_limit": _largest_share(d),
             "positions_against_mast": int(d.at_mast.sum()),
+            "positions": int(d.ahead_m.size),
+            "grid_extent": {f"{k}_m": v for k, v in d.extent_m.items()},
+            "grid_growth_blocks": d.growth_rounds,
         }
         for area in areas.areas:
             if area.object_name == o.name:
@@ -238,6 +309,8 @@ def areas_summary(areas: AreasResult) -> dict:
             "away_m": s.away_m,
             "beyond_m": s.beyond_m,
             "receivers_on_path": int(areas.receivers.points_m.shape[0]),
+            "max_extent_m": s.max_extent_m,
+            "growth_block_m": BLOCK_M,
         },
         "element": _element_summary(areas.rule.get("element")),
         "disturbance_rule": _rule_summary(areas),
@@ -255,8 +328,17 @@ def areas_summary(areas: AreasResult) -> dict:
         "objects_source": areas.objects_source,
         "model": MODEL_TEXT,
         "derived_areas": derived,
+        "union_of_objects": {
+            a.kind: {k: v for k, v in _area_properties(areas, a).items() if k not in ("object", "kind", "grid_m")}
+            for a in areas.unions
+        },
+        "warnings": list(areas.warnings),
         "cautions": [AREAS_CAUTION],
     }
+    if areas.taxiways or areas.holding_checks:
+        from geo.outputs.taxiways_out import taxiways_summary
+
+        return {**with_foot_twins(summary), **taxiways_summary(areas)}
     return with_foot_twins(summary)
 
 
@@ -308,6 +390,7 @@ def write_areas(areas: AreasResult, out_dir, overwrite: bool = False, plots: boo
     from geo.outputs.geojson import study_layers
     from geo.outputs.gpkg import write_gpkg
     from geo.outputs.kml import write_kml
+    from geo.outputs.taxiways_out import plot_taxiway, taxiway_file_stem, taxiway_layers, taxiway_rows
     from geo.outputs.webmap import write_map
     from geo.outputs.write import atomic_folder, write_json
 
@@ -315,11 +398,29 @@ def write_areas(areas: AreasResult, out_dir, overwrite: bool = False, plots: boo
     inputs = [Path(spec.source)] if spec.source else []
 
     def fill(folder: Path) -> None:
-        layers = {**study_layers(areas.study), "derived_areas": derived_areas_layer(areas)}
+        layers = {
+            **study_layers(areas.study),
+            "derived_areas": derived_areas_layer(areas),
+            "derived_outlines": outlines_layer(areas),
+            **(taxiway_layers(areas) if areas.taxiways or areas.holding_checks else {}),
+        }
         write_json(folder / "summary.json", areas_summary(areas))
         (folder / "layers").mkdir()
-        write_json(folder / "layers" / "derived_areas.geojson", layers["derived_areas"], compact=True)
+        for name in (
+            "derived_areas",
+            "derived_outlines",
+            "taxiways",
+            "taxiway_critical_stretches",
+            "holding_positions",
+        ):
+            if name in layers:
+                write_json(folder / "layers" / f"{name}.geojson", layers[name], compact=True)
+        for k, t in enumerate(areas.taxiways):
+            write_rows_csv(taxiway_rows(t), folder / f"{taxiway_file_stem(k + 1, t.name)}.csv", spec.units)
+            if plots:
+                plot_taxiway(areas, k, folder / f"{taxiway_file_stem(k + 1, t.name)}.png")
         write_areas_csv(areas, folder / "areas.csv")
+        write_rows_csv(outline_rows(areas), folder / "outlines.csv", spec.units)
         write_gpkg(layers, folder / "areas.gpkg")
         write_kml(f"{spec.name}: derived areas", layers, folder / "areas.kml", spec.units)
         write_map(areas.study, layers, folder / "map.html")

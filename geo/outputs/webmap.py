@@ -144,6 +144,11 @@ TOOLTIP_LABELS = {
     "length_m": "Length",
     "width_m": "Width",
     "true_bearing_deg": "True bearing",
+    "object": "Object",
+    "reach_ahead_m": "Ahead of the mast",
+    "reach_behind_m": "Behind the mast",
+    "reach_toward_runway_m": "Toward the runway",
+    "reach_away_m": "Away from the runway",
 }
 
 
@@ -281,12 +286,12 @@ def legend_items(result: StudyResult) -> list[tuple[str, str, str]]:
     return items
 
 
-def _legend(result: StudyResult) -> str:
+def _legend(result: StudyResult, extra=()) -> str:
     rows = "".join(
         f"<div class='mastplan-legend-item'>{swatch}<span class='mastplan-legend-name'>{html.escape(name)}</span>"
         + (f"<span style='color:#555'> ({html.escape(note)})</span>" if note else "")
         + "</div>"
-        for swatch, name, note in legend_items(result)
+        for swatch, name, note in [*legend_items(result), *extra]
     )
     return (
         "<div class='mastplan-legend' style='position:fixed;bottom:28px;right:10px;z-index:1000;background:#fff;"
@@ -373,24 +378,110 @@ def height_contours_group(fc: dict, unit: str):
     return group
 
 
-def derived_areas_group(fc: dict):
-    """A folium layer of the derived areas (``mastplan areas``)."""
+#: Per object, the colours of its critical and sensitive layers (the union of the objects last, grey).
+DERIVED_LAYER_COLOURS = (
+    ("#a61e4d", "#f783ac"),
+    ("#1864ab", "#74c0fc"),
+    ("#2b8a3e", "#8ce99a"),
+    ("#d9480f", "#ffa94d"),
+    ("#5f3dc4", "#b197fc"),
+    ("#0b7285", "#66d9e8"),
+)
+UNION_COLOURS = ("#212529", "#868e96")
+#: The tooltip of a derived area's layer (lengths and areas in the site file's unit first).
+DERIVED_FIELDS = (
+    "object",
+    "kind",
+    "area_m2",
+    "reach_ahead_m",
+    "reach_behind_m",
+    "reach_toward_runway_m",
+    "reach_away_m",
+)
+
+
+def derived_layers(fc: dict) -> list[tuple[str, str, str, list]]:
+    """``(layer name, colour, kind, features)`` per object and kind of the derived areas, the union last."""
+    names = list(dict.fromkeys(f["properties"]["object"] for f in fc["features"]))
+    union = [n for n in names if n == "all objects"]
+    out = []
+    for k, name in enumerate([n for n in names if n not in union] + union):
+        colours = UNION_COLOURS if name in union else DERIVED_LAYER_COLOURS[k % len(DERIVED_LAYER_COLOURS)]
+        for kind, colour in zip(("critical", "sensitive"), colours):
+            features = [
+                f for f in fc["features"] if f["properties"]["object"] == name and f["properties"]["kind"] == kind
+            ]
+            if features:
+                out.append((f"Derived {kind} area: {name}", colour, kind, features))
+    return out
+
+
+#: The taxiways' layers of ``mastplan areas``: (layer key, name, colour, legend shape).
+TAXIWAY_LAYERS = (
+    ("taxiways", "Taxiways", "#495057", "line"),
+    ("taxiway_critical_stretches", "Taxiway stretches in the critical area", "#e03131", "line"),
+    ("holding_positions", "Holding positions (proposed, checked)", "#000000", "dot"),
+)
+
+
+def derived_legend_items(layers: dict) -> list[tuple[str, str, str]]:
+    """Legend rows of the derived areas (one per object and kind, in its layer's colour) and the taxiways."""
+    if "derived_areas" not in layers:
+        return []
+    items = [(_swatch(c), name, "cells; outline dashed") for name, c, _, _ in derived_layers(layers["derived_areas"])]
+    items += [
+        (_swatch(c, shape), name, "") for key, name, c, shape in TAXIWAY_LAYERS if layers.get(key, {}).get("features")
+    ]
+    return items
+
+
+def _add_taxiway_layers(fmap, layers: dict) -> None:
+    """The taxiways, their stretches in the critical area and the holding positions, each a layer."""
     import folium
 
-    group = folium.FeatureGroup(name="Derived areas (mastplan areas)")
-    for kind in ("sensitive", "critical"):
-        features = [f for f in fc["features"] if f["properties"]["kind"] == kind]
-        if not features:
+    for key, name, colour, shape in TAXIWAY_LAYERS:
+        fc = layers.get(key)
+        if not fc or not fc["features"]:
             continue
-        colour = DERIVED_AREA_COLOURS[kind]
+        group = folium.FeatureGroup(name=name)
+        if shape == "line":
+            style = {"color": colour, "weight": 4 if key != "taxiways" else 2}
+            folium.GeoJson(_escaped(fc), style_function=lambda _f, s=style: s,
+                           tooltip=folium.GeoJsonTooltip(fields=["name", "code"])).add_to(group)  # fmt: skip
+        else:
+            for f in fc["features"]:
+                lon, lat = f["geometry"]["coordinates"]
+                p = f["properties"]
+                fill = {"proposed": "#000000", "pass": "#2b8a3e", "fail": "#e03131"}[p["kind"]]
+                tip = html.escape(f"{p['name']}: {p['kind']}")
+                folium.CircleMarker([lat, lon], radius=6, color="#ffffff", weight=1, fill=True, fill_color=fill,
+                                    fill_opacity=1.0, tooltip=tip).add_to(group)  # fmt: skip
+        group.add_to(fmap)
+
+
+def add_derived_layers(fmap, unit: str, layers: dict) -> None:
+    """One layer per object and kind: the cell union filled, its planner's outline dashed, in one colour."""
+    import folium
+
+    outlines = layers.get("derived_outlines", {"features": []})["features"]
+    for name, colour, kind, features in derived_layers(layers["derived_areas"]):
+        group = folium.FeatureGroup(name=name, show=kind == "critical" and not name.endswith(": all objects"))
+        fc = _tooltip_values({"type": "FeatureCollection", "features": features}, DERIVED_FIELDS, unit)
         folium.GeoJson(
-            _escaped({"type": "FeatureCollection", "features": features}),
-            style_function=lambda _f, c=colour: {"color": c, "weight": 2, "fillOpacity": 0.12, "dashArray": "2 4"},
+            _escaped(fc),
+            style_function=lambda _f, c=colour: {"color": c, "weight": 2, "fillOpacity": 0.25},
             tooltip=folium.GeoJsonTooltip(
-                fields=["object", "kind", "area_m2", "reach_ahead_m", "reach_toward_runway_m", "reach_away_m"]
+                fields=list(DERIVED_FIELDS), aliases=[TOOLTIP_LABELS[k] for k in DERIVED_FIELDS]
             ),
         ).add_to(group)
-    return group
+        mine = [f for f in outlines if f["properties"]["object"] == features[0]["properties"]["object"]
+                and f["properties"]["kind"] == kind]  # fmt: skip
+        if mine:
+            folium.GeoJson(
+                _escaped({"type": "FeatureCollection", "features": mine}),
+                style_function=lambda _f, c=colour: {"color": c, "weight": 1.5, "fill": False, "dashArray": "6 4"},
+            ).add_to(group)
+        group.add_to(fmap)
 
 
 def write_map(result: StudyResult, layers: dict[str, dict], path: Path) -> None:
@@ -407,7 +498,7 @@ def write_map(result: StudyResult, layers: dict[str, dict], path: Path) -> None:
 
     folium = import_without_dataframes("folium")  # folium takes pandas only to accept data frames
     inlined = _Inlined()
-    fmap = _base_map(result, inlined)
+    fmap = _base_map(result, inlined, derived_legend_items(layers))
     zones = layers["reflection_zones"]
     if result.spec.terrain is not None:
         _hillshade_overlay(result, _padded_bounds(zones), inlined).add_to(fmap)
@@ -421,7 +512,8 @@ def write_map(result: StudyResult, layers: dict[str, dict], path: Path) -> None:
         _candidates(layers["candidates"], result.spec.units).add_to(fmap)
         fmap.get_root().html.add_child(folium.Element(_candidates_legend()))
     if "derived_areas" in layers:
-        derived_areas_group(layers["derived_areas"]).add_to(fmap)
+        add_derived_layers(fmap, result.spec.units, layers)
+        _add_taxiway_layers(fmap, layers)
     if "buildings" in layers:
         from geo.outputs.buildings_out import buildings_group
 
@@ -433,7 +525,7 @@ def write_map(result: StudyResult, layers: dict[str, dict], path: Path) -> None:
     path.write_text(_stable_ids(inlined.fill(fmap.get_root().render())), encoding="utf-8")
 
 
-def _base_map(result: StudyResult, inlined: _Inlined):
+def _base_map(result: StudyResult, inlined: _Inlined, extra_legend=()):
     """The map centred on the mast: Leaflet inlined, the legend, and the online base map (off at first)."""
     import folium
 
@@ -442,7 +534,7 @@ def _base_map(result: StudyResult, inlined: _Inlined):
     fmap.default_js = []
     fmap.default_css = []
     fmap.get_root().header.add_child(folium.Element(inlined.element_text(_leaflet_inline())), name="leaflet_inline")
-    fmap.get_root().html.add_child(folium.Element(_legend(result)))
+    fmap.get_root().html.add_child(folium.Element(_legend(result, extra_legend)))
     folium.TileLayer(
         "OpenStreetMap", name="Online base map (OpenStreetMap, needs internet)", overlay=True, show=False
     ).add_to(fmap)

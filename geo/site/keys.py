@@ -115,7 +115,16 @@ SITE_KEYS: dict[str, tuple[Key, ...]] = {
         Key("areas", "table", "", "defaults below", "[areas]", "the derived areas' shares and grid"),
         Key("report", "table", "", "empty title block", "[report]", "the report's title block"),
         Key("building", "array of tables", "", "none", "[[building]]", "buildings beside the runway"),
-    ),
+        Key("taxiway", "array of tables", "", "none", "[[taxiway]]", "taxiways mastplan areas follows"),
+        Key(
+            "holding_position",
+            "array of tables",
+            "",
+            "none",
+            "[[holding_position]]",
+            "holding positions mastplan areas checks",
+        ),
+    ),  # fmt: skip
     "site": (
         Key("name", "text", "", "required", "one line, not empty", "the site's name, in every output"),
         Key("notes", "text", "", '""', "any text", "notes carried into the outputs"),
@@ -303,11 +312,32 @@ SITE_KEYS: dict[str, tuple[Key, ...]] = {
     ),  # fmt: skip
     "surfaces": _surface_keys(),
     "object": (
-        Key("name", "text", "", "required", "one line, not empty", "the object's name"),
-        Key("height", "number", LENGTH, "required", "above 0, at most 100 m", "top of the object above the ground"),
-        Key("length", "number", LENGTH, "required", "above 0, at most 100 m", "along its heading"),
-        Key("width", "number", LENGTH, "required", "0 to 100 m", "across its heading"),
-        Key("base", "number", LENGTH, "0", "0 to 100 m, below height", "lowest edge above the ground"),
+        Key("name", "text", "", "required (the code's name with a code)", "one line, not empty", "the object's name"),
+        Key(
+            "height",
+            "number",
+            LENGTH,
+            "required (the code's with a code)",
+            "above 0, at most 100 m",
+            "top of the object above the ground",
+        ),
+        Key(
+            "length",
+            "number",
+            LENGTH,
+            "required (the code's with a code)",
+            "above 0, at most 100 m",
+            "along its heading",
+        ),
+        Key("width", "number", LENGTH, "required (the code's with a code)", "0 to 100 m", "across its heading"),
+        Key(
+            "base",
+            "number",
+            LENGTH,
+            "0 (the code's with a code)",
+            "0 to 100 m, below height",
+            "lowest edge above the ground",
+        ),
         Key(
             "headings",
             "list of texts",
@@ -315,6 +345,14 @@ SITE_KEYS: dict[str, tuple[Key, ...]] = {
             '["along", "across"]',
             '"along" | "across", each once',
             "along the runway, across it",
+        ),
+        Key(
+            "code",
+            "text",
+            "",
+            "none",
+            '"A" to "F" (Annex 14 code letter) | "car" | "van" | "truck"',
+            "a design object's sizes (geo/site/design_objects.py; from memory); a size given overrides the code's",
         ),
     ),  # fmt: skip
     "areas": (
@@ -332,6 +370,33 @@ SITE_KEYS: dict[str, tuple[Key, ...]] = {
         Key("behind", "number", LENGTH, "50 m", "0 to 5,000 m", "behind the mast"),
         Key("away", "number", LENGTH, "100 m", "0 to 5,000 m", "beyond the mast, away from the runway"),
         Key("beyond", "number", LENGTH, "100 m", "0 to 5,000 m", "past the centre line"),
+        Key(
+            "max_extent",
+            "number",
+            LENGTH,
+            "1,500 m",
+            "50 to 10,000 m",
+            "the grid grows until every area closes, on no side farther than this from the mast",
+        ),
+    ),  # fmt: skip
+    "taxiway": (
+        Key("name", "text", "", "required", "one line, not empty", "the taxiway's name"),
+        Key(
+            "line",
+            "list of inline tables { lat, lon }",
+            "",
+            "required",
+            "at least two points, WGS 84 degrees",
+            "its centre line, from either end",
+        ),
+        Key("code", "text", "", "required", '"A" to "F" | "car" | "van" | "truck"', "the code of its largest user"),
+    ),
+    "holding_position": (
+        Key("name", "text", "", "required", "one line, not empty", "the holding position's name"),
+        Key("lat", "number", "deg", "required", "-89.9 to 89.9", "where it is"),
+        Key("lon", "number", "deg", "required", "-180 to 180", "where it is"),
+        Key("taxiway", "text", "", "none", "a [[taxiway]] name given above it", "the taxiway it is on"),
+        Key("code", "text", "", "the taxiway's", '"A" to "F" | "car" | "van" | "truck"', "the aircraft holding there"),
     ),  # fmt: skip
     "report": (
         Key("prepared_by", "text", "", '""', "one line", "title block"),
@@ -412,7 +477,7 @@ def keys_of(table: str) -> tuple[str, ...]:
 def _heading(table: str) -> str:
     if table == "":
         return "## The top level"
-    if table in ("protected_area", "object", "building"):
+    if table in ("protected_area", "object", "building", "taxiway", "holding_position"):
         return f"## `[[{table}]]` (one table per item)"
     return f"## `[{table}]`"
 

@@ -216,6 +216,8 @@ class ObjectSpec:
         Among :data:`OBJECT_HEADINGS`.
     source : str
         Where the sizes come from.
+    code : str or None
+        The design object's code (:data:`geo.site.design_objects.DESIGN_OBJECTS`) the sizes start from.
     """
 
     name: str
@@ -225,6 +227,47 @@ class ObjectSpec:
     base_m: float = 0.0
     headings: tuple[str, ...] = OBJECT_HEADINGS
     source: str = "site file"
+    code: str | None = None
+
+
+@dataclass(frozen=True)
+class TaxiwaySpec:
+    """A taxiway near the mast (``[[taxiway]]``): its centre line and its largest user.
+
+    Attributes
+    ----------
+    name : str
+    line : tuple of (float, float)
+        The centre line's points, (lat, lon) in WGS 84 degrees, at least two.
+    code : str
+        The design code of its largest user (:data:`geo.site.design_objects.DESIGN_OBJECTS`).
+    """
+
+    name: str
+    line: tuple[tuple[float, float], ...]
+    code: str
+
+
+@dataclass(frozen=True)
+class HoldingSpec:
+    """A holding position to check (``[[holding_position]]``): where, and which aircraft holds there.
+
+    Attributes
+    ----------
+    name : str
+    lat, lon : float
+        [deg]
+    taxiway : str or None
+        The taxiway it is on (its code and heading), or None.
+    code : str or None
+        The aircraft's design code (the taxiway's when None).
+    """
+
+    name: str
+    lat: float
+    lon: float
+    taxiway: str | None = None
+    code: str | None = None
 
 
 @dataclass(frozen=True)
@@ -245,6 +288,8 @@ class AreaSpec:
     beyond_m : float
         Extent past the centre line, on the far side of the runway. [m]
     shares_source : str
+    max_extent_m : float
+        The grid grows until every area closes, on no side farther than this from the mast. [m]
     """
 
     critical_share: float = 0.5
@@ -255,6 +300,7 @@ class AreaSpec:
     away_m: float = 100.0
     beyond_m: float = 100.0
     shares_source: str = "common practice, no source"
+    max_extent_m: float = 1500.0
 
 
 @dataclass(frozen=True)
@@ -377,6 +423,8 @@ class SiteSpec:
     magnetic_date: date | None = None
     conditions: tuple = ()
     buildings: tuple[BuildingSpec, ...] = ()
+    taxiways: tuple[TaxiwaySpec, ...] = ()
+    holding_positions: tuple[HoldingSpec, ...] = ()
 
 
 def load_site(path: str | Path) -> SiteSpec:
@@ -481,6 +529,7 @@ def parse_site(doc: dict[str, Any], source: str = "", sha256: str = "", base_dir
         magnetic_date=magnetic_date,
         conditions=_conditions(doc, scale, units),
         buildings=parse_buildings(doc.get("building", []), scale, units, _reader_checks()),
+        **_taxiway_tables(doc),
     )
 
 
@@ -1119,14 +1168,12 @@ def _objects(items, scale: float, units: str) -> tuple[ObjectSpec, ...]:
         if not isinstance(item, dict):
             raise SiteFileError(prefix, f"must be a table [[object]] (got {_show(item)})")
         _only(item, prefix, keys_of("object"))
-        name = _text(item, prefix, "name", required=True)
-        size = {"required": True, "unit": units, "above": 0.0, "at_most": 100.0}
-        height = _number(item, prefix, "height", scale, **size)
-        length = _number(item, prefix, "length", scale, **size)
-        width = _number(item, prefix, "width", scale, **{**size, "above": None, "at_least": 0.0})
-        base = _number(item, prefix, "base", scale, required=False, unit=units, at_least=0.0, at_most=100.0) or 0.0
+        name, height, length, width, base, source, code = _object_sizes(item, prefix, scale, units)
         if base >= height:
-            raise SiteFileError(f"{prefix}.base", "must be below the object's height (the top of the object)")
+            field_name = f"{prefix}.base" if "base" in item or "height" not in item else f"{prefix}.height"
+            raise SiteFileError(field_name, "must be below the object's height (the top of the object)"
+                                if field_name.endswith("base") else f"must be above the base of the code's object "
+                                f"({format_length(base, units, 1)}); give base too")  # fmt: skip
         headings = item.get("headings", list(OBJECT_HEADINGS))
         if (
             not isinstance(headings, list)
@@ -1137,8 +1184,36 @@ def _objects(items, scale: float, units: str) -> tuple[ObjectSpec, ...]:
             raise SiteFileError(
                 f"{prefix}.headings", f'must be a list of distinct "along" and "across" (got {_show(headings)})'
             )
-        out.append(ObjectSpec(name, height, length, width, base, tuple(headings)))
+        out.append(ObjectSpec(name, height, length, width, base, tuple(headings), source, code))
     return tuple(out)
+
+
+def _object_sizes(item: dict, prefix: str, scale: float, units: str):
+    """An object's name and sizes: each given one, else its design code's (``code``), else required."""
+    from geo.site.design_objects import DESIGN_OBJECTS, DESIGN_SOURCE
+
+    code = item.get("code")
+    design = None
+    if code is not None:
+        if not isinstance(code, str) or code not in DESIGN_OBJECTS:
+            choices = ", ".join(f'"{c}"' for c in DESIGN_OBJECTS)
+            raise SiteFileError(f"{prefix}.code", f"must be one of {choices} (got {_show(code)})")
+        design = DESIGN_OBJECTS[code]
+    name = _text(item, prefix, "name", required=design is None) or (design.what.split(" (")[0] if design else "")
+    sizes = {}
+    for key, above in (("height", 0.0), ("length", 0.0), ("width", None)):
+        bounds = {"above": above} if above is not None else {"at_least": 0.0}
+        value = _number(item, prefix, key, scale, required=design is None, unit=units, at_most=100.0, **bounds)
+        sizes[key] = getattr(design, f"{key}_m") if value is None else value
+    base = _number(item, prefix, "base", scale, required=False, unit=units, at_least=0.0, at_most=100.0)
+    base = (design.base_m if design else 0.0) if base is None else base
+    given = [k for k in ("height", "length", "width", "base") if k in item]
+    if design is None:
+        source = "site file"
+    else:
+        source = f"code {code}: {design.what}, {DESIGN_SOURCE}"
+        source += f"; {', '.join(given)} from the site file" if given else ""
+    return name, sizes["height"], sizes["length"], sizes["width"], base, source, code
 
 
 def _areas(table, scale: float, units: str) -> AreaSpec:
@@ -1170,6 +1245,7 @@ def _areas(table, scale: float, units: str) -> AreaSpec:
         d.grid_m if grid is None else grid,
         *(getattr(d, f"{k}_m") if v is None else v for k, v in values.items()),
         shares_source=source,
+        max_extent_m=_max_extent(table, scale, units, d),
     )  # fmt: skip
 
 
@@ -1182,3 +1258,72 @@ def _retired_areas_keys(table) -> None:
             'and set [prediction] element = "generic" (front-to-back ratio 25 dB) or "isotropic", or give the '
             "ratio as [prediction] element_front_to_back_db",
         )
+
+
+def _max_extent(table, scale: float, units: str, d: AreaSpec) -> float:
+    """``[areas] max_extent``: how far from the mast the grid may grow (50 to 10,000 m)."""
+    value = _number(table, "areas", "max_extent", scale, required=False, unit=units, at_least=50.0, at_most=10000.0)
+    return d.max_extent_m if value is None else value
+
+
+def _design_code(item: dict, prefix: str, required: bool) -> str | None:
+    """A design code: one of :data:`geo.site.design_objects.DESIGN_OBJECTS`."""
+    from geo.site.design_objects import DESIGN_OBJECTS
+
+    code = item.get("code")
+    if code is None and not required:
+        return None
+    if not isinstance(code, str) or code not in DESIGN_OBJECTS:
+        choices = ", ".join(f'"{c}"' for c in DESIGN_OBJECTS)
+        raise SiteFileError(f"{prefix}.code", f"must be one of {choices}, the largest user's code (got {_show(code)})")
+    return code
+
+
+def _lat_lon(item: dict, prefix: str) -> tuple[float, float]:
+    lat = _number(item, prefix, "lat", 1.0, required=True, at_least=-89.9, at_most=89.9, unit="deg")
+    lon = _number(item, prefix, "lon", 1.0, required=True, at_least=-180.0, at_most=180.0, unit="deg")
+    return lat, lon
+
+
+def _taxiway_tables(doc: dict) -> dict:
+    """``[[taxiway]]`` and ``[[holding_position]]``: the taxiways ``mastplan areas`` follows, the holds it checks."""
+    taxiways, holds = [], []
+    for key, out in (("taxiway", taxiways), ("holding_position", holds)):
+        items = doc.get(key, [])
+        if not isinstance(items, list):
+            raise SiteFileError(key, f"must be an array of tables: write each as [[{key}]]")
+        for i, item in enumerate(items):
+            prefix = f"{key} {i + 1}"
+            if not isinstance(item, dict):
+                raise SiteFileError(prefix, f"must be a table [[{key}]] (got {_show(item)})")
+            _only(item, prefix, keys_of(key))
+            out.append(_taxiway(item, prefix) if key == "taxiway" else _holding(item, prefix, taxiways))
+    return {"taxiways": tuple(taxiways), "holding_positions": tuple(holds)}
+
+
+def _taxiway(item: dict, prefix: str) -> TaxiwaySpec:
+    name = _text(item, prefix, "name", required=True)
+    line = item.get("line")
+    if not isinstance(line, list) or len(line) < 2 or not all(isinstance(p, dict) for p in line):
+        raise SiteFileError(f"{prefix}.line", "must be a list of at least two points [{ lat = ..., lon = ... }, ...]")
+    points = []
+    for k, point in enumerate(line):
+        _only(point, f"{prefix}.line {k + 1}", ("lat", "lon"))
+        points.append(_lat_lon(point, f"{prefix}.line {k + 1}"))
+    if len(set(points)) < 2:
+        raise SiteFileError(f"{prefix}.line", "must hold at least two different points")
+    return TaxiwaySpec(name, tuple(points), _design_code(item, prefix, True))
+
+
+def _holding(item: dict, prefix: str, taxiways: list) -> HoldingSpec:
+    name = _text(item, prefix, "name", required=True)
+    lat, lon = _lat_lon(item, prefix)
+    taxiway = _text(item, prefix, "taxiway", required=False)
+    code = _design_code(item, prefix, False)
+    names = [t.name for t in taxiways]
+    if taxiway is not None and taxiway not in names:
+        known = ", ".join(f'"{n}"' for n in names) or "none given before it"
+        raise SiteFileError(f"{prefix}.taxiway", f'names no [[taxiway]] above it (got "{taxiway}"; taxiways: {known})')
+    if taxiway is None and code is None:
+        raise SiteFileError(prefix, "give taxiway (a [[taxiway]] name) or code (the aircraft's code)")
+    return HoldingSpec(name, lat, lon, taxiway, code)

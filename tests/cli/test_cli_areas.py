@@ -113,20 +113,29 @@ def test_command_writes_every_output(written):
 def test_table_and_summary_agree(written):
     _, out, _ = written
     rows = list(csv.DictReader((out / "areas.csv").open(encoding="utf-8")))
-    # 8 positions ahead (-40 to 240 m every 40 m) x 6 across (-40 m to the last step within
-    # 130 + 40 m, i.e. 160 m) x 1 heading.
-    assert len(rows) == 8 * 6
+    summary = json.loads((out / "summary.json").read_text())
+    # The grid grew from -40..240 m ahead and -40..160 m across (whole 40 m steps) until the areas
+    # closed: one row per position of the final rectangle (counted from its sides) and heading.
+    extent = summary["derived_areas"][0]["grid_extent"]
+    along = (extent["ahead_m"] + extent["behind_m"]) / 40 + 1
+    across = (extent["toward_runway_m"] + extent["away_m"]) / 40 + 1
+    assert extent["ahead_m"] >= 240 and extent["behind_m"] >= 40 and extent["toward_runway_m"] >= 160
+    assert len(rows) == along * across
+    assert not summary["warnings"] or all("open" not in w for w in summary["warnings"])
+    for entry in summary["derived_areas"]:
+        assert not entry["critical"]["reaches_grid_edge"] and not entry["sensitive"]["reaches_grid_edge"]
     bends = {"bend_95_ddm_coverage_limit_to_a", "bend_95_ddm_a_to_b", "bend_95_ddm_b_to_c"}
     assert bends | {"share_of_limit", "ahead_ft"} <= set(rows[0])
     assert not [name for name in rows[0] if " " in name]  # every column name is one word (issue 21)
-    summary = json.loads((out / "summary.json").read_text())
     (entry,) = summary["derived_areas"]
     shares = [float(r["share_of_limit"]) for r in rows if r["share_of_limit"] not in ("", "infinity")]
     assert entry["largest_share_of_limit"] == pytest.approx(max(shares), rel=1e-3)
     assert summary["settings"]["shares_source"] == "site file [areas]"
     assert any("planning aid" in c for c in summary["cautions"])
     page = (out / "map.html").read_text(encoding="utf-8")
-    assert "Derived areas" in page and "Protected areas" in page and "zone" in page
+    assert "Derived critical area: tug" in page and "Protected areas" in page and "zone" in page
+    # One layer per object and kind, each in the legend (geo.outputs.webmap.legend_items' rows).
+    assert page.count("Derived sensitive area: tug") >= 2 and page.count("Derived critical area: all objects") >= 2
 
 
 def test_no_plots_and_overwrite(written, tmp_path):
@@ -139,3 +148,25 @@ def test_no_plots_and_overwrite(written, tmp_path):
     # Reproducible outputs (DEVELOPERS.md): the same site gives the same bytes.
     for name in ("summary.json", "areas.csv", "layers/derived_areas.geojson", "map.html", "areas.kml"):
         assert (tmp_path / "b" / name).read_bytes() == (out / name).read_bytes(), name
+
+
+def test_a_feet_site_shows_feet_first_on_screen_and_in_the_tables(tmp_path):
+    # The site file says its unit once (units = "ft"): every length shown goes through
+    # geo.units.format_length with it first, and the tables put each _ft twin before its _m.
+    from tests_support import FEET_SITE
+
+    tables = AREAS.replace("grid = 40", "grid = 130").replace("ahead = 240", "ahead = 780")
+    tables = tables.replace("sensitive_share = 0.2", "sensitive_share = 0.45")  # a smaller grid to close
+    for key in ("behind", "away", "beyond"):
+        tables = tables.replace(f"{key} = 40", f"{key} = 130")
+    site = tmp_path / "site.toml"
+    site.write_text(FEET_SITE + tables, encoding="utf-8")
+    res = _run("areas", str(site), "--out", str(tmp_path / "out"), "--no-plots")
+    assert res.exit_code == 0, res.output
+    line = next(x for x in res.output.splitlines() if x.startswith("tug, critical"))
+    assert " ft2 (" in line and " ft (" in line and " m (" not in line.split(";")[1].split("(")[0]
+    for name in ("areas.csv", "outlines.csv"):
+        header = (tmp_path / "out" / name).read_text(encoding="utf-8").splitlines()[0].split(",")
+        for k, column in enumerate(header):
+            if column.endswith("_m") and column[:-2] + "_ft" in header:
+                assert header.index(column[:-2] + "_ft") == k - 1, (name, column)

@@ -22,9 +22,10 @@ import time
 
 import numpy as np
 import pytest
-from jacksboro import jacksboro_sheet, site_text
+from jacksboro import jacksboro_sheet, site_text, write_raster
 from tests_support import NO_SURFACE
 
+from geo.errors import MastplanError
 from geo.optics.areas import array_model, bend_amplitude, derive_areas, object_fields, path_receivers
 from geo.optics.object_ground import local_ground
 from geo.optics.objects import heading_offsets_deg, object_facets
@@ -36,6 +37,8 @@ from geo.site.site_file import AreaSpec, ObjectSpec, load_site
 from geo.study.site_study import run_study
 
 SITE = (0.05, 280, 36.55)  # relief scale, sheet column of the runway's meridian, threshold latitude [deg]
+#: Errors that real ground may legitimately end in (as tests/ground/test_real_terrain.py has them).
+LEGITIMATE = ("too close to the", "off the DEM or on nodata", "falls more than")
 VAN = ObjectSpec("van", 3.0, 8.0, 2.5, 0.0, ("across",), "invented")
 #: The grid of the checks, and a wider one on the same lattice (40 m steps from the same corner).
 GRID = AreaSpec(grid_m=40.0, ahead_m=800.0, behind_m=400.0, away_m=200.0, beyond_m=200.0)
@@ -291,3 +294,56 @@ def test_command_line_areas_on_real_ground(real, tmp_path):
     outline = shapely.geometry.shape(found["critical"]["geometry"])
     for antenna in real["right"].study.antennas:
         assert outline.covers(shapely.Point(antenna.lon_deg, antenna.lat_deg))
+
+
+#: The closing check's cheap settings (invented): an 80 m grid, 30 receivers on the path, the
+#: largest extent 3,000 m; the antennas' generic element (25 dB front-to-back, the default: isotropic
+#: elements let the large tail's sensitive area run on behind the mast).
+CLOSING = "\n[areas]\ngrid = 80\nmax_extent = 3000\n"
+CLOSING_SITES = 10
+
+
+def _closing_sites(folder):
+    """Ten runways at seeded random places and headings on the sheet (relief x 0.05), the mast on either side."""
+    sheet = jacksboro_sheet()
+    scale = 0.05
+    dem = write_raster(folder / "jacksboro_closing.tif", sheet.scaled(scale), "EPSG:4326", sheet.transform())
+    rng = np.random.default_rng(20)
+    west, south, east, top = sheet.box
+    out = []
+    for attempt in range(3 * CLOSING_SITES):  # a runway the ground cannot serve is left out
+        lat, lon = rng.uniform(south + 0.09, top - 0.09), rng.uniform(west + 0.11, east - 0.11)
+        heading, side = rng.uniform(0.0, 360.0), str(rng.choice(["left", "right"]))
+        threshold, end = sheet.runway(sheet.scaled(scale), lat, lon, heading)
+        path = folder / f"closing_{attempt}.toml"
+        path.write_text(site_text(dem, f"closing {attempt}", threshold, end, side=side, extra=NO_SURFACE + CLOSING))
+        try:
+            out.append(run_study(load_site(path)))
+        except MastplanError as error:
+            assert any(reason in str(error) for reason in LEGITIMATE), error
+        if len(out) == CLOSING_SITES:
+            return out
+    raise AssertionError(f"only {len(out)} of {3 * CLOSING_SITES} runways could be studied")
+
+
+def test_every_default_area_closes_on_ten_real_sites(tmp_path):
+    # The generic objects' default areas on ten real-ground sites: the grid grows until each closes
+    # (no cell of the area on the grid's edge: geo.optics.area_grid), and the check that says so
+    # is independent of the grid's own bookkeeping: the cells of each area against the outer ring
+    # of the positions computed, and the grid complete (every lattice point of its rectangle once).
+    start = time.perf_counter()
+    for result in _closing_sites(tmp_path):
+        derived = derive_areas(result, receivers_count=30)
+        step = derived.settings.grid_m
+        for d in derived.disturbances:
+            i, j = np.rint(d.ahead_m / step).astype(int), np.rint(d.toward_runway_m / step).astype(int)
+            assert len(set(zip(i.tolist(), j.tolist()))) == i.size == (np.ptp(i) + 1) * (np.ptp(j) + 1)
+            ring = (i == i.min()) | (i == i.max()) | (j == j.min()) | (j == j.max())
+            for kind, share in (
+                ("critical", derived.settings.critical_share),
+                ("sensitive", derived.settings.sensitive_share),
+            ):
+                assert not (ring & (d.worst_share > share)).any(), (result.spec.name, d.obj.name, kind)
+        assert all(not a.open_sides for a in derived.areas)
+        assert not [w for w in derived.warnings if "stays open" in w]
+    print(f"\nten real sites closed in {time.perf_counter() - start:.1f} s")

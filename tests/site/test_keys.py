@@ -38,7 +38,7 @@ def base_doc() -> dict:
 def _planted(table: str) -> dict:
     """The base document with an unknown key in ``table`` (created where the base lacks it)."""
     doc = base_doc()
-    if table in ("protected_area", "object", "building"):
+    if table in ("protected_area", "object", "building", "taxiway", "holding_position"):
         doc[table] = [{PLANTED: 1}]
     elif table == "mast.position":
         doc["mast"] = {"position": {"lat": 46.001, "lon": -100.005, PLANTED: 1}}
@@ -57,7 +57,7 @@ def accepted_keys(table: str) -> list[str]:
     with pytest.raises(SiteFileError) as caught:
         parse_site(_planted(table))
     field = f"{table}.{PLANTED}" if table else PLANTED
-    if table in ("protected_area", "object", "building"):
+    if table in ("protected_area", "object", "building", "taxiway", "holding_position"):
         field = f"{table} 1.{PLANTED}"  # list entries counted from 1
     assert caught.value.field == field, caught.value
     return re.search(r"allowed: (.*)$", caught.value.problem).group(1).split(", ")
