@@ -316,7 +316,7 @@ def _scattered(model: ArrayModel, grid: SurfaceGrid, rx, visibility, rx_index, z
 
 def _layer(model: ArrayModel) -> dict:
     """The kernel's ``reflection`` where the ground carries a layer (dry snow): the model's own coefficient."""
-    return {"reflection": model.ground_reflection} if getattr(model, "layer", None) is not None else {}
+    return {"reflection": model.ground_reflection} if model.layer is not None else {}
 
 
 def _bracket(model: ArrayModel, grid: SurfaceGrid, rx, visibility, rx_index, z, plane_nodes, far: bool = False):

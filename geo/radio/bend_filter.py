@@ -112,6 +112,10 @@ def kept_fraction(period_m, filter_m: float = FILTER_LENGTH_M):
     return float(out) if out.ndim == 0 else out
 
 
+#: Samples the recursion takes in one matrix product (:func:`low_pass`).
+_BLOCK = 64
+
+
 def low_pass(values, step_m: float, filter_m: float = FILTER_LENGTH_M, initial=None) -> np.ndarray:
     """The first-order filter along the last axis, samples in the order flown, uniform step.
 
@@ -156,12 +160,21 @@ def low_pass(values, step_m: float, filter_m: float = FILTER_LENGTH_M, initial=N
     drive = (1.0 - c) * u[..., 1:] + (c - a) * u[..., :-1]
     y = np.empty_like(u)
     y[..., 0] = first
-    # The recursion, sample by sample along the approach (every row at once): numpy only, so that a
-    # study does not import scipy.signal (about 0.8 s) for one first-order filter.
+    # The recursion by blocks of samples (every row at once; numpy only, so that a study does not
+    # import scipy.signal, about 0.8 s, for one first-order filter): within a block of B samples
+    # after y0, y[j] = a^(j+1) y0 + sum_(i<=j) a^(j-i) x[i], a lower-triangular product; only the
+    # blocks run in turn. Powers of a <= 1 only: no growth, the same sums to rounding.
+    block = min(_BLOCK, drive.shape[-1])
+    j = np.arange(block)
+    powers = np.where(j[:, None] >= j[None, :], a ** np.maximum(j[:, None] - j[None, :], 0), 0.0)
+    carry = a ** (j + 1)
     previous = y[..., 0]
-    for n in range(1, u.shape[-1]):
-        previous = a * previous + drive[..., n - 1]
-        y[..., n] = previous
+    for start in range(0, drive.shape[-1], block):
+        x = drive[..., start : start + block]
+        n = x.shape[-1]
+        out = x @ powers[:n, :n].T + previous[..., None] * carry[:n]
+        y[..., 1 + start : 1 + start + n] = out
+        previous = out[..., -1]
     return y
 
 

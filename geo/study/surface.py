@@ -94,7 +94,8 @@ def surface_for_study(
     p = spec.prediction
     plane = terrain.plane
     gradients = (plane.forward_gradient, plane.lateral_gradient)
-    model = model or array_model(spec, heights_m, shifts_m, feeds, wavelength_m, *gradients)
+    if model is None:
+        model = array_model(spec, heights_m, shifts_m, feeds, wavelength_m, *gradients)
     sign = 1.0 if side == "right" else -1.0
     segments = structure_segments(spec.category, rdh_m, spec.angle_deg)
     t = spec.terrain

@@ -236,3 +236,19 @@ def test_category_ii_limits_and_references_per_segment():
     assert [s.limit_ddm for s in found] == [0.035, 0.023, 0.023]
     assert [s.reference for s in found] == ["line", "line", "mean"]
     assert all(s.passed and s.departure_95_ddm is None for s in found)
+
+
+@pytest.mark.parametrize("length_m", [25.7, 400.0])
+def test_low_pass_is_scipys_recursive_filter(length_m):
+    # The same recursion by scipy.signal.lfilter (a reference library), started on the first ramp as
+    # low_pass is: equal to rounding, for a short and a long filter, rows of random DDM.
+    from scipy.signal import lfilter
+
+    rng = np.random.default_rng(3)
+    u, h = rng.normal(size=(5, 927)), 20.0
+    a = math.exp(-h / length_m)
+    c = -math.expm1(-h / length_m) * length_m / h
+    b = np.array([1.0 - c, c - a])
+    first = u[:, :1] - length_m * (u[:, 1:2] - u[:, :1]) / h
+    reference, _ = lfilter(b, [1.0, -a], u, axis=-1, zi=first - b[0] * u[:, :1])
+    assert np.max(np.abs(low_pass(u, h, length_m) - reference)) < 1e-12
